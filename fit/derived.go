@@ -1,0 +1,365 @@
+package fit
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bandwright/fit/model"
+	"bandwright/fit/species"
+)
+
+// Derived is a constant computed from the fitted parameters, with its 1σ
+// propagated through the full covariance: σ² = gᵀ C g with g the gradient of
+// the constant with respect to the fitted parameters.
+type Derived struct {
+	Name    string  `json:"name"`
+	Species string  `json:"species,omitempty"`
+	Value   float64 `json:"value"`
+	Sigma   float64 `json:"sigma"`
+	Unit    string  `json:"unit"`
+	Note    string  `json:"note,omitempty"`
+}
+
+// linear is a quantity with its gradient with respect to all model parameters.
+type linear struct {
+	v float64
+	g []float64
+}
+
+// sigmaOf returns √(gᵀ C g) with g restricted to the free parameters.
+func sigmaOf(r *Result, g []float64) float64 {
+	n := r.Cov.SymmetricDim()
+	gf := make([]float64, n)
+	for c, j := range r.Free {
+		gf[c] = g[j]
+	}
+	v := mat.NewVecDense(n, gf)
+	return math.Sqrt(math.Max(mat.Inner(v, r.Cov, v), 0))
+}
+
+func (r *Result) add(out *[]Derived, name, sp string, q linear, unit, note string) {
+	*out = append(*out, Derived{Name: name, Species: sp, Value: q.v, Sigma: sigmaOf(r, q.g), Unit: unit, Note: note})
+}
+
+// Derive computes the derived constants of a fit result.
+//
+// Dunham fits, for every isotopologue s (Y_kl(s) from the mass scaling):
+// ω_e = Y10, ω_e x_e = −Y20, ω_e y_e = Y30, B_e = Y01, α_e = −Y11, γ_e = Y21,
+// D_e = −Y02, β_e = −Y12, H_e = Y03 (cm⁻¹), r_e = √(h/(8π²cμB_e)) (Å); for the
+// reference, U_kl = Y_kl(r)·μ_r^((k+2l)/2) (cm⁻¹ u^((k+2l)/2)) and, with
+// breakdown terms, Δ_kl^X. Diagnostics: the Kratzer relation D_e ≈ 4B_e³/ω_e²
+// and the Pekeris relation α_e ≈ 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e.
+//
+// Levels fits: band origins ν₀ = T_v′ − T_v″ of the bands present; with two or
+// more levels of an isotopologue, B_e and α_e (and γ_e with four or more) from
+// a generalised least-squares fit of B_v = B_e − α_e(v+½) + γ_e(v+½)² that uses
+// the covariance of the B_v, r_0 from B_0 and r_e from B_e; with three or more
+// levels including v = 0, ω_e and ω_e x_e from G(v) − G(0) = ω_e v − ω_e x_e v(v+1).
+func Derive(r *Result) []Derived {
+	var out []Derived
+	switch m := r.Model.(type) {
+	case *model.Dunham:
+		deriveDunham(r, m, &out)
+	case *model.Levels:
+		deriveLevels(r, m, &out)
+	}
+	for _, c := range r.Calib {
+		if !c.Fixed {
+			out = append(out, Derived{Name: "kappa", Value: c.Kappa, Sigma: c.Sigma, Unit: "1", Note: "calibration factor of " + c.File + " (ν_obs = (1+κ)ν)"})
+		}
+	}
+	return out
+}
+
+var dunhamDerived = []struct {
+	name  string
+	k, l  int
+	sign  float64
+	label string
+}{
+	{"omega_e", 1, 0, 1, "Y10"},
+	{"omega_e_x_e", 2, 0, -1, "−Y20"},
+	{"omega_e_y_e", 3, 0, 1, "Y30"},
+	{"B_e", 0, 1, 1, "Y01"},
+	{"alpha_e", 1, 1, -1, "−Y11"},
+	{"gamma_e", 2, 1, 1, "Y21"},
+	{"D_e", 0, 2, -1, "−Y02"},
+	{"beta_e", 1, 2, -1, "−Y12"},
+	{"H_e", 0, 3, 1, "Y03"},
+}
+
+func deriveDunham(r *Result, m *model.Dunham, out *[]Derived) {
+	p := model.Values(r.Params)
+	np := len(p)
+	has := map[[2]int]bool{}
+	for _, t := range m.Terms() {
+		has[t] = true
+	}
+	isos := m.Isotopologues()
+	for s, iso := range isos {
+		get := func(k, l int) (linear, bool) {
+			g := make([]float64, np)
+			v := m.Y(s, k, l, p, g)
+			return linear{v, g}, has[[2]int{k, l}]
+		}
+		if s > 0 {
+			for _, t := range m.Terms() {
+				q, _ := get(t[0], t[1])
+				r.add(out, model.DunhamName(t[0], t[1]), iso.Label, q, "cm-1", "mass-scaled from the reference isotopologue")
+			}
+		}
+		vals := map[string]linear{}
+		for _, d := range dunhamDerived {
+			q, ok := get(d.k, d.l)
+			if !ok {
+				continue
+			}
+			q = scaleLin(q, d.sign)
+			vals[d.name] = q
+			r.add(out, d.name, iso.Label, q, "cm-1", "= "+d.label)
+		}
+		if be, ok := vals["B_e"]; ok && be.v > 0 {
+			re := species.RFromB(be.v, iso.ReducedMass())
+			r.add(out, "r_e", iso.Label, linear{re, scaleG(be.g, -re/(2*be.v))}, "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
+		}
+		we, okW := vals["omega_e"]
+		be, okB := vals["B_e"]
+		if okW && okB && we.v > 0 && be.v > 0 {
+			kr := 4 * be.v * be.v * be.v / (we.v * we.v)
+			g := combine(be.g, 12*be.v*be.v/(we.v*we.v), we.g, -8*be.v*be.v*be.v/(we.v*we.v*we.v))
+			r.add(out, "D_e_Kratzer", iso.Label, linear{kr, g}, "cm-1", "diagnostic: Kratzer relation 4B_e³/ω_e²; compare with D_e")
+			if wx, ok := vals["omega_e_x_e"]; ok && wx.v > 0 {
+				sq := math.Sqrt(wx.v * be.v * be.v * be.v)
+				pk := 6*sq/we.v - 6*be.v*be.v/we.v
+				dx := 3 * math.Sqrt(be.v*be.v*be.v/wx.v) / we.v
+				dB := 9*math.Sqrt(wx.v*be.v)/we.v - 12*be.v/we.v
+				dW := -6*sq/(we.v*we.v) + 6*be.v*be.v/(we.v*we.v)
+				g := combine(combine(wx.g, dx, be.g, dB), 1, we.g, dW)
+				r.add(out, "alpha_e_Pekeris", iso.Label, linear{pk, g}, "cm-1", "diagnostic: Pekeris relation 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e; compare with alpha_e")
+			}
+		}
+	}
+	// Mass-reduced coefficients and breakdown constants of the reference.
+	ref := isos[0]
+	muR := ref.ReducedMass()
+	params := r.Params
+	for t, kl := range m.Terms() {
+		k, l := kl[0], kl[1]
+		e := float64(k+2*l) / 2
+		// Born–Oppenheimer Y of the reference: Ỹ = Y_r − m_e Σ_X S_X(r) δ^X.
+		g := make([]float64, np)
+		g[t] = 1
+		yt := p[t]
+		var bobIdx []int
+		for j, q := range params {
+			if q.Element != "" && q.K == k && q.L == l {
+				sx := invMass(ref, q.Element)
+				yt -= species.ElectronMass * sx * p[j]
+				g[j] = -species.ElectronMass * sx
+				bobIdx = append(bobIdx, j)
+			}
+		}
+		f := math.Pow(muR, e)
+		r.add(out, fmt.Sprintf("U%d%d", k, l), "", linear{yt * f, scaleG(g, f)}, fmt.Sprintf("cm-1 u^%g", e), "mass-reduced Dunham coefficient U_kl = Y_kl μ^((k+2l)/2)")
+		for _, j := range bobIdx {
+			d := p[j] / yt
+			gd := scaleG(g, -p[j]/(yt*yt))
+			gd[j] += 1 / yt
+			r.add(out, fmt.Sprintf("Delta%d%d_%s", k, l, params[j].Element), "", linear{d, gd}, "1", "Born–Oppenheimer-breakdown constant Δ_kl of "+params[j].Element)
+		}
+	}
+}
+
+func invMass(iso species.Isotopologue, el string) float64 {
+	s := 0.0
+	if iso.A.Symbol == el {
+		s += 1 / iso.A.Mass
+	}
+	if iso.B.Symbol == el {
+		s += 1 / iso.B.Mass
+	}
+	return s
+}
+
+func deriveLevels(r *Result, m *model.Levels, out *[]Derived) {
+	p := model.Values(r.Params)
+	np := len(p)
+	// Band origins of the bands present in the data.
+	type band struct {
+		s, vu, vl int
+	}
+	seen := map[band]bool{}
+	var bands []band
+	spIdx := map[string]int{}
+	for i, sp := range m.Species() {
+		spIdx[sp] = i
+	}
+	for _, bd := range r.Bands {
+		b := band{spIdx[bd.Species], bd.VUp, bd.VLo}
+		if b.vu != b.vl && !seen[b] {
+			seen[b] = true
+			bands = append(bands, b)
+		}
+	}
+	sort.Slice(bands, func(a, c int) bool {
+		if bands[a].s != bands[c].s {
+			return bands[a].s < bands[c].s
+		}
+		if bands[a].vl != bands[c].vl {
+			return bands[a].vl < bands[c].vl
+		}
+		return bands[a].vu < bands[c].vu
+	})
+	species_ := m.Species()
+	for _, b := range bands {
+		g := make([]float64, np)
+		iu, il := m.Index(b.s, b.vu, "T"), m.Index(b.s, b.vl, "T")
+		g[iu] += 1
+		g[il] -= 1
+		r.add(out, fmt.Sprintf("nu0_%d-%d", b.vu, b.vl), species_[b.s], linear{p[iu] - p[il], g}, "cm-1", "band origin T_v′ − T_v″")
+	}
+	for s, label := range species_ {
+		iso, err := species.Parse(label)
+		if err != nil {
+			continue
+		}
+		vs := m.LevelsOf(s)
+		bIdx := make([]int, len(vs))
+		for i, v := range vs {
+			bIdx[i] = m.Index(s, v, "B")
+		}
+		if bIdx[0] >= 0 && vs[0] == 0 {
+			b0 := p[bIdx[0]]
+			if b0 > 0 {
+				g := make([]float64, np)
+				r0 := species.RFromB(b0, iso.ReducedMass())
+				g[bIdx[0]] = -r0 / (2 * b0)
+				r.add(out, "r_0", label, linear{r0, g}, "angstrom", "from B_0 (effective ground-state distance)")
+			}
+		}
+		if len(vs) >= 2 && bIdx[0] >= 0 {
+			ncoef := 2
+			if len(vs) >= 4 {
+				ncoef = 3
+			}
+			x := func(v int) []float64 {
+				h := float64(v) + 0.5
+				return []float64{1, -h, h * h}[:ncoef]
+			}
+			coef, ok := gls(r, bIdx, vs, x, ncoef)
+			if ok {
+				names := []string{"B_e", "alpha_e", "gamma_e"}
+				for c := 0; c < ncoef; c++ {
+					r.add(out, names[c], label, coef[c], "cm-1", "from the B_v by generalised least squares")
+				}
+				be := coef[0]
+				if be.v > 0 {
+					re := species.RFromB(be.v, iso.ReducedMass())
+					r.add(out, "r_e", label, linear{re, scaleG(be.g, -re/(2*be.v))}, "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
+				}
+			}
+		}
+		if len(vs) >= 3 && vs[0] == 0 {
+			tIdx := make([]int, 0, len(vs)-1)
+			var tv []int
+			for _, v := range vs[1:] {
+				tIdx = append(tIdx, m.Index(s, v, "T"))
+				tv = append(tv, v)
+			}
+			x := func(v int) []float64 { return []float64{float64(v), -float64(v) * float64(v+1)} }
+			coef, ok := gls(r, tIdx, tv, x, 2)
+			if ok {
+				r.add(out, "omega_e", label, coef[0], "cm-1", "from the term values T_v by generalised least squares")
+				r.add(out, "omega_e_x_e", label, coef[1], "cm-1", "from the term values T_v by generalised least squares")
+			}
+		}
+	}
+}
+
+// gls fits y_i = p[idx[i]] ≈ Σ_c X_c(v_i) β_c by generalised least squares with
+// the covariance of the p[idx] from the fit, and returns each β_c with its
+// gradient with respect to all model parameters (β = G y with
+// G = (XᵀC⁻¹X)⁻¹XᵀC⁻¹; exact interpolation when len(idx) = ncoef).
+func gls(r *Result, idx []int, vs []int, x func(v int) []float64, ncoef int) ([]linear, bool) {
+	n := len(idx)
+	if n < ncoef {
+		return nil, false
+	}
+	pos := map[int]int{}
+	for c, j := range r.Free {
+		pos[j] = c
+	}
+	C := mat.NewSymDense(n, nil)
+	for a := 0; a < n; a++ {
+		for b := a; b < n; b++ {
+			pa, oka := pos[idx[a]]
+			pb, okb := pos[idx[b]]
+			v := 0.0
+			if oka && okb {
+				v = r.Cov.At(pa, pb)
+			}
+			C.SetSym(a, b, v)
+		}
+	}
+	X := mat.NewDense(n, ncoef, nil)
+	y := mat.NewVecDense(n, nil)
+	for a := 0; a < n; a++ {
+		X.SetRow(a, x(vs[a]))
+		y.SetVec(a, r.Params[idx[a]].Value)
+	}
+	var G mat.Dense
+	if n == ncoef {
+		if err := G.Inverse(X); err != nil {
+			return nil, false
+		}
+	} else {
+		var ch mat.Cholesky
+		if !ch.Factorize(C) {
+			return nil, false
+		}
+		var cinvX mat.Dense
+		if err := ch.SolveTo(&cinvX, X); err != nil {
+			return nil, false
+		}
+		var A mat.Dense
+		A.Mul(X.T(), &cinvX)
+		var Ainv mat.Dense
+		if err := Ainv.Inverse(&A); err != nil {
+			return nil, false
+		}
+		G.Mul(&Ainv, cinvX.T())
+	}
+	np := len(r.Params)
+	out := make([]linear, ncoef)
+	for c := 0; c < ncoef; c++ {
+		g := make([]float64, np)
+		v := 0.0
+		for a := 0; a < n; a++ {
+			g[idx[a]] += G.At(c, a)
+			v += G.At(c, a) * y.AtVec(a)
+		}
+		out[c] = linear{v, g}
+	}
+	return out, true
+}
+
+func scaleLin(q linear, f float64) linear { return linear{q.v * f, scaleG(q.g, f)} }
+
+func scaleG(g []float64, f float64) []float64 {
+	out := make([]float64, len(g))
+	for i, x := range g {
+		out[i] = x * f
+	}
+	return out
+}
+
+func combine(a []float64, fa float64, b []float64, fb float64) []float64 {
+	out := make([]float64, len(a))
+	for i := range a {
+		out[i] = fa*a[i] + fb*b[i]
+	}
+	return out
+}

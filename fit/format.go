@@ -1,0 +1,57 @@
+package fit
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// FormatParen writes value ± sigma in the parenthetical notation of the trade:
+// 1.922529(3) means 1.922529 ± 0.000003. The uncertainty is given to two
+// significant digits when its leading digit is 1 or 2 and to one otherwise
+// (common practice), and the value is rounded to the same decimal place. Very
+// large or small numbers use an exponent: 6.1215(12)e-06. A zero or non-finite
+// σ prints the value alone (shortest exact form).
+func FormatParen(value, sigma float64) string {
+	if math.IsNaN(value) || math.IsInf(value, 0) {
+		return strconv.FormatFloat(value, 'g', -1, 64)
+	}
+	if !(sigma > 0) || math.IsInf(sigma, 0) {
+		return strconv.FormatFloat(value, 'g', -1, 64)
+	}
+	exp := 0
+	av := math.Max(math.Abs(value), sigma)
+	if av != 0 && (av >= 1e5 || av < 1e-3) {
+		exp = int(math.Floor(math.Log10(av)))
+	}
+	scale := math.Pow(10, float64(exp))
+	v, s := value/scale, sigma/scale
+	// Decimal place of the last digit of the uncertainty.
+	lead := math.Floor(math.Log10(s))
+	nd := 1.0
+	if s/math.Pow(10, lead) < 2.95 {
+		nd = 2
+	}
+	place := int(lead - nd + 1) // power of ten of the last digit
+	decimals := max(0, -place)
+	unitsLast := s / math.Pow(10, float64(place))
+	sd := int(math.Round(unitsLast))
+	if sd >= 100 && decimals > 0 {
+		sd = int(math.Round(unitsLast / 10))
+		decimals--
+		place++
+	}
+	vs := strconv.FormatFloat(v, 'f', decimals, 64)
+	var out string
+	if place > 0 {
+		// Uncertainty larger than 1 in the integer digits: write it in full.
+		out = fmt.Sprintf("%s(%d)", strconv.FormatFloat(math.Round(v/math.Pow(10, float64(place)))*math.Pow(10, float64(place)), 'f', 0, 64), sd*int(math.Pow(10, float64(place))))
+	} else {
+		out = fmt.Sprintf("%s(%d)", vs, sd)
+	}
+	if exp != 0 {
+		out += "e" + fmt.Sprintf("%+03d", exp)
+	}
+	return strings.Replace(out, "-0(", "0(", 1)
+}

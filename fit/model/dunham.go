@@ -1,0 +1,338 @@
+package model
+
+import (
+	"fmt"
+	"math"
+	"regexp"
+	"sort"
+	"strconv"
+	"strings"
+
+	"bandwright/fit/species"
+)
+
+// Dunham is the Dunham expansion of the rovibrational energy,
+//
+//	E(v, J) = Σ_kl Y_kl (v+½)^k x^l,   x = J(J+1)   [cm⁻¹],
+//
+// over a chosen list of (k, l) terms, for one or several isotopologues of one
+// molecule fitted jointly through the mass-reduced coefficients U_kl:
+//
+//	Y_kl(s) = U_kl μ_s^−(k+2l)/2 [1 + (m_e/M_A)Δ_kl^A + (m_e/M_B)Δ_kl^B].
+//
+// The fitted parameters are the Y_kl of the reference isotopologue r and, when
+// Born–Oppenheimer breakdown is requested for a term and an element X that is
+// isotopically substituted in the data, δ_kl^X = U_kl Δ_kl^X μ_r^−(k+2l)/2
+// (cm⁻¹, named "BOB{k}{l}_{X}"). With S_X(s) = Σ 1/M over the atoms of element X
+// in isotopologue s (atomic masses in u),
+//
+//	Y_kl(s) = (μ_r/μ_s)^((k+2l)/2) · [Y_kl(r) + m_e Σ_X (S_X(s) − S_X(r)) δ_kl^X],
+//
+// which is linear in the parameters and reduces to the plain mass scaling
+// without breakdown terms. Y00 is not part of the model: energies are measured
+// from the potential minimum.
+type Dunham struct {
+	species  []string
+	isos     []species.Isotopologue
+	ref      int
+	terms    [][2]int // (k, l) of each Y parameter, parameter index = term index
+	elements []string // elements with breakdown terms
+	params   []Param
+	// scale[s][t] = (μ_r/μ_s)^((k+2l)/2)
+	scale [][]float64
+	// bob[t] lists the breakdown parameters of term t: parameter index and,
+	// per species, m_e (S_X(s) − S_X(r)).
+	bob  [][]bobTerm
+	maxK int
+	maxL int
+}
+
+type bobTerm struct {
+	param int
+	coef  []float64 // per species
+}
+
+var dunhamName = regexp.MustCompile(`^Y(\d)(\d)$`)
+
+// ParseDunhamTerm parses "Y01" into (0, 1). Indices are single digits.
+func ParseDunhamTerm(s string) (k, l int, err error) {
+	m := dunhamName.FindStringSubmatch(strings.TrimSpace(s))
+	if m == nil {
+		return 0, 0, fmt.Errorf("model: %q is not a Dunham term (write Y<k><l>, e.g. Y10, Y01, Y11)", s)
+	}
+	k, _ = strconv.Atoi(m[1])
+	l, _ = strconv.Atoi(m[2])
+	if k == 0 && l == 0 {
+		return 0, 0, fmt.Errorf("model: Y00 is not fitted (energies are measured from the potential minimum; it cancels in every transition)")
+	}
+	return k, l, nil
+}
+
+// DunhamName returns "Y{k}{l}".
+func DunhamName(k, l int) string { return fmt.Sprintf("Y%d%d", k, l) }
+
+// BOBName returns "BOB{k}{l}_{element}".
+func BOBName(k, l int, element string) string { return fmt.Sprintf("BOB%d%d_%s", k, l, element) }
+
+// DunhamOptions chooses the terms of a Dunham model.
+type DunhamOptions struct {
+	Terms     []string // "Y10", "Y01", …
+	BOBTerms  []string // terms that get breakdown parameters for each substituted element
+	Reference int      // index of the reference isotopologue
+	Fixes     []Fix
+}
+
+// NewDunham builds a Dunham model for the isotopologues isos (all of one
+// molecule: the same two elements). Parameters named in fixes but absent from
+// Terms are added as fixed parameters.
+func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
+	if len(isos) == 0 {
+		return nil, ErrNoLevels
+	}
+	if o.Reference < 0 || o.Reference >= len(isos) {
+		return nil, fmt.Errorf("model: reference isotopologue index %d out of range", o.Reference)
+	}
+	refEl := elementsOf(isos[o.Reference])
+	for _, iso := range isos {
+		if elementsOf(iso) != refEl {
+			return nil, fmt.Errorf("model: a joint Dunham fit needs isotopologues of one molecule; %s and %s differ in their elements", isos[o.Reference].Label, iso.Label)
+		}
+	}
+	m := &Dunham{ref: o.Reference}
+	// Reference first in Species() as documented.
+	order := []int{o.Reference}
+	for i := range isos {
+		if i != o.Reference {
+			order = append(order, i)
+		}
+	}
+	seen := map[string]bool{}
+	for _, i := range order {
+		if seen[isos[i].Label] {
+			return nil, fmt.Errorf("model: isotopologue %s listed twice", isos[i].Label)
+		}
+		seen[isos[i].Label] = true
+		m.isos = append(m.isos, isos[i])
+		m.species = append(m.species, isos[i].Label)
+	}
+	m.ref = 0
+
+	names := append([]string(nil), o.Terms...)
+	for _, f := range o.Fixes {
+		if dunhamName.MatchString(f.Name) && !contains(names, f.Name) {
+			names = append(names, f.Name)
+		}
+	}
+	have := map[[2]int]bool{}
+	for _, n := range names {
+		k, l, err := ParseDunhamTerm(n)
+		if err != nil {
+			return nil, err
+		}
+		if have[[2]int{k, l}] {
+			continue
+		}
+		have[[2]int{k, l}] = true
+		m.terms = append(m.terms, [2]int{k, l})
+	}
+	if len(m.terms) == 0 {
+		return nil, fmt.Errorf("model: no Dunham terms given (e.g. --terms Y10,Y20,Y01,Y11,Y02)")
+	}
+	sort.Slice(m.terms, func(a, b int) bool {
+		if m.terms[a][1] != m.terms[b][1] {
+			return m.terms[a][1] < m.terms[b][1]
+		}
+		return m.terms[a][0] < m.terms[b][0]
+	})
+	for _, t := range m.terms {
+		m.params = append(m.params, Param{Name: DunhamName(t[0], t[1]), V: -1, K: t[0], L: t[1], Species: m.species[0]})
+		m.maxK = max(m.maxK, t[0])
+		m.maxL = max(m.maxL, t[1])
+	}
+	m.scale = make([][]float64, len(m.isos))
+	muR := m.isos[0].ReducedMass()
+	for s, iso := range m.isos {
+		m.scale[s] = make([]float64, len(m.terms))
+		for t, kl := range m.terms {
+			m.scale[s][t] = math.Pow(muR/iso.ReducedMass(), float64(kl[0]+2*kl[1])/2)
+		}
+	}
+	// Breakdown terms: only for elements substituted in the data.
+	m.bob = make([][]bobTerm, len(m.terms))
+	if len(o.BOBTerms) > 0 {
+		for _, el := range substitutedElements(m.isos) {
+			m.elements = append(m.elements, el)
+		}
+		if len(m.elements) == 0 {
+			return nil, fmt.Errorf("model: Born–Oppenheimer-breakdown terms need isotopologues that differ in the isotope of at least one element; all given isotopologues are %s", m.species[0])
+		}
+		for _, n := range o.BOBTerms {
+			k, l, err := ParseDunhamTerm(n)
+			if err != nil {
+				return nil, err
+			}
+			t := m.termIndex(k, l)
+			if t < 0 {
+				return nil, fmt.Errorf("model: breakdown term %s needs %s among the fitted terms", BOBName(k, l, "X"), DunhamName(k, l))
+			}
+			if len(m.bob[t]) > 0 {
+				continue
+			}
+			for _, el := range m.elements {
+				bt := bobTerm{param: len(m.params), coef: make([]float64, len(m.isos))}
+				sr := invMassSum(m.isos[0], el)
+				for s, iso := range m.isos {
+					bt.coef[s] = species.ElectronMass * (invMassSum(iso, el) - sr)
+				}
+				m.bob[t] = append(m.bob[t], bt)
+				m.params = append(m.params, Param{Name: BOBName(k, l, el), V: -1, K: k, L: l, Element: el})
+			}
+		}
+	}
+	if err := applyFixes(m.params, o.Fixes); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+func elementsOf(iso species.Isotopologue) string {
+	a, b := iso.A.Symbol, iso.B.Symbol
+	if a > b {
+		a, b = b, a
+	}
+	return a + "+" + b
+}
+
+// substitutedElements returns the elements whose isotope differs between
+// isotopologues, in the order they appear in the reference.
+func substitutedElements(isos []species.Isotopologue) []string {
+	var out []string
+	for _, el := range []string{isos[0].A.Symbol, isos[0].B.Symbol} {
+		if contains(out, el) {
+			continue
+		}
+		r := invMassSum(isos[0], el)
+		for _, iso := range isos[1:] {
+			if invMassSum(iso, el) != r {
+				out = append(out, el)
+				break
+			}
+		}
+	}
+	return out
+}
+
+// invMassSum returns Σ 1/M (u⁻¹) over the atoms of element el in iso.
+func invMassSum(iso species.Isotopologue, el string) float64 {
+	s := 0.0
+	if iso.A.Symbol == el {
+		s += 1 / iso.A.Mass
+	}
+	if iso.B.Symbol == el {
+		s += 1 / iso.B.Mass
+	}
+	return s
+}
+
+func (m *Dunham) termIndex(k, l int) int {
+	for i, t := range m.terms {
+		if t[0] == k && t[1] == l {
+			return i
+		}
+	}
+	return -1
+}
+
+// Kind returns KindDunham.
+func (m *Dunham) Kind() string { return KindDunham }
+
+// Species returns the isotopologue labels, reference first.
+func (m *Dunham) Species() []string { return append([]string(nil), m.species...) }
+
+// Isotopologues returns the isotopologues, reference first.
+func (m *Dunham) Isotopologues() []species.Isotopologue {
+	return append([]species.Isotopologue(nil), m.isos...)
+}
+
+// Params returns a copy of the parameter list: the Y_kl of the reference
+// isotopologue (ordered by l, then k), then the breakdown parameters.
+func (m *Dunham) Params() []Param { return append([]Param(nil), m.params...) }
+
+// Terms returns the (k, l) pairs of the Y parameters, in parameter order.
+func (m *Dunham) Terms() [][2]int { return append([][2]int(nil), m.terms...) }
+
+// BOBElements returns the elements that carry breakdown parameters.
+func (m *Dunham) BOBElements() []string { return append([]string(nil), m.elements...) }
+
+// HasLevel is always true: the expansion covers every level (extrapolation is
+// the caller's concern).
+func (m *Dunham) HasLevel(s, v int) bool { return v >= 0 && s >= 0 && s < len(m.species) }
+
+// MaxK returns the largest vibrational power in the model.
+func (m *Dunham) MaxK() int { return m.maxK }
+
+// Y returns Y_kl of species s for parameter vector p and, when grad is not nil,
+// ∂Y_kl(s)/∂p_j in grad (len(p)). It returns 0 and an all-zero gradient when
+// (k, l) is not a term of the model.
+func (m *Dunham) Y(s, k, l int, p []float64, grad []float64) float64 {
+	if grad != nil {
+		clear(grad)
+	}
+	t := m.termIndex(k, l)
+	if t < 0 {
+		return 0
+	}
+	sc := m.scale[s][t]
+	y := p[t]
+	if grad != nil {
+		grad[t] = sc
+	}
+	for _, b := range m.bob[t] {
+		y += b.coef[s] * p[b.param]
+		if grad != nil {
+			grad[b.param] = sc * b.coef[s]
+		}
+	}
+	return sc * y
+}
+
+// Scale returns (μ_r/μ_s)^((k+2l)/2) for term (k, l) of species s.
+func (m *Dunham) Scale(s, k, l int) float64 {
+	if t := m.termIndex(k, l); t >= 0 {
+		return m.scale[s][t]
+	}
+	return math.Pow(m.isos[0].ReducedMass()/m.isos[s].ReducedMass(), float64(k+2*l)/2)
+}
+
+// Energy evaluates E(v, J) of species s; see the type's doc comment.
+func (m *Dunham) Energy(s, v, J int, p []float64, grad []float64) float64 {
+	if grad != nil {
+		clear(grad)
+	}
+	var vp, xp [10]float64
+	vh := float64(v) + 0.5
+	q := 1.0
+	for i := 0; i <= m.maxK && i < len(vp); i++ {
+		vp[i] = q
+		q *= vh
+	}
+	xPow(J, min(m.maxL, len(xp)-1), xp[:])
+	e := 0.0
+	for t, kl := range m.terms {
+		basis := vp[kl[0]] * xp[kl[1]]
+		sc := m.scale[s][t]
+		c := sc * basis
+		y := p[t]
+		if grad != nil {
+			grad[t] = c
+		}
+		for _, b := range m.bob[t] {
+			y += b.coef[s] * p[b.param]
+			if grad != nil {
+				grad[b.param] = c * b.coef[s]
+			}
+		}
+		e += c * y
+	}
+	return e
+}

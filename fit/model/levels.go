@@ -1,0 +1,188 @@
+package model
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+)
+
+// RotTerms are the rotational terms of the levels model in their fixed order.
+var RotTerms = []string{"B", "D", "H", "L"}
+
+// Levels is the band-by-band term-value model. For isotopologue s and
+// vibrational level v,
+//
+//	E(v, J) = T_v + B_v·x − D_v·x² + H_v·x³ + L_v·x⁴,   x = J(J+1)   [cm⁻¹]
+//
+// with one set of constants per level. T_v of the lowest level of each
+// isotopologue is held at 0 (the energy zero of that isotopologue); every other
+// T_v floats. Which rotational terms exist is chosen once for all levels.
+type Levels struct {
+	species []string
+	params  []Param
+	terms   []string       // rotational terms present, in RotTerms order
+	base    map[[2]int]int // (s, v) → index of T_v; terms follow in order
+	maxPow  int
+}
+
+// LevelSpec lists the vibrational levels of one isotopologue.
+type LevelSpec struct {
+	Species string
+	V       []int
+}
+
+// NewLevels builds a levels model over the given levels with the rotational
+// terms listed in terms (a subset of B, D, H, L; "T" is accepted and ignored,
+// T_v always exists). Parameters named in fixes but absent from terms are added
+// as fixed parameters (for example --terms B --fix D=6.1e-6).
+func NewLevels(specs []LevelSpec, terms []string, fixes []Fix) (*Levels, error) {
+	if len(specs) == 0 {
+		return nil, ErrNoLevels
+	}
+	want := map[string]bool{}
+	for _, t := range terms {
+		t = strings.TrimSpace(t)
+		if t == "T" || t == "" {
+			continue
+		}
+		if !contains(RotTerms, t) {
+			return nil, fmt.Errorf("model: levels model has no term %q (terms: T, B, D, H, L)", t)
+		}
+		want[t] = true
+	}
+	for _, f := range fixes {
+		if contains(RotTerms, f.Name) {
+			want[f.Name] = true
+		}
+	}
+	m := &Levels{base: map[[2]int]int{}}
+	for _, t := range RotTerms {
+		if want[t] {
+			m.terms = append(m.terms, t)
+		}
+	}
+	m.maxPow = len(m.terms)
+	if idx := indexOf(RotTerms, lastOf(m.terms)); idx >= 0 {
+		m.maxPow = idx + 1
+	}
+	for si, sp := range specs {
+		if len(sp.V) == 0 {
+			return nil, fmt.Errorf("model: %s: no vibrational levels", sp.Species)
+		}
+		vs := append([]int(nil), sp.V...)
+		sort.Ints(vs)
+		m.species = append(m.species, sp.Species)
+		for i, v := range vs {
+			if i > 0 && v == vs[i-1] {
+				continue
+			}
+			m.base[[2]int{si, v}] = len(m.params)
+			t := Param{Name: "T", V: v, K: -1, L: -1, Species: sp.Species}
+			if i == 0 {
+				t.Fixed = true // energy zero of this isotopologue
+			}
+			m.params = append(m.params, t)
+			for _, name := range m.terms {
+				m.params = append(m.params, Param{Name: name, V: v, K: -1, L: -1, Species: sp.Species})
+			}
+		}
+	}
+	if err := applyFixes(m.params, fixes); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// Kind returns KindLevels.
+func (m *Levels) Kind() string { return KindLevels }
+
+// Species returns the isotopologue labels.
+func (m *Levels) Species() []string { return append([]string(nil), m.species...) }
+
+// Params returns a copy of the parameter list.
+func (m *Levels) Params() []Param { return append([]Param(nil), m.params...) }
+
+// Terms returns the rotational terms present (subset of B, D, H, L).
+func (m *Levels) Terms() []string { return append([]string(nil), m.terms...) }
+
+// HasLevel reports whether level v of species s has parameters.
+func (m *Levels) HasLevel(s, v int) bool {
+	_, ok := m.base[[2]int{s, v}]
+	return ok
+}
+
+// LevelsOf returns the vibrational levels of species s in ascending order.
+func (m *Levels) LevelsOf(s int) []int {
+	var vs []int
+	for k := range m.base {
+		if k[0] == s {
+			vs = append(vs, k[1])
+		}
+	}
+	sort.Ints(vs)
+	return vs
+}
+
+// Index returns the index of the parameter name ("T", "B", …) of level v of
+// species s, or -1.
+func (m *Levels) Index(s, v int, name string) int {
+	b, ok := m.base[[2]int{s, v}]
+	if !ok {
+		return -1
+	}
+	if name == "T" {
+		return b
+	}
+	if i := indexOf(m.terms, name); i >= 0 {
+		return b + 1 + i
+	}
+	return -1
+}
+
+// termSign is the sign of each rotational term in E: +B x − D x² + H x³ + L x⁴.
+var termSign = map[string]float64{"B": 1, "D": -1, "H": 1, "L": 1}
+
+// Energy evaluates E(v, J) of species s; see the type's doc comment.
+func (m *Levels) Energy(s, v, J int, p []float64, grad []float64) float64 {
+	b, ok := m.base[[2]int{s, v}]
+	if grad != nil {
+		clear(grad)
+	}
+	if !ok {
+		return math.NaN()
+	}
+	var xp [5]float64
+	xPow(J, 4, xp[:])
+	e := p[b]
+	if grad != nil {
+		grad[b] = 1
+	}
+	for i, name := range m.terms {
+		pow := indexOf(RotTerms, name) + 1
+		c := termSign[name] * xp[pow]
+		e += c * p[b+1+i]
+		if grad != nil {
+			grad[b+1+i] = c
+		}
+	}
+	return e
+}
+
+func contains(xs []string, s string) bool { return indexOf(xs, s) >= 0 }
+
+func indexOf(xs []string, s string) int {
+	for i, x := range xs {
+		if x == s {
+			return i
+		}
+	}
+	return -1
+}
+
+func lastOf(xs []string) string {
+	if len(xs) == 0 {
+		return ""
+	}
+	return xs[len(xs)-1]
+}

@@ -1,0 +1,121 @@
+package fit
+
+import (
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bandwright/fit/model"
+)
+
+// Prediction is a calculated line position with its 1σ propagated from the
+// covariance of the constants: σ² = gᵀCg, g = ∂ν/∂p over the fitted parameters.
+type Prediction struct {
+	Species  string
+	VUp, JUp int
+	VLo, JLo int
+	Branch   string
+	Position float64 // cm⁻¹
+	Sigma    float64 // cm⁻¹
+}
+
+// BandSpec is a band v′–v″ (v′ = v″ for pure rotation).
+type BandSpec struct{ VUp, VLo int }
+
+// ParseBands parses "1-0,2-1,0-0".
+func ParseBands(s string) ([]BandSpec, error) {
+	var out []BandSpec
+	for _, f := range strings.Split(s, ",") {
+		f = strings.TrimSpace(f)
+		if f == "" {
+			continue
+		}
+		a, b, ok := strings.Cut(f, "-")
+		vu, e1 := strconv.Atoi(strings.TrimSpace(a))
+		vl, e2 := strconv.Atoi(strings.TrimSpace(b))
+		if !ok || e1 != nil || e2 != nil || vu < 0 || vl < 0 || vu > 100 || vl > 100 {
+			return nil, fmt.Errorf("fit: band %q: write v′-v″ with levels 0…100, e.g. 1-0 or 2-1 (0-0 for pure rotation)", f)
+		}
+		out = append(out, BandSpec{vu, vl})
+	}
+	if len(out) == 0 {
+		return nil, fmt.Errorf("fit: no bands given (e.g. 1-0,2-1)")
+	}
+	return out, nil
+}
+
+// branchDJ maps branch letters to ΔJ = J′ − J″.
+var branchDJ = map[string]int{"O": -2, "P": -1, "Q": 0, "R": 1, "S": 2}
+
+// Predict calculates the lines of the given bands of one species up to lower
+// J = jmax for the branches given (default: P and R for vibrational bands, R for
+// pure rotation).
+func Predict(c *Constants, sp string, bands []BandSpec, jmax int, branches []string) ([]Prediction, error) {
+	s := model.SpeciesIndex(c.Model, sp)
+	if s < 0 {
+		return nil, fmt.Errorf("fit: species %s is not in the constants record (it has %s)", sp, strings.Join(c.Model.Species(), ", "))
+	}
+	for _, b := range branches {
+		if _, ok := branchDJ[b]; !ok {
+			return nil, fmt.Errorf("fit: branch %q: use O, P, Q, R or S", b)
+		}
+	}
+	n := len(c.Free)
+	gu := make([]float64, n)
+	gl := make([]float64, n)
+	g := mat.NewVecDense(max(n, 1), nil)
+	var out []Prediction
+	for _, b := range bands {
+		if !c.Model.HasLevel(s, b.VUp) || !c.Model.HasLevel(s, b.VLo) {
+			return nil, fmt.Errorf("fit: band %d-%d of %s: the constants record has no parameters for one of its levels", b.VUp, b.VLo, sp)
+		}
+		br := branches
+		if len(br) == 0 {
+			br = []string{"P", "R"}
+			if b.VUp == b.VLo {
+				br = []string{"R"}
+			}
+		}
+		for _, name := range br {
+			dj := branchDJ[name]
+			if b.VUp == b.VLo && dj <= 0 {
+				continue // pure rotation: emission/absorption J → J+1 only
+			}
+			for jl := 0; jl <= jmax; jl++ {
+				ju := jl + dj
+				if ju < 0 || (dj == 0 && jl == 0 && b.VUp == b.VLo) {
+					continue
+				}
+				eu := c.Energy(s, b.VUp, ju, gu)
+				el := c.Energy(s, b.VLo, jl, gl)
+				for k := 0; k < n; k++ {
+					g.SetVec(k, gu[k]-gl[k])
+				}
+				v := 0.0
+				if n > 0 {
+					v = mat.Inner(g, c.Cov, g)
+				}
+				out = append(out, Prediction{Species: sp, VUp: b.VUp, JUp: ju, VLo: b.VLo, JLo: jl, Branch: name, Position: eu - el, Sigma: math.Sqrt(math.Max(v, 0))})
+			}
+		}
+	}
+	return out, nil
+}
+
+// WritePredictions writes predictions as CSV in the line-list column names
+// (species, v_up, J_up, v_lo, J_lo, branch, position, sigma, unit).
+func WritePredictions(w io.Writer, ps []Prediction) error {
+	cw := csv.NewWriter(w)
+	cw.Write([]string{"species", "v_up", "J_up", "v_lo", "J_lo", "branch", "position", "sigma", "unit"})
+	for _, p := range ps {
+		cw.Write([]string{p.Species, strconv.Itoa(p.VUp), strconv.Itoa(p.JUp), strconv.Itoa(p.VLo), strconv.Itoa(p.JLo), p.Branch,
+			strconv.FormatFloat(p.Position, 'f', 6, 64), strconv.FormatFloat(p.Sigma, 'g', 3, 64), "cm-1"})
+	}
+	cw.Flush()
+	return cw.Error()
+}
