@@ -1,0 +1,119 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/urfave/cli/v2"
+
+	"bandwright/fit"
+	"bandwright/pipelines"
+)
+
+func init() {
+	register(20, fitCommand)
+	register(30, predictCommand)
+}
+
+func splitList(xs []string) []string {
+	var out []string
+	for _, x := range xs {
+		for _, f := range strings.Split(x, ",") {
+			if f = strings.TrimSpace(f); f != "" {
+				out = append(out, f)
+			}
+		}
+	}
+	return out
+}
+
+func fitCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "fit",
+		Usage:     "fit molecular constants to assigned line lists",
+		ArgsUsage: "LINES.csv...",
+		Description: "Weighted least squares (QR on the column-scaled design matrix) of a levels or Dunham model to the lines of one or more files.\n" +
+			"Writes constants.json, residuals.csv and fit.md into --out. σ are scaled by the fit's dimensionless standard deviation.",
+		OnUsageError: onUsage,
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "model", Value: "dunham", Usage: "energy-level model: dunham or levels"},
+			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: levels B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,… (default: B,D or Y10,Y20,Y01,Y11,Y02)"},
+			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…); repeatable"},
+			&cli.Float64Flag{Name: "reject", Value: 3, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
+			&cli.BoolFlag{Name: "round", Usage: "sequential rounding of the constants (Watson 1977)"},
+			&cli.BoolFlag{Name: "bob", Usage: "Born–Oppenheimer-breakdown terms for Y10 and Y01 of each substituted element (dunham)"},
+			&cli.StringSliceFlag{Name: "bob-terms", Usage: "the Dunham terms that get breakdown terms (implies --bob)"},
+			&cli.BoolFlag{Name: "calibrate", Usage: "float a multiplicative calibration factor per file (the first file is the reference)"},
+			&cli.StringFlag{Name: "reference", Usage: "reference isotopologue of a Dunham fit (default: the first in the input)"},
+			&cli.StringFlag{Name: "out", Value: "bandwright-fit", Usage: "output folder"},
+		},
+		Action: func(c *cli.Context) error {
+			if c.NArg() == 0 {
+				return usageExit("fit: give one or more line-list files (see bandwright fit --help)")
+			}
+			bob := splitList(c.StringSlice("bob-terms"))
+			if c.Bool("bob") && len(bob) == 0 {
+				bob = []string{"Y10", "Y01"}
+			}
+			if c.Float64("reject") < 0 {
+				return usageExit("fit: --reject must be ≥ 0 (0 turns rejection off)")
+			}
+			o := pipelines.FitOptions{
+				Inputs: c.Args().Slice(), Model: c.String("model"), Terms: splitList(c.StringSlice("terms")),
+				Fix: c.StringSlice("fix"), Reject: c.Float64("reject"), Round: c.Bool("round"), BOBTerms: bob,
+				Calibrate: c.Bool("calibrate"), Reference: c.String("reference"), Out: c.String("out"),
+			}
+			oc, err := pipelines.RunFit(o)
+			if err != nil {
+				return err
+			}
+			st := oc.Result.Stats
+			fmt.Fprintf(os.Stdout, "fit: %d lines (%d used, %d rejected), %d parameters, s = %.3g, rms %.3g cm-1\n", st.Lines, st.Used, st.Rejected, st.Params, st.Sigma, st.RMSCm)
+			for _, w := range oc.Result.Warnings {
+				fmt.Fprintln(os.Stderr, "warning:", w)
+			}
+			fmt.Fprintf(os.Stdout, "results in %s\n", filepath.Join(o.Out, pipelines.ConstantsFile))
+			return nil
+		},
+	}
+}
+
+func predictCommand() *cli.Command {
+	return &cli.Command{
+		Name:         "predict",
+		Usage:        "calculate line positions with propagated σ from a constants record",
+		ArgsUsage:    "CONSTANTS.json",
+		OnUsageError: onUsage,
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "species", Usage: "isotopologue (default: every species in the record)"},
+			&cli.StringFlag{Name: "bands", Value: "1-0", Usage: "bands v′-v″, comma-separated (0-0: pure rotation)"},
+			&cli.IntFlag{Name: "jmax", Value: 40, Usage: "highest lower-state J"},
+			&cli.StringSliceFlag{Name: "branches", Usage: "branches O,P,Q,R,S (default P,R; R for pure rotation)"},
+			&cli.StringFlag{Name: "out", Value: "predicted.csv", Usage: "output CSV file"},
+		},
+		Action: func(c *cli.Context) error {
+			if c.NArg() != 1 {
+				return usageExit("predict: give one constants.json")
+			}
+			bands, err := fit.ParseBands(c.String("bands"))
+			if err != nil {
+				return usageExit("%v", err)
+			}
+			if c.Int("jmax") < 0 || c.Int("jmax") > 1000 {
+				return usageExit("predict: --jmax must be within 0…1000")
+			}
+			n, err := pipelines.RunPredict(c.Args().First(), c.String("species"), bands, c.Int("jmax"), splitList(c.StringSlice("branches")), c.String("out"))
+			if err != nil {
+				return err
+			}
+			fmt.Printf("predict: %d lines written to %s\n", n, c.String("out"))
+			return nil
+		},
+	}
+}
+
+func onUsage(c *cli.Context, err error, isSub bool) error {
+	return cli.Exit("usage: "+err.Error()+" (see --help)", 1)
+}

@@ -1,0 +1,215 @@
+// Package pipelines runs bandwright's stages on files: it reads the inputs,
+// calls the stage packages (fit, thermo, assign), and writes each stage's
+// outputs atomically into an output folder. The command line is a thin layer
+// over this package.
+package pipelines
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"time"
+
+	"bandwright/fit"
+	"bandwright/fit/linelist"
+	"bandwright/fit/model"
+	"bandwright/pipelines/outdir"
+)
+
+// Version is the program version written into every output.
+var Version = "0.1.0"
+
+// FitOptions are the options of `bandwright fit`.
+type FitOptions struct {
+	Inputs    []string
+	Model     string
+	Terms     []string
+	Fix       []string // NAME=VALUE
+	Reject    float64  // threshold in units of s; 0 turns rejection off
+	Round     bool
+	BOBTerms  []string
+	Calibrate bool
+	Reference string
+	Out       string
+}
+
+// FitOutcome is what a fit run produced.
+type FitOutcome struct {
+	Problem fit.Problem
+	Result  *fit.Result
+	Record  *fit.Record
+	Extra   []string
+	Out     string
+}
+
+// Files written by the fit stage.
+const (
+	ConstantsFile = "constants.json"
+	ResidualsFile = "residuals.csv"
+	FitReportFile = "fit.md"
+)
+
+// RunFit reads the line lists, fits, and writes constants.json, residuals.csv
+// and fit.md into o.Out (nothing is written when anything fails).
+func RunFit(o FitOptions) (*FitOutcome, error) {
+	oc, err := Fit(o)
+	if err != nil {
+		return nil, err
+	}
+	d, err := outdir.Begin(o.Out)
+	if err != nil {
+		return nil, err
+	}
+	d.Protect(o.Inputs...)
+	defer d.Abort()
+	if err := WriteFitOutputs(d, oc); err != nil {
+		return nil, err
+	}
+	if err := d.Commit(); err != nil {
+		return nil, err
+	}
+	oc.Out = o.Out
+	return oc, nil
+}
+
+// Fit reads the inputs and fits without writing anything.
+func Fit(o FitOptions) (*FitOutcome, error) {
+	if len(o.Inputs) == 0 {
+		return nil, UsageError{errors.New("fit: no line-list files given")}
+	}
+	var fixes []model.Fix
+	for _, f := range o.Fix {
+		fx, err := model.ParseFix(f)
+		if err != nil {
+			return nil, UsageError{err}
+		}
+		fixes = append(fixes, fx)
+	}
+	hashes, err := HashFiles(o.Inputs)
+	if err != nil {
+		return nil, err
+	}
+	list, err := linelist.ReadFiles(o.Inputs...)
+	if err != nil {
+		return nil, err
+	}
+	kind := o.Model
+	if kind == "" {
+		kind = model.KindDunham
+	}
+	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: o.Terms, Fixes: fixes, Reference: o.Reference, BOBTerms: o.BOBTerms})
+	if err != nil {
+		return nil, UsageError{err}
+	}
+	p := fit.Problem{Lines: list.Lines, Model: m}
+	s := fit.Settings{Reject: o.Reject, NoReject: o.Reject == 0, Round: o.Round, Calibrate: o.Calibrate}
+	res, err := fit.Fit(p, s)
+	if err != nil {
+		return nil, err
+	}
+	// The input must not have changed while it was read.
+	after, err := HashFiles(o.Inputs)
+	if err != nil {
+		return nil, err
+	}
+	for i := range after {
+		if after[i] != hashes[i] {
+			return nil, fmt.Errorf("pipelines: %s changed while it was being read; run again when it is complete", o.Inputs[i])
+		}
+	}
+	rec := fit.NewRecord(res)
+	for i, in := range o.Inputs {
+		rec.Provenance.Inputs = append(rec.Provenance.Inputs, fit.Input{Path: in, SHA256: hashes[i]})
+	}
+	rec.Provenance.Version = Version
+	rec.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
+	rej := any(o.Reject)
+	if o.Reject == 0 {
+		rej = "off"
+	}
+	rec.Provenance.Options = map[string]any{
+		"model": kind, "terms": m.Params()[0].Name, "fix": o.Fix, "reject": rej, "round": o.Round,
+		"bob": o.BOBTerms, "calibrate": o.Calibrate, "reference": m.Species()[0],
+	}
+	rec.Provenance.Options["terms"] = termsOf(o.Terms, kind)
+	return &FitOutcome{Problem: p, Result: res, Record: rec, Extra: list.Extra}, nil
+}
+
+func termsOf(t []string, kind string) []string {
+	if len(t) == 0 {
+		return fit.DefaultTerms(kind)
+	}
+	return t
+}
+
+// WriteFitOutputs writes the fit stage's files into d.
+func WriteFitOutputs(d *outdir.Dir, oc *FitOutcome) error {
+	if err := d.Write(ConstantsFile, oc.Record.Write); err != nil {
+		return err
+	}
+	if err := d.Write(ResidualsFile, func(w io.Writer) error { return fit.WriteResiduals(w, oc.Problem, oc.Result, oc.Extra) }); err != nil {
+		return err
+	}
+	return d.Write(FitReportFile, func(w io.Writer) error { return fit.WriteSummary(w, oc.Problem, oc.Result, oc.Record) })
+}
+
+// HashFiles returns the SHA-256 (hex) of each file.
+func HashFiles(paths []string) ([]string, error) {
+	out := make([]string, len(paths))
+	for i, p := range paths {
+		h, err := HashFile(p)
+		if err != nil {
+			return nil, err
+		}
+		out[i] = h
+	}
+	return out, nil
+}
+
+// HashFile returns the SHA-256 (hex) of a file's content.
+func HashFile(p string) (string, error) {
+	f, err := os.Open(p)
+	if err != nil {
+		return "", fmt.Errorf("pipelines: %w", err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("pipelines: %s: %w", p, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// UsageError marks an error in the options given (exit code 1).
+type UsageError struct{ Err error }
+
+func (e UsageError) Error() string { return e.Err.Error() }
+func (e UsageError) Unwrap() error { return e.Err }
+
+// ExitCode maps an error to the exit codes of bandwright: 0 success, 1 bad
+// input or usage, 2 a computation that cannot be done honestly, 3 a batch in
+// which some files failed.
+func ExitCode(err error) int {
+	if err == nil {
+		return 0
+	}
+	var ue *fit.UndeterminedError
+	if errors.As(err, &ue) || errors.Is(err, fit.ErrCannotFit) {
+		return 2
+	}
+	var be *BatchError
+	if errors.As(err, &be) {
+		return 3
+	}
+	return 1
+}
+
+// BatchError reports a batch in which some files failed.
+type BatchError struct{ Failed, Total int }
+
+func (e *BatchError) Error() string {
+	return fmt.Sprintf("pipelines: %d of %d files failed (see the ledger)", e.Failed, e.Total)
+}

@@ -1,0 +1,147 @@
+// Package outdir writes a folder of output files atomically: every file is
+// written into a temporary folder beside the destination and moved into place
+// only when all of them are complete, so a failure or a crash never leaves a
+// partial set of outputs.
+package outdir
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"sort"
+)
+
+// Dir is an output folder under construction.
+type Dir struct {
+	final     string
+	tmp       string
+	names     []string
+	protected map[string]bool
+	done      bool
+}
+
+// Begin starts building the folder final. The parent folders are created.
+func Begin(final string) (*Dir, error) {
+	if final == "" {
+		return nil, errors.New("outdir: no output folder given (--out)")
+	}
+	abs, err := filepath.Abs(final)
+	if err != nil {
+		return nil, fmt.Errorf("outdir: %w", err)
+	}
+	if st, err := os.Stat(abs); err == nil && !st.IsDir() {
+		return nil, fmt.Errorf("outdir: %s exists and is not a folder", final)
+	}
+	parent := filepath.Dir(abs)
+	if err := os.MkdirAll(parent, 0o755); err != nil {
+		return nil, fmt.Errorf("outdir: %w", err)
+	}
+	tmp, err := os.MkdirTemp(parent, "."+filepath.Base(abs)+".partial-")
+	if err != nil {
+		return nil, fmt.Errorf("outdir: cannot write in %s: %w", parent, err)
+	}
+	return &Dir{final: abs, tmp: tmp, protected: map[string]bool{}}, nil
+}
+
+// Protect names files that must never be replaced (the user's inputs): Commit
+// fails rather than overwrite one of them.
+func (d *Dir) Protect(paths ...string) {
+	for _, p := range paths {
+		if a, err := filepath.Abs(p); err == nil {
+			if r, err := filepath.EvalSymlinks(a); err == nil {
+				a = r
+			}
+			d.protected[a] = true
+		}
+	}
+}
+
+// Path returns the final path of a file in the folder.
+func (d *Dir) Path(name string) string { return filepath.Join(d.final, name) }
+
+// TempPath returns the temporary path of a file being built (for writers that
+// need a path, such as plots).
+func (d *Dir) TempPath(name string) string { return filepath.Join(d.tmp, name) }
+
+// Write creates the file name in the folder with the content written by fn,
+// synced to disk.
+func (d *Dir) Write(name string, fn func(io.Writer) error) error {
+	if filepath.Base(name) != name || name == "." || name == ".." {
+		return fmt.Errorf("outdir: %q is not a plain file name", name)
+	}
+	f, err := os.OpenFile(filepath.Join(d.tmp, name), os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	if err != nil {
+		return fmt.Errorf("outdir: %w", err)
+	}
+	if err := fn(f); err != nil {
+		f.Close()
+		return fmt.Errorf("outdir: writing %s: %w", name, err)
+	}
+	if err := f.Sync(); err != nil {
+		f.Close()
+		return fmt.Errorf("outdir: writing %s: %w", name, err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("outdir: writing %s: %w", name, err)
+	}
+	d.names = append(d.names, name)
+	return nil
+}
+
+// Commit moves the files into place. A new folder is renamed into place in one
+// step; into an existing folder each file is renamed over its old version
+// (each rename atomic). Other files already in the folder are left alone.
+func (d *Dir) Commit() error {
+	if d.done {
+		return errors.New("outdir: already committed or aborted")
+	}
+	for _, n := range d.names {
+		p := filepath.Join(d.final, n)
+		if r, err := filepath.EvalSymlinks(p); err == nil {
+			p = r
+		}
+		if d.protected[p] {
+			d.Abort()
+			return fmt.Errorf("outdir: refusing to overwrite the input file %s; choose another --out folder", filepath.Join(d.final, n))
+		}
+	}
+	if _, err := os.Stat(d.final); errors.Is(err, os.ErrNotExist) {
+		if err := os.Rename(d.tmp, d.final); err == nil {
+			d.done = true
+			syncDir(filepath.Dir(d.final))
+			return nil
+		}
+		if err := os.MkdirAll(d.final, 0o755); err != nil {
+			d.Abort()
+			return fmt.Errorf("outdir: %w", err)
+		}
+	}
+	sort.Strings(d.names)
+	for _, n := range d.names {
+		if err := os.Rename(filepath.Join(d.tmp, n), filepath.Join(d.final, n)); err != nil {
+			d.Abort()
+			return fmt.Errorf("outdir: %w", err)
+		}
+	}
+	syncDir(d.final)
+	d.done = true
+	return os.RemoveAll(d.tmp)
+}
+
+// Abort removes everything written so far. Safe to call after Commit (no-op).
+func (d *Dir) Abort() {
+	if d.done {
+		return
+	}
+	d.done = true
+	os.RemoveAll(d.tmp)
+}
+
+func syncDir(p string) {
+	if f, err := os.Open(p); err == nil {
+		f.Sync()
+		f.Close()
+	}
+}

@@ -1,0 +1,77 @@
+package pipelines
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+
+	"github.com/google/renameio/v2"
+
+	"bandwright/fit"
+)
+
+// LoadConstants reads a constants record from a file.
+func LoadConstants(path string) (*fit.Record, *fit.Constants, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, nil, fmt.Errorf("pipelines: %w", err)
+	}
+	defer f.Close()
+	rec, err := fit.ReadRecord(f, path)
+	if err != nil {
+		return nil, nil, err
+	}
+	c, err := rec.Constants()
+	if err != nil {
+		return nil, nil, fmt.Errorf("fit: %s: %w", path, err)
+	}
+	return rec, c, nil
+}
+
+// RunPredict writes the predicted lines of the given bands to out (atomically)
+// and returns how many were written.
+func RunPredict(constants, sp string, bands []fit.BandSpec, jmax int, branches []string, out string) (int, error) {
+	_, c, err := LoadConstants(constants)
+	if err != nil {
+		return 0, err
+	}
+	spp := c.Model.Species()
+	if sp != "" {
+		spp = []string{sp}
+	}
+	var all []fit.Prediction
+	for _, s := range spp {
+		ps, err := fit.Predict(c, s, bands, jmax, branches)
+		if err != nil {
+			return 0, UsageError{err}
+		}
+		all = append(all, ps...)
+	}
+	if a, _ := filepath.Abs(out); a != "" {
+		if b, _ := filepath.Abs(constants); a == b {
+			return 0, UsageError{fmt.Errorf("predict: --out %s would overwrite the constants record", out)}
+		}
+	}
+	if err := writeFileAtomic(out, func(w io.Writer) error { return fit.WritePredictions(w, all) }); err != nil {
+		return 0, err
+	}
+	return len(all), nil
+}
+
+// writeFileAtomic writes a single file through a temporary file renamed into
+// place (google/renameio).
+func writeFileAtomic(path string, fn func(io.Writer) error) error {
+	t, err := renameio.NewPendingFile(path)
+	if err != nil {
+		return fmt.Errorf("pipelines: %w", err)
+	}
+	defer t.Cleanup()
+	if err := fn(t); err != nil {
+		return fmt.Errorf("pipelines: writing %s: %w", path, err)
+	}
+	if err := t.CloseAtomicallyReplace(); err != nil {
+		return fmt.Errorf("pipelines: %w", err)
+	}
+	return nil
+}
