@@ -1,0 +1,93 @@
+package linelist
+
+import (
+	"bufio"
+	"bytes"
+	"io"
+)
+
+// lineFilter prepares a line-list file for encoding/csv while keeping its physical line
+// numbering: it drops a leading UTF-8 byte-order mark and turns every comment line (first
+// non-blank character '#') and every blank line outside a quoted field into an empty
+// line, which encoding/csv skips. Each physical line of the input gives exactly one line
+// of output, so csv.Reader.FieldPos reports the line numbers of the file itself.
+//
+// Whether a line starts inside a quoted field is tracked by the parity of the '"'
+// characters seen so far; in well-formed CSV (RFC 4180) an escaped quote is doubled and
+// leaves the parity unchanged, so a quoted cell whose text continues on a line starting
+// with '#' is left intact.
+type lineFilter struct {
+	br       *bufio.Reader
+	pending  []byte
+	started  bool // the byte-order mark check is done
+	midLine  bool // the last chunk passed on did not end its line
+	inQuote  bool // an odd number of '"' has been passed on
+	skipping bool // inside a comment line longer than the buffer
+	err      error
+}
+
+var (
+	utf8BOM   = []byte{0xEF, 0xBB, 0xBF}
+	emptyLine = []byte{'\n'}
+)
+
+func newLineFilter(r io.Reader) *lineFilter {
+	return &lineFilter{br: bufio.NewReaderSize(r, 64<<10)}
+}
+
+func (f *lineFilter) Read(p []byte) (int, error) {
+	for len(f.pending) == 0 {
+		if f.err != nil {
+			return 0, f.err
+		}
+		f.next()
+	}
+	n := copy(p, f.pending)
+	f.pending = f.pending[n:]
+	return n, nil
+}
+
+// next reads one chunk (a whole line, or a buffer's worth of a long line) and sets
+// pending to what should be passed on.
+func (f *lineFilter) next() {
+	chunk, err := f.br.ReadSlice('\n')
+	if err == bufio.ErrBufferFull {
+		err = nil
+	}
+	f.err = err
+	if !f.started {
+		f.started = true
+		chunk = bytes.TrimPrefix(chunk, utf8BOM)
+	}
+	complete := len(chunk) > 0 && chunk[len(chunk)-1] == '\n'
+	if f.skipping {
+		if complete {
+			f.skipping = false
+			f.pending = emptyLine
+		}
+		return
+	}
+	if !f.midLine && !f.inQuote {
+		t := bytes.TrimLeft(chunk, " \t\r\n\v\f")
+		switch {
+		case len(t) > 0 && t[0] == '#':
+			if complete {
+				f.pending = emptyLine
+			} else {
+				f.skipping = true
+			}
+			return
+		case len(t) == 0 && (complete || f.err != nil):
+			// Blank line, or trailing white space at the end of the input.
+			if complete {
+				f.pending = emptyLine
+			}
+			return
+		}
+	}
+	f.midLine = !complete
+	if bytes.Count(chunk, []byte{'"'})%2 == 1 {
+		f.inQuote = !f.inQuote
+	}
+	f.pending = chunk
+}

@@ -1,0 +1,193 @@
+// Package linelist reads, validates and writes bandwright line lists: the assigned
+// transitions that a fit consumes.
+//
+// # File format
+//
+// A line list is a CSV file with a header row. Column order is free and names are
+// matched case-insensitively after trimming surrounding white space. Numbers use a dot as
+// decimal separator. Lines whose first non-blank character is '#' are comments; blank
+// lines are skipped; a UTF-8 byte-order mark at the start is ignored; LF and CRLF line
+// endings are both read.
+//
+//	column    required  meaning
+//	species   yes       isotopologue label ("12C16O", "D35Cl"); stored in canonical form
+//	v_up      yes       vibrational quantum number of the upper level (integer, 0..100)
+//	J_up      yes       rotational quantum number of the upper level (integer, 0..1000)
+//	v_lo      yes       vibrational quantum number of the lower level
+//	J_lo      yes       rotational quantum number of the lower level
+//	position  yes       line position, > 0, in the row's unit
+//	unc       yes       1σ uncertainty of position, > 0, same unit as position
+//	unit      no        "cm-1" (default when absent or empty) or "MHz", any letter case
+//	branch    no        O, P, Q, R or S; checked against ΔJ = J_up − J_lo
+//	comment   no        free text
+//
+// Any other column is kept and passed through (List.Extra, Line.Extra).
+//
+// # Conventions
+//
+// Quantum numbers are those of a diatomic molecule in a ¹Σ state: integer J, no
+// half-integer values. ΔJ = J_up − J_lo names the branch: O (−2), P (−1), Q (0), R (+1),
+// S (+2). The selection rules of the spectra bandwright fits are infrared ΔJ = ±1,
+// Raman ΔJ = 0, ±2 and pure rotation ΔJ = ±1, so |ΔJ| > 2 is refused. The upper level
+// must lie above the lower one: v_up > v_lo, or v_up = v_lo with J_up > J_lo.
+//
+// Positions and uncertainties are kept as written, in their own unit; Line.Wavenumber
+// and Line.UncWavenumber convert to cm⁻¹ with 1 cm⁻¹ = 29 979.2458 MHz (exact, from the
+// defined speed of light).
+//
+// # Errors
+//
+// Read, ReadFile and ReadFiles check every row and return all problems of a file at
+// once (up to MaxProblems per file) as one *Error; each Problem reads
+// FILE:ROW: field: reason, ROW being the physical line number in the file (the header
+// counts), so that a user can jump to it in an editor.
+//
+// # Implementation
+//
+// The header names are mapped onto the standard columns by github.com/gocarina/gocsv
+// (struct tags of headerRow); the rows are split by encoding/csv and converted here with
+// strconv, which is several times faster than decoding each row by reflection.
+package linelist
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/unit/constant"
+)
+
+// MHzPerWavenumber is the frequency in MHz of radiation of wavenumber 1 cm⁻¹:
+// c × 100 cm/m × 10⁻⁶ MHz/Hz = 29 979.2458 MHz, exact since the SI fixes c
+// (CODATA 2018 via gonum.org/v1/gonum/unit/constant).
+const MHzPerWavenumber = float64(constant.LightSpeedInVacuum) * 100 / 1e6
+
+// Unit is the unit of a line position and its uncertainty.
+type Unit int
+
+const (
+	// Wavenumber is cm⁻¹, written "cm-1". It is the default.
+	Wavenumber Unit = iota
+	// MHz is frequency in megahertz.
+	MHz
+)
+
+// String returns the unit as written in files: "cm-1" or "MHz".
+func (u Unit) String() string {
+	switch u {
+	case Wavenumber:
+		return "cm-1"
+	case MHz:
+		return "MHz"
+	}
+	return "Unit(" + strconv.Itoa(int(u)) + ")"
+}
+
+// ParseUnit reads a unit name: "cm-1" or "MHz", in any letter case, surrounding white
+// space ignored. Anything else, the empty string included, is an error naming the value.
+func ParseUnit(s string) (Unit, error) {
+	t := strings.TrimSpace(s)
+	switch {
+	case strings.EqualFold(t, "cm-1"):
+		return Wavenumber, nil
+	case strings.EqualFold(t, "MHz"):
+		return MHz, nil
+	}
+	return 0, fmt.Errorf("linelist: unknown unit %q: use cm-1 or MHz", s)
+}
+
+// toWavenumber converts x, in unit u, to cm⁻¹.
+func toWavenumber(x float64, u Unit) float64 {
+	if u == MHz {
+		return x / MHzPerWavenumber
+	}
+	return x
+}
+
+// Line is one assigned transition (v_up, J_up) ← (v_lo, J_lo) of one isotopologue.
+type Line struct {
+	File    string // path or name of the file it was read from, as given
+	Row     int    // physical line number in File (1-based; the header is a line too)
+	Species string // canonical isotopologue label (species.Parse(...).Label)
+
+	VUp, JUp, VLo, JLo int // vibrational and rotational quantum numbers
+
+	Position float64 // line position as given, in Unit
+	Unc      float64 // 1σ uncertainty of Position as given, in Unit
+	Unit     Unit
+	Branch   string   // branch letter as given (may be empty)
+	Comment  string   // free text
+	Extra    []string // pass-through values, aligned with List.Extra
+}
+
+// Wavenumber returns the position in cm⁻¹: Position, or Position / MHzPerWavenumber
+// for a line given in MHz.
+func (l Line) Wavenumber() float64 { return toWavenumber(l.Position, l.Unit) }
+
+// UncWavenumber returns the 1σ uncertainty in cm⁻¹: Unc, or Unc / MHzPerWavenumber for
+// a line given in MHz.
+func (l Line) UncWavenumber() float64 { return toWavenumber(l.Unc, l.Unit) }
+
+// DeltaJ returns ΔJ = J_up − J_lo.
+func (l Line) DeltaJ() int { return l.JUp - l.JLo }
+
+// BranchLetter returns the letter of the branch with ΔJ = J_up − J_lo = dJ:
+// −2 "O", −1 "P", 0 "Q", +1 "R", +2 "S"; "" for any other dJ.
+func BranchLetter(dJ int) string {
+	switch dJ {
+	case -2:
+		return "O"
+	case -1:
+		return "P"
+	case 0:
+		return "Q"
+	case 1:
+		return "R"
+	case 2:
+		return "S"
+	}
+	return ""
+}
+
+// branchDeltaJ returns ΔJ for a branch letter (any case) and whether it is known.
+func branchDeltaJ(b string) (int, bool) {
+	if len(b) != 1 {
+		return 0, false
+	}
+	switch b[0] {
+	case 'O', 'o':
+		return -2, true
+	case 'P', 'p':
+		return -1, true
+	case 'Q', 'q':
+		return 0, true
+	case 'R', 'r':
+		return 1, true
+	case 'S', 's':
+		return 2, true
+	}
+	return 0, false
+}
+
+// List is a set of lines read from one or more files.
+type List struct {
+	Lines []Line
+	// Extra names the pass-through columns: the union over all files read, in order of
+	// first appearance, each name as first written (trimmed). Line.Extra is aligned with it.
+	Extra []string
+}
+
+// Species returns the distinct isotopologue labels of the lines, in order of first
+// appearance.
+func (l *List) Species() []string {
+	var out []string
+	seen := make(map[string]bool)
+	for i := range l.Lines {
+		s := l.Lines[i].Species
+		if !seen[s] {
+			seen[s] = true
+			out = append(out, s)
+		}
+	}
+	return out
+}

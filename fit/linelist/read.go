@@ -1,0 +1,649 @@
+package linelist
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/gocarina/gocsv"
+
+	"bandwright/fit/species"
+)
+
+// Limits on quantum numbers. Larger values are taken for a column mix-up: no bound
+// level of a diatomic ground state comes near them.
+const (
+	MaxV = 100
+	MaxJ = 1000
+)
+
+// column indexes the standard columns.
+type column int
+
+const (
+	colSpecies column = iota
+	colVUp
+	colJUp
+	colVLo
+	colJLo
+	colPosition
+	colUnc
+	colUnit
+	colBranch
+	colComment
+	nColumns
+	nRequired = colUnit // the columns before unit are required
+)
+
+// columnNames are the standard column names as written by Write and named in messages.
+var columnNames = [nColumns]string{"species", "v_up", "J_up", "v_lo", "J_lo", "position", "unc", "unit", "branch", "comment"}
+
+// headerRow is the struct onto which gocsv maps the header names; its csv tags are the
+// header keys (lower-case) of the standard columns, in column order. See mapHeader.
+type headerRow struct {
+	Species  string `csv:"species"`
+	VUp      string `csv:"v_up"`
+	JUp      string `csv:"j_up"`
+	VLo      string `csv:"v_lo"`
+	JLo      string `csv:"j_lo"`
+	Position string `csv:"position"`
+	Unc      string `csv:"unc"`
+	Unit     string `csv:"unit"`
+	Branch   string `csv:"branch"`
+	Comment  string `csv:"comment"`
+}
+
+func (h headerRow) cells() [nColumns]string {
+	return [nColumns]string{h.Species, h.VUp, h.JUp, h.VLo, h.JLo, h.Position, h.Unc, h.Unit, h.Branch, h.Comment}
+}
+
+// headerKey is the form in which column names are compared: zero-width characters
+// (U+200B, U+200C, U+200D, U+FEFF) removed, surrounding white space trimmed, lower case.
+func headerKey(s string) string {
+	if strings.ContainsAny(s, "\u200B\u200C\u200D\uFEFF") {
+		s = strings.Map(func(r rune) rune {
+			switch r {
+			case '\u200B', '\u200C', '\u200D', '\uFEFF':
+				return -1
+			}
+			return r
+		}, s)
+	}
+	return strings.ToLower(strings.TrimSpace(s))
+}
+
+// sliceCSV serves fixed rows to gocsv (gocsv.CSVReader).
+type sliceCSV struct{ rows [][]string }
+
+func (s *sliceCSV) Read() ([]string, error) {
+	if len(s.rows) == 0 {
+		return nil, io.EOF
+	}
+	r := s.rows[0]
+	s.rows = s.rows[1:]
+	return r, nil
+}
+
+func (s *sliceCSV) ReadAll() ([][]string, error) {
+	r := s.rows
+	s.rows = nil
+	return r, nil
+}
+
+// mapHeader finds the column index of each standard column from the header keys, using
+// gocsv's header-to-struct mapping: it decodes the header followed by a row holding
+// each column's own index into a headerRow, whose fields then name their column. Keys
+// must be distinct apart from empty ones (the caller blanks duplicates). Absent columns
+// get -1. So that gocsv's package-wide switches (FailIfUnmatchedStructTags,
+// FailIfDoubleHeaderNames), which another package may set, change nothing here, every
+// tag is given a column (absent ones the index -1) and empty keys are made unique.
+//
+// The data rows themselves are not decoded by gocsv: its reflection costs more than 1 µs
+// per row (measured on this 2-core machine: 100,000 rows into string fields in 103-185 ms
+// through gocsv.Unmarshaller, see BenchmarkGocsvRows, and 145-157 ms through
+// gocsv.UnmarshalDecoderToChan, against 25-33 ms for encoding/csv alone), which would be
+// most of a read, so rows are taken from encoding/csv by the indices found here.
+func mapHeader(keys []string) ([nColumns]int, error) {
+	var idx [nColumns]int
+	names := make([]string, 0, len(keys)+int(nColumns))
+	pos := make([]string, 0, len(keys)+int(nColumns))
+	present := make(map[string]bool, len(keys))
+	for i, k := range keys {
+		present[k] = true
+		if k == "" {
+			k = "\x00" + strconv.Itoa(i)
+		}
+		names = append(names, k)
+		pos = append(pos, strconv.Itoa(i))
+	}
+	for _, n := range columnNames {
+		if tag := strings.ToLower(n); !present[tag] {
+			names = append(names, tag)
+			pos = append(pos, "-1")
+		}
+	}
+	var out []headerRow
+	if err := gocsv.UnmarshalCSV(&sliceCSV{rows: [][]string{names, pos}}, &out); err != nil {
+		return idx, err
+	}
+	if len(out) != 1 {
+		return idx, fmt.Errorf("gocsv decoded %d rows from a header and one row", len(out))
+	}
+	for c, v := range out[0].cells() {
+		i, err := strconv.Atoi(v)
+		if err != nil || i < -1 || i >= len(keys) {
+			return idx, fmt.Errorf("gocsv mapped column %s to %q", columnNames[c], v)
+		}
+		idx[c] = i
+	}
+	return idx, nil
+}
+
+// speciesResult caches one species.Parse outcome.
+type speciesResult struct {
+	label string
+	err   error
+}
+
+// reader accumulates lines from one or more files.
+type reader struct {
+	list      List
+	extraKeys map[string]int // header key -> index in list.Extra
+	species   map[string]speciesResult
+	failed    bool     // some file had a problem: lines are no longer kept
+	slab      []string // storage carved into Line.Extra slices
+}
+
+func newReader() *reader {
+	return &reader{extraKeys: make(map[string]int), species: make(map[string]speciesResult)}
+}
+
+// Read reads a line list from r; name (a path or any label) is used in messages and in
+// Line.File. Problems are returned as one *Error listing all of them (up to MaxProblems).
+func Read(r io.Reader, name string) (*List, error) {
+	rd := newReader()
+	c := &collector{file: name}
+	rd.read(r, c)
+	if err := merge(c); err != nil {
+		return nil, err
+	}
+	rd.finish()
+	return &rd.list, nil
+}
+
+// ReadFile reads the line list in the file at path. The file is opened read-only and
+// never modified.
+func ReadFile(path string) (*List, error) { return ReadFiles(path) }
+
+// ReadFiles reads several line lists and concatenates them in the order given; every
+// Line remembers its file. The problems of all files are collected into one *Error
+// (up to MaxProblems per file). Naming the same file twice, under any path, is an error.
+// Pass-through columns are merged by name (List.Extra); a line whose file lacks a column
+// has an empty value there.
+func ReadFiles(paths ...string) (*List, error) {
+	if len(paths) == 0 {
+		return nil, errors.New("linelist: no line-list files given")
+	}
+	rd := newReader()
+	cs := make([]*collector, len(paths))
+	infos := make([]fs.FileInfo, len(paths))
+	for i, p := range paths {
+		c := &collector{file: p}
+		cs[i] = c
+		f, err := os.Open(p)
+		if err != nil {
+			reason := err.Error()
+			var pe *fs.PathError
+			if errors.As(err, &pe) {
+				reason = "cannot open: " + pe.Err.Error()
+			}
+			c.addErr(0, "", reason, err)
+			rd.failed = true
+			continue
+		}
+		fi, err := f.Stat()
+		if err == nil {
+			infos[i] = fi
+			for j := 0; j < i; j++ {
+				if infos[j] != nil && os.SameFile(infos[j], fi) {
+					c.add(0, "", "the same file is given twice (also as file %d, %s)", j+1, paths[j])
+					rd.failed = true
+					err = errDuplicate
+					break
+				}
+			}
+		}
+		if err != errDuplicate {
+			rd.read(f, c)
+		}
+		f.Close()
+	}
+	if err := merge(cs...); err != nil {
+		return nil, err
+	}
+	rd.finish()
+	return &rd.list, nil
+}
+
+var errDuplicate = errors.New("duplicate")
+
+// finish pads the Extra values of lines read before later files added columns.
+func (rd *reader) finish() {
+	n := len(rd.list.Extra)
+	for i := range rd.list.Lines {
+		l := &rd.list.Lines[i]
+		if len(l.Extra) < n {
+			ex := make([]string, n)
+			copy(ex, l.Extra)
+			l.Extra = ex
+		}
+	}
+}
+
+// file holds the state of reading one file.
+type file struct {
+	rd      *reader
+	c       *collector
+	col     [nColumns]int
+	nFields int
+	extra   []int // column index of each pass-through column
+	extraAt []int // its index in List.Extra
+}
+
+// read reads one file into rd, reporting problems to c.
+func (rd *reader) read(r io.Reader, c *collector) {
+	defer func() {
+		if c.any() {
+			rd.failed = true
+		}
+	}()
+	hint := sizeHint(r)
+	cr := csv.NewReader(newLineFilter(r))
+	cr.FieldsPerRecord = -1
+	cr.ReuseRecord = true
+	f := &file{rd: rd, c: c}
+
+	header, err := cr.Read()
+	if err == io.EOF {
+		c.add(0, "", "no lines: the file is empty")
+		return
+	}
+	if err != nil {
+		f.readError(err)
+		return
+	}
+	hline, _ := cr.FieldPos(0)
+	if !f.header(header, hline) {
+		return
+	}
+
+	rows, lastErrLine := 0, -1
+	bodyStart := cr.InputOffset()
+	for {
+		if rows == estimateAfter && hint > 0 {
+			rd.reserve(rows, hint, bodyStart, cr.InputOffset())
+		}
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			var pe *csv.ParseError
+			if !errors.As(err, &pe) {
+				f.readError(err)
+				return
+			}
+			if pe.Line == lastErrLine { // no progress: do not loop
+				return
+			}
+			lastErrLine = pe.Line
+			f.readError(err)
+			rows++
+			continue
+		}
+		rows++
+		row, _ := cr.FieldPos(0)
+		if len(rec) != f.nFields {
+			if len(rec) > f.nFields {
+				c.add(row, "", "row has %d fields, header has %d (quote text that contains commas; numbers take a dot as decimal separator)", len(rec), f.nFields)
+			} else {
+				c.add(row, "", "row has %d fields, header has %d", len(rec), f.nFields)
+			}
+			continue
+		}
+		l, ok := f.line(rec, row)
+		if ok && !rd.failed && !c.any() {
+			rd.list.Lines = append(rd.list.Lines, l)
+		}
+	}
+	if rows == 0 {
+		c.add(hline, "", "no lines: the file has a header only")
+	}
+}
+
+// estimateAfter is the number of rows after which Read estimates the number of rows of
+// the whole input from its size and reserves room for the lines at once: growing the
+// slice by append alone allocates about five times its final size (Go grows large slices
+// by a factor 1.25) and the copying dominated the time of a read.
+const estimateAfter = 1000
+
+// sizeHint returns the number of bytes left in r when r can tell (a regular file, a
+// bytes.Reader, strings.Reader or bytes.Buffer), and -1 otherwise.
+func sizeHint(r io.Reader) int64 {
+	switch v := r.(type) {
+	case interface{ Len() int }:
+		return int64(v.Len())
+	case *os.File:
+		fi, err := v.Stat()
+		if err != nil || !fi.Mode().IsRegular() {
+			return -1
+		}
+		off, err := v.Seek(0, io.SeekCurrent)
+		if err != nil {
+			return -1
+		}
+		return fi.Size() - off
+	}
+	return -1
+}
+
+// reserve grows the capacity of the line slice to hold the rows the rest of the input
+// is expected to have, estimated from the rows read so far between byte offsets start
+// and now of an input of size bytes (less after the byte-order mark, which is not
+// counted). Over-estimates are bounded by that ratio; an under-estimate leaves the rest
+// to append.
+func (rd *reader) reserve(rows int, size, start, now int64) {
+	if rd.failed || now <= start || size <= now {
+		return
+	}
+	est := float64(rows) * float64(size-start) / float64(now-start)
+	want := len(rd.list.Lines) - rows + int(est*1.02) + 16
+	if want <= cap(rd.list.Lines) || est > 1e9 {
+		return
+	}
+	grown := make([]Line, len(rd.list.Lines), want)
+	copy(grown, rd.list.Lines)
+	rd.list.Lines = grown
+}
+
+// readError reports an error of encoding/csv or of the underlying reader.
+func (f *file) readError(err error) {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		f.c.addErr(pe.Line, "", fmt.Sprintf("malformed CSV at character %d: %v", pe.Column, pe.Err), err)
+		return
+	}
+	f.c.addErr(0, "", "read error: "+err.Error(), err)
+}
+
+// header maps the header record; it returns false when rows cannot be read.
+func (f *file) header(h []string, line int) bool {
+	c := f.c
+	f.nFields = len(h)
+	keys := make([]string, len(h))
+	first := make(map[string]int, len(h))
+	for i, name := range h {
+		k := headerKey(name)
+		switch prev, dup := first[k]; {
+		case k == "":
+			c.add(line, "", "column %d has no name", i+1)
+		case dup:
+			c.add(line, strings.TrimSpace(name), "duplicate column name (columns %d and %d; names are matched ignoring case)", prev+1, i+1)
+		default:
+			first[k] = i
+			keys[i] = k
+		}
+	}
+	col, err := mapHeader(keys)
+	if err != nil {
+		c.addErr(line, "", "cannot map the header: "+err.Error(), err)
+		return false
+	}
+	f.col = col
+	missing := 0
+	for cl := column(0); cl < nRequired; cl++ {
+		if col[cl] < 0 {
+			missing++
+		}
+	}
+	if missing > 0 {
+		joined := strings.Join(h, ",")
+		switch {
+		case strings.Contains(joined, ";"):
+			c.add(line, "", "looks like semicolon-separated; bandwright reads comma-separated with a dot decimal separator")
+			return false
+		case strings.Contains(joined, "\t"):
+			c.add(line, "", "looks like tab-separated; bandwright reads comma-separated with a dot decimal separator")
+			return false
+		}
+		for cl := column(0); cl < nRequired; cl++ {
+			if col[cl] < 0 {
+				c.add(line, columnNames[cl], "required column missing")
+			}
+		}
+	}
+	claimed := make([]bool, len(h))
+	for _, i := range col {
+		if i >= 0 {
+			claimed[i] = true
+		}
+	}
+	rd := f.rd
+	for i, k := range keys {
+		if claimed[i] || k == "" {
+			continue
+		}
+		at, ok := rd.extraKeys[k]
+		if !ok {
+			at = len(rd.list.Extra)
+			rd.extraKeys[k] = at
+			rd.list.Extra = append(rd.list.Extra, textCell(strings.TrimSpace(h[i])))
+		}
+		f.extra = append(f.extra, i)
+		f.extraAt = append(f.extraAt, at)
+	}
+	return true
+}
+
+// line validates one record and converts it.
+func (f *file) line(rec []string, row int) (Line, bool) {
+	c := f.c
+	n0 := len(c.probs) + c.omitted
+	l := Line{File: c.file, Row: row}
+
+	if i := f.col[colSpecies]; i >= 0 {
+		l.Species = f.species(rec[i], row)
+	}
+	var qok [4]bool
+	l.VUp, qok[0] = f.quantum(rec, colVUp, row, MaxV)
+	l.JUp, qok[1] = f.quantum(rec, colJUp, row, MaxJ)
+	l.VLo, qok[2] = f.quantum(rec, colVLo, row, MaxV)
+	l.JLo, qok[3] = f.quantum(rec, colJLo, row, MaxJ)
+	quantaOK := qok[0] && qok[1] && qok[2] && qok[3]
+	dJ := l.JUp - l.JLo
+	if quantaOK {
+		switch {
+		case dJ < -2 || dJ > 2:
+			c.add(row, "J_up", "J_up - J_lo = %+d is outside the selection rules of every supported spectrum (infrared dJ = ±1, Raman 0, ±2, pure rotation ±1)", dJ)
+		case l.VUp == l.VLo && dJ == 0:
+			c.add(row, "v_up", "upper level (v=%d, J=%d) equals the lower level: a zero-frequency transition", l.VUp, l.JUp)
+		case l.VUp < l.VLo || (l.VUp == l.VLo && dJ < 0):
+			c.add(row, "v_up", "upper level (v=%d, J=%d) lies below the lower level (v=%d, J=%d): are upper and lower swapped?", l.VUp, l.JUp, l.VLo, l.JLo)
+		}
+	}
+
+	l.Position = f.positive(rec, colPosition, row)
+	l.Unc = f.positive(rec, colUnc, row)
+
+	if i := f.col[colUnit]; i >= 0 {
+		switch t := strings.TrimSpace(rec[i]); {
+		case t == "" || strings.EqualFold(t, "cm-1"):
+			l.Unit = Wavenumber
+		case strings.EqualFold(t, "MHz"):
+			l.Unit = MHz
+		default:
+			c.add(row, "unit", "unknown unit %q: use cm-1 or MHz", t)
+		}
+	}
+
+	if i := f.col[colBranch]; i >= 0 {
+		if t := strings.TrimSpace(rec[i]); t != "" {
+			bdJ, known := branchDeltaJ(t)
+			switch {
+			case !known:
+				c.add(row, "branch", "unknown branch %q: use O, P, Q, R or S", t)
+			case quantaOK && bdJ != dJ:
+				c.add(row, "branch", "branch %s needs J_up - J_lo = %+d, but J_up - J_lo = %+d", t, bdJ, dJ)
+			}
+			if t == BranchLetter(bdJ) {
+				t = BranchLetter(bdJ) // share the constant rather than keep the record's text
+			}
+			l.Branch = t
+		}
+	}
+
+	if i := f.col[colComment]; i >= 0 {
+		l.Comment = textCell(strings.TrimSpace(rec[i]))
+	}
+
+	if len(f.extra) > 0 {
+		n := len(f.rd.list.Extra)
+		if len(f.rd.slab) < n {
+			f.rd.slab = make([]string, n*1024)
+		}
+		ex := f.rd.slab[:n:n]
+		f.rd.slab = f.rd.slab[n:]
+		for k, i := range f.extra {
+			ex[f.extraAt[k]] = textCell(rec[i])
+		}
+		l.Extra = ex
+	}
+	return l, len(c.probs)+c.omitted == n0
+}
+
+// textCell normalises the line breaks inside a text cell to "\n" (encoding/csv turns a
+// quoted "\r\n" into "\n" only at the end of a physical line).
+func textCell(s string) string {
+	if strings.IndexByte(s, '\r') < 0 {
+		return s
+	}
+	return strings.ReplaceAll(strings.ReplaceAll(s, "\r\n", "\n"), "\r", "\n")
+}
+
+// species parses a species cell through the cache.
+func (f *file) species(cell string, row int) string {
+	t := strings.TrimSpace(cell)
+	if t == "" {
+		f.c.add(row, "species", "missing value")
+		return ""
+	}
+	res, ok := f.rd.species[t]
+	if !ok {
+		iso, err := species.Parse(t)
+		res = speciesResult{label: iso.Label, err: err}
+		f.rd.species[strings.Clone(t)] = res
+	}
+	if res.err != nil {
+		f.c.addErr(row, "species", strings.TrimPrefix(res.err.Error(), "species: "), res.err)
+		return ""
+	}
+	return res.label
+}
+
+// number parses a numeric cell; it reports a problem and returns false when the cell
+// is empty, not a number, or not finite.
+func (f *file) number(cell string, cl column, row int) (float64, string, bool) {
+	t := strings.TrimSpace(cell)
+	name := columnNames[cl]
+	if t == "" {
+		f.c.add(row, name, "missing value")
+		return 0, t, false
+	}
+	x, err := strconv.ParseFloat(t, 64)
+	if err != nil {
+		switch {
+		case errors.Is(err, strconv.ErrRange):
+			f.c.add(row, name, "%s is out of the range of a 64-bit float", t)
+		case strings.Contains(t, ","):
+			if _, err2 := strconv.ParseFloat(strings.ReplaceAll(t, ",", "."), 64); err2 == nil {
+				f.c.add(row, name, "not a number: %q (decimal comma? bandwright reads comma-separated with a dot decimal separator)", t)
+				break
+			}
+			fallthrough
+		default:
+			f.c.add(row, name, "not a number: %q", t)
+		}
+		return 0, t, false
+	}
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		f.c.add(row, name, "must be a finite number, got %s", t)
+		return 0, t, false
+	}
+	return x, t, true
+}
+
+// positive reads a position or uncertainty, which must be > 0.
+func (f *file) positive(rec []string, cl column, row int) float64 {
+	i := f.col[cl]
+	if i < 0 {
+		return 0
+	}
+	x, t, ok := f.number(rec[i], cl, row)
+	if ok && !(x > 0) {
+		f.c.add(row, columnNames[cl], "must be > 0, got %s", t)
+	}
+	return x
+}
+
+// quantum reads a vibrational or rotational quantum number: an integer in [0, max]
+// (an integral value written as a float, "3.0", is accepted).
+func (f *file) quantum(rec []string, cl column, row int, max int) (int, bool) {
+	i := f.col[cl]
+	if i < 0 {
+		return 0, false
+	}
+	name := columnNames[cl]
+	t := strings.TrimSpace(rec[i])
+	n, err := strconv.Atoi(t)
+	if err != nil {
+		x, t, ok := f.number(rec[i], cl, row)
+		if !ok {
+			return 0, false
+		}
+		if x != math.Trunc(x) {
+			if (cl == colJUp || cl == colJLo) && 2*x == math.Trunc(2*x) {
+				f.c.add(row, name, "half-integer J (%s) is not supported: the models here are for 1Sigma states, whose J is an integer", t)
+			} else {
+				f.c.add(row, name, "must be an integer, got %s", t)
+			}
+			return 0, false
+		}
+		switch {
+		case x < 0:
+			n = -1
+		case x > float64(max):
+			n = max + 1
+		default:
+			n = int(x)
+		}
+	}
+	switch {
+	case n < 0:
+		f.c.add(row, name, "must be >= 0, got %s", t)
+		return 0, false
+	case n > max:
+		what := "J"
+		if cl == colVUp || cl == colVLo {
+			what = "v"
+		}
+		f.c.add(row, name, "%s exceeds the limit %s <= %d (a column mix-up?)", t, what, max)
+		return 0, false
+	}
+	return n, true
+}
