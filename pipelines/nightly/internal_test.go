@@ -1,0 +1,182 @@
+package nightly
+
+import (
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+func testArchive(t *testing.T) *archive {
+	t.Helper()
+	d := t.TempDir()
+	a, err := openArchive(d, d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := a.locked(a.open); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(a.close)
+	return a
+}
+
+func sha(c byte) string { return strings.Repeat(string(c), 64) }
+
+// TestDriftArithmetic checks the weighted mean and the z of the drift test on
+// numbers worked by hand: earlier 1.0 ± 0.1 and 1.2 ± 0.2 give weights 100 and
+// 25, x̄ = (100·1.0 + 25·1.2)/125 = 1.04, σ(x̄) = 1/√125 = 0.0894427; a new
+// 2.0 ± 0.1 is z = 0.96/√(0.01 + 0.008) = 7.15542 combined σ away (flagged at
+// 5), a new 1.1 ± 0.1 is z = 0.06/√0.018 = 0.447214 (not flagged).
+func TestDriftArithmetic(t *testing.T) {
+	a := testArchive(t)
+	add := func(s string, v, sg float64) []Drift {
+		var ds []Drift
+		err := a.locked(func() error {
+			var err error
+			ds, err = a.addHistory("f", s, "2026-01-01T00:00:00Z", []Constant{{Species: "12C16O", Name: "B_v0", Value: v, Sigma: sg, Unit: "cm-1"}}, 5)
+			return err
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return ds
+	}
+	if d := add(sha('1'), 1.0, 0.1)[0]; d.N != 0 || !math.IsNaN(d.Z) || d.Flagged {
+		t.Errorf("first result: %+v", d)
+	}
+	add(sha('2'), 1.2, 0.2)
+	// σ = 0: recorded, neither tested nor averaged.
+	if d := add(sha('3'), 5, 0)[0]; !math.IsNaN(d.Z) || d.Flagged || d.N != 2 {
+		t.Errorf("σ = 0: %+v", d)
+	}
+	d := add(sha('4'), 2.0, 0.1)[0]
+	if d.N != 2 || !scalar.EqualWithinAbsOrRel(d.Mean, 1.04, 1e-12, 1e-12) ||
+		!scalar.EqualWithinAbsOrRel(d.SigmaMean, 1/math.Sqrt(125), 1e-12, 1e-12) ||
+		!scalar.EqualWithinAbsOrRel(d.Z, 0.96/math.Sqrt(0.018), 1e-12, 1e-12) || !d.Flagged {
+		t.Errorf("jump: %+v", d)
+	}
+	// The flagged 2.0 now counts among the earlier results: weights 100, 25,
+	// 100 → x̄ = (100 + 30 + 200)/225 = 1.466667, σ(x̄) = 1/15.
+	d = add(sha('5'), 1.1, 0.1)[0]
+	if d.N != 3 || !scalar.EqualWithinAbsOrRel(d.Mean, 330.0/225, 1e-12, 1e-12) ||
+		!scalar.EqualWithinAbsOrRel(d.Z, (1.1-330.0/225)/math.Hypot(0.1, 1.0/15), 1e-12, 1e-12) || d.Flagged {
+		t.Errorf("after the jump: %+v", d)
+	}
+	// Another species or unit is another constant.
+	var other []Drift
+	a.locked(func() error {
+		var err error
+		other, err = a.addHistory("f", sha('6'), "x", []Constant{{Species: "13C16O", Name: "B_v0", Value: 9, Sigma: 0.1, Unit: "cm-1"}}, 5)
+		return err
+	})
+	if other[0].N != 0 {
+		t.Errorf("13C16O averaged with 12C16O: %+v", other[0])
+	}
+}
+
+// TestTornLedgerLine: a last line without its newline (a crash or power cut
+// in the middle of a write) is skipped, and the next row starts on its own
+// line.
+func TestTornLedgerLine(t *testing.T) {
+	a := testArchive(t)
+	f, err := os.OpenFile(filepath.Join(a.dir, LedgerFile), os.O_APPEND|os.O_WRONLY, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f.WriteString(`x.csv,` + sha('a') + `,ok,2026-01-01T00:00:00Z,2026-01-01T00:00:01Z,results/x-aaaaaaaa,"unfinished`)
+	f.Close()
+	now := time.Date(2026, 1, 2, 0, 0, 0, 0, time.UTC)
+	err = a.locked(func() error {
+		return a.led.append([][]string{ledgerRowFor("y.csv", sha('b'), StatusOK, now, now, "results/y-bbbbbbbb", "")})
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.led.bad != 1 || a.state(sha('a')).ok != 0 || a.state(sha('b')).ok != 1 {
+		t.Errorf("bad %d, a %+v, b %+v", a.led.bad, a.state(sha('a')), a.state(sha('b')))
+	}
+	b, _ := os.ReadFile(filepath.Join(a.dir, LedgerFile))
+	lines := strings.Split(strings.TrimSuffix(string(b), "\n"), "\n")
+	if len(lines) != 3 || !strings.HasPrefix(lines[2], "y.csv,") {
+		t.Errorf("ledger:\n%s", b)
+	}
+	// A second reader (another process) sees the same.
+	a2, err := openArchive(a.dir, a.dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer a2.close()
+	if err := a2.locked(a2.open); err != nil {
+		t.Fatal(err)
+	}
+	if a2.state(sha('b')).ok != 1 || a2.led.bad != 1 {
+		t.Errorf("second reader: bad %d", a2.led.bad)
+	}
+}
+
+func TestLedgerWithWrongHeaderRefused(t *testing.T) {
+	d := t.TempDir()
+	os.WriteFile(filepath.Join(d, LedgerFile), []byte("name,hash\n"), 0o644)
+	a, err := openArchive(d, d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = a.locked(a.open)
+	if err == nil || !strings.Contains(err.Error(), "ledger.csv") || !strings.Contains(err.Error(), "header") {
+		t.Errorf("got %v", err)
+	}
+}
+
+func TestMarkdownEscape(t *testing.T) {
+	for in, want := range map[string]string{
+		"<script>alert(1)</script>": `\<script\>alert(1)\</script\>`,
+		"a|b":                       `a\|b`,
+		"[x](javascript:y)":         `\[x\](javascript:y)`,
+		"two\nlines":                "two lines",
+		"under_score*star`tick":     "under\\_score\\*star\\`tick",
+		"plain name 1.csv":          "plain name 1.csv",
+	} {
+		if got := mdEscape(in); got != want {
+			t.Errorf("mdEscape(%q) = %q, want %q", in, got, want)
+		}
+	}
+}
+
+func TestFolderStem(t *testing.T) {
+	for in, want := range map[string]string{
+		"a.csv":                "a",
+		"sub/run 3.csv":        "run_3",
+		"..hidden.csv":         "hidden",
+		"<x>.csv":              "_x_",
+		"CO_2026-03-14.tar.gz": "CO_2026-03-14.tar",
+		".csv":                 "input",
+		"spectre-été.csv":      "spectre-été",
+	} {
+		if got := folderStem(in); got != want {
+			t.Errorf("folderStem(%q) = %q, want %q", in, got, want)
+		}
+	}
+	if got := folderStem(strings.Repeat("é", 100) + ".csv"); len(got) > 80 || !strings.HasPrefix(got, "éé") {
+		t.Errorf("long stem %q", got)
+	}
+}
+
+func TestOneLine(t *testing.T) {
+	if got := oneLine("fit: a\n  b\r\n\nc  "); got != "fit: a | b | c" {
+		t.Errorf("got %q", got)
+	}
+	long := strings.Repeat("x", 3000)
+	if got := oneLine(long); len([]rune(got)) != 1000 || !strings.HasSuffix(got, "…") {
+		t.Errorf("long message kept %d characters", len([]rune(got)))
+	}
+	err := errors.New("linelist: /a/.work/s-1/in/x.csv:5: unc: must be > 0\nsee /a/.work/s-1/out")
+	if got := message(err, "/a/.work/s-1/in/x.csv", "x.csv", "/a/.work/s-1"); got != "linelist: x.csv:5: unc: must be > 0 | see (work folder)/out" {
+		t.Errorf("message %q", got)
+	}
+}

@@ -1,0 +1,441 @@
+// Package nightly is bandwright's unattended batch engine: it finds the new
+// measurement files in an inbox folder, runs a chain of stages on each of them
+// on a bounded worker pool, and files the results in an archive folder with an
+// append-only ledger, a history of the main constants (with drift flags) and a
+// nightly summary. The chain itself is a function (Job), so the engine knows
+// nothing of spectroscopy; package pipelines supplies the real chain.
+//
+// # What is new
+//
+// A file is identified by the SHA-256 of its content, not by its name: a file
+// already done is not redone, a renamed or copied identical file is not
+// redone, and a changed file is a new version that is done again into a new
+// results folder. A file whose run failed is retried only when it changes, or
+// with Options.RetryFailed. Hidden files and folders (name starting with '.')
+// are ignored, so an instrument or rsync can write ".name.part" and rename it
+// when complete. Symbolic links are followed only when they resolve to a
+// regular file inside the inbox; links pointing outside are listed in
+// Report.Ignored and never opened.
+//
+// # Archive layout
+//
+//	ARCHIVE/ledger.csv                 one row per finished file: input,sha256,status,started,finished,output,message
+//	ARCHIVE/history.csv                the main constants of every ok result, with the drift test of each
+//	ARCHIVE/results/<stem>-<sha8>/     the job's outputs plus manifest.json
+//	ARCHIVE/summary-<date>.html, .md   the files finished on that date, their constants and the drift flags
+//	ARCHIVE/.work/                     snapshots and results under construction; claims (lock files)
+//	ARCHIVE/.ledger.lock               short exclusive lock taken to append to ledger.csv and history.csv
+//	ARCHIVE/.lock-shard-K-of-N         held by the run of shard K/N for its whole duration
+//
+// # One file
+//
+// A worker claims the file's content hash (an exclusive lock, so that two runs
+// sharing the archive never work on the same content), copies the inbox file
+// into a private snapshot while hashing the copy, runs the Job on the snapshot
+// with an empty work folder, hashes the inbox file again, writes manifest.json
+// (input hashes, program version, pipeline hash, times, outcome, the SHA-256 of
+// every file produced), syncs everything to disk and renames the work folder to
+// ARCHIVE/results/<stem>-<sha8> in one step. Only then is the ok row appended
+// to the ledger (O_APPEND, one write, fsync) and the constants to the history.
+// A failing job gets a failed row with its message on one line; a file that
+// changed while it was processed gets no row and is tried again next run.
+//
+// # Crash safety
+//
+// After a crash or SIGKILL at any moment the next run removes the half-built
+// results in .work, adopts a complete results folder whose ok row was not yet
+// written (its manifest says what it is), writes the history rows of an ok row
+// whose history was not yet written, and does the rest. Every file therefore
+// ends with exactly one ok row, and no results folder lacks its row. A context
+// cancelled (SIGINT/SIGTERM, see NotifyContext) stops the run gracefully: no
+// new file is started, those in progress are finished and recorded.
+//
+// # Drift
+//
+// For every constant of a new ok result, the earlier results of the same
+// constant (same species, name and unit; in the order they were recorded in
+// history.csv) give the weighted mean x̄ = Σwᵢxᵢ/Σwᵢ with wᵢ = 1/σᵢ² and
+// σ(x̄) = (Σwᵢ)^−½. The new value x ± σ is flagged when
+//
+//	|z| = |x − x̄| / √(σ² + σ(x̄)²) > 5   (Options.DriftSigma)
+//
+// (the combined standard uncertainty of a difference of independent
+// quantities, common practice). Constants with σ = 0 are recorded but neither
+// tested nor averaged; constants without a finite value or σ are left out of
+// the manifest and the history, with a note.
+package nightly
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+)
+
+// Job runs the chain of stages on one input. in.Path is a private snapshot of
+// the inbox file (never the inbox file itself); work is an empty folder the job
+// writes its outputs into (any files, sub-folders allowed; "manifest.json" is
+// reserved). The returned error, on one line, goes into the ledger's message
+// column, so it should say what a person can do about it. ctx is not cancelled
+// by a graceful stop: a job in progress is allowed to finish.
+type Job func(ctx context.Context, in Input, work string) (*JobResult, error)
+
+// Input is the file a Job works on.
+type Input struct {
+	// Path is the snapshot copy to read.
+	Path string
+	// Name is the file's path relative to the inbox, with '/' separators; use
+	// it (not Path) in messages and provenance.
+	Name string
+	// SHA256 is the hex SHA-256 of the content.
+	SHA256 string
+}
+
+// JobResult is what a successful Job reports besides the files it wrote.
+type JobResult struct {
+	// Constants are the main constants of the result: they go into the
+	// manifest, the history (drift test) and the summary.
+	Constants []Constant
+	// Notes are remarks shown in the summary (warnings of the fit, say).
+	Notes []string
+	// Inputs lists further files the job read (species card, trial constants),
+	// recorded with their SHA-256 in the manifest.
+	Inputs []FileHash
+}
+
+// Constant is one constant of a result with its 1σ uncertainty.
+type Constant struct {
+	Species string  `json:"species"`
+	Name    string  `json:"name"`
+	Value   float64 `json:"value"`
+	Sigma   float64 `json:"sigma"`
+	Unit    string  `json:"unit"`
+}
+
+// Label is the name with the species in brackets, "B_v0[12C16O]".
+func (c Constant) Label() string {
+	if c.Species == "" {
+		return c.Name
+	}
+	return c.Name + "[" + c.Species + "]"
+}
+
+// Options configure a run. The zero values of Workers, Shard/Shards, Now,
+// Progress and DriftSigma have the defaults given beside them.
+type Options struct {
+	Inbox   string // folder of measurement files; only read, never written
+	Archive string // folder of results, ledger, history and summaries; created if missing
+	// Workers is the number of files processed at once (0: the number of CPUs).
+	Workers int
+	// Shard K of Shards N (1 ≤ K ≤ N): this run does only the files whose
+	// content hash falls in shard K (see ShardOf). Zero values mean 1/1.
+	Shard, Shards int
+	// RetryFailed runs again the files whose content failed before.
+	RetryFailed bool
+	// PipelineHash is the SHA-256 of the pipeline file, Version the program
+	// version; both are recorded in every manifest.
+	PipelineHash, Version string
+	// Job is the chain of stages (required).
+	Job Job
+	// Progress receives the progress: a bar when it is a terminal, plain log
+	// lines otherwise (nil: nothing is shown).
+	Progress io.Writer
+	// Now is the clock (nil: time.Now). Dates of the summaries are taken in the
+	// location of the times it returns.
+	Now func() time.Time
+	// DriftSigma is the drift threshold in combined σ (0: 5).
+	DriftSigma float64
+}
+
+// Status is how the processing of one file ended.
+type Status string
+
+// Statuses of FileOutcome. Only StatusOK and StatusFailed are written to the
+// ledger; a skipped file gets no row and is tried again next run.
+const (
+	StatusOK      Status = "ok"
+	StatusFailed  Status = "failed"
+	StatusSkipped Status = "skipped"
+)
+
+// FileOutcome is what happened to one file in this run.
+type FileOutcome struct {
+	Input     string // name relative to the inbox
+	SHA256    string
+	Status    Status
+	Output    string // results folder relative to the archive ("results/a-1234abcd"); ok only
+	Message   string // the failure or the reason for skipping, one line
+	Started   time.Time
+	Finished  time.Time
+	Constants []Constant
+	Drift     []Drift // the drift test of each constant (ok only)
+}
+
+// Drift is the drift test of one constant of a new result against the earlier
+// results (see the package documentation).
+type Drift struct {
+	Constant
+	N         int     // number of earlier results of this constant
+	Mean      float64 // their weighted mean (NaN when N = 0)
+	SigmaMean float64 // its 1σ
+	Z         float64 // (value − Mean)/combined σ (NaN when not tested)
+	Flagged   bool    // |Z| > DriftSigma
+}
+
+// Ignored is an inbox entry that was not considered, with the reason.
+type Ignored struct {
+	Name, Reason string
+}
+
+// Report is the outcome of a run.
+type Report struct {
+	Found        int // distinct regular files found in the inbox (excluding Ignored)
+	Duplicates   int // files with the same content as another file found (done once)
+	OtherShards  int // contents that belong to other shards
+	AlreadyDone  int // contents with an ok row
+	FailedBefore int // contents that failed before and were not retried (no RetryFailed)
+	Recovered    int // complete results of a crashed run whose ok row was written now
+	Processed    int // files whose job ran to a conclusion in this run (Succeeded + Failed)
+	Succeeded    int
+	Failed       int
+	Skipped      int // changed while processed, or taken by another run: no row, retried next run
+	Pending      int // not started because the run was stopped (Interrupted)
+	Files        []FileOutcome
+	Ignored      []Ignored
+	// Summary and SummaryMarkdown are the paths of today's summary.
+	Summary, SummaryMarkdown string
+	// Interrupted is set when the context was cancelled before every file was
+	// started.
+	Interrupted bool
+}
+
+// ExitCode returns bandwright's exit code for the run: 3 when some file
+// failed (the others completed), 0 otherwise (including nothing to do).
+func (r *Report) ExitCode() int {
+	if r.Failed > 0 {
+		return 3
+	}
+	return 0
+}
+
+// ErrLocked is matched (errors.Is) by the error of a run that found another
+// run of the same shard active on the archive.
+var ErrLocked = errors.New("nightly: another run is active on this archive")
+
+// LockError says which lock is held.
+type LockError struct {
+	Archive, Lock string
+	Shard, Shards int
+}
+
+func (e *LockError) Error() string {
+	return fmt.Sprintf("nightly: another nightly run (shard %d/%d) is active on the archive %s: the lock %s is held; wait for that run to finish or stop it first",
+		e.Shard, e.Shards, e.Archive, e.Lock)
+}
+
+// Unwrap returns ErrLocked.
+func (e *LockError) Unwrap() error { return ErrLocked }
+
+// ParseShard reads "K/N" (1-based K, 1 ≤ K ≤ N).
+func ParseShard(s string) (k, n int, err error) {
+	bad := fmt.Errorf("nightly: --shard %q: want K/N with 1 ≤ K ≤ N, for example 2/8", s)
+	a, b, ok := strings.Cut(strings.TrimSpace(s), "/")
+	if !ok {
+		return 0, 0, bad
+	}
+	k, err1 := strconv.Atoi(strings.TrimSpace(a))
+	n, err2 := strconv.Atoi(strings.TrimSpace(b))
+	if err1 != nil || err2 != nil || n < 1 || k < 1 || k > n {
+		return 0, 0, bad
+	}
+	return k, n, nil
+}
+
+// ShardOf returns the shard (1..n) of a content hash: 1 + (the first 64 bits
+// of the SHA-256, big-endian) mod n. It depends on the content only, so every
+// machine computes the same partition.
+func ShardOf(sha256hex string, n int) int {
+	if n <= 1 {
+		return 1
+	}
+	if len(sha256hex) < 16 {
+		return 1
+	}
+	v, err := strconv.ParseUint(sha256hex[:16], 16, 64)
+	if err != nil {
+		return 1
+	}
+	return 1 + int(v%uint64(n))
+}
+
+func (o *Options) normalise() error {
+	if o.Inbox == "" {
+		return errors.New("nightly: no inbox folder given (--inbox)")
+	}
+	if o.Archive == "" {
+		return errors.New("nightly: no archive folder given (--archive)")
+	}
+	if o.Job == nil {
+		return errors.New("nightly: no pipeline to run (Options.Job is nil)")
+	}
+	if o.Workers < 0 {
+		return fmt.Errorf("nightly: --workers %d: want a positive number", o.Workers)
+	}
+	if o.Workers == 0 {
+		o.Workers = runtime.NumCPU()
+	}
+	if o.Shard == 0 && o.Shards == 0 {
+		o.Shard, o.Shards = 1, 1
+	}
+	if o.Shards < 1 || o.Shard < 1 || o.Shard > o.Shards {
+		return fmt.Errorf("nightly: shard %d/%d: want 1 ≤ K ≤ N", o.Shard, o.Shards)
+	}
+	if o.Now == nil {
+		o.Now = time.Now
+	}
+	if o.Progress == nil {
+		o.Progress = io.Discard
+	}
+	if o.DriftSigma == 0 {
+		o.DriftSigma = 5
+	}
+	if !(o.DriftSigma > 0) {
+		return fmt.Errorf("nightly: drift threshold %g: want > 0", o.DriftSigma)
+	}
+	return nil
+}
+
+// Run processes the new files of o.Inbox into o.Archive. The error is for a
+// run that could not start or could not keep its records: bad options, the
+// lock held by another run of the same shard (ErrLocked), an archive that
+// cannot be written. The failure of a file is not an error: it is in the
+// ledger and the Report (see Report.ExitCode). Cancelling ctx stops the run
+// gracefully after the files in progress.
+func Run(ctx context.Context, o Options) (*Report, error) {
+	if err := o.normalise(); err != nil {
+		return nil, err
+	}
+	inbox, err := realDir(o.Inbox, "inbox")
+	if err != nil {
+		return nil, err
+	}
+	if to, err := resolve(o.Archive); err != nil || within(inbox, to) || within(to, inbox) {
+		return nil, fmt.Errorf("nightly: the inbox %s and the archive %s overlap; the archive must be a folder outside the inbox and vice versa", o.Inbox, o.Archive)
+	}
+	if err := os.MkdirAll(o.Archive, 0o755); err != nil {
+		return nil, fmt.Errorf("nightly: cannot create the archive: %w", err)
+	}
+	arch, err := realDir(o.Archive, "archive")
+	if err != nil {
+		return nil, err
+	}
+	a, err := openArchive(arch, o.Archive)
+	if err != nil {
+		return nil, err
+	}
+	defer a.close()
+	if err := a.lockRun(o.Shard, o.Shards); err != nil {
+		return nil, err
+	}
+	r := &runner{o: o, a: a, inbox: inbox, rep: &Report{}, ctx: ctx}
+	r.prog = newProgress(o.Progress)
+	start := o.Now()
+	r.loc = start.Location()
+	if err := r.load(); err != nil {
+		return nil, err
+	}
+	if err := r.recover(); err != nil {
+		return nil, err
+	}
+	todo, err := r.select_()
+	if err != nil {
+		return nil, err
+	}
+	r.process(todo)
+	serr := r.summaries(start)
+	r.prog.finish(r.rep)
+	if r.err != nil {
+		return r.rep, r.err
+	}
+	return r.rep, serr
+}
+
+type runner struct {
+	o     Options
+	a     *archive
+	inbox string
+	ctx   context.Context
+	prog  progress
+
+	mu  sync.Mutex
+	rep *Report
+	err error // first error in the archive's own records (stops the run)
+	// dates on which this run finished a row (for the summaries), in loc
+	dates   map[string]bool
+	loc     *time.Location
+	stopAll func()
+}
+
+func (r *runner) note(format string, args ...any) {
+	r.prog.note(fmt.Sprintf(format, args...))
+}
+
+// realDir resolves a folder's absolute path with symbolic links evaluated.
+func realDir(p, what string) (string, error) {
+	abs, err := filepath.Abs(p)
+	if err != nil {
+		return "", fmt.Errorf("nightly: %s %s: %w", what, p, err)
+	}
+	real, err := filepath.EvalSymlinks(abs)
+	if err != nil {
+		return "", fmt.Errorf("nightly: %s %s: %w", what, p, err)
+	}
+	st, err := os.Stat(real)
+	if err != nil {
+		return "", fmt.Errorf("nightly: %s %s: %w", what, p, err)
+	}
+	if !st.IsDir() {
+		return "", fmt.Errorf("nightly: %s %s is not a folder", what, p)
+	}
+	return real, nil
+}
+
+// resolve returns the absolute path of p with the links of its longest
+// existing prefix evaluated (p itself need not exist).
+func resolve(p string) (string, error) {
+	abs, err := filepath.Abs(p)
+	if err != nil {
+		return "", err
+	}
+	rest := ""
+	for cur := abs; ; {
+		if real, err := filepath.EvalSymlinks(cur); err == nil {
+			return filepath.Join(real, rest), nil
+		}
+		parent := filepath.Dir(cur)
+		if parent == cur {
+			return abs, nil
+		}
+		rest = filepath.Join(filepath.Base(cur), rest)
+		cur = parent
+	}
+}
+
+// within reports whether p is root or inside it (both absolute and clean).
+func within(root, p string) bool {
+	if p == root {
+		return true
+	}
+	rel, err := filepath.Rel(root, p)
+	if err != nil {
+		return false
+	}
+	return rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator)) && !filepath.IsAbs(rel)
+}
