@@ -1,0 +1,388 @@
+package report
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/csv"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"bandwright/fit"
+	"bandwright/fit/linelist"
+)
+
+// Names of the stage outputs a report reads.
+const (
+	constantsFile  = "constants.json"
+	residualsFile  = "residuals.csv"
+	fitSummaryFile = "fit.md"
+	thermoCSVFile  = "thermo.csv"
+	thermoJSONFile = "thermo.json"
+	nasa7File      = "nasa7.json"
+	assignMDFile   = "assign.md"
+	linesFile      = "lines.csv"
+	unassignedFile = "unassigned.csv"
+)
+
+// stageFiles lists, per stage, the files a report looks for, in the order the
+// provenance section lists them.
+var stageFiles = []struct {
+	stage string
+	files []string
+}{
+	{"assign", []string{assignMDFile, linesFile, unassignedFile}},
+	{"fit", []string{constantsFile, residualsFile, fitSummaryFile}},
+	{"thermo", []string{thermoCSVFile, thermoJSONFile, nasa7File}},
+}
+
+// folder is what a report was built from: the stage outputs found in one
+// output folder.
+type folder struct {
+	dir       string
+	record    *fit.Record
+	residuals []residual // nil when residuals.csv is absent
+	thermo    *thermoTable
+	lines     []linelist.Line // lines.csv of the assign stage
+	linesErr  string          // why lines.csv could not be summarised
+	unassign  *genericCSV
+	assignMD  []byte
+	files     []fileInfo // the stage files present, with size and SHA-256
+}
+
+// fileInfo is one file present in the folder.
+type fileInfo struct {
+	stage, name string
+	size        int64
+	sha256      string
+}
+
+func (f *folder) has(name string) bool {
+	for _, fi := range f.files {
+		if fi.name == name {
+			return true
+		}
+	}
+	return false
+}
+
+// readFolder reads every stage output present in dir. constants.json is
+// required; every other file is optional.
+func readFolder(dir string) (*folder, error) {
+	st, err := os.Stat(dir)
+	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, fmt.Errorf("report: %s: no such folder", dir)
+		}
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	if !st.IsDir() {
+		return nil, fmt.Errorf("report: %s is not a folder (give the output folder of a bandwright run)", dir)
+	}
+	f := &folder{dir: dir}
+	contents := map[string][]byte{}
+	for _, sf := range stageFiles {
+		for _, name := range sf.files {
+			b, err := os.ReadFile(filepath.Join(dir, name))
+			if errors.Is(err, fs.ErrNotExist) {
+				continue
+			}
+			if err != nil {
+				return nil, fmt.Errorf("report: %s: %w", name, err)
+			}
+			h := sha256.Sum256(b)
+			f.files = append(f.files, fileInfo{stage: sf.stage, name: name, size: int64(len(b)), sha256: hex.EncodeToString(h[:])})
+			contents[name] = b
+		}
+	}
+	cb, ok := contents[constantsFile]
+	if !ok {
+		return nil, fmt.Errorf("report: %s has no %s: a report needs the output of the fit stage (run bandwright fit --out %s, or give the folder that holds constants.json)", dir, constantsFile, dir)
+	}
+	rec, err := fit.ReadRecord(bytes.NewReader(cb), constantsFile)
+	if err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	f.record = rec
+	if b, ok := contents[residualsFile]; ok {
+		if f.residuals, err = readResiduals(b, residualsFile); err != nil {
+			return nil, err
+		}
+	}
+	if b, ok := contents[thermoCSVFile]; ok {
+		if f.thermo, err = readThermo(b, thermoCSVFile); err != nil {
+			return nil, err
+		}
+	}
+	if b, ok := contents[linesFile]; ok {
+		l, err := linelist.Read(bytes.NewReader(b), linesFile)
+		if err != nil {
+			// The assign stage wrote it; a line list the fit could not read is
+			// reported in its section rather than stopping the whole report.
+			f.linesErr = err.Error()
+		} else {
+			f.lines = l.Lines
+		}
+	}
+	if b, ok := contents[unassignedFile]; ok {
+		if f.unassign, err = readGenericCSV(b, unassignedFile); err != nil {
+			return nil, err
+		}
+	}
+	f.assignMD = contents[assignMDFile]
+	return f, nil
+}
+
+// residual is one row of residuals.csv (written by fit.WriteResiduals).
+type residual struct {
+	file           string
+	row            int
+	species        string
+	vUp, jUp       int
+	vLo, jLo       int
+	branch, unit   string
+	obs, unc, calc float64
+	oc, norm       float64
+	used           bool
+	note, comment  string
+	csvRow         int // line number in residuals.csv
+	fileIndex      int // index of file among the distinct input files
+}
+
+// csvTable is a CSV file with '#' comment lines, its header mapped
+// case-insensitively.
+type csvTable struct {
+	name     string
+	head     []string
+	col      map[string]int
+	rows     [][]string
+	lineNo   []int // physical line of each row
+	comments []string
+}
+
+// readCSV splits a CSV file with a header row; lines whose first non-blank
+// character is '#' are comments (kept, without the '#'); blank lines are
+// skipped. Row numbers in messages are physical lines of the file.
+func readCSV(b []byte, name string) (*csvTable, error) {
+	b = bytes.TrimPrefix(b, []byte("\xef\xbb\xbf"))
+	t := &csvTable{name: name, col: map[string]int{}}
+	var body bytes.Buffer
+	var phys []int // physical line of each line of body
+	for i, ln := range bytes.SplitAfter(b, []byte("\n")) {
+		s := bytes.TrimSpace(ln)
+		if len(s) == 0 {
+			continue
+		}
+		if s[0] == '#' {
+			t.comments = append(t.comments, strings.TrimSpace(string(s[1:])))
+			continue
+		}
+		body.Write(ln)
+		if !bytes.HasSuffix(ln, []byte("\n")) {
+			body.WriteByte('\n')
+		}
+		phys = append(phys, i+1)
+	}
+	physical := func(line int) int {
+		if line >= 1 && line <= len(phys) {
+			return phys[line-1]
+		}
+		return line
+	}
+	r := csv.NewReader(&body)
+	r.FieldsPerRecord = -1
+	for {
+		rec, err := r.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				return nil, fmt.Errorf("report: %s: row %d: %w", name, physical(pe.StartLine), pe.Err)
+			}
+			return nil, fmt.Errorf("report: %s: %w", name, err)
+		}
+		line, _ := r.FieldPos(0)
+		if t.head == nil {
+			t.head = rec
+			continue
+		}
+		t.rows = append(t.rows, rec)
+		t.lineNo = append(t.lineNo, physical(line))
+	}
+	if t.head == nil {
+		return nil, fmt.Errorf("report: %s: no header row", name)
+	}
+	for i, h := range t.head {
+		k := strings.ToLower(strings.TrimSpace(h))
+		if _, dup := t.col[k]; !dup {
+			t.col[k] = i
+		}
+	}
+	return t, nil
+}
+
+func (t *csvTable) has(col string) bool { _, ok := t.col[strings.ToLower(col)]; return ok }
+
+func (t *csvTable) cell(i int, col string) string {
+	j, ok := t.col[strings.ToLower(col)]
+	if !ok || j >= len(t.rows[i]) {
+		return ""
+	}
+	return strings.TrimSpace(t.rows[i][j])
+}
+
+// float reads a number; an empty cell is NaN (shown as a dash).
+func (t *csvTable) float(i int, col string) (float64, error) {
+	s := t.cell(i, col)
+	if s == "" {
+		return math.NaN(), nil
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		return 0, fmt.Errorf("report: %s: row %d: %s: %q is not a number", t.name, t.lineNo[i], col, s)
+	}
+	return v, nil
+}
+
+func (t *csvTable) int(i int, col string) (int, error) {
+	s := t.cell(i, col)
+	v, err := strconv.Atoi(s)
+	if err != nil {
+		return 0, fmt.Errorf("report: %s: row %d: %s: %q is not an integer", t.name, t.lineNo[i], col, s)
+	}
+	return v, nil
+}
+
+func (t *csvTable) require(cols ...string) error {
+	var miss []string
+	for _, c := range cols {
+		if !t.has(c) {
+			miss = append(miss, c)
+		}
+	}
+	if len(miss) > 0 {
+		return fmt.Errorf("report: %s: row 1: missing column(s) %s", t.name, strings.Join(miss, ", "))
+	}
+	return nil
+}
+
+// readResiduals reads residuals.csv as written by fit.WriteResiduals.
+func readResiduals(b []byte, name string) ([]residual, error) {
+	t, err := readCSV(b, name)
+	if err != nil {
+		return nil, err
+	}
+	if err := t.require("file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status"); err != nil {
+		return nil, err
+	}
+	out := make([]residual, 0, len(t.rows))
+	files := map[string]int{}
+	for i := range t.rows {
+		var r residual
+		var err error
+		r.csvRow = t.lineNo[i]
+		r.file = t.cell(i, "file")
+		r.species = t.cell(i, "species")
+		r.branch = t.cell(i, "branch")
+		r.unit = t.cell(i, "unit")
+		r.note = t.cell(i, "note")
+		r.comment = t.cell(i, "comment")
+		for _, q := range []struct {
+			col string
+			dst *int
+		}{{"row", &r.row}, {"v_up", &r.vUp}, {"J_up", &r.jUp}, {"v_lo", &r.vLo}, {"J_lo", &r.jLo}} {
+			if *q.dst, err = t.int(i, q.col); err != nil {
+				return nil, err
+			}
+		}
+		for _, q := range []struct {
+			col string
+			dst *float64
+		}{{"obs", &r.obs}, {"unc", &r.unc}, {"calc", &r.calc}, {"o_c", &r.oc}, {"o_c_over_unc", &r.norm}} {
+			if *q.dst, err = t.float(i, q.col); err != nil {
+				return nil, err
+			}
+		}
+		switch s := strings.ToLower(t.cell(i, "status")); s {
+		case "used":
+			r.used = true
+		case "rejected":
+		default:
+			return nil, fmt.Errorf("report: %s: row %d: status: %q is neither used nor rejected", name, r.csvRow, t.cell(i, "status"))
+		}
+		k, ok := files[r.file]
+		if !ok {
+			k = len(files)
+			files[r.file] = k
+		}
+		r.fileIndex = k
+		out = append(out, r)
+	}
+	return out, nil
+}
+
+// thermoTable is thermo.csv: one row per temperature.
+type thermoTable struct {
+	comments []string
+	cols     []string             // the quantity columns present, in thermoColumns order
+	v        map[string][]float64 // column (lower case) → values per row
+	n        int
+}
+
+// thermoColumns are the columns of thermo.csv, fixed by the thermo stage.
+var thermoColumns = []string{"T_K", "Q", "Q_sigma", "Cp", "Cp_sigma", "S", "S_sigma", "H_minus_H0", "H_minus_H0_sigma",
+	"H_minus_H298", "H_minus_H298_sigma", "gef", "gef_sigma", "Q_closed_form", "Q_closed_form_error",
+	"Q_sigma_mc", "Cp_sigma_mc", "S_sigma_mc", "H_minus_H0_sigma_mc", "H_minus_H298_sigma_mc", "gef_sigma_mc"}
+
+func (t *thermoTable) get(col string) []float64 { return t.v[strings.ToLower(col)] }
+
+// readThermo reads thermo.csv. T_K, Q and Cp are required; the other columns
+// are shown when present.
+func readThermo(b []byte, name string) (*thermoTable, error) {
+	t, err := readCSV(b, name)
+	if err != nil {
+		return nil, err
+	}
+	if err := t.require("T_K", "Q", "Cp"); err != nil {
+		return nil, err
+	}
+	th := &thermoTable{comments: t.comments, v: map[string][]float64{}, n: len(t.rows)}
+	for _, c := range thermoColumns {
+		if !t.has(c) {
+			continue
+		}
+		th.cols = append(th.cols, c)
+		vals := make([]float64, len(t.rows))
+		for i := range t.rows {
+			if vals[i], err = t.float(i, c); err != nil {
+				return nil, err
+			}
+		}
+		th.v[strings.ToLower(c)] = vals
+	}
+	return th, nil
+}
+
+// genericCSV is a CSV file shown as it is (unassigned peaks).
+type genericCSV struct {
+	head     []string
+	rows     [][]string
+	comments []string
+}
+
+func readGenericCSV(b []byte, name string) (*genericCSV, error) {
+	t, err := readCSV(b, name)
+	if err != nil {
+		return nil, err
+	}
+	return &genericCSV{head: t.head, rows: t.rows, comments: t.comments}, nil
+}

@@ -1,0 +1,509 @@
+package report
+
+import (
+	"math"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// bandKey identifies a band of one isotopologue in residuals.csv.
+type bandKey struct {
+	species  string
+	vUp, vLo int
+}
+
+// groupBands groups residual rows by band, in record species order then by
+// lower and upper v.
+func groupBands(f *folder) ([]bandKey, map[bandKey][]int) {
+	order := map[string]int{}
+	for i, s := range f.record.Species {
+		order[s] = i
+	}
+	groups := map[bandKey][]int{}
+	var keys []bandKey
+	for i, r := range f.residuals {
+		k := bandKey{r.species, r.vUp, r.vLo}
+		if _, ok := groups[k]; !ok {
+			keys = append(keys, k)
+		}
+		groups[k] = append(groups[k], i)
+	}
+	rank := func(s string) int {
+		if r, ok := order[s]; ok {
+			return r
+		}
+		return len(order)
+	}
+	sort.SliceStable(keys, func(a, b int) bool {
+		ka, kb := keys[a], keys[b]
+		if rank(ka.species) != rank(kb.species) {
+			return rank(ka.species) < rank(kb.species)
+		}
+		if ka.species != kb.species {
+			return ka.species < kb.species
+		}
+		if ka.vLo != kb.vLo {
+			return ka.vLo < kb.vLo
+		}
+		return ka.vUp < kb.vUp
+	})
+	return keys, groups
+}
+
+func bandName(k bandKey) string {
+	if k.vUp == k.vLo {
+		return sprintf("%s pure rotation v=%d", k.species, k.vUp)
+	}
+	return sprintf("%s %d–%d", k.species, k.vUp, k.vLo)
+}
+
+// residualSection plots o−c against J for each band and lists the lines that
+// need a look.
+func residualSection(d *document, f *folder) {
+	s := d.section("residuals", "Residuals by band")
+	s.para("One figure per band. Horizontal axis: J″, the rotational quantum number of the lower level. Vertical axis: o − c (observed minus calculated) in the band's unit when all its lines carry the same uncertainty σ, with dashed guides at ±3σ; otherwise (o − c)/σ with guides at ±3. Each branch has its own colour and glyph; rejected lines are vermillion crosses, and those beyond the plotted range sit on its edge as triangles pointing outwards.")
+	keys, groups := groupBands(f)
+	for _, k := range keys {
+		d.figure(s, bandFigure(f, k, groups[k]))
+	}
+	// The used lines with the largest normalised residuals.
+	var used []int
+	for i, r := range f.residuals {
+		if r.used && finite(r.norm) {
+			used = append(used, i)
+		}
+	}
+	sort.SliceStable(used, func(a, b int) bool {
+		return math.Abs(f.residuals[used[a]].norm) > math.Abs(f.residuals[used[b]].norm)
+	})
+	if len(used) > 0 {
+		t := lineTable("Used lines with the largest |o − c|/σ.")
+		for _, i := range used[:min(len(used), 12)] {
+			t.Rows = append(t.Rows, lineRow(f.residuals[i]))
+		}
+		d.table(s, t)
+	}
+	// Rejected lines and every line that carries a note or a comment.
+	var flagged []int
+	for i, r := range f.residuals {
+		if !r.used || r.note != "" || r.comment != "" {
+			flagged = append(flagged, i)
+		}
+	}
+	if len(flagged) == 0 {
+		s.para("No line was rejected and none carries a note or comment.")
+		return
+	}
+	const maxRows = 200
+	t := lineTable("Rejected lines and lines with a note or comment.")
+	for _, i := range flagged[:min(len(flagged), maxRows)] {
+		t.Rows = append(t.Rows, lineRow(f.residuals[i]))
+	}
+	if len(flagged) > maxRows {
+		t.Note = sprintf("%d more such lines are in residuals.csv.", len(flagged)-maxRows)
+	}
+	d.table(s, t)
+}
+
+func lineTable(caption string) *table {
+	return &table{Caption: caption,
+		Head:    []string{"file:row", "species", "transition", "observed", "o − c", "unit", "(o − c)/σ", "status", "note", "comment"},
+		Numeric: []bool{false, false, false, true, true, false, true, false, false, false}}
+}
+
+func lineRow(r residual) []string {
+	status := "used"
+	if !r.used {
+		status = "rejected"
+	}
+	br := r.branch
+	if br == "" {
+		br = "?"
+	}
+	unit := r.unit
+	if unit == "" {
+		unit = "cm-1"
+	}
+	return []string{
+		sprintf("%s:%d", filepath.Base(r.file), r.row), r.species,
+		sprintf("%d–%d %s(%d)", r.vUp, r.vLo, br, r.jLo),
+		num(r.obs, 12), num(r.oc, 4), unitName(unit), fixed(r.norm, 2), status, r.note, r.comment,
+	}
+}
+
+// bandFigure draws the residuals of one band against J″.
+func bandFigure(f *folder, k bandKey, idx []int) *figure {
+	name := sprintf("report-residuals-%s-%d-%d.svg", fileSafe(k.species), k.vUp, k.vLo)
+	fig := &figure{Name: name, Alt: "residuals of " + bandName(k) + " against J″"}
+	rs := f.residuals
+	// Plain o−c when every line has the same uncertainty and unit.
+	sameUnc := true
+	u0, unit0 := math.NaN(), ""
+	nUsed, nRej := 0, 0
+	for n, i := range idx {
+		r := rs[i]
+		if r.used {
+			nUsed++
+		} else {
+			nRej++
+		}
+		if n == 0 {
+			u0, unit0 = r.unc, r.unit
+			continue
+		}
+		if !finite(r.unc) || math.Abs(r.unc-u0) > 1e-9*math.Abs(u0) || r.unit != unit0 {
+			sameUnc = false
+		}
+	}
+	if !finite(u0) || !(u0 > 0) {
+		sameUnc = false
+	}
+	yOf := func(r residual) float64 { return r.norm }
+	guide, yLabel := 3.0, "(o − c)/σ"
+	if sameUnc {
+		yOf = func(r residual) float64 { return r.oc }
+		guide = 3 * u0
+		un := unit0
+		if un == "" {
+			un = "cm-1"
+		}
+		yLabel = "o − c / " + unitName(un)
+	}
+	byBranch := map[string]*xyCollector{}
+	var rej xyCollector
+	for _, i := range idx {
+		r := rs[i]
+		if !r.used {
+			rej.add(float64(r.jLo), yOf(r))
+			continue
+		}
+		b := strings.ToUpper(r.branch)
+		if _, ok := branchStyles[b]; !ok {
+			b = "?"
+		}
+		if byBranch[b] == nil {
+			byBranch[b] = &xyCollector{}
+		}
+		byBranch[b].add(float64(r.jLo), yOf(r))
+	}
+	var all plotter.XYs
+	yMax := 0.0
+	for _, c := range byBranch {
+		all = append(all, c.xy...)
+		for _, p := range c.xy {
+			yMax = math.Max(yMax, math.Abs(p.Y))
+		}
+	}
+	all = append(all, rej.xy...)
+	counts := sprintf("%d lines used, %d rejected", nUsed, nRej)
+	fig.Caption = sprintf("Residuals of %s against J″ (%s).", bandName(k), counts)
+	if !distinctX(all) {
+		fig.Missing = sprintf("Not plotted: %s has %d line(s) with a finite residual at a single J″; a plot needs at least two.", bandName(k), len(all))
+		return fig
+	}
+	if nUsed == 0 {
+		for _, p := range rej.xy {
+			yMax = math.Max(yMax, math.Abs(p.Y))
+		}
+	}
+	yLim := 1.3 * math.Max(yMax, guide)
+	if !(yLim > 0) {
+		yLim = 1
+	}
+	title := sprintf("%s   v′=%d ← v″=%d", k.species, k.vUp, k.vLo)
+	if k.vUp == k.vLo {
+		title = sprintf("%s   pure rotation, v=%d", k.species, k.vUp)
+	}
+	p := newPlot(title, "J″ (lower level)", yLabel)
+	xMin, xMax := math.Inf(1), math.Inf(-1)
+	for _, q := range all {
+		xMin, xMax = math.Min(xMin, q.X), math.Max(xMax, q.X)
+	}
+	p.X.Min, p.X.Max = xMin-0.5, xMax+0.5
+	p.Y.Min, p.Y.Max = -yLim, yLim
+	zero, err := hline(0, p.X.Min, p.X.Max, guideGrey, false, 0.6)
+	if err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	p.Add(zero)
+	up, err1 := hline(guide, p.X.Min, p.X.Max, guideGrey, true, 1)
+	dn, err2 := hline(-guide, p.X.Min, p.X.Max, guideGrey, true, 1)
+	if err1 != nil || err2 != nil {
+		fig.Missing = "Not plotted: the ±3σ guides could not be drawn."
+		return fig
+	}
+	p.Add(up, dn)
+	guideLabel := "±3σ"
+	if !sameUnc {
+		guideLabel = "±3"
+	}
+	p.Legend.Add(guideLabel, up)
+	for _, b := range []string{"P", "Q", "R", "O", "S", "?"} {
+		c := byBranch[b]
+		if c == nil || len(c.xy) == 0 {
+			continue
+		}
+		st, ok := branchStyles[b]
+		if !ok {
+			st = seriesStyle{okBlack, draw.RingGlyph{}}
+		}
+		sc, err := scatter(c.xy, st, 2.4)
+		if err != nil {
+			fig.Missing = "Not plotted: " + err.Error()
+			return fig
+		}
+		p.Add(sc)
+		lbl := b + " branch"
+		if b == "?" {
+			lbl = "branch not given"
+		}
+		p.Legend.Add(lbl, sc)
+	}
+	if err := addRejected(p, rej.xy, yLim); err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	svg, err := render(p, figWidth, figHeight)
+	if err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	fig.SVG = svg
+	if sameUnc {
+		fig.Caption += sprintf(" Guides at ±3σ, σ = %s %s.", num(u0, 4), unitName(orDefault(unit0, "cm-1")))
+	}
+	return fig
+}
+
+func orDefault(s, def string) string {
+	if s == "" {
+		return def
+	}
+	return s
+}
+
+// addRejected draws rejected lines as crosses, or as triangles on the edge of
+// the range when they lie beyond ±yLim.
+func addRejected(p *plot.Plot, xy plotter.XYs, yLim float64) error {
+	var in, above, below plotter.XYs
+	for _, q := range xy {
+		switch {
+		case q.Y > yLim:
+			above = append(above, plotter.XY{X: q.X, Y: yLim * 0.96})
+		case q.Y < -yLim:
+			below = append(below, plotter.XY{X: q.X, Y: -yLim * 0.96})
+		default:
+			in = append(in, q)
+		}
+	}
+	if len(in) > 0 {
+		sc, err := scatter(in, seriesStyle{okVermillion, draw.CrossGlyph{}}, 3)
+		if err != nil {
+			return err
+		}
+		sc.GlyphStyle.Radius = 3
+		p.Add(sc)
+		p.Legend.Add("rejected", sc)
+	}
+	if len(above)+len(below) > 0 {
+		var first *plotter.Scatter
+		for _, set := range []struct {
+			xy plotter.XYs
+			up bool
+		}{{above, true}, {below, false}} {
+			if len(set.xy) == 0 {
+				continue
+			}
+			sc, err := scatter(set.xy, seriesStyle{okVermillion, arrowGlyph{up: set.up}}, 3)
+			if err != nil {
+				return err
+			}
+			p.Add(sc)
+			if first == nil {
+				first = sc
+			}
+		}
+		p.Legend.Add(sprintf("rejected, off scale (%d)", len(above)+len(below)), first)
+	}
+	return nil
+}
+
+// positionSection compares observed and calculated positions, per unit.
+func positionSection(d *document, f *folder) {
+	s := d.section("positions", "Observed and calculated positions")
+	s.para("For each unit of the line lists: the calculated position against the observed one, on the line of equality, and o − c against the observed position with one colour and glyph per input file; an offset or a slope between files points to a difference in calibration.")
+	units := map[string][]int{}
+	var order []string
+	for i, r := range f.residuals {
+		u := orDefault(r.unit, "cm-1")
+		if _, ok := units[u]; !ok {
+			order = append(order, u)
+		}
+		units[u] = append(units[u], i)
+	}
+	sort.Strings(order)
+	files := distinctFiles(f.residuals)
+	for _, u := range order {
+		idx := units[u]
+		d.figure(s, obsCalcFigure(f, u, idx))
+		d.figure(s, ocPositionFigure(f, u, idx, files))
+	}
+}
+
+func distinctFiles(rs []residual) []string {
+	var out []string
+	seen := map[int]bool{}
+	for _, r := range rs {
+		if !seen[r.fileIndex] {
+			seen[r.fileIndex] = true
+			out = append(out, r.file)
+		}
+	}
+	return out
+}
+
+func obsCalcFigure(f *folder, unit string, idx []int) *figure {
+	un := unitName(unit)
+	fig := &figure{Name: "report-obs-calc-" + fileSafe(unit) + ".svg", Alt: "calculated against observed positions in " + un}
+	var used, rej xyCollector
+	for _, i := range idx {
+		r := f.residuals[i]
+		if r.used {
+			used.add(r.obs, r.calc)
+		} else {
+			rej.add(r.obs, r.calc)
+		}
+	}
+	all := append(append(plotter.XYs{}, used.xy...), rej.xy...)
+	fig.Caption = sprintf("Calculated against observed positions (%s), %d lines; the line is calculated = observed.", un, len(all))
+	if !distinctX(all) {
+		fig.Missing = sprintf("Not plotted: %d line(s) in %s at a single position; a plot needs at least two.", len(all), un)
+		return fig
+	}
+	p := newPlot("Calculated against observed ("+un+")", "observed / "+un, "calculated / "+un)
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, q := range all {
+		lo, hi = math.Min(lo, math.Min(q.X, q.Y)), math.Max(hi, math.Max(q.X, q.Y))
+	}
+	eq, err := plotter.NewLine(plotter.XYs{{X: lo, Y: lo}, {X: hi, Y: hi}})
+	if err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	eq.LineStyle.Color, eq.LineStyle.Width = guideGrey, 0.8
+	p.Add(eq)
+	p.Legend.Add("calculated = observed", eq)
+	if len(used.xy) > 0 {
+		sc, err := scatter(used.xy, seriesStyle{okBlue, draw.CircleGlyph{}}, 2)
+		if err != nil {
+			fig.Missing = "Not plotted: " + err.Error()
+			return fig
+		}
+		p.Add(sc)
+		p.Legend.Add("used", sc)
+	}
+	if len(rej.xy) > 0 {
+		sc, err := scatter(rej.xy, seriesStyle{okVermillion, draw.CrossGlyph{}}, 3)
+		if err != nil {
+			fig.Missing = "Not plotted: " + err.Error()
+			return fig
+		}
+		p.Add(sc)
+		p.Legend.Add("rejected", sc)
+	}
+	svg, err := render(p, figWidth, figHeight)
+	if err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	fig.SVG = svg
+	return fig
+}
+
+func ocPositionFigure(f *folder, unit string, idx []int, files []string) *figure {
+	un := unitName(unit)
+	fig := &figure{Name: "report-oc-position-" + fileSafe(unit) + ".svg", Alt: "o − c against observed position in " + un + ", by input file"}
+	perFile := map[int]*xyCollector{}
+	var rej xyCollector
+	yMax := 0.0
+	for _, i := range idx {
+		r := f.residuals[i]
+		if !r.used {
+			rej.add(r.obs, r.oc)
+			continue
+		}
+		if perFile[r.fileIndex] == nil {
+			perFile[r.fileIndex] = &xyCollector{}
+		}
+		perFile[r.fileIndex].add(r.obs, r.oc)
+		if finite(r.oc) {
+			yMax = math.Max(yMax, math.Abs(r.oc))
+		}
+	}
+	var all plotter.XYs
+	for _, c := range perFile {
+		all = append(all, c.xy...)
+	}
+	all = append(all, rej.xy...)
+	fig.Caption = sprintf("o − c (%s) against observed position, one colour and glyph per input file (%d file(s)).", un, len(perFile))
+	if !distinctX(all) {
+		fig.Missing = sprintf("Not plotted: %d line(s) in %s at a single position; a plot needs at least two.", len(all), un)
+		return fig
+	}
+	if yMax == 0 {
+		for _, q := range rej.xy {
+			yMax = math.Max(yMax, math.Abs(q.Y))
+		}
+	}
+	yLim := 1.3 * yMax
+	if !(yLim > 0) {
+		yLim = 1
+	}
+	p := newPlot("o − c against position ("+un+")", "observed / "+un, "o − c / "+un)
+	p.Y.Min, p.Y.Max = -yLim, yLim
+	xMin, xMax := math.Inf(1), math.Inf(-1)
+	for _, q := range all {
+		xMin, xMax = math.Min(xMin, q.X), math.Max(xMax, q.X)
+	}
+	zero, err := hline(0, xMin, xMax, guideGrey, false, 0.6)
+	if err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	p.Add(zero)
+	for k := range files {
+		c := perFile[k]
+		if c == nil || len(c.xy) == 0 {
+			continue
+		}
+		sc, err := scatter(c.xy, fileStyles[k%len(fileStyles)], 2.2)
+		if err != nil {
+			fig.Missing = "Not plotted: " + err.Error()
+			return fig
+		}
+		p.Add(sc)
+		if k < 12 {
+			p.Legend.Add(filepath.Base(files[k]), sc)
+		}
+	}
+	if err := addRejected(p, rej.xy, yLim); err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	svg, err := render(p, figWidth, figHeight)
+	if err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
+	}
+	fig.SVG = svg
+	if len(files) > 12 {
+		fig.Caption += " The legend names the first 12 files."
+	}
+	return fig
+}
