@@ -1,0 +1,109 @@
+package assign_test
+
+import (
+	"bytes"
+	"errors"
+	"strings"
+	"testing"
+
+	"bandwright/assign"
+	"bandwright/fit/linelist"
+)
+
+func TestReadPeaks(t *testing.T) {
+	in := "\uFEFF# picked by hand\r\nSNR, Unit ,Position,INTENSITY,unc\r\n" +
+		"12,cm-1, 2147.081400 ,-0.5,0.0004\r\n" +
+		"\r\n   # a comment line\r\n" +
+		"40,mhz,115271.2018,-3e-1,\r\n" +
+		"7,,2.14e3,,0.001\r\n"
+	pl, err := assign.ReadPeaks(strings.NewReader(in), "p.csv", linelist.Wavenumber)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(pl.Peaks) != 3 || len(pl.Extra) != 1 || pl.Extra[0] != "SNR" || !pl.HasIntensity {
+		t.Fatalf("got %+v", pl)
+	}
+	p := pl.Peaks
+	// The text of the position is kept exactly (trimmed).
+	if p[0].Text != "2147.081400" || p[0].Row != 3 || p[0].Index != 1 || p[0].Unc != 0.0004 || p[0].Intensity != 0.5 || p[0].Extra[0] != "12" {
+		t.Errorf("peak 1: %+v", p[0])
+	}
+	if p[1].Unit != linelist.MHz || p[1].Row != 6 || p[1].Unc != 0 || p[1].Intensity != 0.3 {
+		t.Errorf("peak 2: %+v", p[1])
+	}
+	if p[2].Text != "2.14e3" || p[2].Position != 2140 || p[2].Unit != linelist.Wavenumber || p[2].Intensity != 0 {
+		t.Errorf("peak 3: %+v", p[2])
+	}
+	// 1 cm-1 = 29 979.2458 MHz exactly (defined speed of light).
+	if !near(p[1].Wavenumber(), 115271.2018/29979.2458, 1e-12) {
+		t.Errorf("MHz conversion: %v", p[1].Wavenumber())
+	}
+}
+
+func TestReadPeaksErrors(t *testing.T) {
+	cases := []struct{ name, in, want string }{
+		{"empty", "", "p.csv: no peaks: the file is empty"},
+		{"header only", "position\n", "p.csv:1: no peaks"},
+		{"no position", "pos,unc\n1,2\n", "p.csv:1: position: required column missing"},
+		{"semicolon", "position;unc\n1;2\n", "semicolon-separated"},
+		{"bad number", "position,unc\n2143.2,0.001\nabc,0.001\n", "p.csv:3: position: not a number: \"abc\""},
+		{"decimal comma", "position,unc\n\"2143,2\",0.001\n", "p.csv:2: position: not a number: \"2143,2\" (decimal comma?"},
+		{"negative", "position\n-3\n", "p.csv:2: position: must be > 0, got -3"},
+		{"zero unc", "position,unc\n2143,0\n", "p.csv:2: unc: must be > 0, got 0"},
+		{"nan", "position\nNaN\n", "p.csv:2: position: must be a finite number"},
+		{"unit", "position,unit\n2143,nm\n", "p.csv:2: unit: unknown unit \"nm\""},
+		{"signs", "position,intensity\n2143,1\n2144,-1\n", "p.csv:3: intensity: -1 has the opposite sign of the intensities above (row 2)"},
+		{"zero intensity", "position,intensity\n2143,0\n", "p.csv:2: intensity: must not be zero"},
+		{"fields", "position,unc\n2143,0.1,5\n", "p.csv:2: row has 3 fields, header has 2"},
+		{"duplicate", "position,Position\n1,2\n", "p.csv:1: Position: duplicate column name"},
+		{"missing", "position,unc\n,0.1\n", "p.csv:2: position: missing value"},
+	}
+	for _, c := range cases {
+		_, err := assign.ReadPeaks(strings.NewReader(c.in), "p.csv", linelist.Wavenumber)
+		var ie *assign.InputError
+		if err == nil || !errors.As(err, &ie) || !strings.HasPrefix(err.Error(), "assign: ") || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: got %v, want %q", c.name, err, c.want)
+		}
+	}
+}
+
+// FuzzReadPeaks: ReadPeaks never panics; a failure is an *InputError whose
+// problems name the file; a success keeps positive finite positions whose text
+// reads back to the same number.
+func FuzzReadPeaks(f *testing.F) {
+	for _, s := range []string{
+		"position,unc,intensity,unit\n2147.0814,0.0004,0.5,cm-1\n",
+		"\uFEFF# c\nPosition;unc\n1;2\n",
+		"position,x\n\"1\n2\",\"a,b\"\n3,\"=1\"\n",
+		"unit,position\nMHz,115271.2\n,2e3\n",
+	} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		pl, err := assign.ReadPeaks(bytes.NewReader(data), "f.csv", linelist.Wavenumber)
+		if err != nil {
+			var ie *assign.InputError
+			if !errors.As(err, &ie) || len(ie.Problems) == 0 {
+				t.Fatalf("error %T %v", err, err)
+			}
+			for _, p := range ie.Problems {
+				if p.File != "f.csv" || p.Reason == "" {
+					t.Fatalf("problem %+v", p)
+				}
+			}
+			return
+		}
+		if len(pl.Peaks) == 0 {
+			t.Fatal("success without peaks")
+		}
+		for _, p := range pl.Peaks {
+			if !(p.Position > 0) || p.Unc < 0 || p.Intensity < 0 || len(p.Extra) != len(pl.Extra) {
+				t.Fatalf("peak %+v", p)
+			}
+			q, err := assign.ReadPeaks(strings.NewReader("position\n"+p.Text+"\n"), "g.csv", linelist.Wavenumber)
+			if err != nil || q.Peaks[0].Position != p.Position {
+				t.Fatalf("text %q does not read back: %v", p.Text, err)
+			}
+		}
+	})
+}

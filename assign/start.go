@@ -1,0 +1,474 @@
+package assign
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"regexp"
+	"sort"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+	"gonum.org/v1/gonum/mat"
+
+	"bandwright/fit"
+	"bandwright/fit/linelist"
+	"bandwright/fit/model"
+	"bandwright/fit/species"
+)
+
+// StartSpecies is one isotopologue the assignment looks for, with the
+// constants its lines are predicted from.
+type StartSpecies struct {
+	Label string // canonical isotopologue label
+	// Abundance is the relative abundance used for predicted intensities:
+	// as given in the start file, else the product of the two atoms'
+	// representative isotopic abundances (IUPAC/CIAAW, from the species table).
+	Abundance float64
+	// Constants evaluate E(v, J); Index is the species' index in
+	// Constants.Model. Start files give constants without covariance (no
+	// fitted parameters): their predictions carry σ = 0, and the band lock
+	// measures how far off they are.
+	Constants *fit.Constants
+	Index     int
+	// ScaledFrom names the isotopologue whose constants were mass-scaled to
+	// this one (Dunham relations Y_kl ∝ μ^−(k+2l)/2), empty when the species'
+	// own constants were given.
+	ScaledFrom string
+	Iso        species.Isotopologue
+}
+
+// Start is the set of species and starting constants of an assignment.
+type Start struct {
+	File    string // the start file or constants record it came from
+	Species []StartSpecies
+}
+
+// startEntry is one [[species]] table of a start file. Pointers tell given
+// keys from absent ones.
+type startEntry struct {
+	Name      *string  `toml:"name"`
+	OmegaE    *float64 `toml:"omega_e"`
+	OmegaExe  *float64 `toml:"omega_e_x_e"`
+	OmegaEye  *float64 `toml:"omega_e_y_e"`
+	Be        *float64 `toml:"B_e"`
+	AlphaE    *float64 `toml:"alpha_e"`
+	GammaE    *float64 `toml:"gamma_e"`
+	De        *float64 `toml:"D_e"`
+	BetaE     *float64 `toml:"beta_e"`
+	Abundance *float64 `toml:"abundance"`
+}
+
+type startFile struct {
+	Species []startEntry `toml:"species"`
+}
+
+// startKeys are the keys of a [[species]] table, in the order messages list them.
+var startKeys = []string{"name", "omega_e", "omega_e_x_e", "omega_e_y_e", "B_e", "alpha_e", "gamma_e", "D_e", "beta_e", "abundance"}
+
+// requiredConstants are the keys a species with its own constants must give.
+var requiredConstants = []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e", "D_e"}
+
+// ReadStartFile reads a start file; see ReadStart.
+func ReadStartFile(path string) (*Start, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		reason := err.Error()
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			reason = "cannot open: " + pe.Err.Error()
+		}
+		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
+	}
+	return ReadStart(bytes.NewReader(data), path)
+}
+
+// ReadStart reads starting constants in the equilibrium notation of the trade
+// (TOML; cm⁻¹):
+//
+//	[[species]]
+//	name = "12C16O"
+//	omega_e = 2169.8        # ωe
+//	omega_e_x_e = 13.29     # ωexe
+//	B_e = 1.9313            # Be
+//	alpha_e = 0.0175        # αe
+//	D_e = 6.1e-6            # De
+//	abundance = 1.0         # optional, relative, for intensity prediction
+//
+// with optional omega_e_y_e (ωeye), gamma_e (γe) and beta_e (βe). They are
+// turned into a Dunham expansion E(v, J) = Σ Y_kl (v+½)^k [J(J+1)]^l with
+// Y10 = ωe, Y20 = −ωexe, Y30 = ωeye, Y01 = Be, Y11 = −αe, Y21 = γe,
+// Y02 = −De, Y12 = −βe. A [[species]] table with a name (and optionally an
+// abundance) but no constants asks for that isotopologue too: its constants
+// follow by the Dunham mass scaling Y_kl ∝ μ^−(k+2l)/2 from the first listed
+// isotopologue of the same molecule that has constants. Unknown keys, missing
+// or non-finite values and unknown isotopologues are errors naming the file,
+// row and key.
+func ReadStart(r io.Reader, name string) (*Start, error) {
+	c := &problems{file: name}
+	data, err := io.ReadAll(io.LimitReader(r, 16<<20))
+	if err != nil {
+		c.addErr(0, "", "read error: "+err.Error(), err)
+		return nil, c.err()
+	}
+	var f startFile
+	md, err := toml.Decode(string(data), &f)
+	if err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			field := ""
+			if pe.LastKey != "" {
+				field = pe.LastKey
+			}
+			c.addErr(pe.Position.Line, field, pe.Message, err)
+		} else {
+			c.addErr(0, "", tomlReason(err), err)
+		}
+		return nil, c.err()
+	}
+	loc := newKeyLocator(data)
+	for _, k := range md.Undecoded() {
+		key := k.String()
+		row, field := 0, key
+		if len(k) >= 3 && k[0] == "species" {
+			// Keys of array tables are reported without the index; find the
+			// table by walking the file.
+			row = loc.find(-1, k[len(k)-1])
+		} else if len(k) == 2 && k[0] == "species" {
+			row = loc.find(-1, k[1])
+			field = "species." + k[1]
+		} else {
+			row = loc.find(-2, k[0])
+		}
+		c.add(row, field, "unknown key (a [[species]] table takes %s)", strings.Join(startKeys, ", "))
+	}
+	if len(f.Species) == 0 && len(c.e.Problems) == 0 {
+		c.add(0, "species", "no [[species]] table: name at least one isotopologue with its constants")
+	}
+	if err := c.err(); err != nil {
+		return nil, err
+	}
+
+	type given struct {
+		iso  species.Isotopologue
+		e    startEntry
+		row  int
+		full bool
+	}
+	var gs []given
+	seen := map[string]int{}
+	for i, e := range f.Species {
+		row := loc.table(i)
+		at := func(key string) int {
+			if r := loc.find(i, key); r > 0 {
+				return r
+			}
+			return row
+		}
+		if e.Name == nil {
+			c.add(row, fmt.Sprintf("species[%d].name", i+1), "missing: give the isotopologue, e.g. name = \"12C16O\"")
+			continue
+		}
+		iso, err := species.Parse(*e.Name)
+		if err != nil {
+			c.addErr(at("name"), fmt.Sprintf("species[%d].name", i+1), strings.TrimPrefix(err.Error(), "species: "), err)
+			continue
+		}
+		if j, dup := seen[iso.Label]; dup {
+			c.add(at("name"), fmt.Sprintf("species[%d].name", i+1), "%s is listed twice (also as species %d)", iso.Label, j+1)
+			continue
+		}
+		seen[iso.Label] = i
+		vals := map[string]*float64{"omega_e": e.OmegaE, "omega_e_x_e": e.OmegaExe, "omega_e_y_e": e.OmegaEye, "B_e": e.Be,
+			"alpha_e": e.AlphaE, "gamma_e": e.GammaE, "D_e": e.De, "beta_e": e.BetaE, "abundance": e.Abundance}
+		nConst := 0
+		for _, k := range startKeys[1:] {
+			v := vals[k]
+			if v == nil {
+				continue
+			}
+			if k != "abundance" {
+				nConst++
+			}
+			if math.IsNaN(*v) || math.IsInf(*v, 0) {
+				c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be a finite number")
+			}
+		}
+		for _, k := range []string{"omega_e", "B_e", "abundance"} {
+			if v := vals[k]; v != nil && !(*v > 0) {
+				c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be > 0, got %g", *v)
+			}
+		}
+		if v := vals["D_e"]; v != nil && *v < 0 {
+			c.add(at("D_e"), iso.Label+".D_e", "must be ≥ 0 (De > 0 for a bound state), got %g", *v)
+		}
+		full := nConst > 0
+		if full {
+			var miss []string
+			for _, k := range requiredConstants {
+				if vals[k] == nil {
+					miss = append(miss, k)
+				}
+			}
+			if len(miss) > 0 {
+				c.add(row, iso.Label, "missing %s (a species with constants needs %s; leave out all constants to scale them from another isotopologue)",
+					strings.Join(miss, ", "), strings.Join(requiredConstants, ", "))
+			}
+		}
+		gs = append(gs, given{iso: iso, e: e, row: row, full: full})
+	}
+	if err := c.err(); err != nil {
+		return nil, err
+	}
+	st := &Start{File: name}
+	for _, g := range gs {
+		sp := StartSpecies{Label: g.iso.Label, Iso: g.iso}
+		if g.e.Abundance != nil {
+			sp.Abundance = *g.e.Abundance
+		} else {
+			sp.Abundance = NaturalAbundance(g.iso)
+		}
+		var ref *given
+		if g.full {
+			ref = &g
+		} else {
+			for k := range gs {
+				if gs[k].full && sameMolecule(gs[k].iso, g.iso) {
+					ref = &gs[k]
+					break
+				}
+			}
+			if ref == nil {
+				c.add(g.row, g.iso.Label, "no constants, and no isotopologue of the same molecule with constants to scale them from")
+				continue
+			}
+			sp.ScaledFrom = ref.iso.Label
+		}
+		cs, idx, err := dunhamStart(ref.iso, g.iso, ref.e)
+		if err != nil {
+			c.addErr(g.row, g.iso.Label, err.Error(), err)
+			continue
+		}
+		sp.Constants, sp.Index = cs, idx
+		if sp.Abundance == 0 {
+			c.add(g.row, g.iso.Label+".abundance", "the isotope table gives this isotopologue no natural abundance; give abundance = …")
+			continue
+		}
+		st.Species = append(st.Species, sp)
+	}
+	if err := c.err(); err != nil {
+		return nil, err
+	}
+	return st, nil
+}
+
+func tomlReason(err error) string {
+	return strings.TrimPrefix(err.Error(), "toml: ")
+}
+
+// dunhamStart builds constants without covariance for target from the
+// equilibrium constants of ref (target == ref, or an isotopologue of the same
+// molecule reached by mass scaling). It returns the constants and the species
+// index of target.
+func dunhamStart(ref, target species.Isotopologue, e startEntry) (*fit.Constants, int, error) {
+	vals := map[string]float64{}
+	set := func(name string, v *float64, sign float64) {
+		if v != nil {
+			vals[name] = sign * *v
+		}
+	}
+	set("Y10", e.OmegaE, 1)
+	set("Y20", e.OmegaExe, -1)
+	set("Y30", e.OmegaEye, 1)
+	set("Y01", e.Be, 1)
+	set("Y11", e.AlphaE, -1)
+	set("Y21", e.GammaE, 1)
+	set("Y02", e.De, -1)
+	set("Y12", e.BetaE, -1)
+	return dunhamConstants(ref, target, vals)
+}
+
+// dunhamConstants builds fixed Dunham constants (no covariance) from the Y_kl
+// of ref, for target.
+func dunhamConstants(ref, target species.Isotopologue, vals map[string]float64) (*fit.Constants, int, error) {
+	var terms []string
+	for n := range vals {
+		terms = append(terms, n)
+	}
+	sort.Strings(terms)
+	isos := []species.Isotopologue{ref}
+	idx := 0
+	if target.Label != ref.Label {
+		isos = append(isos, target)
+		idx = 1
+	}
+	m, err := model.NewDunham(isos, model.DunhamOptions{Terms: terms})
+	if err != nil {
+		return nil, 0, fmt.Errorf("assign: %w", err)
+	}
+	ps := m.Params()
+	for i := range ps {
+		ps[i].Value = vals[ps[i].Name]
+		ps[i].Fixed = true
+	}
+	return &fit.Constants{Model: m, Params: ps, Values: model.Values(ps), Cov: mat.NewSymDense(1, []float64{0})}, idx, nil
+}
+
+// NaturalAbundance returns the product of the representative isotopic
+// abundances of the two atoms (IUPAC/CIAAW 2013, from the embedded species
+// table, entered from memory): the mole fraction of the isotopologue in a
+// sample of natural isotopic composition.
+func NaturalAbundance(iso species.Isotopologue) float64 {
+	return iso.A.Abundance * iso.B.Abundance
+}
+
+func sameMolecule(a, b species.Isotopologue) bool {
+	x, y := a.A.Symbol+"+"+a.B.Symbol, b.A.Symbol+"+"+b.B.Symbol
+	if a.A.Symbol > a.B.Symbol {
+		x = a.B.Symbol + "+" + a.A.Symbol
+	}
+	if b.A.Symbol > b.B.Symbol {
+		y = b.B.Symbol + "+" + b.A.Symbol
+	}
+	return x == y
+}
+
+// StartFromConstants turns a constants record (an earlier fit) into a start:
+// every species of the record, plus the isotopologues named in extra, which
+// must belong to the molecule of a Dunham record (their constants follow by
+// mass scaling; the covariance carries over since the fitted parameters are
+// those of the reference). Abundances are natural (NaturalAbundance).
+func StartFromConstants(c *fit.Constants, name string, extra []string) (*Start, error) {
+	st := &Start{File: name}
+	for i, lab := range c.Model.Species() {
+		iso, err := species.Parse(lab)
+		if err != nil {
+			return nil, fmt.Errorf("assign: %s: %w", name, err)
+		}
+		st.Species = append(st.Species, StartSpecies{Label: iso.Label, Iso: iso, Abundance: NaturalAbundance(iso), Constants: c, Index: i})
+	}
+	for _, lab := range extra {
+		iso, err := species.Parse(lab)
+		if err != nil {
+			return nil, fmt.Errorf("assign: --species: %w", err)
+		}
+		if model.SpeciesIndex(c.Model, iso.Label) >= 0 {
+			continue
+		}
+		d, ok := c.Model.(*model.Dunham)
+		if !ok {
+			return nil, fmt.Errorf("assign: --species %s: %s is a %s record without that isotopologue; only a Dunham record can be mass-scaled to a new isotopologue", iso.Label, name, c.Model.Kind())
+		}
+		if len(d.BOBElements()) > 0 {
+			return nil, fmt.Errorf("assign: --species %s: %s has Born–Oppenheimer-breakdown terms, which cannot be extended to a new isotopologue", iso.Label, name)
+		}
+		isos := append(d.Isotopologues(), iso)
+		var terms []string
+		for _, p := range c.Params {
+			terms = append(terms, p.Name)
+		}
+		m, err := model.NewDunham(isos, model.DunhamOptions{Terms: terms})
+		if err != nil {
+			return nil, fmt.Errorf("assign: --species %s: %w", iso.Label, err)
+		}
+		nc := *c
+		nc.Model = m
+		st.Species = append(st.Species, StartSpecies{Label: iso.Label, Iso: iso, Abundance: NaturalAbundance(iso), Constants: &nc, Index: len(isos) - 1, ScaledFrom: d.Species()[0]})
+	}
+	return st, nil
+}
+
+// Select keeps the species named in labels (in that order), or all when
+// labels is empty. Unknown labels are an error listing the start's species.
+func (st *Start) Select(labels []string) error {
+	if len(labels) == 0 {
+		return nil
+	}
+	var out []StartSpecies
+	for _, l := range labels {
+		iso, err := species.Parse(l)
+		if err != nil {
+			return fmt.Errorf("assign: --species: %w", err)
+		}
+		found := false
+		for _, s := range st.Species {
+			if s.Label == iso.Label {
+				out = append(out, s)
+				found = true
+			}
+		}
+		if !found {
+			var have []string
+			for _, s := range st.Species {
+				have = append(have, s.Label)
+			}
+			return fmt.Errorf("assign: --species %s: %s has no such isotopologue (it has %s)", l, st.File, strings.Join(have, ", "))
+		}
+	}
+	st.Species = out
+	return nil
+}
+
+// Labels returns the species labels in order.
+func (st *Start) Labels() []string {
+	var out []string
+	for _, s := range st.Species {
+		out = append(out, s.Label)
+	}
+	return out
+}
+
+// keyLocator finds the line numbers of [[species]] tables and their keys in a
+// TOML text, for messages.
+type keyLocator struct {
+	lines  []string
+	tables []int // 0-based line index of each [[species]] header
+}
+
+var speciesHeader = regexp.MustCompile(`^\s*\[\[\s*species\s*\]\]`)
+
+func newKeyLocator(data []byte) *keyLocator {
+	l := &keyLocator{lines: strings.Split(string(data), "\n")}
+	for i, s := range l.lines {
+		if speciesHeader.MatchString(s) {
+			l.tables = append(l.tables, i)
+		}
+	}
+	return l
+}
+
+// table returns the 1-based line of the i-th [[species]] header (0 if unknown).
+func (l *keyLocator) table(i int) int {
+	if i >= 0 && i < len(l.tables) {
+		return l.tables[i] + 1
+	}
+	return 0
+}
+
+// find returns the 1-based line of key inside the i-th [[species]] table;
+// i = -1 searches every table, i = -2 the text before the first table.
+func (l *keyLocator) find(i int, key string) int {
+	from, to := 0, len(l.lines)
+	switch {
+	case i >= 0 && i < len(l.tables):
+		from = l.tables[i] + 1
+		if i+1 < len(l.tables) {
+			to = l.tables[i+1]
+		}
+	case i == -2 && len(l.tables) > 0:
+		to = l.tables[0]
+	case i >= 0:
+		return 0
+	}
+	re := regexp.MustCompile(`^\s*("?)` + regexp.QuoteMeta(key) + `("?)\s*=`)
+	for j := from; j < to; j++ {
+		if re.MatchString(l.lines[j]) {
+			return j + 1
+		}
+	}
+	return 0
+}
