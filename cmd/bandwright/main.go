@@ -11,6 +11,7 @@ import (
 	"fmt"
 	"os"
 	"sort"
+	"strings"
 
 	"github.com/urfave/cli/v2"
 
@@ -24,7 +25,7 @@ func main() {
 // run executes the command line and returns the exit code.
 func run(args []string) int {
 	app := newApp()
-	err := app.Run(args)
+	err := app.Run(flagsFirst(app, args))
 	if err == nil {
 		return 0
 	}
@@ -49,6 +50,62 @@ func newApp() *cli.App {
 			return cli.Exit("usage: "+err.Error(), 1)
 		},
 	}
+}
+
+// flagsFirst moves a subcommand's flags before its positional arguments, so
+// that `bandwright fit lines.csv --model levels` works as the README writes it
+// (the command-line library stops reading flags at the first argument).
+// Everything after "--" stays positional.
+func flagsFirst(app *cli.App, args []string) []string {
+	if len(args) < 3 {
+		return args
+	}
+	var cmd *cli.Command
+	for _, c := range app.Commands {
+		if c.HasName(args[1]) {
+			cmd = c
+		}
+	}
+	if cmd == nil {
+		return args
+	}
+	noValue := map[string]bool{"help": true, "h": true}
+	takes := map[string]bool{}
+	for _, fl := range cmd.Flags {
+		_, isBool := fl.(*cli.BoolFlag)
+		for _, n := range fl.Names() {
+			if isBool {
+				noValue[n] = true
+			} else {
+				takes[n] = true
+			}
+		}
+	}
+	var flags, pos []string
+	rest := args[2:]
+	for i := 0; i < len(rest); i++ {
+		a := rest[i]
+		if a == "--" {
+			pos = append(pos, rest[i+1:]...)
+			break
+		}
+		if len(a) > 1 && a[0] == '-' {
+			name := strings.TrimLeft(a, "-")
+			flags = append(flags, a)
+			if !strings.Contains(name, "=") && takes[name] && i+1 < len(rest) {
+				flags = append(flags, rest[i+1])
+				i++
+			}
+			continue
+		}
+		pos = append(pos, a)
+	}
+	out := append([]string{args[0], args[1]}, flags...)
+	if len(pos) > 0 {
+		out = append(out, "--")
+		out = append(out, pos...)
+	}
+	return out
 }
 
 // registry holds the subcommands; each command's file registers itself in an
