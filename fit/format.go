@@ -46,12 +46,20 @@ func FormatParen(value, sigma float64) string {
 	var out string
 	if place > 0 {
 		// Uncertainty larger than 1 in the integer digits: write it in full.
-		out = fmt.Sprintf("%s(%d)", strconv.FormatFloat(math.Round(v/math.Pow(10, float64(place)))*math.Pow(10, float64(place)), 'f', 0, 64), sd*int(math.Pow(10, float64(place))))
+		out = fmt.Sprintf("%s(%d)", unsignZero(strconv.FormatFloat(math.Round(v/math.Pow(10, float64(place)))*math.Pow(10, float64(place)), 'f', 0, 64)), sd*int(math.Pow(10, float64(place))))
 	} else {
-		out = fmt.Sprintf("%s(%d)", vs, sd)
+		out = fmt.Sprintf("%s(%d)", unsignZero(vs), sd)
 	}
 	if exp != 0 {
 		out += "e" + fmt.Sprintf("%+03d", exp)
 	}
-	return strings.Replace(out, "-0(", "0(", 1)
+	return out
+}
+
+// unsignZero drops the minus sign of a number written as zero ("-0", "-0.000").
+func unsignZero(s string) string {
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+		return s[1:]
+	}
+	return s
 }

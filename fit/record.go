@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
@@ -141,7 +142,12 @@ func ReadRecord(r io.Reader, name string) (*Record, error) {
 		return nil, fmt.Errorf("fit: %s: schema: %q is not a bandwright constants record (want %q)", name, rec.Schema, Schema)
 	}
 	if rec.Schema != Schema {
-		return nil, fmt.Errorf("fit: %s: schema: %q was written by a newer bandwright; this version reads %q", name, rec.Schema, Schema)
+		got, err1 := strconv.Atoi(strings.TrimPrefix(rec.Schema, "bandwright.constants/"))
+		own, err2 := strconv.Atoi(strings.TrimPrefix(Schema, "bandwright.constants/"))
+		if err1 == nil && err2 == nil && got > own {
+			return nil, fmt.Errorf("fit: %s: schema: %q was written by a newer bandwright; this version reads %q", name, rec.Schema, Schema)
+		}
+		return nil, fmt.Errorf("fit: %s: schema: %q is an older or unknown version of the constants record; this version reads %q (fit the lines again)", name, rec.Schema, Schema)
 	}
 	if _, err := rec.Constants(); err != nil {
 		return nil, fmt.Errorf("fit: %s: %w", name, err)

@@ -3,6 +3,8 @@ package fit
 import (
 	"fmt"
 	"math"
+
+	"bandwright/fit/linelist"
 )
 
 // Rounding records Watson's sequential rounding of a fit.
@@ -35,7 +37,9 @@ type RoundStep struct {
 // remaining parameters are refitted to the same lines; repeat until every
 // parameter is rounded. Each rounding changes χ² by at most (σ_c/20)²/σ_c²·s² =
 // s²/400, so the rounded constants reproduce the data as well as the unrounded
-// ones. The reported σ and covariance stay those of the unrounded fit.
+// ones. The reported σ, covariance and fit statistics stay those of the
+// unrounded fit; the calculated positions and o−c of Result.Lines are those
+// of the rounded constants.
 // Calibration factors are refitted but not rounded.
 func (w *work) round(res *Result) error {
 	rd := &Rounding{}
@@ -75,6 +79,7 @@ func (w *work) round(res *Result) error {
 		w.values[best] = math.Round(old/unit) * unit
 		// Print-and-parse so the stored value is the decimal a person reads.
 		w.values[best] = parseShort(w.values[best], unit)
+		w.omcOK = false
 		rd.Steps = append(rd.Steps, RoundStep{Param: w.params[best].ID(), Unrounded: old, Rounded: w.values[best], Unit: unit, CondSigma: sc})
 		w.fixedIdx[best] = true
 		remaining = removeInt(remaining, best)
@@ -90,6 +95,17 @@ func (w *work) round(res *Result) error {
 	}
 	for f := range res.Calib {
 		res.Calib[f].Kappa = w.kappa[f]
+	}
+	// The calculated positions and o−c are those of the constants reported.
+	for i, l := range w.p.Lines {
+		lr := &res.Lines[i]
+		c := w.calc(i)
+		if l.Unit == linelist.MHz {
+			c *= linelist.MHzPerWavenumber
+		}
+		lr.Calc = c
+		lr.OmC = l.Position - c
+		lr.Norm = lr.OmC / l.Unc
 	}
 	res.Rounding = rd
 	return nil

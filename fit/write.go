@@ -1,32 +1,44 @@
 package fit
 
 import (
-	"encoding/csv"
+	"bufio"
 	"fmt"
 	"io"
 	"math"
-	"sort"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"bandwright/fit/linelist"
 )
 
 // WriteResiduals writes residuals.csv: every input line with its observed and
 // calculated position (in the line's own unit), o−c, (o−c)/unc, whether it was
-// used, its file and row, and its pass-through columns.
+// used, its file and row, and its pass-through columns. The CSV follows RFC
+// 4180 as encoding/csv writes it (a field is quoted when it holds a comma, a
+// quote, a line break or starts with white space); text cells go through
+// linelist.NeutraliseCell. Rows are formatted into one reused buffer.
 func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
-	cw := csv.NewWriter(w)
+	bw := bufio.NewWriterSize(w, 64<<10)
 	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status", "note", "comment"}
-	head = append(head, extra...)
-	if err := cw.Write(head); err != nil {
+	n := linelist.NeutraliseCell
+	var b []byte
+	for k, h := range head {
+		b = appendSep(b, k)
+		b = appendCSVField(b, h)
+	}
+	for _, h := range extra {
+		b = appendSep(b, 1)
+		b = appendCSVField(b, n(h))
+	}
+	b = append(b, '\n')
+	if _, err := bw.Write(b); err != nil {
 		return err
 	}
-	f := func(x float64) string { return strconv.FormatFloat(x, 'g', 12, 64) }
-	n := linelist.NeutraliseCell
-	rec := make([]string, len(head))
-	for i, l := range p.Lines {
-		lr := r.Lines[i]
+	for i := range p.Lines {
+		l := &p.Lines[i]
+		lr := &r.Lines[i]
 		status := "used"
 		if !lr.Used {
 			status = "rejected"
@@ -35,26 +47,84 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		if branch == "" {
 			branch = linelist.BranchLetter(l.DeltaJ())
 		}
-		rec = rec[:0]
-		rec = append(rec, n(l.File), strconv.Itoa(l.Row), l.Species,
-			strconv.Itoa(l.VUp), strconv.Itoa(l.JUp), strconv.Itoa(l.VLo), strconv.Itoa(l.JLo),
-			branch, l.Unit.String(),
-			strconv.FormatFloat(l.Position, 'g', -1, 64), strconv.FormatFloat(l.Unc, 'g', -1, 64),
-			f(lr.Calc), strconv.FormatFloat(lr.OmC, 'g', 6, 64), strconv.FormatFloat(lr.Norm, 'f', 3, 64),
-			status, n(lr.Reason), n(l.Comment))
+		b = appendCSVField(b[:0], n(l.File))
+		b = append(b, ',')
+		b = strconv.AppendInt(b, int64(l.Row), 10)
+		b = append(b, ',')
+		b = appendCSVField(b, l.Species)
+		for _, q := range [4]int{l.VUp, l.JUp, l.VLo, l.JLo} {
+			b = append(b, ',')
+			b = strconv.AppendInt(b, int64(q), 10)
+		}
+		b = append(b, ',')
+		b = appendCSVField(b, branch)
+		b = append(b, ',')
+		b = append(b, l.Unit.String()...)
+		b = append(b, ',')
+		b = strconv.AppendFloat(b, l.Position, 'g', -1, 64)
+		b = append(b, ',')
+		b = strconv.AppendFloat(b, l.Unc, 'g', -1, 64)
+		b = append(b, ',')
+		b = strconv.AppendFloat(b, lr.Calc, 'g', 12, 64)
+		b = append(b, ',')
+		b = strconv.AppendFloat(b, lr.OmC, 'g', 6, 64)
+		b = append(b, ',')
+		b = strconv.AppendFloat(b, lr.Norm, 'f', 3, 64)
+		b = append(b, ',')
+		b = append(b, status...)
+		b = append(b, ',')
+		b = appendCSVField(b, n(lr.Reason))
+		b = append(b, ',')
+		b = appendCSVField(b, n(l.Comment))
 		for k := range extra {
 			v := ""
 			if k < len(l.Extra) {
 				v = l.Extra[k]
 			}
-			rec = append(rec, n(v))
+			b = append(b, ',')
+			b = appendCSVField(b, n(v))
 		}
-		if err := cw.Write(rec); err != nil {
+		b = append(b, '\n')
+		if _, err := bw.Write(b); err != nil {
 			return err
 		}
 	}
-	cw.Flush()
-	return cw.Error()
+	return bw.Flush()
+}
+
+func appendSep(b []byte, k int) []byte {
+	if k > 0 {
+		return append(b, ',')
+	}
+	return b
+}
+
+// appendCSVField appends s as one CSV field, quoted (with quotes doubled) when
+// encoding/csv would quote it: it contains a comma, a quote, CR or LF, starts
+// with a white-space character, or is the PostgreSQL end marker \. .
+func appendCSVField(b []byte, s string) []byte {
+	if !csvNeedsQuotes(s) {
+		return append(b, s...)
+	}
+	b = append(b, '"')
+	for i := 0; i < len(s); i++ {
+		if s[i] == '"' {
+			b = append(b, '"')
+		}
+		b = append(b, s[i])
+	}
+	return append(b, '"')
+}
+
+func csvNeedsQuotes(s string) bool {
+	if s == "" {
+		return false
+	}
+	if s == `\.` || strings.ContainsAny(s, ",\"\r\n") {
+		return true
+	}
+	r, _ := utf8.DecodeRuneInString(s)
+	return unicode.IsSpace(r)
 }
 
 // WriteSummary writes fit.md: the constants in parenthetical notation, the
@@ -115,12 +185,7 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
 		fmt.Fprintf(&b, "- %s\n", mdEscape(s))
 	}
 	b.WriteString("\n## Largest residuals\n\n| file:row | species | transition | o−c | (o−c)/unc | status |\n|---|---|---|---|---|---|\n")
-	idx := make([]int, len(p.Lines))
-	for i := range idx {
-		idx[i] = i
-	}
-	sort.SliceStable(idx, func(a, c int) bool { return math.Abs(r.Lines[idx[a]].Norm) > math.Abs(r.Lines[idx[c]].Norm) })
-	for _, i := range idx[:min(len(idx), 15)] {
+	for _, i := range largestResiduals(r.Lines, 15) {
 		l, lr := p.Lines[i], r.Lines[i]
 		st := "used"
 		if !lr.Used {
@@ -137,6 +202,33 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// largestResiduals returns the indices of the k lines with the largest
+// |o−c|/unc, largest first, earlier lines first among equals (a partial
+// selection: one pass over the lines, not a sort of all of them).
+func largestResiduals(ls []LineResult, k int) []int {
+	if k <= 0 {
+		return nil
+	}
+	top := make([]int, 0, k+1)
+	for i := range ls {
+		a := math.Abs(ls[i].Norm)
+		if len(top) == k && !(a > math.Abs(ls[top[k-1]].Norm)) {
+			continue
+		}
+		j := len(top)
+		for j > 0 && math.Abs(ls[top[j-1]].Norm) < a {
+			j--
+		}
+		top = append(top, 0)
+		copy(top[j+1:], top[j:])
+		top[j] = i
+		if len(top) > k {
+			top = top[:k]
+		}
+	}
+	return top
 }
 
 // mdEscape escapes text for a Markdown table cell: pipes, markup characters

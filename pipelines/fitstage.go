@@ -34,6 +34,10 @@ type FitOptions struct {
 	Calibrate bool
 	Reference string
 	Out       string
+	// Names, when set, replaces the input paths in the lines' file column,
+	// residuals and provenance (the chain fits files it keeps in a temporary
+	// folder, nightly fits private snapshots).
+	Names []string
 }
 
 // FitOutcome is what a fit run produced.
@@ -96,6 +100,17 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if err != nil {
 		return nil, err
 	}
+	if len(o.Names) == len(o.Inputs) {
+		rename := map[string]string{}
+		for i, in := range o.Inputs {
+			rename[in] = o.Names[i]
+		}
+		for i := range list.Lines {
+			if n, ok := rename[list.Lines[i].File]; ok {
+				list.Lines[i].File = n
+			}
+		}
+	}
 	kind := o.Model
 	if kind == "" {
 		kind = model.KindDunham
@@ -122,6 +137,9 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	}
 	rec := fit.NewRecord(res)
 	for i, in := range o.Inputs {
+		if len(o.Names) == len(o.Inputs) {
+			in = o.Names[i]
+		}
 		rec.Provenance.Inputs = append(rec.Provenance.Inputs, fit.Input{Path: in, SHA256: hashes[i]})
 	}
 	rec.Provenance.Version = Version

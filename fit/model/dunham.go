@@ -336,3 +336,39 @@ func (m *Dunham) Energy(s, v, J int, p []float64, grad []float64) float64 {
 	}
 	return e
 }
+
+// Transition evaluates ν = E(v′, J′) − E(v″, J″) of species s term by term,
+// Σ_t s_t [(v′+½)^k x′^l − (v″+½)^k x″^l]·[Y_kl(r) + Σ_X b_X δ_kl^X], with the
+// scale s_t and breakdown coefficients b_X of Energy; see model.Transitioner.
+func (m *Dunham) Transition(s, vUp, jUp, vLo, jLo int, p []float64, grad []float64) (nu, mag float64) {
+	if grad != nil {
+		clear(grad)
+	}
+	var au, al, xu, xl [10]float64
+	powers(au[:], float64(vUp)+0.5, m.maxK)
+	powers(al[:], float64(vLo)+0.5, m.maxK)
+	powers(xu[:], float64(jUp)*float64(jUp+1), m.maxL)
+	powers(xl[:], float64(jLo)*float64(jLo+1), m.maxL)
+	sc := m.scale[s]
+	for t, kl := range m.terms {
+		k, l := kl[0], kl[1]
+		// (v+½)^k·x^0 = (v+½)^k and (v+½)^0·x^l = x^l exactly, so the
+		// difference is exactly 0 for l = 0 when v′ = v″ and for k = 0 when
+		// J′ = J″.
+		c := sc[t] * (au[k]*xu[l] - al[k]*xl[l])
+		y := p[t]
+		if grad != nil {
+			grad[t] = c
+		}
+		for _, b := range m.bob[t] {
+			y += b.coef[s] * p[b.param]
+			if grad != nil {
+				grad[b.param] = c * b.coef[s]
+			}
+		}
+		term := c * y
+		nu += term
+		mag += math.Abs(term)
+	}
+	return nu, mag
+}

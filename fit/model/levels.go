@@ -22,6 +22,8 @@ type Levels struct {
 	species []string
 	params  []Param
 	terms   []string       // rotational terms present, in RotTerms order
+	pows    []int          // power of x of each term (B 1, D 2, H 3, L 4)
+	signs   []float64      // sign of each term in E (termSign)
 	base    map[[2]int]int // (s, v) → index of T_v; terms follow in order
 	maxPow  int
 }
@@ -61,6 +63,10 @@ func NewLevels(specs []LevelSpec, terms []string, fixes []Fix) (*Levels, error) 
 		if want[t] {
 			m.terms = append(m.terms, t)
 		}
+	}
+	for _, t := range m.terms {
+		m.pows = append(m.pows, indexOf(RotTerms, t)+1)
+		m.signs = append(m.signs, termSign[t])
 	}
 	m.maxPow = len(m.terms)
 	if idx := indexOf(RotTerms, lastOf(m.terms)); idx >= 0 {
@@ -158,15 +164,52 @@ func (m *Levels) Energy(s, v, J int, p []float64, grad []float64) float64 {
 	if grad != nil {
 		grad[b] = 1
 	}
-	for i, name := range m.terms {
-		pow := indexOf(RotTerms, name) + 1
-		c := termSign[name] * xp[pow]
+	for i, pow := range m.pows {
+		c := m.signs[i] * xp[pow]
 		e += c * p[b+1+i]
 		if grad != nil {
 			grad[b+1+i] = c
 		}
 	}
 	return e
+}
+
+// Transition evaluates ν = E(v′, J′) − E(v″, J″) of species s term by term;
+// within one level (pure rotation) T_v cancels exactly and each rotational
+// term enters once with x′^n − x″^n. See model.Transitioner.
+func (m *Levels) Transition(s, vUp, jUp, vLo, jLo int, p []float64, grad []float64) (nu, mag float64) {
+	bu, okU := m.base[[2]int{s, vUp}]
+	bl, okL := m.base[[2]int{s, vLo}]
+	if grad != nil {
+		clear(grad)
+	}
+	if !okU || !okL {
+		return math.NaN(), math.NaN()
+	}
+	var xu, xl [5]float64
+	xPow(jUp, 4, xu[:])
+	xPow(jLo, 4, xl[:])
+	add := func(j int, c float64) {
+		if grad != nil {
+			grad[j] += c
+		}
+		t := c * p[j]
+		nu += t
+		mag += math.Abs(t)
+	}
+	if bu != bl {
+		add(bu, 1)
+		add(bl, -1)
+		for i, pow := range m.pows {
+			add(bu+1+i, m.signs[i]*xu[pow])
+			add(bl+1+i, -m.signs[i]*xl[pow])
+		}
+		return nu, mag
+	}
+	for i, pow := range m.pows {
+		add(bu+1+i, m.signs[i]*(xu[pow]-xl[pow]))
+	}
+	return nu, mag
 }
 
 func contains(xs []string, s string) bool { return indexOf(xs, s) >= 0 }

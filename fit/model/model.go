@@ -82,6 +82,22 @@ type Model interface {
 	HasLevel(s, v int) bool
 }
 
+// Transitioner is implemented by models that evaluate a transition directly:
+//
+//	ν = E(s, v′, J′) − E(s, v″, J″) = Σ_j [c_j(s, v′, J′) − c_j(s, v″, J″)]·p_j   [cm⁻¹],
+//
+// differencing the basis functions before they are multiplied by the
+// parameters, so that a term common to both levels (T_v, or the vibrational
+// Y_k0, of a pure-rotation line; the J-only terms of a Q line) cancels
+// exactly instead of leaving the rounding error of two energies of thousands
+// of cm⁻¹. When grad is not nil it receives ∂ν/∂p_j for every j (len(p)).
+// mag is Σ_j |∂ν/∂p_j·p_j|, the size of the terms summed, against which the
+// rounding error of ν is measured. A level the model has no parameters for
+// gives NaN (check HasLevel first). Both models of this package implement it.
+type Transitioner interface {
+	Transition(s, vUp, jUp, vLo, jLo int, p []float64, grad []float64) (nu, mag float64)
+}
+
 // SpeciesIndex returns the index of label in m.Species(), or -1.
 func SpeciesIndex(m Model, label string) int {
 	for i, s := range m.Species() {
@@ -191,6 +207,15 @@ func applyFixes(ps []Param, fixes []Fix) error {
 
 // ErrNoLevels is returned when a model is built without any level to describe.
 var ErrNoLevels = errors.New("model: no vibrational levels to describe")
+
+// powers stores q^0 … q^n in dst (n < len(dst)).
+func powers(dst []float64, q float64, n int) {
+	p := 1.0
+	for i := 0; i <= n; i++ {
+		dst[i] = p
+		p *= q
+	}
+}
 
 // xPow returns x = J(J+1) raised to the powers 0..n (x^0 = 1) in dst.
 func xPow(J int, n int, dst []float64) {

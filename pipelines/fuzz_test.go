@@ -1,0 +1,29 @@
+package pipelines
+
+import (
+	"errors"
+	"testing"
+)
+
+// FuzzParsePipeline: arbitrary pipeline-file content never panics, and every
+// refusal is a usage error (exit code 1) that names the file.
+func FuzzParsePipeline(f *testing.F) {
+	f.Add([]byte("name = \"co\"\ninput = \"lines\"\n[fit]\nmodel = \"dunham\"\nterms = [\"Y10\", \"Y01\"]\n"))
+	f.Add([]byte("input = \"peaks\"\n[assign]\nstart = \"s.toml\"\nbands = [\"1-0\"]\n[thermo]\nrange = \"10:6000:1\"\n[report]\nformats = [\"md\"]\n"))
+	f.Add([]byte("[fit]\nreject = -1\n"))
+	f.Add([]byte("[[fit]]\n"))
+	f.Add([]byte("\xff\xfe"))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		p, err := ParsePipeline(b, "fuzz.toml")
+		if err != nil {
+			var ue UsageError
+			if !errors.As(err, &ue) {
+				t.Fatalf("refusal is not a usage error: %T %v", err, err)
+			}
+			return
+		}
+		if p.Input != InputLines && p.Input != InputPeaks {
+			t.Fatalf("accepted input %q", p.Input)
+		}
+	})
+}
