@@ -1,0 +1,93 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/urfave/cli/v2"
+
+	"bandwright/pipelines"
+	"bandwright/thermo"
+)
+
+func init() { register(40, thermoCommand) }
+
+func thermoCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "thermo",
+		Usage:     "partition functions, ideal-gas thermodynamic functions and NASA-7 polynomials with propagated σ",
+		ArgsUsage: "CONSTANTS.json",
+		Description: "Exact level sums from a fitted constants record, with the covariance of the fit carried into every number " +
+			"(linear propagation; Monte Carlo with --mc). Writes thermo.csv, thermo.json and nasa7.json into --out.\n" +
+			"Caution: " + thermo.Caution + ".",
+		OnUsageError: onUsage,
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "card", Usage: "species card (TOML): electronic states, dissociation energy"},
+			&cli.StringFlag{Name: "species", Usage: "isotopologue (default: the card's, else the first in the record)"},
+			&cli.StringFlag{Name: "temperatures", Usage: "comma-separated temperatures in K, e.g. 298.15,1000"},
+			&cli.StringFlag{Name: "range", Usage: "temperatures FROM:TO:STEP in K, e.g. 10:6000:1"},
+			&cli.StringFlag{Name: "pressure", Value: "1bar", Usage: "standard pressure: 1bar or 1atm"},
+			&cli.StringFlag{Name: "composition", Value: thermo.CompositionIsotopologue, Usage: "translational molar mass: isotopologue, or natural (IUPAC standard atomic weights, the convention of the reference tables)"},
+			&cli.StringFlag{Name: "nuclear-spin", Value: thermo.SpinThermochemistry, Usage: "nuclear-spin convention: thermochemistry (spin degeneracy divided out) or line-intensity (full degeneracy)"},
+			&cli.IntFlag{Name: "mc", Usage: "Monte Carlo draws from the fit's covariance (0: off)"},
+			&cli.StringFlag{Name: "seed", Value: "1", Usage: "seed of the Monte Carlo draws (unsigned integer)"},
+			&cli.Float64Flag{Name: "nasa-breakpoint", Value: 1000, Usage: "breakpoint of the NASA-7 ranges, K"},
+			&cli.StringFlag{Name: "nasa-limits", Value: "200:6000", Usage: "lower and upper limits of the NASA-7 fit, LOW:HIGH in K"},
+			&cli.StringFlag{Name: "out", Value: "bandwright-thermo", Usage: "output folder"},
+		},
+		Action: func(c *cli.Context) error {
+			args := c.Args().Slice()
+			if len(args) != 1 {
+				return usageExit("thermo: give one constants.json (see bandwright thermo --help)")
+			}
+			seed, err := strconv.ParseUint(strings.TrimSpace(c.String("seed")), 10, 64)
+			if err != nil {
+				return usageExit("thermo: --seed %q: give an unsigned integer", c.String("seed"))
+			}
+			if c.Int("mc") < 0 {
+				return usageExit("thermo: --mc %d: give the number of draws (0: off)", c.Int("mc"))
+			}
+			lo, hi, err := parseLimits(c.String("nasa-limits"))
+			if err != nil {
+				return usageExit("thermo: --nasa-limits: %v", err)
+			}
+			o := pipelines.ThermoOptions{
+				Constants: args[0], Card: c.String("card"), Species: c.String("species"),
+				Temperatures: c.String("temperatures"), Range: c.String("range"),
+				Pressure: c.String("pressure"), Composition: c.String("composition"), NuclearSpin: c.String("nuclear-spin"),
+				MC: c.Int("mc"), Seed: seed,
+				NASA: thermo.NASARanges{Low: lo, Break: c.Float64("nasa-breakpoint"), High: hi},
+				Out:  c.String("out"),
+			}
+			oc, err := pipelines.RunThermo(o)
+			if err != nil {
+				return err
+			}
+			r := oc.Result
+			fmt.Printf("thermo: %s, %d temperatures, %d levels; %s; %s\n", r.Conventions.Species, len(r.Rows), r.System.NumLevels(),
+				r.Conventions.PressureLabel, r.Conventions.NuclearSpin)
+			for _, w := range r.Warnings {
+				fmt.Fprintln(os.Stderr, "warning:", w)
+			}
+			fmt.Printf("results in %s (%s, %s, %s)\n", o.Out, pipelines.ThermoCSVFile, pipelines.ThermoJSONFile, pipelines.NASA7File)
+			return nil
+		},
+	}
+}
+
+// parseLimits reads LOW:HIGH (K).
+func parseLimits(s string) (lo, hi float64, err error) {
+	parts := strings.Split(s, ":")
+	if len(parts) != 2 {
+		return 0, 0, fmt.Errorf("%q: write LOW:HIGH in K, e.g. 200:6000", s)
+	}
+	lo, err1 := strconv.ParseFloat(strings.TrimSpace(parts[0]), 64)
+	hi, err2 := strconv.ParseFloat(strings.TrimSpace(parts[1]), 64)
+	if err1 != nil || err2 != nil || math.IsNaN(lo) || math.IsNaN(hi) {
+		return 0, 0, fmt.Errorf("%q: LOW and HIGH must be numbers", s)
+	}
+	return lo, hi, nil
+}

@@ -1,0 +1,277 @@
+package pipelines
+
+import (
+	"bufio"
+	"encoding/json"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/fit"
+	"bandwright/fit/linelist"
+	"bandwright/fit/model"
+	"bandwright/thermo"
+)
+
+// writeCOConstants runs lines → fit for 12C16O lines made from the
+// Huber–Herzberg constants (Constants of Diatomic Molecules, 1979, as widely
+// quoted; from memory) with 0.001 cm-1 Gaussian noise, and writes the record to
+// dir/name.
+func writeCOConstants(t *testing.T, dir, name string, seed uint64) string {
+	t.Helper()
+	var lines []linelist.Line
+	row := 1
+	for vu := 0; vu <= 3; vu++ {
+		for jl := 0; jl <= 30; jl++ {
+			for _, ju := range []int{jl + 1, jl - 1} {
+				if ju < 0 || (vu == 0 && ju < jl) {
+					continue
+				}
+				row++
+				lines = append(lines, linelist.Line{File: "co.csv", Row: row, Species: "12C16O", VUp: vu, JUp: ju, VLo: 0, JLo: jl, Unc: 0.001, Unit: linelist.Wavenumber})
+			}
+		}
+	}
+	m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindDunham, Terms: []string{"Y10", "Y20", "Y30", "Y01", "Y11", "Y02"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vals := map[string]float64{"Y10": 2169.81358, "Y20": -13.28831, "Y30": 0.010511, "Y01": 1.93128087, "Y11": -0.01750441, "Y02": -6.12147e-6}
+	p := make([]float64, len(m.Params()))
+	for i, par := range m.Params() {
+		p[i] = vals[par.Name]
+	}
+	rng := rand.New(rand.NewPCG(seed, 1))
+	for i := range lines {
+		l := &lines[i]
+		l.Position = m.Energy(0, l.VUp, l.JUp, p, nil) - m.Energy(0, l.VLo, l.JLo, p, nil) + 0.001*rng.NormFloat64()
+	}
+	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{NoReject: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(dir, name)
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := fit.NewRecord(res).Write(f); err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+	return path
+}
+
+// readThermoCSV returns the comment lines, the header and the rows.
+func readThermoCSV(t *testing.T, path string) (comments []string, header []string, rows [][]float64) {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	sc.Buffer(make([]byte, 1<<20), 1<<20)
+	for sc.Scan() {
+		line := sc.Text()
+		if strings.HasPrefix(line, "#") {
+			comments = append(comments, line)
+			continue
+		}
+		if header == nil {
+			header = strings.Split(line, ",")
+			continue
+		}
+		var row []float64
+		for i, s := range strings.Split(line, ",") {
+			x, err := strconv.ParseFloat(s, 64)
+			if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+				t.Fatalf("%s: column %s: %q is not a finite number", path, header[i], s)
+			}
+			row = append(row, x)
+		}
+		if len(row) != len(header) {
+			t.Fatalf("%s: row with %d fields, header has %d", path, len(row), len(header))
+		}
+		rows = append(rows, row)
+	}
+	return comments, header, rows
+}
+
+func TestRunThermo(t *testing.T) {
+	dir := t.TempDir()
+	cpath := writeCOConstants(t, dir, "constants.json", 1)
+	out := filepath.Join(dir, "out")
+	oc, err := RunThermo(ThermoOptions{Constants: cpath, Temperatures: "100, 298.15,1000", Composition: "natural", Out: out})
+	if err != nil {
+		t.Fatal(err)
+	}
+	comments, header, rows := readThermoCSV(t, filepath.Join(out, ThermoCSVFile))
+	if strings.Join(header, ",") != strings.Join(thermo.Columns, ",") {
+		t.Errorf("header %v", header)
+	}
+	if len(rows) != 3 || !scalar.EqualWithinAbs(rows[1][0], 298.15, 1e-12) {
+		t.Fatalf("rows %v", rows)
+	}
+	all := strings.Join(comments, "\n")
+	for _, want := range []string{"J mol-1 K-1", "kJ mol-1", "1 bar", "natural-composition", "thermochemistry", "caution: verify against evaluated reference data before use in safety or process design", "energy zero"} {
+		if !strings.Contains(all, want) {
+			t.Errorf("thermo.csv comments lack %q", want)
+		}
+	}
+	// S°(298.15 K) of CO under the natural-composition convention: CODATA key
+	// value 197.660 J/mol/K (Cox, Wagman & Medvedev 1989, from memory).
+	if s := rows[1][5]; !scalar.EqualWithinAbs(s, 197.660, 0.02) {
+		t.Errorf("S°(298.15 K) = %.4f", s)
+	}
+	var tj map[string]any
+	b, err := os.ReadFile(filepath.Join(out, ThermoJSONFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &tj); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"schema", "conventions", "levels", "energy_zero", "table", "warnings", "provenance"} {
+		if _, ok := tj[k]; !ok {
+			t.Errorf("thermo.json lacks %q", k)
+		}
+	}
+	if strings.Contains(string(b), "NaN") || strings.Contains(string(b), "Inf") {
+		t.Error("thermo.json holds a non-finite number")
+	}
+	var n7 struct {
+		NASA7 thermo.NASA7 `json:"nasa7"`
+	}
+	b, err = os.ReadFile(filepath.Join(out, NASA7File))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &n7); err != nil || len(n7.NASA7.Ranges) != 2 {
+		t.Fatalf("nasa7.json: %v %+v", err, n7)
+	}
+	if oc.Provenance.Inputs[0].SHA256 == "" {
+		t.Error("no input hash in the provenance")
+	}
+}
+
+func TestRunThermoMonteCarloAndCard(t *testing.T) {
+	dir := t.TempDir()
+	cpath := writeCOConstants(t, dir, "constants.json", 2)
+	sub := filepath.Join(dir, "cards")
+	os.MkdirAll(sub, 0o755)
+	writeCOConstants(t, sub, "a-state.json", 3)
+	card := filepath.Join(sub, "co.toml")
+	os.WriteFile(card, []byte(`species = "12C16O"
+dissociation_energy = 89460.0
+[[state]]
+label = "X"
+term_energy = 0.0
+spin_multiplicity = 1
+lambda = 0
+[[state]]
+label = "a"
+term_energy = 48686.7
+spin_multiplicity = 3
+lambda = 1
+constants = "a-state.json"
+`), 0o644)
+	out := filepath.Join(dir, "out")
+	oc, err := RunThermo(ThermoOptions{Constants: cpath, Card: card, Range: "200:6000:200", MC: 50, Seed: 5, Out: out})
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, header, rows := readThermoCSV(t, filepath.Join(out, ThermoCSVFile))
+	want := append(append([]string(nil), thermo.Columns...), thermo.MCColumns...)
+	if strings.Join(header, ",") != strings.Join(want, ",") || len(rows) != 30 {
+		t.Errorf("header %v, %d rows", header, len(rows))
+	}
+	if len(oc.Inputs) != 3 || oc.Result.System.NumLevels() == 0 || len(oc.Result.States) != 2 {
+		t.Errorf("inputs %v, states %d", oc.Inputs, len(oc.Result.States))
+	}
+	if n := len(oc.Result.Params); n != 12 {
+		t.Errorf("%d fitted parameters in the combined covariance, want 12", n)
+	}
+}
+
+// TestThermoBadInput: bad options and cards are errors that name the field
+// (and the file), and nothing is written.
+func TestThermoBadInput(t *testing.T) {
+	dir := t.TempDir()
+	cpath := writeCOConstants(t, dir, "constants.json", 4)
+	badCard := filepath.Join(dir, "bad.toml")
+	os.WriteFile(badCard, []byte("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\nflavour = \"x\"\n"), 0o644)
+	badSym := filepath.Join(dir, "badsym.toml")
+	os.WriteFile(badSym, []byte("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"q\"\n"), 0o644)
+	out := filepath.Join(dir, "out")
+	cases := []struct {
+		o    ThermoOptions
+		want []string
+	}{
+		{ThermoOptions{Card: badCard}, []string{"bad.toml", "state.flavour"}},
+		{ThermoOptions{Card: badSym}, []string{"badsym.toml", "symmetry"}},
+		{ThermoOptions{Temperatures: "300,0"}, []string{"--temperatures", "entry 2"}},
+		{ThermoOptions{Temperatures: "-5"}, []string{"--temperatures", "> 0"}},
+		{ThermoOptions{Temperatures: "300,abc"}, []string{"--temperatures", "\"abc\""}},
+		{ThermoOptions{Temperatures: "300,"}, []string{"--temperatures", "entry 2"}},
+		{ThermoOptions{Range: "10:6000:0"}, []string{"--range", "STEP"}},
+		{ThermoOptions{Range: "10:6000:-1"}, []string{"--range", "STEP"}},
+		{ThermoOptions{Range: "0:6000:1"}, []string{"--range", "FROM"}},
+		{ThermoOptions{Range: "10:x:1"}, []string{"--range", "TO"}},
+		{ThermoOptions{Range: "10:6000"}, []string{"--range"}},
+		{ThermoOptions{Range: "10:20:1", Temperatures: "300"}, []string{"--temperatures", "--range"}},
+		{ThermoOptions{Pressure: "2bar"}, []string{"--pressure"}},
+		{ThermoOptions{Composition: "mixed"}, []string{"composition"}},
+		{ThermoOptions{NuclearSpin: "full"}, []string{"nuclear-spin"}},
+		{ThermoOptions{Species: "1H35Cl"}, []string{"1H35Cl"}},
+		{ThermoOptions{MC: 1}, []string{"Monte Carlo"}},
+	}
+	for _, tc := range cases {
+		o := tc.o
+		o.Constants, o.Out = cpath, out
+		_, err := RunThermo(o)
+		if err == nil {
+			t.Errorf("%+v accepted", tc.o)
+			continue
+		}
+		for _, w := range tc.want {
+			if !strings.Contains(err.Error(), w) {
+				t.Errorf("%+v: error %q does not name %q", tc.o, err, w)
+			}
+		}
+		if ExitCode(err) != 1 {
+			t.Errorf("%+v: exit code %d", tc.o, ExitCode(err))
+		}
+		if _, err := os.Stat(out); err == nil {
+			t.Fatalf("%+v: the output folder was written", tc.o)
+		}
+	}
+	// Thermo computes without writing.
+	if _, err := Thermo(ThermoOptions{Constants: cpath, Temperatures: "300", Out: out}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Error("Thermo wrote the output folder")
+	}
+}
+
+func TestParseRange(t *testing.T) {
+	ts, err := ParseRange("10:6000:1")
+	if err != nil || len(ts) != 5991 || !scalar.EqualWithinAbs(ts[5990], 6000, 1e-9) {
+		t.Fatalf("%d temperatures, %v", len(ts), err)
+	}
+	ts, err = ParseRange("100:1000:300")
+	if err != nil || len(ts) != 4 {
+		t.Fatalf("%v %v", ts, err)
+	}
+	ts, err = ParseRange("0.1:0.3:0.1")
+	if err == nil {
+		t.Errorf("range below 1 K accepted: %v", ts)
+	}
+}

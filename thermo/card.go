@@ -1,0 +1,209 @@
+package thermo
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+
+	"bandwright/fit/species"
+)
+
+// Card is a species card: the electronic states that enter the partition
+// function and, optionally, the dissociation energy that bounds the level sum.
+// It is read from TOML:
+//
+//	species = "16O16O"
+//	dissociation_energy = 41260.0     # D0 in cm-1 above the lowest level, optional
+//	[[state]]
+//	label = "X"                       # free text
+//	term_energy = 0.0                 # cm-1
+//	spin_multiplicity = 3             # 2S+1
+//	lambda = 0                        # |Λ|: 0 Σ, 1 Π, 2 Δ
+//	symmetry = "g-"                   # homonuclear Σ: g+, g-, u+, u-; homonuclear Λ>0: g or u
+//	constants = "excited.json"        # optional constants record of this state
+//
+// term_energy is the energy of the state's model zero above the ground state's
+// model zero (T_e between potential minima for Dunham models, the separation of
+// the lowest vibrational levels for levels models). Exactly one state has
+// term_energy 0: the ground state, whose constants are the record given to the
+// thermo stage. A state without constants is the ground-state manifold shifted by
+// term_energy. Paths are relative to the card.
+type Card struct {
+	// Name is the file the card was read from (for messages).
+	Name    string
+	Species string
+	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when not given.
+	DissociationEnergy float64
+	States             []CardState
+}
+
+// CardState is one electronic state of a card.
+type CardState struct {
+	Label        string
+	TermEnergy   float64 // cm⁻¹
+	Multiplicity int     // 2S+1
+	Lambda       int     // |Λ|
+	Symmetry     Symmetry
+	Constants    string // path as written in the card (relative to the card); empty: shifted ground state
+}
+
+type rawCard struct {
+	Species            *string    `toml:"species"`
+	DissociationEnergy *float64   `toml:"dissociation_energy"`
+	State              []rawState `toml:"state"`
+}
+
+type rawState struct {
+	Label            *string  `toml:"label"`
+	TermEnergy       *float64 `toml:"term_energy"`
+	SpinMultiplicity *int     `toml:"spin_multiplicity"`
+	Lambda           *int     `toml:"lambda"`
+	Symmetry         *string  `toml:"symmetry"`
+	Constants        *string  `toml:"constants"`
+}
+
+const cardKeys = "species, dissociation_energy, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants"
+
+// maxCardSize bounds the card read (a card is a few hundred bytes).
+const maxCardSize = 1 << 20
+
+// ReadCard reads and checks a species card. name is the file name used in
+// messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
+// lambda of every state), non-finite or negative energies and malformed symmetry
+// labels are errors naming the file and the field.
+func ReadCard(r io.Reader, name string) (*Card, error) {
+	b, err := io.ReadAll(io.LimitReader(r, maxCardSize+1))
+	if err != nil {
+		return nil, fmt.Errorf("thermo: %s: %w", name, err)
+	}
+	if len(b) > maxCardSize {
+		return nil, fmt.Errorf("thermo: %s: larger than %d bytes; not a species card", name, maxCardSize)
+	}
+	var raw rawCard
+	md, err := toml.Decode(string(b), &raw)
+	if err != nil {
+		return nil, fmt.Errorf("thermo: %s: %w", name, err)
+	}
+	if und := md.Undecoded(); len(und) > 0 {
+		keys := make([]string, len(und))
+		for i, k := range und {
+			keys[i] = k.String()
+		}
+		sort.Strings(keys)
+		return nil, fmt.Errorf("thermo: %s: unknown key %q (a card knows %s)", name, keys[0], cardKeys)
+	}
+	c := &Card{Name: name}
+	if raw.Species != nil {
+		iso, err := species.Parse(*raw.Species)
+		if err != nil {
+			return nil, fmt.Errorf("thermo: %s: species: %w", name, err)
+		}
+		c.Species = iso.Label
+	}
+	if raw.DissociationEnergy != nil {
+		d := *raw.DissociationEnergy
+		if !(d > 0) || math.IsInf(d, 0) {
+			return nil, fmt.Errorf("thermo: %s: dissociation_energy: %v cm-1 must be a finite number > 0", name, d)
+		}
+		c.DissociationEnergy = d
+	}
+	if len(raw.State) == 0 {
+		return nil, fmt.Errorf("thermo: %s: state: no [[state]] given (the ground state at least)", name)
+	}
+	ground := -1
+	for i, rs := range raw.State {
+		where := fmt.Sprintf("thermo: %s: state %d", name, i+1)
+		var s CardState
+		if rs.Label != nil {
+			s.Label = *rs.Label
+			where += fmt.Sprintf(" (%s)", s.Label)
+		} else {
+			s.Label = fmt.Sprintf("state %d", i+1)
+		}
+		if rs.TermEnergy == nil {
+			return nil, fmt.Errorf("%s: term_energy: missing (cm-1; 0 for the ground state)", where)
+		}
+		s.TermEnergy = *rs.TermEnergy
+		if !(s.TermEnergy >= 0) || math.IsInf(s.TermEnergy, 0) {
+			return nil, fmt.Errorf("%s: term_energy: %v must be a finite number ≥ 0 cm-1", where, s.TermEnergy)
+		}
+		if s.TermEnergy == 0 {
+			if ground >= 0 {
+				return nil, fmt.Errorf("%s: term_energy: 0 is already the term energy of state %d; exactly one state is the ground state", where, ground+1)
+			}
+			ground = i
+		}
+		if rs.SpinMultiplicity == nil {
+			return nil, fmt.Errorf("%s: spin_multiplicity: missing (2S+1: 1 singlet, 2 doublet, 3 triplet, …)", where)
+		}
+		s.Multiplicity = *rs.SpinMultiplicity
+		if s.Multiplicity < 1 || s.Multiplicity > 20 {
+			return nil, fmt.Errorf("%s: spin_multiplicity: %d must be within 1…20", where, s.Multiplicity)
+		}
+		if rs.Lambda == nil {
+			return nil, fmt.Errorf("%s: lambda: missing (|Λ|: 0 Σ, 1 Π, 2 Δ, …)", where)
+		}
+		s.Lambda = *rs.Lambda
+		if s.Lambda < 0 || s.Lambda > 10 {
+			return nil, fmt.Errorf("%s: lambda: %d must be within 0…10", where, s.Lambda)
+		}
+		if rs.Symmetry != nil {
+			y, err := ParseSymmetry(strings.TrimSpace(*rs.Symmetry))
+			if err != nil {
+				return nil, fmt.Errorf("%s: symmetry: %w", where, err)
+			}
+			if s.Lambda > 0 && y.Reflection != 0 {
+				return nil, fmt.Errorf("%s: symmetry: %q: a state with Λ > 0 has both ± components; give only g or u", where, *rs.Symmetry)
+			}
+			s.Symmetry = y
+		}
+		if rs.Constants != nil {
+			s.Constants = strings.TrimSpace(*rs.Constants)
+			if s.Constants == "" {
+				return nil, fmt.Errorf("%s: constants: empty path", where)
+			}
+			if s.TermEnergy == 0 {
+				return nil, fmt.Errorf("%s: constants: the ground state (term_energy 0) takes its constants from the record given to thermo; remove this key", where)
+			}
+		}
+		c.States = append(c.States, s)
+	}
+	if ground < 0 {
+		return nil, fmt.Errorf("thermo: %s: term_energy: no state has term_energy 0 (the ground state)", name)
+	}
+	return c, nil
+}
+
+// Check checks the card against the isotopologue the thermo stage computes:
+// the species must match when the card names one, homonuclear molecules need
+// the g/u (and for Σ states ±) symmetry of every state, and molecules of two
+// different elements have no g/u symmetry.
+func (c *Card) Check(iso species.Isotopologue) error {
+	if c.Species != "" && c.Species != iso.Label {
+		return fmt.Errorf("thermo: %s: species: the card is for %s, the constants are used for %s", c.Name, c.Species, iso.Label)
+	}
+	for i, s := range c.States {
+		if err := checkStateSymmetry(iso, s.Lambda, s.Symmetry); err != nil {
+			return fmt.Errorf("thermo: %s: state %d (%s): symmetry: %w", c.Name, i+1, s.Label, err)
+		}
+	}
+	return nil
+}
+
+func checkStateSymmetry(iso species.Isotopologue, lambda int, y Symmetry) error {
+	switch {
+	case iso.Homonuclear() && y.Parity == 0 && lambda == 0:
+		return fmt.Errorf("%s is homonuclear: give g+, g-, u+ or u- for a Σ state (%q given)", iso.Label, y.String())
+	case iso.Homonuclear() && y.Parity == 0:
+		return fmt.Errorf("%s is homonuclear: give g or u (%q given)", iso.Label, y.String())
+	case iso.Homonuclear() && lambda == 0 && y.Reflection == 0:
+		return fmt.Errorf("%s is homonuclear: a Σ state needs its ± symmetry too: g+, g-, u+ or u- (%q given)", iso.Label, y.String())
+	case !iso.SameElement() && y.Parity != 0:
+		return fmt.Errorf("%s has two different nuclei and no g/u symmetry (%q given)", iso.Label, y.String())
+	}
+	return nil
+}

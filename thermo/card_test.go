@@ -1,0 +1,138 @@
+package thermo
+
+import (
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+const o2Card = `
+species = "16O16O"
+dissociation_energy = 41260.0     # D0 in cm-1, optional
+[[state]]
+label = "X"                       # free text
+term_energy = 0.0                 # cm-1
+spin_multiplicity = 3             # 2S+1
+lambda = 0                        # |Λ|: 0 Σ, 1 Π, 2 Δ
+symmetry = "g-"
+[[state]]
+label = "a"
+term_energy = 7918.1
+spin_multiplicity = 1
+lambda = 2
+symmetry = "g"
+constants = "a-state.json"
+`
+
+func TestReadCard(t *testing.T) {
+	c, err := ReadCard(strings.NewReader(o2Card), "o2.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Species != "16O16O" || !scalar.EqualWithinAbs(c.DissociationEnergy, 41260, 0) || len(c.States) != 2 {
+		t.Fatalf("card %+v", c)
+	}
+	x, a := c.States[0], c.States[1]
+	if x.Label != "X" || x.Multiplicity != 3 || x.Lambda != 0 || x.Symmetry != (Symmetry{'g', '-'}) || x.Constants != "" {
+		t.Errorf("X: %+v", x)
+	}
+	if a.Label != "a" || !scalar.EqualWithinAbs(a.TermEnergy, 7918.1, 0) || a.Lambda != 2 || a.Symmetry != (Symmetry{Parity: 'g'}) || a.Constants != "a-state.json" {
+		t.Errorf("a: %+v", a)
+	}
+	if err := c.Check(mustParse(t, "16O16O")); err != nil {
+		t.Error(err)
+	}
+	if err := c.Check(mustParse(t, "16O18O")); err == nil || !strings.Contains(err.Error(), "species") {
+		t.Errorf("species mismatch: %v", err)
+	}
+}
+
+// TestReadCardErrors: every bad card is an error that names the file and the field.
+func TestReadCardErrors(t *testing.T) {
+	state := func(extra string) string {
+		return "[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n" + extra
+	}
+	cases := []struct{ card, field string }{
+		{state("colour = \"blue\"\n"), "state.colour"},
+		{"speciess = \"12C16O\"\n" + state(""), "speciess"},
+		{state("symmetry = \"x+\"\n"), "symmetry"},
+		{state("symmetry = \"g+-\"\n"), "symmetry"},
+		{"[[state]]\nspin_multiplicity = 1\nlambda = 0\n", "term_energy"},
+		{"[[state]]\nterm_energy = 0.0\nlambda = 0\n", "spin_multiplicity"},
+		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\n", "lambda"},
+		{state("") + "[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n", "term_energy"},
+		{"[[state]]\nterm_energy = 100.0\nspin_multiplicity = 1\nlambda = 0\n", "term_energy"},
+		{"[[state]]\nterm_energy = -1.0\nspin_multiplicity = 1\nlambda = 0\n", "term_energy"},
+		{"[[state]]\nterm_energy = nan\nspin_multiplicity = 1\nlambda = 0\n", "term_energy"},
+		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = 0\nlambda = 0\n", "spin_multiplicity"},
+		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = -1\n", "lambda"},
+		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = 2\nlambda = 1\nsymmetry = \"g+\"\n", "symmetry"},
+		{state("constants = \"x.json\"\n"), "constants"},
+		{"dissociation_energy = -5.0\n" + state(""), "dissociation_energy"},
+		{"species = \"12C16\"\n" + state(""), "species"},
+		{"species = \"12C16O\"\n", "state"},
+		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = \"three\"\nlambda = 0\n", "spin_multiplicity"},
+		{"[[state]\n", "line"},
+	}
+	for _, tc := range cases {
+		_, err := ReadCard(strings.NewReader(tc.card), "card.toml")
+		if err == nil {
+			t.Errorf("accepted:\n%s", tc.card)
+			continue
+		}
+		msg := err.Error()
+		if !strings.HasPrefix(msg, "thermo: card.toml") || !strings.Contains(msg, tc.field) {
+			t.Errorf("error %q does not name the file and %q", msg, tc.field)
+		}
+	}
+	// Symmetry checks against the molecule.
+	for _, tc := range []struct{ label, card string }{
+		{"14N14N", state("")},                                                           // homonuclear: g/u and ± needed
+		{"14N14N", state("symmetry = \"g\"\n")},                                         // homonuclear Σ: ± needed
+		{"1H35Cl", state("symmetry = \"g+\"\n")},                                        // two elements: no g/u
+		{"14N14N", "[[state]]\nterm_energy = 0.0\nspin_multiplicity = 2\nlambda = 1\n"}, // homonuclear Π: g or u needed
+	} {
+		c, err := ReadCard(strings.NewReader(tc.card), "card.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := c.Check(mustParse(t, tc.label)); err == nil || !strings.Contains(err.Error(), "card.toml") || !strings.Contains(err.Error(), "symmetry") {
+			t.Errorf("%s: %v", tc.label, err)
+		}
+	}
+}
+
+// FuzzReadCard: the card reader never panics, and whatever it accepts is a
+// valid card (one ground state, finite non-negative energies).
+func FuzzReadCard(f *testing.F) {
+	f.Add(o2Card)
+	f.Add("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
+	f.Add("species = \"14N2\"\n[[state]]\nterm_energy = 0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"g+\"\n")
+	f.Add("[[state]\n")
+	f.Add("state = 5")
+	f.Fuzz(func(t *testing.T, s string) {
+		c, err := ReadCard(strings.NewReader(s), "fuzz.toml")
+		if err != nil {
+			if !strings.HasPrefix(err.Error(), "thermo: fuzz.toml") {
+				t.Fatalf("error without file name: %v", err)
+			}
+			return
+		}
+		ground := 0
+		for _, st := range c.States {
+			if !(st.TermEnergy >= 0) || st.Multiplicity < 1 || st.Lambda < 0 {
+				t.Fatalf("accepted bad state %+v", st)
+			}
+			if st.TermEnergy == 0 {
+				ground++
+			}
+		}
+		if ground != 1 {
+			t.Fatalf("accepted a card with %d ground states", ground)
+		}
+		for _, l := range []string{"12C16O", "14N14N", "16O16O"} {
+			_ = c.Check(mustParse(t, l))
+		}
+	})
+}

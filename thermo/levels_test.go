@@ -1,0 +1,271 @@
+package thermo
+
+import (
+	"errors"
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/fit"
+	"bandwright/fit/linelist"
+)
+
+// coBands returns P and R lines of CO for the bands (v′, v″), J″ ≤ jmax.
+func coBands(bands [][2]int, jmax int) []linelist.Line {
+	var ls []linelist.Line
+	row := 1
+	for _, b := range bands {
+		for jl := 0; jl <= jmax; jl++ {
+			for _, ju := range []int{jl + 1, jl - 1} {
+				if ju < 0 {
+					continue
+				}
+				row++
+				ls = append(ls, linelist.Line{File: "bands", Row: row, Species: "12C16O", VUp: b[0], JUp: ju, VLo: b[1], JLo: jl, Unc: 0.001, Unit: linelist.Wavenumber})
+			}
+		}
+	}
+	return ls
+}
+
+// TestLevelsModelMissingLevels: a levels model of v = 0, 1, 2 (bands 1–0, 2–1)
+// lacks v ≥ 3. The output names the missing levels, and their estimated share
+// of Q is negligible at room temperature and large at 3000 K, where the exact
+// Dunham sum (all v) shows the size of the gap: Q_levels/(1 − share) must come
+// within 1 % of the Dunham Q built from the same constants.
+func TestLevelsModelMissingLevels(t *testing.T) {
+	lines := coBands([][2]int{{1, 0}, {2, 1}}, 30)
+	rec, c := levelsFit(t, hhCO, lines, []string{"B", "D"}, 0)
+	temps := []float64{ReferenceTemperature, 1000, 3000}
+	res, err := Compute(Problem{Constants: c, Observed: rec.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	st := res.States[0]
+	if !strings.HasPrefix(st.MissingV, "3–") || st.VMax != 2 {
+		t.Fatalf("missing levels %q, v_max %d", st.MissingV, st.VMax)
+	}
+	drec, dc := fitHH(t, hhCO, 0, 1)
+	dres, err := Compute(Problem{Constants: dc, Observed: drec.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, w := range res.Warnings {
+		found = found || strings.Contains(w, "lacks v = 3–")
+	}
+	if !found {
+		t.Errorf("no warning names the missing levels: %q", res.Warnings)
+	}
+	for i, r := range res.Rows {
+		if r.MissingShare == nil {
+			t.Fatalf("%g K: no estimate of the missing share", r.T)
+		}
+		sh := *r.MissingShare
+		est := r.F.Q / (1 - sh)
+		t.Logf("%g K: missing share %.3g, Q levels %.6g, Q levels/(1−share) %.6g, Q Dunham %.6g", r.T, sh, r.F.Q, est, dres.Rows[i].F.Q)
+		if r.T == ReferenceTemperature && sh > 1e-10 {
+			t.Errorf("share at 298.15 K = %g", sh)
+		}
+		if r.T == 3000 && sh < 0.01 {
+			t.Errorf("share at 3000 K = %g; v ≥ 3 hold several %% of CO molecules there", sh)
+		}
+		if !scalar.EqualWithinRel(est, dres.Rows[i].F.Q, 0.01) {
+			t.Errorf("%g K: Q with the estimated missing levels %.6g, Dunham sum %.6g", r.T, est, dres.Rows[i].F.Q)
+		}
+	}
+	// With only v = 0 nothing can be estimated, and the output says so.
+	rec1, c1 := levelsFit(t, hhCO, coBands([][2]int{{0, 0}}, 30), []string{"B", "D"}, 0)
+	res1, err := Compute(Problem{Constants: c1, Observed: rec1.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res1.Rows[0].MissingShare != nil || !strings.Contains(strings.Join(res1.Warnings, "\n"), "cannot be estimated") {
+		t.Errorf("single level: share %v, warnings %q", res1.Rows[0].MissingShare, res1.Warnings)
+	}
+}
+
+// TestExtrapolationShare: a Dunham fit to data with v ≤ 3, J ≤ 21 extrapolates
+// in the sum; the reported share equals the population of the levels beyond the
+// data, and a warning names it.
+func TestExtrapolationShare(t *testing.T) {
+	c0 := hhCO
+	c0.vmax, c0.jmax = 3, 20
+	rec, c := fitHH(t, c0, 0.001, 12)
+	temps := []float64{100, ReferenceTemperature, 1000}
+	res, err := Compute(Problem{Constants: c, Observed: rec.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vmax, jmax := map[int]int{}, -1
+	for _, o := range rec.Observed {
+		vmax[o.V] = o.JMax
+		jmax = max(jmax, o.JMax)
+	}
+	for _, r := range res.Rows {
+		want := 0.0
+		for _, p := range res.System.Populations(r.T) {
+			jm, ok := vmax[p.V]
+			if !ok || p.J > jm {
+				want += p.Fraction
+			}
+		}
+		if !scalar.EqualWithinAbsOrRel(r.ExtrapolatedShare, want, 1e-15, 1e-9) {
+			t.Errorf("%g K: extrapolated share %.6g, populations give %.6g", r.T, r.ExtrapolatedShare, want)
+		}
+	}
+	if res.Rows[0].ExtrapolatedShare > 1e-5 || res.Rows[2].ExtrapolatedShare < 0.1 {
+		t.Errorf("shares %g (100 K), %g (1000 K)", res.Rows[0].ExtrapolatedShare, res.Rows[2].ExtrapolatedShare)
+	}
+	if !strings.Contains(strings.Join(res.Warnings, "\n"), "extrapolation") {
+		t.Errorf("no extrapolation warning: %q", res.Warnings)
+	}
+}
+
+// TestExcitedStates: a ³Σ⁺ state that is the ground manifold shifted by T_e
+// multiplies Q by 1 + (g_A/g_X)·e^(−c₂T_e/T), g_A/g_X = 3; with its own constants
+// record (here a copy of the ground-state record) the result is the same.
+func TestExcitedStates(t *testing.T) {
+	rec, c := fitHH(t, hhCO, 0.001, 13)
+	_, cCopy := fitHH(t, hhCO, 0.001, 13)
+	temps := []float64{300, 1500, 4000}
+	p := Problem{Constants: c, Observed: rec.Observed, DissociationEnergy: 60000}
+	ground, err := Compute(p, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	const te = 2000.0
+	for _, own := range []bool{false, true} {
+		q := p
+		a := State{Label: "a", TermEnergy: te, Multiplicity: 3, Symmetry: Symmetry{Reflection: '+'}}
+		if own {
+			a.Constants = cCopy
+			a.Observed = rec.Observed
+		}
+		q.States = []State{{Label: "X", Multiplicity: 1}, a}
+		res, err := Compute(q, Settings{Temperatures: temps})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, r := range res.Rows {
+			want := ground.Rows[i].F.Q * (1 + 3*math.Exp(-C2*te/r.T))
+			if own {
+				// Its own Dunham manifold is not bounded by the ground state's D0:
+				// compare below the levels where that matters.
+				if r.T > 2000 {
+					continue
+				}
+			}
+			if !scalar.EqualWithinRel(r.F.Q, want, 1e-9) {
+				t.Errorf("own constants %v, %g K: Q = %.12g, want %.12g", own, r.T, r.F.Q, want)
+			}
+		}
+	}
+}
+
+// TestOxygenCard: 16O2 X³Σg⁻ takes odd N only (spin-0 bosons) and g_e = 3; the
+// energy zero is N = 1. S°(298.15 K) then comes within 0.02 J mol⁻¹ K⁻¹ of the
+// CODATA key value 205.152 J mol⁻¹ K⁻¹ (Cox, Wagman & Medvedev 1989, from
+// memory) and Cp° within 0.02 of the JANAF 29.376 J mol⁻¹ K⁻¹ (Chase 1998, from
+// memory), although the spin splitting of the N levels (about 2 cm⁻¹) is
+// neglected. Constants: Huber & Herzberg (1979), from memory.
+func TestOxygenCard(t *testing.T) {
+	hhO2 := hh{label: "16O16O", we: 1580.193, wexe: 11.981, weye: 0.04747, be: 1.44563, alpha: 0.0159305, de: 4.839e-6, homonuclear: true, vmax: 3, jmax: 31}
+	rec, c := fitHH(t, hhO2, 0.001, 14)
+	card, err := ReadCard(strings.NewReader(`
+species = "16O2"
+dissociation_energy = 41260.0
+[[state]]
+label = "X"
+term_energy = 0.0
+spin_multiplicity = 3
+lambda = 0
+symmetry = "g-"
+`), "o2.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := card.Check(mustParse(t, "16O16O")); err != nil {
+		t.Fatal(err)
+	}
+	s := card.States[0]
+	p := Problem{Constants: c, Observed: rec.Observed, DissociationEnergy: card.DissociationEnergy,
+		States: []State{{Label: s.Label, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry}}}
+	res, err := Compute(p, Settings{Temperatures: []float64{ReferenceTemperature}, Composition: CompositionNatural})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Zero.J != 1 || res.Zero.LevelAboveV0J0 < 2.8 || res.Zero.LevelAboveV0J0 > 2.9 {
+		t.Errorf("energy zero at N=%d, %.4g cm-1 above N=0 (want N=1, 2B ≈ 2.88)", res.Zero.J, res.Zero.LevelAboveV0J0)
+	}
+	for _, pop := range res.System.Populations(ReferenceTemperature) {
+		if pop.J%2 == 0 {
+			t.Fatalf("even N = %d in the sum of 16O2 X³Σg⁻", pop.J)
+		}
+	}
+	sv, cp := res.Rows[0].F.S, res.Rows[0].F.Cp
+	t.Logf("16O2: S°(298.15 K) = %.4f J/mol/K (CODATA 205.152), Cp° = %.4f (JANAF 29.376)", sv, cp)
+	if !scalar.EqualWithinAbs(sv, 205.152, 0.02) {
+		t.Errorf("S°(298.15 K) of O2 = %.4f, CODATA 205.152", sv)
+	}
+	if !scalar.EqualWithinAbs(cp, 29.376, 0.02) {
+		t.Errorf("Cp°(298.15 K) of O2 = %.4f, JANAF 29.376", cp)
+	}
+	if !strings.Contains(res.States[0].VTruncation, "dissociation energy") && !strings.Contains(res.States[0].JTruncation, "dissociation energy") {
+		t.Errorf("truncation does not name D0: %q / %q", res.States[0].VTruncation, res.States[0].JTruncation)
+	}
+}
+
+// TestDissociationLimit: with D0 every level lies below D0 above the zero.
+func TestDissociationLimit(t *testing.T) {
+	rec, c := fitHH(t, hhHCl, 0.001, 15)
+	const d0 = 35748.2 // HCl D0, cm-1 (Huber & Herzberg 1979, from memory); only its size matters here
+	res, err := Compute(Problem{Constants: c, Observed: rec.Observed, DissociationEnergy: d0}, Settings{Temperatures: []float64{3000}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := res.States[0].EMax; e >= d0 {
+		t.Errorf("highest level %.1f cm-1 above the zero, D0 = %.1f", e, d0)
+	}
+	free, _ := Compute(Problem{Constants: c, Observed: rec.Observed}, Settings{Temperatures: []float64{3000}})
+	if free.System.NumLevels() <= res.System.NumLevels() {
+		t.Errorf("D0 did not bound the sum: %d vs %d levels", res.System.NumLevels(), free.System.NumLevels())
+	}
+}
+
+func TestSettingsErrors(t *testing.T) {
+	_, c := fitHH(t, hhHF, 0.001, 16)
+	for _, s := range []Settings{
+		{},
+		{Temperatures: []float64{0}},
+		{Temperatures: []float64{-5}},
+		{Temperatures: []float64{math.NaN()}},
+		{Temperatures: []float64{300}, Pressure: -1},
+		{Temperatures: []float64{300}, Composition: "nat"},
+		{Temperatures: []float64{300}, NuclearSpin: "full"},
+		{Temperatures: []float64{300}, MonteCarlo: 1},
+		{Temperatures: []float64{300}, NASA: NASARanges{Low: 1000, Break: 500}},
+	} {
+		if _, err := Compute(Problem{Constants: c}, s); err == nil || !strings.HasPrefix(err.Error(), "thermo: ") {
+			t.Errorf("%+v: error %v", s, err)
+		}
+	}
+	if _, err := Compute(Problem{Constants: c, Species: "12C16O"}, Settings{Temperatures: []float64{300}}); err == nil {
+		t.Error("species not in the record accepted")
+	}
+}
+
+// TestTooManyLevels: constants whose levels never turn over (G(v) curving up,
+// Y02 > 0) and a high temperature would need millions of levels: the stage
+// refuses with ErrCannotCompute, which the command line maps to exit code 2.
+func TestTooManyLevels(t *testing.T) {
+	odd := hh{label: "12C16O", we: 100, wexe: -0.01, be: 0.05, alpha: 0.0001, de: -1e-12, vmax: 3, jmax: 20}
+	_, c := fitHH(t, odd, 0, 1)
+	_, err := Compute(Problem{Constants: c}, Settings{Temperatures: []float64{MaxTemperature}})
+	if !errors.Is(err, ErrCannotCompute) || !errors.Is(err, fit.ErrCannotFit) || !strings.HasPrefix(err.Error(), "thermo: ") {
+		t.Fatalf("error %v", err)
+	}
+	t.Log(err)
+}

@@ -1,0 +1,371 @@
+package thermo
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sort"
+	"strings"
+
+	"bandwright/fit"
+)
+
+// Composition conventions of the translational part.
+const (
+	// CompositionIsotopologue: Sackur–Tetrode with the isotopologue's molar mass.
+	CompositionIsotopologue = "isotopologue"
+	// CompositionNatural: Sackur–Tetrode with the molar mass of the molecule of
+	// natural isotopic composition (IUPAC 2005 standard atomic weights), internal
+	// levels of the given isotopologue: the convention of the CODATA Key Values
+	// and JANAF tables.
+	CompositionNatural = "natural"
+)
+
+// Temperature limits (K).
+const (
+	MinTemperature = 1.0
+	MaxTemperature = 100000.0
+)
+
+// Settings are the switches of the thermo stage. The zero value (with
+// Temperatures given) is 1 bar, isotopologue molar mass, thermochemistry
+// nuclear-spin convention, linear propagation only, NASA-7 over 200–1000–6000 K.
+type Settings struct {
+	// Temperatures of the table, K (MinTemperature…MaxTemperature).
+	Temperatures []float64
+	// Pressure is the standard pressure in Pa; 0 means PressureBar.
+	Pressure float64
+	// Composition is CompositionIsotopologue (default) or CompositionNatural.
+	Composition string
+	// NuclearSpin is SpinThermochemistry (default) or SpinLineIntensity.
+	NuclearSpin string
+	// MonteCarlo is the number of draws (0: no Monte Carlo); Seed seeds them.
+	MonteCarlo int
+	Seed       uint64
+	// Workers bounds the goroutines (0: GOMAXPROCS); results do not depend on it.
+	Workers int
+	// NASA chooses the ranges of the NASA-7 fit.
+	NASA NASARanges
+}
+
+func (s Settings) nuclearSpin() string {
+	if s.NuclearSpin == "" {
+		return SpinThermochemistry
+	}
+	return s.NuclearSpin
+}
+
+func (s Settings) composition() string {
+	if s.Composition == "" {
+		return CompositionIsotopologue
+	}
+	return s.Composition
+}
+
+func (s Settings) pressure() float64 {
+	if s.Pressure == 0 {
+		return PressureBar
+	}
+	return s.Pressure
+}
+
+func (s Settings) workers() int {
+	if s.Workers > 0 {
+		return s.Workers
+	}
+	return runtime.GOMAXPROCS(0)
+}
+
+// Check reports the first bad setting.
+func (s Settings) Check() error {
+	if len(s.Temperatures) == 0 {
+		return fmt.Errorf("thermo: no temperatures")
+	}
+	for i, t := range s.Temperatures {
+		if math.IsNaN(t) || !(t >= MinTemperature && t <= MaxTemperature) {
+			return fmt.Errorf("thermo: temperature %d: %v K is outside %g…%g K", i+1, t, MinTemperature, MaxTemperature)
+		}
+	}
+	if p := s.pressure(); math.IsNaN(p) || !(p > 0) || math.IsInf(p, 0) {
+		return fmt.Errorf("thermo: pressure %v Pa must be finite and > 0", p)
+	}
+	switch s.composition() {
+	case CompositionIsotopologue, CompositionNatural:
+	default:
+		return fmt.Errorf("thermo: composition %q: choose %s or %s", s.Composition, CompositionIsotopologue, CompositionNatural)
+	}
+	switch s.nuclearSpin() {
+	case SpinThermochemistry, SpinLineIntensity:
+	default:
+		return fmt.Errorf("thermo: nuclear-spin convention %q: choose %s or %s", s.NuclearSpin, SpinThermochemistry, SpinLineIntensity)
+	}
+	if s.MonteCarlo < 0 || s.MonteCarlo == 1 || s.MonteCarlo > 1_000_000 {
+		return fmt.Errorf("thermo: Monte Carlo draws %d: give 0 (off) or 2…1000000", s.MonteCarlo)
+	}
+	return s.NASA.withDefaults().check()
+}
+
+// Row is one temperature of the table. σ are 1σ from linear propagation;
+// MC holds the Monte Carlo spread when requested.
+type Row struct {
+	T            float64
+	F            Functions
+	Sigma        Functions
+	MC           *MCStats
+	QClosed      float64 // closed high-temperature form (see System.ClosedForm)
+	QClosedError float64 // Q_closed/Q − 1
+	// ExtrapolatedShare is the share of Q from levels outside the fitted data.
+	ExtrapolatedShare float64
+	// MissingShare is the estimated share of Q of the vibrational levels a
+	// levels model lacks (nil: no estimate, or not a levels model).
+	MissingShare *float64
+}
+
+// Conventions states how the numbers of a result are defined.
+type Conventions struct {
+	Species          string  `json:"species"`
+	StandardPressure float64 `json:"standard_pressure_Pa"`
+	PressureLabel    string  `json:"standard_pressure"`
+	Composition      string  `json:"composition"`
+	MolarMass        float64 `json:"translational_molar_mass_g_mol-1"`
+	CompositionNote  string  `json:"composition_note"`
+	NuclearSpin      string  `json:"nuclear_spin"`
+	NuclearSpinNote  string  `json:"nuclear_spin_note"`
+	SymmetryNumber   int     `json:"symmetry_number"`
+	EnergyZero       string  `json:"energy_zero"`
+	Units            string  `json:"units"`
+	Uncertainty      string  `json:"uncertainty"`
+	ClosedForm       string  `json:"closed_form"`
+	ReferenceT       float64 `json:"reference_temperature_K"`
+	IdealGas         string  `json:"ideal_gas"`
+	Caution          string  `json:"caution"`
+}
+
+// Caution is printed in every output.
+const Caution = "verify against evaluated reference data before use in safety or process design"
+
+// Result is the outcome of the thermo stage.
+type Result struct {
+	Conventions Conventions
+	States      []StateLevels
+	Zero        ZeroPoint
+	Params      []string // fitted parameters in the combined order
+	Rows        []Row
+	MonteCarlo  *MCInfo
+	NASA        *NASA7
+	Warnings    []string
+	System      *System
+}
+
+// MCInfo describes a Monte Carlo run.
+type MCInfo struct {
+	Draws   int    `json:"draws"`
+	Seed    uint64 `json:"seed"`
+	Sampler string `json:"sampler"`
+}
+
+// Compute enumerates the levels, computes the table with linearly propagated σ
+// (and Monte Carlo spread when asked), and fits the NASA-7 polynomials.
+func Compute(p Problem, s Settings) (*Result, error) {
+	if err := s.Check(); err != nil {
+		return nil, err
+	}
+	nasa := s.NASA.withDefaults()
+	sys, err := NewSystem(p, s)
+	if err != nil {
+		return nil, err
+	}
+	res := &Result{System: sys, States: sys.summaries, Zero: *sys.zp, Params: append([]string(nil), sys.names...)}
+	res.Warnings = append(res.Warnings, sys.warnings...)
+	res.Conventions = sys.conventions(s)
+
+	res.Rows = sys.Table(s.Temperatures, s.workers())
+	if s.MonteCarlo > 0 {
+		mc, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.workers())
+		if err != nil {
+			return nil, err
+		}
+		for i := range res.Rows {
+			st := mc[i]
+			res.Rows[i].MC = &st
+		}
+		smp := sys.newSampler()
+		res.MonteCarlo = &MCInfo{Draws: s.MonteCarlo, Seed: s.Seed,
+			Sampler: fmt.Sprintf("multivariate normal N(x̂, C) of the %d fitted parameters (pivoted Cholesky of the correlation matrix, rank %d); draw d seeded from (seed, d) with SplitMix64 into PCG; levels of the nominal sum re-evaluated for every draw; spread = sample standard deviation", sys.p, smp.rank)}
+		if smp.rank < sys.p {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("the covariance of the fit is singular (rank %d of %d): the Monte Carlo draws span its range only", smp.rank, sys.p))
+		}
+	}
+
+	// NASA-7 on its own grid.
+	lo, hi := nasa.grid()
+	grid := append(append([]float64(nil), lo...), hi[1:]...)
+	fs := sys.nominal(grid, s.workers())
+	n7, err := FitNASA7(grid, fs, nasa)
+	if err != nil {
+		return nil, err
+	}
+	res.NASA = n7
+
+	res.Warnings = append(res.Warnings, sys.shareWarnings(res.Rows)...)
+	if err := res.checkFinite(); err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// NewSystem checks the settings and enumerates the level sum of the problem for
+// temperatures up to the highest of s.Temperatures and the NASA-7 upper limit;
+// the System then evaluates the functions at any temperature in that range.
+func NewSystem(p Problem, s Settings) (*System, error) {
+	if err := s.Check(); err != nil {
+		return nil, err
+	}
+	tMax := s.NASA.withDefaults().High
+	for _, t := range s.Temperatures {
+		tMax = math.Max(tMax, t)
+	}
+	sys, err := enumerate(p, s, tMax)
+	if err != nil {
+		return nil, err
+	}
+	sys.pressure = s.pressure()
+	sys.molarMass = sys.iso.MolarMass()
+	if s.composition() == CompositionNatural {
+		sys.molarMass = sys.iso.NaturalMolarMass()
+	}
+	return sys, nil
+}
+
+// ParamNames returns the names of the fitted parameters in the combined order
+// (ground-state record first, then "NAME@state" for excited-state records).
+func (sys *System) ParamNames() []string { return append([]string(nil), sys.names...) }
+
+// FreeValues returns the fitted parameter values in the combined order.
+func (sys *System) FreeValues() []float64 { return append([]float64(nil), sys.x0...) }
+
+// NumLevels returns the number of levels in the sum.
+func (sys *System) NumLevels() int { return len(sys.e) }
+
+func (sys *System) conventions(s Settings) Conventions {
+	iso := sys.iso
+	c := Conventions{
+		Species: iso.Label, StandardPressure: sys.pressure, Composition: s.composition(),
+		MolarMass: sys.molarMass, NuclearSpin: sys.spin, SymmetryNumber: sys.sigmaNumber,
+		ReferenceT: ReferenceTemperature, Caution: Caution,
+		IdealGas: "ideal gas, per mole, at the standard pressure; translation by the Sackur–Tetrode equation; internal levels by exact summation (Q, ⟨E⟩, ⟨E²⟩ analytic, no finite differences in T)",
+		Units:    "T in K; Q dimensionless; Cp, S, gef in J mol-1 K-1; H_minus_H0 and H_minus_H298 in kJ mol-1; energies in cm-1; sigma = 1 standard uncertainty",
+	}
+	switch sys.pressure {
+	case PressureBar:
+		c.PressureLabel = "1 bar (100000 Pa)"
+	case PressureAtm:
+		c.PressureLabel = "1 atm (101325 Pa), the older standard"
+	default:
+		c.PressureLabel = fmt.Sprintf("%g Pa", sys.pressure)
+	}
+	if s.composition() == CompositionNatural {
+		c.CompositionNote = fmt.Sprintf("natural-composition convention: translation with the molar mass of the natural molecule, %.4f g/mol (IUPAC 2005 standard atomic weights); internal levels of %s — the convention of the CODATA Key Values and JANAF tables", sys.molarMass, iso.Label)
+	} else {
+		c.CompositionNote = fmt.Sprintf("isotopologue convention: translation and internal levels of %s, molar mass %.6f g/mol (AME2020 atomic masses)", iso.Label, sys.molarMass)
+	}
+	if sys.spin == SpinThermochemistry {
+		c.NuclearSpinNote = fmt.Sprintf("thermochemistry convention: nuclear-spin degeneracy (2I_A+1)(2I_B+1) = %d divided out; homonuclear even/odd-J weights from the spin statistics (equivalent to σ = %d at high T); nuclear-spin entropy excluded", iso.NuclearSpinStates(), sys.sigmaNumber)
+	} else {
+		c.NuclearSpinNote = fmt.Sprintf("line-intensity convention: full nuclear-spin degeneracy included ((2I_A+1)(2I_B+1) = %d in total); Q for line intensities, S includes R ln of the spin states", iso.NuclearSpinStates())
+	}
+	z := sys.zp
+	c.EnergyZero = fmt.Sprintf("lowest level (state %s, v=%d, J=%d); H°(0) with every molecule in it", z.State, z.V, z.J)
+	if z.ZPE != nil {
+		c.EnergyZero += fmt.Sprintf("; zero-point energy E(0,0) = %.6f(σ %.2g) cm-1 above the potential minimum", *z.ZPE, *z.ZPESigma)
+	}
+	c.Uncertainty = "linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + fit.CovarianceConvention
+	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T (rigid rotor with Mulholland's series, same v as the exact sum); Q_closed_form_error = Q_closed_form/Q − 1"
+	return c
+}
+
+// shareWarnings turns the extrapolated and missing shares into warnings.
+func (sys *System) shareWarnings(rows []Row) []string {
+	var out []string
+	worst, worstT := 0.0, 0.0
+	first1 := 0.0
+	sorted := append([]Row(nil), rows...)
+	sort.Slice(sorted, func(a, b int) bool { return sorted[a].T < sorted[b].T })
+	for _, r := range sorted {
+		if r.ExtrapolatedShare > worst {
+			worst, worstT = r.ExtrapolatedShare, r.T
+		}
+		if first1 == 0 && r.ExtrapolatedShare > 0.01 {
+			first1 = r.T
+		}
+	}
+	if worst > 1e-3 {
+		msg := fmt.Sprintf("extrapolation: levels outside the fitted data (%s) carry up to %.3g %% of Q (at %g K)", sys.observedRange(), 100*worst, worstT)
+		if first1 > 0 {
+			msg += fmt.Sprintf("; more than 1 %% from %g K on", first1)
+		}
+		out = append(out, msg)
+	}
+	for _, sl := range sys.summaries {
+		if sl.MissingV == "" && sl.MissingNote == "" {
+			continue
+		}
+		if sl.MissingV == "" {
+			out = append(out, fmt.Sprintf("state %s: %s", sl.State, sl.MissingNote))
+			continue
+		}
+		w, wt := 0.0, 0.0
+		for _, r := range sorted {
+			if r.MissingShare != nil && *r.MissingShare > w {
+				w, wt = *r.MissingShare, r.T
+			}
+		}
+		out = append(out, fmt.Sprintf("state %s: the levels model lacks v = %s; they would carry an estimated %.3g %% of Q at %g K (per-temperature estimate in thermo.json)", sl.State, sl.MissingV, 100*w, wt))
+	}
+	for i, st := range sys.states {
+		if st.TermEnergy > 0 && st.Constants == nil {
+			out = append(out, fmt.Sprintf("state %s has no constants of its own: its levels are the ground-state levels shifted by %g cm-1 (an approximation)", sys.states[i].Label, st.TermEnergy))
+		}
+	}
+	return out
+}
+
+// observedRange describes the fitted data range of the ground state.
+func (sys *System) observedRange() string {
+	m := sys.manifolds[0]
+	vmax, jmax := -1, -1
+	for k := range m.e {
+		if !m.ext[k] {
+			vmax = max(vmax, int(m.v[k]))
+			jmax = max(jmax, int(m.J[k]))
+		}
+	}
+	if vmax < 0 {
+		return "the record lists no observed levels"
+	}
+	return fmt.Sprintf("the data reach v ≤ %d, J ≤ %d", vmax, jmax)
+}
+
+// checkFinite refuses a result with a NaN or Inf anywhere.
+func (r *Result) checkFinite() error {
+	bad := func(x float64) bool { return math.IsNaN(x) || math.IsInf(x, 0) }
+	badF := func(f Functions) bool {
+		return bad(f.Q) || bad(f.Cp) || bad(f.S) || bad(f.HmH0) || bad(f.HmH298) || bad(f.Gef)
+	}
+	for _, row := range r.Rows {
+		if badF(row.F) || badF(row.Sigma) || bad(row.QClosed) || bad(row.QClosedError) || bad(row.ExtrapolatedShare) ||
+			(row.MC != nil && (badF(row.MC.Mean) || badF(row.MC.Sigma))) || (row.MissingShare != nil && bad(*row.MissingShare)) {
+			return cannot("the table at %g K has a non-finite value", row.T)
+		}
+	}
+	var parts []string
+	for _, s := range r.States {
+		if bad(s.EMax) {
+			parts = append(parts, s.State)
+		}
+	}
+	if len(parts) > 0 {
+		return cannot("non-finite level energies in state %s", strings.Join(parts, ", "))
+	}
+	return nil
+}
