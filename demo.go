@@ -8,5 +8,5 @@ import "embed"
 
 // Demo holds testdata/demo: the invented demo scenario and its generator.
 //
-//go:embed testdata/demo/*.csv testdata/demo/README.md
+//go:embed testdata/demo/peaks.csv testdata/demo/start.toml testdata/demo/pipeline.toml testdata/demo/README.md
 var Demo embed.FS

@@ -4,28 +4,29 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
-	"os"
 	"path"
 	"path/filepath"
 
 	"bandwright"
+	"bandwright/pipelines/outdir"
 )
 
 // DemoOutcome says where the demo wrote its results.
 type DemoOutcome struct {
 	Out    string
-	Inputs []string
-	Fit    *FitOutcome
+	Inputs string // folder of the copied inputs
+	Chain  *ChainOutcome
 }
 
-// RunDemo copies the embedded invented scenario into out/inputs and runs every
-// stage on it: today the fit, into out/fit.
+// RunDemo copies the embedded invented scenario (a peak list, starting
+// constants and a pipeline file) into out/inputs and runs the whole chain on
+// it — assign, fit, thermo, report — into out/results.
 func RunDemo(out string) (*DemoOutcome, error) {
 	if out == "" {
 		out = "bandwright-demo"
 	}
 	inDir := filepath.Join(out, "inputs")
-	d, err := beginDir(inDir)
+	d, err := outdir.Begin(inDir)
 	if err != nil {
 		return nil, err
 	}
@@ -34,7 +35,6 @@ func RunDemo(out string) (*DemoOutcome, error) {
 	if err != nil {
 		return nil, fmt.Errorf("pipelines: demo data: %w", err)
 	}
-	var inputs []string
 	for _, e := range entries {
 		name := e.Name()
 		if err := d.Write(name, func(w io.Writer) error {
@@ -47,26 +47,17 @@ func RunDemo(out string) (*DemoOutcome, error) {
 		}); err != nil {
 			return nil, err
 		}
-		if path.Ext(name) == ".csv" {
-			inputs = append(inputs, filepath.Join(inDir, name))
-		}
 	}
 	if err := d.Commit(); err != nil {
 		return nil, err
 	}
-	oc := &DemoOutcome{Out: out, Inputs: inputs}
-	fo, err := RunFit(FitOptions{
-		Inputs: inputs, Model: "dunham",
-		Terms:  []string{"Y10", "Y20", "Y01", "Y11", "Y21", "Y02"},
-		Reject: 3, Calibrate: true, Out: filepath.Join(out, "fit"),
-	})
+	p, err := LoadPipeline(filepath.Join(inDir, "pipeline.toml"))
 	if err != nil {
 		return nil, err
 	}
-	oc.Fit = fo
-	return oc, nil
+	oc, err := RunChain(ChainOptions{Inputs: []string{filepath.Join(inDir, "peaks.csv")}, Pipeline: p, Out: filepath.Join(out, "results")})
+	if err != nil {
+		return nil, err
+	}
+	return &DemoOutcome{Out: out, Inputs: inDir, Chain: oc}, nil
 }
-
-func beginDir(p string) (*outdirDir, error) { return outdirBegin(p) }
-
-var _ = os.Stat

@@ -1,12 +1,9 @@
 package main
 
 import (
-	"flag"
 	"fmt"
-	"io"
 	"os"
 	"path/filepath"
-	"strconv"
 
 	"github.com/urfave/cli/v2"
 
@@ -39,28 +36,21 @@ func assignCommand() *cli.Command {
 			&cli.StringFlag{Name: "out", Value: "bandwright-assign", Usage: "output folder"},
 		},
 		Action: func(c *cli.Context) error {
-			f, err := lateFlags(c)
-			if err != nil {
-				return usageExit("assign: %v (see bandwright assign --help)", err)
-			}
-			if len(f.args) != 1 {
+			if c.NArg() != 1 {
 				return usageExit("assign: give one peak list (see bandwright assign --help)")
 			}
-			if f.str("bands") == "" {
+			if c.String("bands") == "" {
 				return usageExit("assign: --bands is required (e.g. --bands 1-0,2-1)")
 			}
-			bands, err := fit.ParseBands(f.str("bands"))
+			bands, err := fit.ParseBands(c.String("bands"))
 			if err != nil {
 				return usageExit("%v", err)
 			}
-			temp, err := f.float("temperature")
-			if err != nil {
-				return usageExit("assign: --temperature: %v", err)
-			}
+			temp := c.Float64("temperature")
 			oc, err := pipelines.RunAssign(pipelines.AssignOptions{
-				Peaks: f.args[0], Start: f.str("start"), Constants: f.str("constants"), Bands: bands,
-				Spectrum: f.str("spectrum"), Temperature: temp, Tolerance: f.str("tolerance"),
-				Unc: f.str("unc"), Unit: f.str("unit"), Species: splitList(f.slice("species")), Out: f.str("out"),
+				Peaks: c.Args().First(), Start: c.String("start"), Constants: c.String("constants"), Bands: bands,
+				Spectrum: c.String("spectrum"), Temperature: temp, Tolerance: c.String("tolerance"),
+				Unc: c.String("unc"), Unit: c.String("unit"), Species: splitList(c.StringSlice("species")), Out: c.String("out"),
 			})
 			if err != nil {
 				return err
@@ -78,63 +68,4 @@ func assignCommand() *cli.Command {
 			return nil
 		},
 	}
-}
-
-// flagsAfter holds the command's flags including those written after the
-// peak list: urfave/cli v2 stops reading flags at the first argument, and
-// `bandwright assign PEAKS.csv --start … --bands …` is the documented order.
-type flagsAfter struct {
-	c      *cli.Context
-	args   []string
-	late   map[string]string
-	slices map[string][]string
-}
-
-func lateFlags(c *cli.Context) (*flagsAfter, error) {
-	fs := flag.NewFlagSet(c.Command.Name, flag.ContinueOnError)
-	fs.SetOutput(io.Discard)
-	for _, fl := range c.Command.Flags {
-		if err := fl.Apply(fs); err != nil {
-			return nil, err
-		}
-	}
-	f := &flagsAfter{c: c, late: map[string]string{}, slices: map[string][]string{}}
-	rest := c.Args().Slice()
-	for len(rest) > 0 {
-		if err := fs.Parse(rest); err != nil {
-			return nil, err
-		}
-		rest = fs.Args()
-		if len(rest) == 0 {
-			break
-		}
-		f.args = append(f.args, rest[0])
-		rest = rest[1:]
-	}
-	fs.Visit(func(fl *flag.Flag) {
-		if ss, ok := fl.Value.(*cli.StringSlice); ok {
-			f.slices[fl.Name] = ss.Value()
-			return
-		}
-		f.late[fl.Name] = fl.Value.String()
-	})
-	return f, nil
-}
-
-func (f *flagsAfter) str(name string) string {
-	if v, ok := f.late[name]; ok {
-		return v
-	}
-	return f.c.String(name)
-}
-
-func (f *flagsAfter) float(name string) (float64, error) {
-	if v, ok := f.late[name]; ok {
-		return strconv.ParseFloat(v, 64)
-	}
-	return f.c.Float64(name), nil
-}
-
-func (f *flagsAfter) slice(name string) []string {
-	return append(append([]string(nil), f.c.StringSlice(name)...), f.slices[name]...)
 }

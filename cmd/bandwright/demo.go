@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"path/filepath"
 
 	"github.com/urfave/cli/v2"
 
@@ -14,7 +13,7 @@ func init() { register(90, demoCommand) }
 func demoCommand() *cli.Command {
 	return &cli.Command{
 		Name:         "demo",
-		Usage:        "run every stage on the bundled demo (an invented CO gas-cell campaign)",
+		Usage:        "run the whole chain on the bundled demo (an invented CO gas-cell peak list)",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "out", Value: "bandwright-demo", Usage: "output folder"},
@@ -24,10 +23,18 @@ func demoCommand() *cli.Command {
 			if err != nil {
 				return err
 			}
-			st := oc.Fit.Result.Stats
-			fmt.Printf("demo: invented scenario (Larkspur Ridge gas-cell laboratory, fictional), inputs in %s\n", filepath.Join(oc.Out, "inputs"))
-			fmt.Printf("fit: %d lines (%d used, %d rejected), s = %.3g, rms %.3g cm-1\n", st.Lines, st.Used, st.Rejected, st.Sigma, st.RMSCm)
-			fmt.Printf("results: %s\n", filepath.Join(oc.Out, "fit", pipelines.FitReportFile))
+			ch := oc.Chain
+			fmt.Printf("demo: invented scenario (Larkspur Ridge gas-cell laboratory, fictional); inputs copied to %s\n", oc.Inputs)
+			if a := ch.Assign; a != nil {
+				fmt.Printf("assign: %d peaks assigned, %d left unassigned, %d bands\n", len(a.Result.Lines), len(a.Result.Unassigned), len(a.Result.Bands))
+			}
+			for _, s := range ch.Chosen {
+				fmt.Println(s)
+			}
+			st := ch.Fit.Result.Stats
+			fmt.Printf("fit: %s model, %d lines (%d used, %d rejected), s = %.3g\n", ch.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma)
+			fmt.Printf("thermo: %d temperatures\n", len(ch.Thermo.Result.Rows))
+			fmt.Printf("report: %s\n", ch.ReportPath())
 			return nil
 		},
 	}

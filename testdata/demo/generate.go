@@ -1,121 +1,104 @@
 //go:build ignore
 
-// generate.go writes bandwright's bundled demo: an INVENTED measurement
-// campaign. The "Larkspur Ridge gas-cell laboratory" does not exist; its two
-// FTIR sessions of a carbon-monoxide cell are simulated here from published
-// constants plus noise, so that the demo exercises the whole chain with known
+// generate.go writes bandwright's bundled demo: an INVENTED measurement. The
+// "Larkspur Ridge gas-cell laboratory" does not exist; its FTIR spectrum of a
+// hot carbon-monoxide cell is simulated here from published constants, so the
+// demo exercises the whole chain (assign → fit → thermo → report) with known
 // answers.
 //
-// Source of the constants: Huber & Herzberg, Constants of Diatomic Molecules
-// (1979), X¹Σ⁺ of 12C16O, as widely quoted (from memory): ωe 2169.81358,
-// ωexe 13.28831, ωeye 0.010511, Be 1.93128087, αe 0.01750441, De 6.12147e-6
-// cm⁻¹. They are turned into Dunham coefficients (Y10 = ωe, Y20 = −ωexe,
-// Y30 = ωeye, Y01 = Be, Y11 = −αe, Y02 = −De) and scaled to 13C16O with
-// Y_kl ∝ μ^−(k+2l)/2 using AME2020 masses.
+// The spectrum: 12C16O and 13C16O (natural abundance) at 700 K, bands 1-0 and
+// 2-1, from the Huber & Herzberg (1979) constants of 12C16O X¹Σ⁺ (from memory:
+// ωe 2169.81358, ωexe 13.28831, ωeye 0.010511, Be 1.93128087, αe 0.01750441,
+// De 6.12147e-6 cm⁻¹) with Dunham mass scaling and AME2020 masses, spoiled
+// like a real peak list by package assign/synth: position and intensity
+// noise, a detection limit, 5 % of the lines lost and spurious peaks. The
+// column "truth" carries the true assignment so the result can be checked.
+// The starting constants are deliberately off, as a spectroscopist's first
+// guess would be.
 //
 // Run from the repository root:   go run ./testdata/demo/generate.go
 package main
 
 import (
 	"fmt"
-	"math"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 
-	"bandwright/fit/species"
+	"bandwright/assign/synth"
 )
 
-type term struct {
-	k, l int
-	y    float64
-}
+const start = `# INVENTED DEMO — starting constants for the fictional Larkspur Ridge CO cell.
+# A first guess in equilibrium notation (Huber & Herzberg 1979 values, from
+# memory, deliberately perturbed: omega_e by +1.5 cm-1, B_e by +0.1 %).
+[[species]]
+name = "12C16O"
+omega_e = 2171.3
+omega_e_x_e = 13.3
+omega_e_y_e = 0.0105
+B_e = 1.9332
+alpha_e = 0.01785
+D_e = 6.0e-6
+abundance = 0.9865
 
-// Huber & Herzberg (1979) 12C16O, from memory.
-var y12 = []term{{1, 0, 2169.81358}, {2, 0, -13.28831}, {3, 0, 0.010511}, {0, 1, 1.93128087}, {1, 1, -0.01750441}, {0, 2, -6.12147e-6}}
+[[species]]
+name = "13C16O"     # constants follow from 12C16O by the Dunham mass scaling
+abundance = 0.0108
+`
 
-func energy(ts []term, scale func(k, l int) float64, v, J int) float64 {
-	x := float64(J * (J + 1))
-	e := 0.0
-	for _, t := range ts {
-		e += scale(t.k, t.l) * t.y * math.Pow(float64(v)+0.5, float64(t.k)) * math.Pow(x, float64(t.l))
-	}
-	return e
-}
+const pipeline = `# INVENTED DEMO — the pipeline the fictional Larkspur Ridge laboratory runs
+# after each CO cell session.
+name = "larkspur-co-cell (invented demo)"
+input = "peaks"
+
+[assign]
+start = "start.toml"
+bands = ["1-0", "2-1"]
+spectrum = "ir"
+temperature = 700.0
+
+[fit]
+# no model or terms: bandwright chooses them (F-test) and says what it chose
+reject = 3.0
+
+[thermo]
+range = "100:3000:100"
+composition = "natural"
+mc = 200
+seed = 20261201
+
+[report]
+formats = ["html", "md"]
+`
 
 func main() {
 	dir := filepath.Join("testdata", "demo")
-	r := rand.New(rand.NewPCG(20261201, 7))
-	ref, _ := species.Parse("12C16O")
-	iso13, _ := species.Parse("13C16O")
-	scaler := func(iso species.Isotopologue) func(k, l int) float64 {
-		return func(k, l int) float64 {
-			return math.Pow(ref.ReducedMass()/iso.ReducedMass(), float64(k+2*l)/2)
+	spec := synth.Spec{Reference: "12C16O", Terms: synth.CO,
+		Species:  []synth.Species{{Label: "12C16O", Abundance: 0.98654}, {Label: "13C16O", Abundance: 0.01084}},
+		Bands:    [][2]int{{1, 0}, {2, 1}},
+		Spectrum: "ir", Temperature: 700, Threshold: 2e-4, Unc: 2e-4, UncMax: 4e-3,
+		IntensityNoise: 0.1, Missing: 0.05, Spurious: 0.10, Resolution: 0.004, Seed: 20261201}
+	peaks, err := synth.Generate(spec)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+	f, err := os.Create(filepath.Join(dir, "peaks.csv"))
+	if err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+	fmt.Fprintln(f, "# INVENTED DEMO DATA — not a measurement. Larkspur Ridge gas-cell laboratory (fictional): FTIR peak list of a CO cell at 700 K.")
+	fmt.Fprintln(f, "# Simulated by testdata/demo/generate.go from Huber & Herzberg (1979) CO constants; the truth column holds the true assignment.")
+	if err := synth.WriteCSV(f, peaks, "", true); err != nil {
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(1)
+	}
+	f.Close()
+	for name, text := range map[string]string{"start.toml": start, "pipeline.toml": pipeline} {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			os.Exit(1)
 		}
 	}
-	type session struct {
-		file  string
-		kappa float64 // invented calibration error of the session
-		note  string
-		bands [][3]any
-		jmax  int
-		spur  int
-	}
-	sessions := []session{
-		{"session-a.csv", 0, "session A, 2026-03-14, cell 1 (invented)", [][3]any{{"12C16O", 1, 0}, {"12C16O", 2, 1}, {"13C16O", 1, 0}}, 32, 3},
-		{"session-b.csv", 4.0e-7, "session B, 2026-03-21, cell 1 refilled (invented)", [][3]any{{"12C16O", 1, 0}, {"13C16O", 1, 0}, {"13C16O", 2, 1}}, 28, 2},
-	}
-	for _, s := range sessions {
-		f, err := os.Create(filepath.Join(dir, s.file))
-		if err != nil {
-			panic(err)
-		}
-		fmt.Fprintf(f, "# INVENTED DEMO DATA — not a measurement. Larkspur Ridge gas-cell laboratory (fictional), %s.\n", s.note)
-		fmt.Fprintf(f, "# Simulated from Huber & Herzberg (1979) CO constants plus Gaussian noise; generated by testdata/demo/generate.go.\n")
-		fmt.Fprintln(f, "species,v_up,J_up,v_lo,J_lo,position,unc,branch,comment,snr")
-		n := 0
-		for _, b := range s.bands {
-			lab := b[0].(string)
-			iso := ref
-			if lab == "13C16O" {
-				iso = iso13
-			}
-			sc := scaler(iso)
-			vu, vl := b[1].(int), b[2].(int)
-			for jl := 0; jl <= s.jmax; jl++ {
-				for _, dj := range []int{-1, 1} {
-					ju := jl + dj
-					if ju < 0 {
-						continue
-					}
-					// weaker hot bands and isotopologue: larger uncertainty
-					unc := 0.0004
-					if vl > 0 || lab == "13C16O" {
-						unc = 0.0012
-					}
-					if jl > 24 {
-						unc *= 2
-					}
-					nu := energy(y12, sc, vu, ju) - energy(y12, sc, vl, jl)
-					obs := (1+s.kappa)*nu + unc*r.NormFloat64()
-					comment := ""
-					if r.IntN(40) == 0 {
-						comment = "shoulder on a water line"
-					}
-					snr := 20 + r.IntN(400)
-					fmt.Fprintf(f, "%s,%d,%d,%d,%d,%.5f,%.4f,%s,%s,%d\n", lab, vu, ju, vl, jl, obs, unc, map[int]string{-1: "P", 1: "R"}[dj], comment, snr)
-					n++
-				}
-			}
-		}
-		// A few misassigned lines (off by a whole line spacing) to show rejection.
-		for i := 0; i < s.spur; i++ {
-			jl := 5 + 7*i
-			nu := energy(y12, scaler(ref), 1, jl+2) - energy(y12, scaler(ref), 0, jl)
-			fmt.Fprintf(f, "12C16O,1,%d,0,%d,%.5f,0.0004,R,misassigned on purpose (demo),50\n", jl+1, jl, nu)
-			n++
-		}
-		f.Close()
-		fmt.Printf("%s: %d lines\n", s.file, n)
-	}
+	fmt.Printf("peaks.csv: %d peaks; start.toml; pipeline.toml\n", len(peaks))
 }

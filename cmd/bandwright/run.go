@@ -1,0 +1,104 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+
+	"github.com/urfave/cli/v2"
+
+	"bandwright/pipelines"
+	"bandwright/pipelines/nightly"
+)
+
+func init() {
+	register(50, runCommand)
+	register(70, nightlyCommand)
+}
+
+func runCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "run",
+		Usage:     "run the whole chain (assign for peak lists, fit, thermo, report) on input files",
+		ArgsUsage: "INPUT...",
+		Description: "With --pipeline, the stages take the options of the pipeline file. Without, the inputs are line lists and\n" +
+			"bandwright chooses the model (levels for a single band, Dunham for several vibrational levels) and adds terms\n" +
+			"while the data determine them and an F-test says they are significant; it prints what it chose.",
+		OnUsageError: onUsage,
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "pipeline", Usage: "pipeline file (TOML)"},
+			&cli.StringFlag{Name: "out", Value: "bandwright-run", Usage: "output folder"},
+		},
+		Action: func(c *cli.Context) error {
+			if c.NArg() == 0 {
+				return usageExit("run: give one or more input files (see bandwright run --help)")
+			}
+			o := pipelines.ChainOptions{Inputs: c.Args().Slice(), Out: c.String("out")}
+			if f := c.String("pipeline"); f != "" {
+				p, err := pipelines.LoadPipeline(f)
+				if err != nil {
+					return err
+				}
+				o.Pipeline = p
+			}
+			oc, err := pipelines.RunChain(o)
+			if err != nil {
+				return err
+			}
+			for _, s := range oc.Chosen {
+				fmt.Println(s)
+			}
+			st := oc.Fit.Result.Stats
+			fmt.Printf("fit: %s model, %d lines (%d used, %d rejected), s = %.3g\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma)
+			for _, w := range oc.Fit.Result.Warnings {
+				fmt.Fprintln(os.Stderr, "warning:", w)
+			}
+			fmt.Printf("report: %s\n", oc.ReportPath())
+			return nil
+		},
+	}
+}
+
+func nightlyCommand() *cli.Command {
+	return &cli.Command{
+		Name:  "nightly",
+		Usage: "run a pipeline on every new file of an inbox, with results, ledger and summary in an archive",
+		Description: "New work is found by content (SHA-256); the inbox is never written. Results go to ARCHIVE/results/,\n" +
+			"one row per file to ARCHIVE/ledger.csv, and a summary with drift flags to ARCHIVE/summary-DATE.html/.md.\n" +
+			"Exit 0: every file of this run succeeded (or nothing to do); 3: some failed, the others completed.\n" +
+			"SIGINT/SIGTERM stop after the files in progress.",
+		OnUsageError: onUsage,
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "inbox", Required: true, Usage: "folder of new measurement files (only read)"},
+			&cli.StringFlag{Name: "archive", Required: true, Usage: "folder of results, ledger, history and summaries"},
+			&cli.StringFlag{Name: "pipeline", Required: true, Usage: "pipeline file (TOML)"},
+			&cli.IntFlag{Name: "workers", Value: 2, Usage: "files processed at once"},
+			&cli.StringFlag{Name: "shard", Usage: "K/N: process only shard K of N (by content hash), for job arrays"},
+			&cli.BoolFlag{Name: "retry-failed", Usage: "run again the files that failed before"},
+		},
+		Action: func(c *cli.Context) error {
+			if c.Int("workers") < 1 {
+				return usageExit("nightly: --workers must be at least 1")
+			}
+			ctx, cancel := nightly.NotifyContext(context.Background(), os.Stderr)
+			defer cancel()
+			rep, err := pipelines.RunNightly(ctx, pipelines.NightlyOptions{
+				Inbox: c.String("inbox"), Archive: c.String("archive"), Pipeline: c.String("pipeline"),
+				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Progress: os.Stderr,
+			})
+			var be *pipelines.BatchError
+			if err != nil && !errors.As(err, &be) {
+				return err
+			}
+			fmt.Printf("nightly: %d processed, %d ok, %d failed, %d skipped, %d already done\n", rep.Processed, rep.Succeeded, rep.Failed, rep.Skipped, rep.AlreadyDone)
+			if rep.Summary != "" {
+				fmt.Printf("summary: %s\n", rep.Summary)
+			}
+			if rep.Interrupted {
+				fmt.Println("nightly: stopped by a signal; the remaining files will be done by the next run")
+			}
+			return err
+		},
+	}
+}

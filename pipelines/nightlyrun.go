@@ -1,0 +1,70 @@
+package pipelines
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+
+	"bandwright/pipelines/nightly"
+	"bandwright/pipelines/outdir"
+)
+
+// NightlyOptions are the options of `bandwright nightly`.
+type NightlyOptions struct {
+	Inbox, Archive, Pipeline string
+	Workers                  int
+	Shard                    string // "K/N"; empty: 1/1
+	RetryFailed              bool
+	Progress                 io.Writer
+}
+
+// RunNightly runs the pipeline file's chain on every new file of the inbox
+// (package nightly has the rules). It returns a *BatchError (exit code 3) when
+// some files failed and the others completed.
+func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) {
+	if o.Pipeline == "" {
+		return nil, UsageError{errors.New("nightly: --pipeline FILE is required: an unattended run must not guess its model")}
+	}
+	p, err := LoadPipeline(o.Pipeline)
+	if err != nil {
+		return nil, err
+	}
+	k, n := 1, 1
+	if o.Shard != "" {
+		k, n, err = nightly.ParseShard(o.Shard)
+		if err != nil {
+			return nil, UsageError{err}
+		}
+	}
+	job := func(ctx context.Context, in nightly.Input, work string) (*nightly.JobResult, error) {
+		d, err := outdir.Begin(work)
+		if err != nil {
+			return nil, err
+		}
+		defer d.Abort()
+		oc, err := chainInto(d, ChainOptions{Inputs: []string{in.Path}, Names: []string{in.Name}, Pipeline: p})
+		if err != nil {
+			return nil, err
+		}
+		if err := d.Commit(); err != nil {
+			return nil, err
+		}
+		jr := &nightly.JobResult{Constants: nightly.RecordConstants(oc.Fit.Record)}
+		st := oc.Fit.Result.Stats
+		jr.Notes = append(jr.Notes, fmt.Sprintf("%s model, %d lines (%d used, %d rejected), s = %.3g", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma))
+		jr.Notes = append(jr.Notes, oc.Fit.Result.Warnings...)
+		return jr, nil
+	}
+	rep, err := nightly.Run(ctx, nightly.Options{
+		Inbox: o.Inbox, Archive: o.Archive, Workers: o.Workers, Shard: k, Shards: n,
+		RetryFailed: o.RetryFailed, PipelineHash: p.Hash, Version: Version, Job: job, Progress: o.Progress,
+	})
+	if err != nil {
+		return nil, err
+	}
+	if rep.Failed > 0 {
+		return rep, &BatchError{Failed: rep.Failed, Total: rep.Processed}
+	}
+	return rep, nil
+}
