@@ -1,9 +1,11 @@
 package thermo
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -419,7 +421,9 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 	if len(all) > MaxLevels {
 		return nil, cannot("the level sum has %d levels, more than %d; give dissociation_energy in a species card or lower the highest temperature", len(all), MaxLevels)
 	}
-	sort.SliceStable(all, func(a, b int) bool { return all[a].e < all[b].e })
+	// slices.SortStableFunc: the reflection-based sort.SliceStable took a
+	// tenth of a nightly chain's time on 11 000 levels.
+	slices.SortStableFunc(all, func(a, b lvl) int { return cmp.Compare(a.e, b.e) })
 	z := all[0]
 	sys.zero = levelRef{z.st, z.idx}
 	sys.e0 = z.e
