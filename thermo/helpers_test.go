@@ -11,7 +11,7 @@ import (
 
 // hh holds Huber–Herzberg constants of a ground state (cm⁻¹).
 // Huber & Herzberg, Constants of Diatomic Molecules (1979), as widely quoted;
-// from memory (see /work/shared/references.md).
+// from memory (see the project's shared references.md).
 type hh struct {
 	label                         string
 	we, wexe, weye, be, alpha, de float64
