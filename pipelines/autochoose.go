@@ -138,10 +138,10 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 			pval = 1 - distuv.F{D1: float64(added), D2: float64(res.Stats.DOF)}.CDF(f)
 		}
 		if weak || pval >= FTestLevel {
-			c.Log = append(c.Log, fmt.Sprintf("%s: F = %.3g, p = %.3g, %s: left out", t, f, pval, map[bool]string{true: "less than 3σ from zero", false: "not significant"}[weak]))
+			c.Log = append(c.Log, fmt.Sprintf("%s: F = %.3g, %s, %s: left out", t, f, pText(pval), map[bool]string{true: "less than 3σ from zero", false: "not significant"}[weak]))
 			continue
 		}
-		c.Log = append(c.Log, fmt.Sprintf("%s: F = %.3g, p = %.2g: added", t, f, pval))
+		c.Log = append(c.Log, fmt.Sprintf("%s: F = %.3g, %s: added", t, f, pText(pval)))
 		terms, cur = next, res
 	}
 	c.Terms = terms
@@ -153,4 +153,13 @@ func abs(x float64) float64 {
 		return -x
 	}
 	return x
+}
+
+// pText writes a p-value; below 1e-12 the F distribution's tail is beyond
+// what its CDF resolves in double precision, so it is written as a bound.
+func pText(p float64) string {
+	if p < 1e-12 {
+		return "p < 1e-12"
+	}
+	return fmt.Sprintf("p = %.2g", p)
 }
