@@ -15,6 +15,7 @@ import (
 	"github.com/gocarina/gocsv"
 
 	"bandwright/fit/linelist"
+	"bandwright/internal/textcheck"
 )
 
 // Peak is one picked peak of a spectrum.
@@ -70,6 +71,9 @@ type PeakList struct {
 	// HasIntensity reports whether the file has an intensity column with at
 	// least one value.
 	HasIntensity bool
+	// Warnings name the rows that do not stop an assignment but that a person
+	// should see: a peak given twice (same position and unit).
+	Warnings []linelist.Problem
 }
 
 // InputError lists the problems found in an input file (peak list or start
@@ -257,6 +261,9 @@ const maxPeakBytes = 512 << 20
 
 // ReadPeaksFile reads the peak list in the file at path; see ReadPeaks.
 func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: why}}}
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		reason := err.Error()
@@ -282,9 +289,14 @@ func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
 //	                     all intensities of a file must have one sign); empty: not given
 //	unit       no        "cm-1" or "MHz", any letter case (empty: defaultUnit)
 //
-// Every other column is passed through (PeakList.Extra, Peak.Extra). name
-// (a path or any label) is used in messages. Problems are returned as one
-// *InputError, each naming the file, row and field.
+// Every other column is passed through (PeakList.Extra, Peak.Extra). Every
+// cell must be UTF-8 text. A position in cm⁻¹ must lie below
+// linelist.MaxWavenumber (no transition within one electronic state of a
+// diatomic molecule reaches it), which catches positions in MHz given without
+// a unit. A peak given twice (same position and unit) is read, with a warning
+// in PeakList.Warnings. name (a path or any label) is used in messages.
+// Problems are returned as one *InputError, each naming the file, row and
+// field.
 func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, error) {
 	c := &problems{file: name}
 	data, err := io.ReadAll(io.LimitReader(r, maxPeakBytes+1))
@@ -309,11 +321,16 @@ func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, 
 		return nil, c.err()
 	}
 	hline, _ := cr.FieldPos(0)
+	header = append([]string(nil), header...) // the reader reuses its record slice
 	pl := &PeakList{File: name}
 	nFields := len(header)
 	keys := make([]string, nFields)
 	first := map[string]int{}
 	for i, h := range header {
+		if why := textcheck.InvalidUTF8(h); why != "" {
+			c.add(hline, fmt.Sprintf("column %d", i+1), "name is %s", why)
+			continue
+		}
 		k := headerKey(h)
 		switch prev, dup := first[k]; {
 		case k == "":
@@ -328,6 +345,9 @@ func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, 
 	col, err := mapPeakHeader(keys)
 	if err != nil {
 		c.addErr(hline, "", "cannot map the header: "+err.Error(), err)
+		return nil, c.err()
+	}
+	if len(c.e.Problems) > 0 {
 		return nil, c.err()
 	}
 	if col[pcPosition] < 0 {
@@ -379,6 +399,18 @@ func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, 
 			continue
 		}
 		n0 := len(c.e.Problems) + c.e.Omitted
+		for i, cell := range rec {
+			if why := textcheck.InvalidUTF8(cell); why != "" {
+				name := strings.TrimSpace(header[i])
+				if name == "" {
+					name = fmt.Sprintf("column %d", i+1)
+				}
+				c.add(row, name, "%s", why)
+			}
+		}
+		if len(c.e.Problems)+c.e.Omitted != n0 {
+			continue
+		}
 		p := Peak{Index: len(pl.Peaks) + 1, Row: row, Unit: defaultUnit}
 		p.Position, p.Text = number(c, rec[col[pcPosition]], "position", row, true)
 		if p.Text != "" && !(p.Position > 0) && len(c.e.Problems)+c.e.Omitted == n0 {
@@ -425,6 +457,14 @@ func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, 
 				p.Extra[k] = strings.ReplaceAll(rec[i], "\r", "")
 			}
 		}
+		if p.Unit == linelist.Wavenumber && p.Position >= linelist.MaxWavenumber && len(c.e.Problems)+c.e.Omitted == n0 {
+			hint := "is the row's unit MHz? say so in its unit column"
+			if col[pcUnit] < 0 {
+				hint = "if the peaks are in MHz, add a unit column (cm-1 or MHz) or give --unit MHz"
+			}
+			c.add(row, "position", "%s cm-1 is beyond the dissociation energy of every diatomic molecule (no transition within one electronic state reaches %g cm-1); %s",
+				p.Text, linelist.MaxWavenumber, hint)
+		}
 		if len(c.e.Problems)+c.e.Omitted == n0 {
 			pl.Peaks = append(pl.Peaks, p)
 		}
@@ -435,6 +475,20 @@ func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, 
 	if len(pl.Peaks) == 0 {
 		c.add(hline, "", "no peaks: the file has a header only")
 		return nil, c.err()
+	}
+	type peakKey struct {
+		pos  uint64
+		unit linelist.Unit
+	}
+	seen := make(map[peakKey]int, len(pl.Peaks))
+	for i, p := range pl.Peaks {
+		k := peakKey{math.Float64bits(p.Position), p.Unit}
+		if j, dup := seen[k]; dup {
+			pl.Warnings = append(pl.Warnings, linelist.Problem{File: name, Row: p.Row, Field: "position",
+				Reason: fmt.Sprintf("duplicate peak: the same position as row %d; both copies take part in the assignment (delete one if it was pasted twice)", pl.Peaks[j].Row)})
+			continue
+		}
+		seen[k] = i
 	}
 	return pl, nil
 }

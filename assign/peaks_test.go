@@ -40,6 +40,22 @@ func TestReadPeaks(t *testing.T) {
 	}
 }
 
+// TestReadPeaksDuplicate: a peak given twice reads, with a warning naming both rows.
+func TestReadPeaksDuplicate(t *testing.T) {
+	pl, err := assign.ReadPeaks(strings.NewReader("position,unc\n2143.2,0.001\n2147.08,0.001\n2143.2,0.002\n2143.20001,0.001\n"), "p.csv", linelist.Wavenumber)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(pl.Peaks) != 4 || len(pl.Warnings) != 1 || pl.Warnings[0].Row != 4 || !strings.Contains(pl.Warnings[0].String(), "p.csv:4: position: duplicate peak: the same position as row 2") {
+		t.Errorf("%d peaks, warnings %v", len(pl.Peaks), pl.Warnings)
+	}
+	// With a unit, the same number in MHz and in cm-1 is not a duplicate.
+	pl, err = assign.ReadPeaks(strings.NewReader("position,unit\n2143.2,cm-1\n2143.2,MHz\n"), "p.csv", linelist.Wavenumber)
+	if err != nil || len(pl.Warnings) != 0 {
+		t.Errorf("%v %v", err, pl.Warnings)
+	}
+}
+
 func TestReadPeaksErrors(t *testing.T) {
 	cases := []struct{ name, in, want string }{
 		{"empty", "", "p.csv: no peaks: the file is empty"},
@@ -57,6 +73,13 @@ func TestReadPeaksErrors(t *testing.T) {
 		{"fields", "position,unc\n2143,0.1,5\n", "p.csv:2: row has 3 fields, header has 2"},
 		{"duplicate", "position,Position\n1,2\n", "p.csv:1: Position: duplicate column name"},
 		{"missing", "position,unc\n,0.1\n", "p.csv:2: position: missing value"},
+		{"not UTF-8", "position,observer\n2143,caf\xe9\n", "p.csv:2: observer: not UTF-8 text: byte 0xE9 at character 4"},
+		{"header not UTF-8", "position,caf\xe9\n2143,x\n", "p.csv:1: column 2: name is not UTF-8"},
+		// 115 271 MHz (CO J=1-0) without a unit: no transition within one
+		// electronic state of a diatomic reaches 1e5 cm-1.
+		{"MHz without unit", "position\n2143.2\n115271.2018\n", "p.csv:3: position: 115271.2018 cm-1 is beyond the dissociation energy"},
+		{"MHz hint", "position\n115271.2018\n", "add a unit column (cm-1 or MHz) or give --unit MHz"},
+		{"MHz unit column", "position,unit\n115271.2018,cm-1\n", "is the row's unit MHz?"},
 	}
 	for _, c := range cases {
 		_, err := assign.ReadPeaks(strings.NewReader(c.in), "p.csv", linelist.Wavenumber)
@@ -76,6 +99,8 @@ func FuzzReadPeaks(f *testing.F) {
 		"\uFEFF# c\nPosition;unc\n1;2\n",
 		"position,x\n\"1\n2\",\"a,b\"\n3,\"=1\"\n",
 		"unit,position\nMHz,115271.2\n,2e3\n",
+		"position\n2143.2\n115271.2\n2143.2\n",
+		"position,x\n2143.2,caf\xe9\n",
 	} {
 		f.Add([]byte(s))
 	}
@@ -100,7 +125,7 @@ func FuzzReadPeaks(f *testing.F) {
 			if !(p.Position > 0) || p.Unc < 0 || p.Intensity < 0 || len(p.Extra) != len(pl.Extra) {
 				t.Fatalf("peak %+v", p)
 			}
-			q, err := assign.ReadPeaks(strings.NewReader("position\n"+p.Text+"\n"), "g.csv", linelist.Wavenumber)
+			q, err := assign.ReadPeaks(strings.NewReader("position\n"+p.Text+"\n"), "g.csv", p.Unit)
 			if err != nil || q.Peaks[0].Position != p.Position {
 				t.Fatalf("text %q does not read back: %v", p.Text, err)
 			}

@@ -151,6 +151,9 @@ func (r *run) result() (*Result, error) {
 	for _, b := range r.bands {
 		res.Bands = append(res.Bands, *byBand[b])
 	}
+	for _, w := range r.p.Peaks.Warnings {
+		res.Warnings = append(res.Warnings, w.String())
+	}
 	res.Warnings = append(res.Warnings, r.warnings...)
 	for _, w := range fr.Warnings {
 		res.Warnings = append(res.Warnings, "internal fit: "+w)

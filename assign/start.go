@@ -19,7 +19,11 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/internal/textcheck"
 )
+
+// maxStartBytes bounds the size of a start file (one is a few hundred bytes).
+const maxStartBytes = 16 << 20
 
 // StartSpecies is one isotopologue the assignment looks for, with the
 // constants its lines are predicted from.
@@ -75,6 +79,9 @@ var requiredConstants = []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e", "D_
 
 // ReadStartFile reads a start file; see ReadStart.
 func ReadStartFile(path string) (*Start, error) {
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: why}}}
+	}
 	data, err := os.ReadFile(path)
 	if err != nil {
 		reason := err.Error()
@@ -110,9 +117,13 @@ func ReadStartFile(path string) (*Start, error) {
 // row and key.
 func ReadStart(r io.Reader, name string) (*Start, error) {
 	c := &problems{file: name}
-	data, err := io.ReadAll(io.LimitReader(r, 16<<20))
+	data, err := io.ReadAll(io.LimitReader(r, maxStartBytes+1))
 	if err != nil {
 		c.addErr(0, "", "read error: "+err.Error(), err)
+		return nil, c.err()
+	}
+	if len(data) > maxStartBytes {
+		c.add(0, "", "larger than %d MB; not a start file", maxStartBytes>>20)
 		return nil, c.err()
 	}
 	var f startFile
@@ -124,7 +135,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 			if pe.LastKey != "" {
 				field = pe.LastKey
 			}
-			c.addErr(pe.Position.Line, field, pe.Message, err)
+			c.addErr(pe.Position.Line, field, pe.Message+textcheck.DecimalCommaHint(data, pe.Position.Line), err)
 		} else {
 			c.addErr(0, "", tomlReason(err), err)
 		}

@@ -22,6 +22,7 @@
 package fit
 
 import (
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -130,6 +131,37 @@ type Stats struct {
 	LinesMHz  int     `json:"lines_MHz,omitempty"`
 	Condition float64 `json:"condition_number"`
 	Iter      int     `json:"iterations"`
+}
+
+// MarshalJSON writes the statistics with sigma_dimensionless null when it is
+// undefined (NaN: a fit without degrees of freedom), since JSON has no NaN.
+func (s Stats) MarshalJSON() ([]byte, error) {
+	type plain Stats
+	aux := struct {
+		plain
+		Sigma *float64 `json:"sigma_dimensionless"`
+	}{plain: plain(s)}
+	if !math.IsNaN(s.Sigma) {
+		aux.Sigma = &s.Sigma
+	}
+	return json.Marshal(aux)
+}
+
+// UnmarshalJSON reads what MarshalJSON writes: a null sigma_dimensionless is NaN.
+func (s *Stats) UnmarshalJSON(b []byte) error {
+	type plain Stats
+	aux := struct {
+		*plain
+		Sigma *float64 `json:"sigma_dimensionless"`
+	}{plain: (*plain)(s)}
+	if err := json.Unmarshal(b, &aux); err != nil {
+		return err
+	}
+	s.Sigma = math.NaN()
+	if aux.Sigma != nil {
+		s.Sigma = *aux.Sigma
+	}
+	return nil
 }
 
 // Result is the outcome of a fit.

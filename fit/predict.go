@@ -74,6 +74,11 @@ func Predict(c *Constants, sp string, bands []BandSpec, jmax int, branches []str
 		if !c.Model.HasLevel(s, b.VUp) || !c.Model.HasLevel(s, b.VLo) {
 			return nil, fmt.Errorf("fit: band %d-%d of %s: the constants record has no parameters for one of its levels", b.VUp, b.VLo, sp)
 		}
+		for _, v := range []int{b.VUp, b.VLo} {
+			if e0, e1 := c.Energy(s, v, 0, nil), c.Energy(s, v, 1, nil); !(e1 > e0) {
+				return nil, &CannotFitError{Msg: fmt.Sprintf("fit: band %d-%d of %s: the model's rotational constant B_v is not positive at v=%d (E(v, J=1) − E(v, J=0) = %.6g cm-1; the constants are extrapolated beyond their range): its lines cannot be predicted", b.VUp, b.VLo, sp, v, e1-e0)}
+			}
+		}
 		br := branches
 		if len(br) == 0 {
 			br = []string{"P", "R"}

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -8,11 +9,14 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"gonum.org/v1/gonum/mat"
 
+	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/internal/textcheck"
 )
 
 // Schema is the schema tag of constants records this version writes and reads.
@@ -131,12 +135,66 @@ func (rec *Record) Write(w io.Writer) error {
 	return enc.Encode(rec)
 }
 
+// maxRecordBytes bounds the size of a constants record read (a record of a large
+// fit is well below a megabyte).
+const maxRecordBytes = 64 << 20
+
 // ReadRecord reads and checks a constants record. name is used in messages.
+//
+// The record must be one JSON object in UTF-8 (a byte-order mark is skipped);
+// syntax errors name the line and column. Besides the structure, the checks
+// refuse what a hand edit can break: a schema of another version, values or σ
+// that are not finite, σ that disagree with the covariance, and a covariance
+// that is not symmetric positive semi-definite (a negative variance, or a
+// correlation outside −1…1, would make a propagated σ imaginary).
 func ReadRecord(r io.Reader, name string) (*Record, error) {
-	dec := json.NewDecoder(r)
+	b, err := io.ReadAll(io.LimitReader(r, maxRecordBytes+1))
+	if err != nil {
+		return nil, fmt.Errorf("fit: %s: %w", name, err)
+	}
+	if len(b) > maxRecordBytes {
+		return nil, fmt.Errorf("fit: %s: larger than %d MB; not a constants record", name, maxRecordBytes>>20)
+	}
+	b = textcheck.TrimBOM(b)
+	if len(strings.TrimSpace(string(b))) == 0 {
+		return nil, fmt.Errorf("fit: %s: not a constants record: the file is empty", name)
+	}
+	if !utf8.Valid(b) {
+		off := 0
+		for off < len(b) {
+			r, size := utf8.DecodeRune(b[off:])
+			if r == utf8.RuneError && size <= 1 {
+				break
+			}
+			off += size
+		}
+		line, col := textcheck.LineCol(b, int64(off))
+		return nil, fmt.Errorf("fit: %s:%d:%d: not UTF-8 text: byte 0x%02X (save the file as UTF-8)", name, line, col, b[off])
+	}
+	if key, off, dup := duplicateKey(b); dup {
+		line, col := textcheck.LineCol(b, off)
+		return nil, fmt.Errorf("fit: %s:%d:%d: %s: the key is given twice; which one holds is not clear (the record was edited?)", name, line, col, key)
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
 	var rec Record
 	if err := dec.Decode(&rec); err != nil {
+		var se *json.SyntaxError
+		var te *json.UnmarshalTypeError
+		switch {
+		case errors.As(err, &se):
+			line, col := textcheck.LineCol(b, se.Offset)
+			return nil, fmt.Errorf("fit: %s:%d:%d: not a constants record: %w", name, line, col, err)
+		case errors.As(err, &te):
+			line, col := textcheck.LineCol(b, te.Offset)
+			return nil, fmt.Errorf("fit: %s:%d:%d: %s: not a constants record: %w", name, line, col, te.Field, err)
+		case errors.Is(err, io.ErrUnexpectedEOF):
+			return nil, fmt.Errorf("fit: %s: not a constants record: the file ends in the middle of the JSON (cut short?)", name)
+		}
 		return nil, fmt.Errorf("fit: %s: not a constants record: %w", name, err)
+	}
+	if _, err := dec.Token(); err != io.EOF {
+		line, col := textcheck.LineCol(b, dec.InputOffset())
+		return nil, fmt.Errorf("fit: %s:%d:%d: not a constants record: more follows the record's closing brace", name, line, col)
 	}
 	if !strings.HasPrefix(rec.Schema, "bandwright.constants/") {
 		return nil, fmt.Errorf("fit: %s: schema: %q is not a bandwright constants record (want %q)", name, rec.Schema, Schema)
@@ -149,10 +207,88 @@ func ReadRecord(r io.Reader, name string) (*Record, error) {
 		}
 		return nil, fmt.Errorf("fit: %s: schema: %q is an older or unknown version of the constants record; this version reads %q (fit the lines again)", name, rec.Schema, Schema)
 	}
+	if rec.Unit != "cm-1" {
+		return nil, fmt.Errorf("fit: %s: unit: %q; a constants record holds its constants in cm-1", name, rec.Unit)
+	}
 	if _, err := rec.Constants(); err != nil {
 		return nil, fmt.Errorf("fit: %s: %w", name, err)
 	}
 	return &rec, nil
+}
+
+// duplicateKey finds the first key given twice in one JSON object of b (which
+// encoding/json would read as the last one, silently): its path, such as
+// "parameters[3].value", and the offset just after it. b that is not valid JSON
+// reports no duplicate (the decoder reports the syntax error).
+func duplicateKey(b []byte) (path string, off int64, found bool) {
+	type frame struct {
+		obj     bool
+		keys    map[string]bool
+		wantKey bool
+		key     string // current key (objects)
+		idx     int    // current index (arrays)
+		name    string // path of this container
+	}
+	var st []*frame
+	valueDone := func() {
+		if n := len(st); n > 0 {
+			if f := st[n-1]; f.obj {
+				f.wantKey = true
+			} else {
+				f.idx++
+			}
+		}
+	}
+	childName := func() string {
+		if len(st) == 0 {
+			return ""
+		}
+		f := st[len(st)-1]
+		if f.obj {
+			if f.name == "" {
+				return f.key
+			}
+			return f.name + "." + f.key
+		}
+		return fmt.Sprintf("%s[%d]", f.name, f.idx)
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.UseNumber()
+	for {
+		tok, err := dec.Token()
+		if err != nil {
+			return "", 0, false
+		}
+		if n := len(st); n > 0 && st[n-1].obj && st[n-1].wantKey {
+			f := st[n-1]
+			if d, ok := tok.(json.Delim); ok && d == '}' {
+				st = st[:n-1]
+				valueDone()
+				continue
+			}
+			k, _ := tok.(string)
+			if f.keys[k] {
+				f.key = k
+				return childName(), dec.InputOffset(), true
+			}
+			f.keys[k], f.key, f.wantKey = true, k, false
+			continue
+		}
+		switch d, _ := tok.(json.Delim); d {
+		case '{':
+			st = append(st, &frame{obj: true, keys: map[string]bool{}, wantKey: true, name: childName()})
+		case '[':
+			st = append(st, &frame{name: childName()})
+		case ']':
+			st = st[:len(st)-1]
+			valueDone()
+		default:
+			valueDone()
+		}
+		if len(st) == 0 {
+			return "", 0, false
+		}
+	}
 }
 
 // Constants is a record turned back into a model that can be evaluated, with
@@ -205,6 +341,9 @@ func (rec *Record) Constants() (*Constants, error) {
 				return nil, fmt.Errorf("covariance: not symmetric at (%d,%d)", i+1, j+1)
 			}
 		}
+	}
+	if err := checkCovariance(rec.Parameters, rec.Covariance); err != nil {
+		return nil, err
 	}
 	var m model.Model
 	switch rec.Model {
@@ -260,6 +399,9 @@ func levelsFromRecord(sp []string, ps []RecordParam) (*model.Levels, error) {
 		if p.V == nil {
 			return nil, fmt.Errorf("parameters: %s has no v (levels model)", p.Name)
 		}
+		if *p.V < 0 || *p.V > linelist.MaxV {
+			return nil, fmt.Errorf("parameters: %s: v = %d is outside 0…%d", p.Name, *p.V, linelist.MaxV)
+		}
 		if p.Name == "T" {
 			levels[p.Species] = append(levels[p.Species], *p.V)
 		} else {
@@ -298,6 +440,13 @@ func dunhamFromRecord(sp []string, ps []RecordParam) (*model.Dunham, error) {
 	for _, p := range ps {
 		if p.K == nil || p.L == nil {
 			return nil, fmt.Errorf("parameters: %s has no k, l (Dunham model)", p.Name)
+		}
+		if p.Element == "" {
+			if k, l, err := model.ParseDunhamTerm(p.Name); err != nil || k != *p.K || l != *p.L {
+				return nil, fmt.Errorf("parameters: %s: k = %d, l = %d do not match the name", p.Name, *p.K, *p.L)
+			}
+		} else if *p.K < 0 || *p.K > 9 || *p.L < 0 || *p.L > 9 {
+			return nil, fmt.Errorf("parameters: %s: k = %d, l = %d must be single digits", p.Name, *p.K, *p.L)
 		}
 		if p.Element != "" {
 			n := model.DunhamName(*p.K, *p.L)
@@ -352,4 +501,90 @@ func (c *Constants) FreeValues() []float64 {
 		x[k] = c.Values[j]
 	}
 	return x
+}
+
+// covSigmaTolerance is the relative difference allowed between a fitted
+// parameter's σ and √C_ii: NewRecord writes them equal, so more is an edit.
+const covSigmaTolerance = 1e-6
+
+// psdTolerance is how far below zero an eigenvalue of the correlation matrix may
+// lie from rounding (its eigenvalues sum to the number of parameters).
+const psdTolerance = 1e-8
+
+// checkCovariance checks the covariance of a record against its fitted
+// parameters (in record order, calibration factors included): σ_i = √C_ii, every
+// correlation within −1…1, and the correlation matrix positive semi-definite.
+// A parameter with zero variance must have a zero row.
+func checkCovariance(ps []RecordParam, cov [][]float64) error {
+	var names []string
+	var sig []float64
+	for _, p := range ps {
+		if !p.Fixed {
+			n := p.Name
+			if p.V != nil {
+				n = fmt.Sprintf("%s_v%d", p.Name, *p.V)
+			}
+			if p.Species != "" && p.K == nil && p.Element == "" {
+				n += "[" + p.Species + "]"
+			}
+			if p.File != "" {
+				n += "[" + p.File + "]"
+			}
+			names = append(names, n)
+			sig = append(sig, p.Sigma)
+		}
+	}
+	n := len(cov)
+	if n != len(names) {
+		return nil // the caller reports the size
+	}
+	const advice = "the record was edited or damaged; fit the lines again"
+	var idx []int // parameters with positive variance
+	for i := 0; i < n; i++ {
+		v := cov[i][i]
+		switch {
+		case v < 0:
+			return fmt.Errorf("covariance: the variance of %s is negative (%g); %s", names[i], v, advice)
+		case math.Abs(sig[i]-math.Sqrt(v)) > covSigmaTolerance*math.Max(sig[i], math.Sqrt(v)):
+			return fmt.Errorf("covariance: %s has sigma %g but the covariance gives %g; %s", names[i], sig[i], math.Sqrt(v), advice)
+		case v == 0:
+			for j := 0; j < n; j++ {
+				if cov[i][j] != 0 {
+					return fmt.Errorf("covariance: %s has zero variance but covariance %g with %s; %s", names[i], cov[i][j], names[j], advice)
+				}
+			}
+			continue
+		}
+		idx = append(idx, i)
+	}
+	if len(idx) == 0 {
+		return nil
+	}
+	rho := mat.NewSymDense(len(idx), nil)
+	for a, i := range idx {
+		for b, j := range idx[a:] {
+			r := cov[i][j] / (math.Sqrt(cov[i][i]) * math.Sqrt(cov[j][j]))
+			if i != j && !(math.Abs(r) <= 1+psdTolerance) {
+				return fmt.Errorf("covariance: the correlation of %s and %s is %.6g, outside −1…1; %s", names[i], names[j], r, advice)
+			}
+			rho.SetSym(a, a+b, r)
+		}
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(rho, false) {
+		return fmt.Errorf("covariance: its eigenvalues cannot be computed; %s", advice)
+	}
+	if lmin := floatsMin(eig.Values(nil)); !(lmin >= -psdTolerance) {
+		return fmt.Errorf("covariance: not positive semi-definite (the correlation matrix has the eigenvalue %.3g): some combination of the parameters would have a negative variance; %s", lmin, advice)
+	}
+	return nil
+}
+
+// floatsMin returns the smallest of xs, NaN if any is NaN.
+func floatsMin(xs []float64) float64 {
+	m := math.Inf(1)
+	for _, x := range xs {
+		m = math.Min(m, x)
+	}
+	return m
 }

@@ -142,7 +142,11 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
 	b.WriteString("## Statistics\n\n| quantity | value |\n|---|---|\n")
 	st := r.Stats
 	fmt.Fprintf(&b, "| lines given | %d |\n| lines used | %d |\n| lines rejected | %d |\n| parameters fitted | %d |\n| degrees of freedom | %d |\n", st.Lines, st.Used, st.Rejected, st.Params, st.DOF)
-	fmt.Fprintf(&b, "| dimensionless standard deviation s | %.4g |\n| rms (cm⁻¹) | %.4g |\n", st.Sigma, st.RMSCm)
+	sText := fmt.Sprintf("%.4g", st.Sigma)
+	if math.IsNaN(st.Sigma) {
+		sText = "undefined (no degrees of freedom)"
+	}
+	fmt.Fprintf(&b, "| dimensionless standard deviation s | %s |\n| rms (cm⁻¹) | %.4g |\n", sText, st.RMSCm)
 	if st.LinesMHz > 0 {
 		fmt.Fprintf(&b, "| rms of MHz lines (MHz) | %.4g |\n", st.RMSMHz)
 	}

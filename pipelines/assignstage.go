@@ -13,6 +13,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/pipelines/outdir"
+	"bandwright/thermo"
 )
 
 // Files written by the assignment stage.
@@ -131,6 +132,9 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 	}
 	if !(T > 0) || math.IsInf(T, 0) {
 		return nil, UsageError{fmt.Errorf("assign: --temperature must be > 0 K, got %g", T)}
+	}
+	if T < thermo.MinTemperature || T > thermo.MaxTemperature {
+		return nil, UsageError{fmt.Errorf("assign: --temperature %g K is outside %g…%g K", T, thermo.MinTemperature, thermo.MaxTemperature)}
 	}
 	inputs := []string{o.Peaks}
 	var st *assign.Start

@@ -107,6 +107,11 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		if err != nil {
 			return nil, err
 		}
+		for _, in := range []string{ao.Start, ao.Constants} {
+			if in != "" {
+				d.Protect(in)
+			}
+		}
 		a, err := Assign(ao)
 		if err != nil {
 			return nil, err
@@ -185,6 +190,7 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		t.Provenance.Inputs[0].Path = ConstantsFile + " (this folder)"
 	}
 	oc.Thermo = t
+	d.Protect(t.Inputs...) // the card and the records it names
 	if err := WriteThermoOutputs(d, t); err != nil {
 		return nil, err
 	}

@@ -16,6 +16,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/internal/textcheck"
 	"bandwright/pipelines/outdir"
 )
 
@@ -110,6 +111,11 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 				list.Lines[i].File = n
 			}
 		}
+		for i := range list.Warnings {
+			if n, ok := rename[list.Warnings[i].File]; ok {
+				list.Warnings[i].File = n
+			}
+		}
 	}
 	kind := o.Model
 	if kind == "" {
@@ -134,6 +140,14 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 		if after[i] != hashes[i] {
 			return nil, fmt.Errorf("pipelines: %s changed while it was being read; run again when it is complete", o.Inputs[i])
 		}
+	}
+	// Warnings of the reader (lines given twice) come first, naming file and row.
+	if len(list.Warnings) > 0 {
+		ws := make([]string, 0, len(list.Warnings)+len(res.Warnings))
+		for _, w := range list.Warnings {
+			ws = append(ws, "linelist: "+w.String())
+		}
+		res.Warnings = append(ws, res.Warnings...)
 	}
 	rec := fit.NewRecord(res)
 	for i, in := range o.Inputs {
@@ -189,6 +203,9 @@ func HashFiles(paths []string) ([]string, error) {
 
 // HashFile returns the SHA-256 (hex) of a file's content.
 func HashFile(p string) (string, error) {
+	if why := textcheck.NotRegular(p); why != "" {
+		return "", UsageError{fmt.Errorf("pipelines: %s %s", p, why)}
+	}
 	f, err := os.Open(p)
 	if err != nil {
 		return "", fmt.Errorf("pipelines: %w", err)

@@ -13,6 +13,9 @@ func FuzzParsePipeline(f *testing.F) {
 	f.Add([]byte("[fit]\nreject = -1\n"))
 	f.Add([]byte("[[fit]]\n"))
 	f.Add([]byte("\xff\xfe"))
+	f.Add([]byte(""))
+	f.Add([]byte("\xef\xbb\xbfinput = \"lines\"\n[fit]\nreject = nan\n[thermo]\ntemperatures = [298.15, 1e9]\nrange = \"10:20:1\"\n"))
+	f.Add([]byte("[assign]\nstart = \"s.toml\"\ntemperature = 296,5\n"))
 	f.Fuzz(func(t *testing.T, b []byte) {
 		p, err := ParsePipeline(b, "fuzz.toml")
 		if err != nil {

@@ -5,11 +5,15 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
 
 	"github.com/BurntSushi/toml"
+
+	"bandwright/internal/textcheck"
+	"bandwright/thermo"
 )
 
 // Pipeline is a pipeline file: which stages run on an input and with which
@@ -88,6 +92,9 @@ const (
 // LoadPipeline reads and checks a pipeline file. Unknown keys are errors that
 // name the key; relative paths are resolved against the file's folder.
 func LoadPipeline(path string) (*Pipeline, error) {
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, UsageError{fmt.Errorf("pipelines: %s %s", path, why)}
+	}
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("pipelines: %w", err)
@@ -96,28 +103,41 @@ func LoadPipeline(path string) (*Pipeline, error) {
 }
 
 // ParsePipeline parses pipeline-file content; name is used in messages and its
-// folder anchors relative paths.
+// folder anchors relative paths. A file without any key (empty, or comments
+// only) is refused: an unattended run must not fall back on defaults because a
+// file was saved empty. Errors name the file, the line of the key and the key;
+// values are checked as the command line checks its flags (temperatures within
+// the thermo limits, a finite rejection threshold, …).
 func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	var p Pipeline
 	md, err := toml.Decode(string(b), &p)
 	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
-			return nil, UsageError{fmt.Errorf("pipelines: %s:%d: %s", name, pe.Position.Line, pe.Message)}
+			return nil, UsageError{fmt.Errorf("pipelines: %s:%d: %s%s", name, pe.Position.Line, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))}
 		}
 		return nil, UsageError{fmt.Errorf("pipelines: %s: %v", name, err)}
+	}
+	if len(md.Keys()) == 0 {
+		return nil, UsageError{fmt.Errorf("pipelines: %s: the file is empty (no keys); a pipeline file says at least what it reads, e.g. input = \"lines\"", name)}
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		var keys []string
 		for _, k := range und {
 			keys = append(keys, k.String())
 		}
-		return nil, UsageError{fmt.Errorf("pipelines: %s: unknown key %s (see the README's pipeline-file section)", name, strings.Join(keys, ", "))}
+		line := 0
+		if k := und[0]; len(k) == 1 {
+			line = textcheck.KeyLine(b, "", -1, k[0])
+		} else if len(k) == 2 {
+			line = textcheck.KeyLine(b, k[0], -1, k[1])
+		}
+		return nil, UsageError{fmt.Errorf("pipelines: %s: unknown key %s (see the README's pipeline-file section)", textcheck.At(name, line), strings.Join(keys, ", "))}
 	}
 	sum := sha256.Sum256(b)
 	p.Hash = hex.EncodeToString(sum[:])
 	p.Path = name
-	if err := p.check(name); err != nil {
+	if err := p.check(name, b); err != nil {
 		return nil, UsageError{err}
 	}
 	base := filepath.Dir(name)
@@ -137,36 +157,71 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	return &p, nil
 }
 
-func (p *Pipeline) check(name string) error {
+func (p *Pipeline) check(name string, b []byte) error {
+	// at is "name:line" of key in table ("" top level).
+	at := func(table, key string) string { return textcheck.At(name, textcheck.KeyLine(b, table, -1, key)) }
+	for _, s := range []struct{ table, key, v string }{
+		{"", "name", p.Name}, {"", "input", p.Input},
+	} {
+		if why := textcheck.InvalidUTF8(s.v); why != "" {
+			return fmt.Errorf("pipelines: %s: %s: %s", at(s.table, s.key), s.key, why)
+		}
+	}
 	switch p.Input {
 	case "":
 		p.Input = InputLines
 	case InputLines, InputPeaks:
 	default:
-		return fmt.Errorf("pipelines: %s: input: %q; use \"lines\" (assigned line lists) or \"peaks\" (peak lists, with an [assign] section)", name, p.Input)
+		return fmt.Errorf("pipelines: %s: input: %q; use \"lines\" (assigned line lists) or \"peaks\" (peak lists, with an [assign] section)", at("", "input"), p.Input)
 	}
 	if p.Input == InputPeaks {
 		if p.Assign == nil {
-			return fmt.Errorf("pipelines: %s: input = \"peaks\" needs an [assign] section (start or constants, bands)", name)
+			return fmt.Errorf("pipelines: %s: input = \"peaks\" needs an [assign] section (start or constants, bands)", at("", "input"))
 		}
 		if (p.Assign.Start == "") == (p.Assign.Constants == "") {
-			return fmt.Errorf("pipelines: %s: assign: give exactly one of start and constants", name)
+			return fmt.Errorf("pipelines: %s: assign: give exactly one of start and constants", textcheck.At(name, textcheck.KeyLine(b, "assign", -1, "")))
+		}
+	}
+	if a := p.Assign; a != nil {
+		if T := a.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
+			return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, DefaultAssignTemp)
+		}
+		if !(a.Tolerance >= 0) || math.IsInf(a.Tolerance, 0) {
+			return fmt.Errorf("pipelines: %s: assign.tolerance: %v must be a finite number > 0 (0: the default)", at("assign", "tolerance"), a.Tolerance)
 		}
 	}
 	if p.Fit != nil {
-		if p.Fit.Reject != nil && *p.Fit.Reject < 0 {
-			return fmt.Errorf("pipelines: %s: fit.reject: must be ≥ 0 (0 turns rejection off)", name)
+		if r := p.Fit.Reject; r != nil && (!(*r >= 0) || math.IsInf(*r, 0)) {
+			return fmt.Errorf("pipelines: %s: fit.reject: must be a finite number ≥ 0 (0 turns rejection off), got %v", at("fit", "reject"), *r)
 		}
 		switch p.Fit.Model {
 		case "", "levels", "dunham":
 		default:
-			return fmt.Errorf("pipelines: %s: fit.model: %q; use \"levels\" or \"dunham\"", name, p.Fit.Model)
+			return fmt.Errorf("pipelines: %s: fit.model: %q; use \"levels\" or \"dunham\"", at("fit", "model"), p.Fit.Model)
+		}
+	}
+	if t := p.Thermo; t != nil {
+		if t.MC < 0 {
+			return fmt.Errorf("pipelines: %s: thermo.mc: %d; give the number of Monte Carlo draws (0: off)", at("thermo", "mc"), t.MC)
+		}
+		for i, x := range t.Temperatures {
+			if err := checkTemperature(x); err != nil {
+				return fmt.Errorf("pipelines: %s: thermo.temperatures: entry %d: %w", at("thermo", "temperatures"), i+1, err)
+			}
+		}
+		if t.Range != "" {
+			if len(t.Temperatures) > 0 {
+				return fmt.Errorf("pipelines: %s: thermo: give either temperatures or range, not both", at("thermo", "range"))
+			}
+			if _, err := ParseRange(t.Range); err != nil {
+				return fmt.Errorf("pipelines: %s: thermo.range: %w", at("thermo", "range"), err)
+			}
 		}
 	}
 	if p.Report != nil {
 		for _, f := range p.Report.Formats {
 			if f != "html" && f != "md" {
-				return fmt.Errorf("pipelines: %s: report.formats: %q; use \"html\" and/or \"md\"", name, f)
+				return fmt.Errorf("pipelines: %s: report.formats: %q; use \"html\" and/or \"md\"", at("report", "formats"), f)
 			}
 		}
 	}

@@ -51,6 +51,21 @@ formats = ["html", "md"]
 		{"[fit]\nreject = -1\n", "fit.reject"},
 		{"[report]\nformats = [\"pdf\"]\n", "report.formats"},
 		{"name = \n", "pipe.toml:1"},
+		{"", "the file is empty"},
+		{"# only a comment\n\n", "the file is empty"},
+		// The line of the key, and hints for what hand-made files get wrong.
+		{"name = \"x\"\n[fit]\nmodle = \"dunham\"\n", "pipe.toml:3: unknown key fit.modle"},
+		{"# a pipeline\n[fit]\nreject = -1\n", "pipe.toml:3: fit.reject"},
+		{"[fit]\nreject = nan\n", "pipe.toml:2: fit.reject"},
+		{"[assign]\nstart = \"s.toml\"\nbands = [\"1-0\"]\ntemperature = 296,5\n", "pipe.toml:4: "},
+		{"[assign]\nstart = \"s.toml\"\nbands = [\"1-0\"]\ntemperature = 296,5\n", "(decimal comma?"},
+		{"[assign]\nstart = \"s.toml\"\ntemperature = -296.0\n", "pipe.toml:3: assign.temperature"},
+		{"[thermo]\ntemperatures = [298.15, inf]\n", "pipe.toml:2: thermo.temperatures: entry 2"},
+		{"[thermo]\ntemperatures = [0.001]\n", "thermo.temperatures: entry 1: 0.001 K is outside"},
+		{"[thermo]\nrange = \"10:1e9:1\"\n", "pipe.toml:2: thermo.range"},
+		{"[thermo]\nmc = -5\n", "pipe.toml:2: thermo.mc"},
+		{"name = \"caf\xe9\"\n", "pipe.toml:1: "},
+		{"\xef\xbb\xbfname = \"x\"\ninput = \"spectra\"\n", "pipe.toml:2: input"},
 	}
 	for _, c := range bad {
 		_, err := ParsePipeline([]byte(c.text), "pipe.toml")

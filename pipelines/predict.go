@@ -9,10 +9,14 @@ import (
 	"github.com/google/renameio/v2"
 
 	"bandwright/fit"
+	"bandwright/internal/textcheck"
 )
 
 // LoadConstants reads a constants record from a file.
 func LoadConstants(path string) (*fit.Record, *fit.Constants, error) {
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, nil, UsageError{fmt.Errorf("pipelines: %s %s", path, why)}
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("pipelines: %w", err)
@@ -60,8 +64,35 @@ func RunPredict(constants, sp string, bands []fit.BandSpec, jmax int, branches [
 }
 
 // writeFileAtomic writes a single file through a temporary file renamed into
-// place (google/renameio).
-func writeFileAtomic(path string, fn func(io.Writer) error) error {
+// place (google/renameio). Missing parent folders are created, and removed
+// again when the write fails.
+func writeFileAtomic(path string, fn func(io.Writer) error) (err error) {
+	if st, err := os.Stat(path); err == nil && st.IsDir() {
+		return fmt.Errorf("pipelines: %s is a folder; give a file name", path)
+	}
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return fmt.Errorf("pipelines: %w", err)
+	}
+	var created []string
+	for p := filepath.Dir(abs); ; p = filepath.Dir(p) {
+		if _, err := os.Lstat(p); err == nil || filepath.Dir(p) == p {
+			break
+		}
+		created = append(created, p) // innermost first
+	}
+	defer func() {
+		if err != nil {
+			for _, p := range created {
+				if os.Remove(p) != nil {
+					break
+				}
+			}
+		}
+	}()
+	if err := os.MkdirAll(filepath.Dir(abs), 0o755); err != nil {
+		return fmt.Errorf("pipelines: %w", err)
+	}
 	t, err := renameio.NewPendingFile(path)
 	if err != nil {
 		return fmt.Errorf("pipelines: %w", err)
@@ -71,7 +102,7 @@ func writeFileAtomic(path string, fn func(io.Writer) error) error {
 		return fmt.Errorf("pipelines: writing %s: %w", path, err)
 	}
 	if err := t.CloseAtomicallyReplace(); err != nil {
-		return fmt.Errorf("pipelines: %w", err)
+		return fmt.Errorf("pipelines: writing %s: %w", path, err)
 	}
 	return nil
 }

@@ -13,6 +13,7 @@ import (
 
 	"bandwright/fit"
 	"bandwright/fit/species"
+	"bandwright/internal/textcheck"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
 )
@@ -125,6 +126,9 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: o.Constants, Species: o.Species}
 	var card *thermo.Card
 	if o.Card != "" {
+		if why := textcheck.NotRegular(o.Card); why != "" {
+			return nil, UsageError{fmt.Errorf("pipelines: %s %s", o.Card, why)}
+		}
 		f, err := os.Open(o.Card)
 		if err != nil {
 			return nil, fmt.Errorf("pipelines: %w", err)
@@ -136,6 +140,9 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		}
 		inputs = append(inputs, o.Card)
 		if p.Species == "" {
+			if err := card.CheckSpecies(o.Constants, c.Model.Species()); err != nil {
+				return nil, err
+			}
 			p.Species = card.Species
 		}
 	}

@@ -1,6 +1,7 @@
 package thermo
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -10,6 +11,7 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"bandwright/fit/species"
+	"bandwright/internal/textcheck"
 )
 
 // Card is a species card: the electronic states that enter the partition
@@ -39,6 +41,7 @@ type Card struct {
 	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when not given.
 	DissociationEnergy float64
 	States             []CardState
+	speciesAt          string // "name:line" of the species key, for messages
 }
 
 // CardState is one electronic state of a card.
@@ -73,8 +76,10 @@ const maxCardSize = 1 << 20
 
 // ReadCard reads and checks a species card. name is the file name used in
 // messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
-// lambda of every state), non-finite or negative energies and malformed symmetry
-// labels are errors naming the file and the field.
+// lambda of every state), non-finite or negative energies, malformed symmetry
+// labels and text that is not UTF-8 are errors naming the file, the line (where
+// the key can be found in the text) and the field; a number written with a
+// decimal comma gets a hint.
 func ReadCard(r io.Reader, name string) (*Card, error) {
 	b, err := io.ReadAll(io.LimitReader(r, maxCardSize+1))
 	if err != nil {
@@ -86,7 +91,25 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 	var raw rawCard
 	md, err := toml.Decode(string(b), &raw)
 	if err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			field := ""
+			if pe.LastKey != "" {
+				field = pe.LastKey + ": "
+			}
+			return nil, fmt.Errorf("thermo: %s:%d: %s%s%s", name, pe.Position.Line, field, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))
+		}
 		return nil, fmt.Errorf("thermo: %s: %w", name, err)
+	}
+	// top and state give "name:line" of a key for messages (name alone when the
+	// line cannot be found).
+	top := func(key string) string { return textcheck.At(name, textcheck.KeyLine(b, "", -1, key)) }
+	state := func(i int, key string) string {
+		line := textcheck.KeyLine(b, "state", i, key)
+		if line == 0 {
+			line = textcheck.KeyLine(b, "state", i, "")
+		}
+		return textcheck.At(name, line)
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		keys := make([]string, len(und))
@@ -94,20 +117,40 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 			keys[i] = k.String()
 		}
 		sort.Strings(keys)
-		return nil, fmt.Errorf("thermo: %s: unknown key %q (a card knows %s)", name, keys[0], cardKeys)
+		where := name
+		for _, k := range und {
+			if k.String() != keys[0] {
+				continue
+			}
+			if len(k) == 2 && k[0] == "state" {
+				for i := range raw.State {
+					if l := textcheck.KeyLine(b, "state", i, k[1]); l > 0 {
+						where = textcheck.At(name, l)
+						break
+					}
+				}
+			} else if len(k) == 1 {
+				where = top(k[0])
+			}
+		}
+		return nil, fmt.Errorf("thermo: %s: unknown key %q (a card knows %s)", where, keys[0], cardKeys)
 	}
 	c := &Card{Name: name}
 	if raw.Species != nil {
+		if why := textcheck.InvalidUTF8(*raw.Species); why != "" {
+			return nil, fmt.Errorf("thermo: %s: species: %s", top("species"), why)
+		}
 		iso, err := species.Parse(*raw.Species)
 		if err != nil {
-			return nil, fmt.Errorf("thermo: %s: species: %w", name, err)
+			return nil, fmt.Errorf("thermo: %s: species: %w", top("species"), err)
 		}
 		c.Species = iso.Label
+		c.speciesAt = top("species")
 	}
 	if raw.DissociationEnergy != nil {
 		d := *raw.DissociationEnergy
 		if !(d > 0) || math.IsInf(d, 0) {
-			return nil, fmt.Errorf("thermo: %s: dissociation_energy: %v cm-1 must be a finite number > 0", name, d)
+			return nil, fmt.Errorf("thermo: %s: dissociation_energy: %v cm-1 must be a finite number > 0", top("dissociation_energy"), d)
 		}
 		c.DissociationEnergy = d
 	}
@@ -116,58 +159,68 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 	}
 	ground := -1
 	for i, rs := range raw.State {
-		where := fmt.Sprintf("thermo: %s: state %d", name, i+1)
+		what := fmt.Sprintf("state %d", i+1)
 		var s CardState
 		if rs.Label != nil {
 			s.Label = *rs.Label
-			where += fmt.Sprintf(" (%s)", s.Label)
+			if why := textcheck.InvalidUTF8(s.Label); why != "" {
+				return nil, fmt.Errorf("thermo: %s: %s: label: %s", state(i, "label"), what, why)
+			}
+			what += fmt.Sprintf(" (%s)", s.Label)
 		} else {
 			s.Label = fmt.Sprintf("state %d", i+1)
 		}
+		// fail formats the error of key of this state.
+		fail := func(key, format string, a ...any) error {
+			return fmt.Errorf("thermo: %s: %s: %s: %s", state(i, key), what, key, fmt.Sprintf(format, a...))
+		}
 		if rs.TermEnergy == nil {
-			return nil, fmt.Errorf("%s: term_energy: missing (cm-1; 0 for the ground state)", where)
+			return nil, fail("term_energy", "missing (cm-1; 0 for the ground state)")
 		}
 		s.TermEnergy = *rs.TermEnergy
 		if !(s.TermEnergy >= 0) || math.IsInf(s.TermEnergy, 0) {
-			return nil, fmt.Errorf("%s: term_energy: %v must be a finite number ≥ 0 cm-1", where, s.TermEnergy)
+			return nil, fail("term_energy", "%v must be a finite number ≥ 0 cm-1", s.TermEnergy)
 		}
 		if s.TermEnergy == 0 {
 			if ground >= 0 {
-				return nil, fmt.Errorf("%s: term_energy: 0 is already the term energy of state %d; exactly one state is the ground state", where, ground+1)
+				return nil, fail("term_energy", "0 is already the term energy of state %d; exactly one state is the ground state", ground+1)
 			}
 			ground = i
 		}
 		if rs.SpinMultiplicity == nil {
-			return nil, fmt.Errorf("%s: spin_multiplicity: missing (2S+1: 1 singlet, 2 doublet, 3 triplet, …)", where)
+			return nil, fail("spin_multiplicity", "missing (2S+1: 1 singlet, 2 doublet, 3 triplet, …)")
 		}
 		s.Multiplicity = *rs.SpinMultiplicity
 		if s.Multiplicity < 1 || s.Multiplicity > 20 {
-			return nil, fmt.Errorf("%s: spin_multiplicity: %d must be within 1…20", where, s.Multiplicity)
+			return nil, fail("spin_multiplicity", "%d must be within 1…20", s.Multiplicity)
 		}
 		if rs.Lambda == nil {
-			return nil, fmt.Errorf("%s: lambda: missing (|Λ|: 0 Σ, 1 Π, 2 Δ, …)", where)
+			return nil, fail("lambda", "missing (|Λ|: 0 Σ, 1 Π, 2 Δ, …)")
 		}
 		s.Lambda = *rs.Lambda
 		if s.Lambda < 0 || s.Lambda > 10 {
-			return nil, fmt.Errorf("%s: lambda: %d must be within 0…10", where, s.Lambda)
+			return nil, fail("lambda", "%d must be within 0…10", s.Lambda)
 		}
 		if rs.Symmetry != nil {
 			y, err := ParseSymmetry(strings.TrimSpace(*rs.Symmetry))
 			if err != nil {
-				return nil, fmt.Errorf("%s: symmetry: %w", where, err)
+				return nil, fail("symmetry", "%v", err)
 			}
 			if s.Lambda > 0 && y.Reflection != 0 {
-				return nil, fmt.Errorf("%s: symmetry: %q: a state with Λ > 0 has both ± components; give only g or u", where, *rs.Symmetry)
+				return nil, fail("symmetry", "%q: a state with Λ > 0 has both ± components; give only g or u", *rs.Symmetry)
 			}
 			s.Symmetry = y
 		}
 		if rs.Constants != nil {
 			s.Constants = strings.TrimSpace(*rs.Constants)
 			if s.Constants == "" {
-				return nil, fmt.Errorf("%s: constants: empty path", where)
+				return nil, fail("constants", "empty path")
+			}
+			if why := textcheck.InvalidUTF8(s.Constants); why != "" {
+				return nil, fail("constants", "%s", why)
 			}
 			if s.TermEnergy == 0 {
-				return nil, fmt.Errorf("%s: constants: the ground state (term_energy 0) takes its constants from the record given to thermo; remove this key", where)
+				return nil, fail("constants", "the ground state (term_energy 0) takes its constants from the record given to thermo; remove this key")
 			}
 		}
 		c.States = append(c.States, s)
@@ -176,6 +229,25 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 		return nil, fmt.Errorf("thermo: %s: term_energy: no state has term_energy 0 (the ground state)", name)
 	}
 	return c, nil
+}
+
+// CheckSpecies checks that a card naming its species is used with a constants
+// record (named record in messages) that describes it: have lists the record's
+// isotopologues.
+func (c *Card) CheckSpecies(record string, have []string) error {
+	if c.Species == "" {
+		return nil
+	}
+	for _, h := range have {
+		if h == c.Species {
+			return nil
+		}
+	}
+	at := c.speciesAt
+	if at == "" {
+		at = c.Name
+	}
+	return fmt.Errorf("thermo: %s: species: the card is for %s, but %s has %s (correct the card, or give the constants of %s)", at, c.Species, record, strings.Join(have, ", "), c.Species)
 }
 
 // Check checks the card against the isotopologue the thermo stage computes:

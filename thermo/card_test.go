@@ -73,7 +73,7 @@ func TestReadCardErrors(t *testing.T) {
 		{"species = \"12C16\"\n" + state(""), "species"},
 		{"species = \"12C16O\"\n", "state"},
 		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = \"three\"\nlambda = 0\n", "spin_multiplicity"},
-		{"[[state]\n", "line"},
+		{"[[state]\n", "card.toml:2: "},
 	}
 	for _, tc := range cases {
 		_, err := ReadCard(strings.NewReader(tc.card), "card.toml")
@@ -84,6 +84,20 @@ func TestReadCardErrors(t *testing.T) {
 		msg := err.Error()
 		if !strings.HasPrefix(msg, "thermo: card.toml") || !strings.Contains(msg, tc.field) {
 			t.Errorf("error %q does not name the file and %q", msg, tc.field)
+		}
+	}
+	// Lines: the message names the line of the key, and a decimal comma gets a hint.
+	for _, tc := range []struct{ card, want string }{
+		{"# O2\n\n[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 3\nlambda = 11\n", "thermo: card.toml:7: state 1 (X): lambda: 11 must be within 0…10"},
+		{"[[state]]\nterm_energy = 0.0\nlambda = 0\n", "thermo: card.toml:1: state 1: spin_multiplicity: missing"},
+		{"dissociation_energy = 41260,5\n" + state(""), "card.toml:1: "},
+		{"dissociation_energy = 41260,5\n" + state(""), "(decimal comma?"},
+		{state("") + "[[state]]\nlabel = \"a\"\nterm_energy = 7918.1\nspin_multiplicity = 1\nlambda = 2\ncolour = 1\n", "card.toml:11: unknown key \"state.colour\""},
+		{"[[state]]\nlabel = \"X\xff\"\n", "card.toml:2: state.label: invalid UTF-8"},
+	} {
+		_, err := ReadCard(strings.NewReader(tc.card), "card.toml")
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%q: %v, want %q", tc.card, err, tc.want)
 		}
 	}
 	// Symmetry checks against the molecule.
@@ -111,6 +125,8 @@ func FuzzReadCard(f *testing.F) {
 	f.Add("species = \"14N2\"\n[[state]]\nterm_energy = 0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"g+\"\n")
 	f.Add("[[state]\n")
 	f.Add("state = 5")
+	f.Add("dissociation_energy = 41260,5\n[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
+	f.Add("species = \"12C16O\"\n[[state]]\nlabel = \"caf\xe9\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Fuzz(func(t *testing.T, s string) {
 		c, err := ReadCard(strings.NewReader(s), "fuzz.toml")
 		if err != nil {

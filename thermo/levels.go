@@ -95,6 +95,7 @@ type manifold struct {
 	missJ      []int32
 	missNote   string
 	ceilingAbs float64 // model energy ceiling, +Inf when none
+	warn       []string
 }
 
 type vibRot struct {
@@ -314,6 +315,9 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 			}
 		}
 	}
+	if err := checkPSD(sys.cov, sys.names); err != nil {
+		return nil, err
+	}
 
 	// Weights of each state.
 	type weights struct {
@@ -383,6 +387,7 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 			return nil, err
 		}
 		m.flagExtrapolated(obs, iso.Label)
+		sys.warnings = append(sys.warnings, m.warn...)
 		manOf[b] = len(sys.manifolds)
 		sys.stateMan[i] = len(sys.manifolds)
 		sys.manifolds = append(sys.manifolds, m)
@@ -619,6 +624,17 @@ func enumerateManifold(c *fit.Constants, sp, blk int, term, eRef, eNeg, ceiling,
 		m.vReason = topReason
 		for v := 0; v <= vTop; v++ {
 			gv := c.Model.Energy(sp, v, 0, c.Values, nil)
+			if e1 := c.Model.Energy(sp, v, 1, c.Values, nil); !(e1 > gv) {
+				// E(v, 1) ≤ E(v, 0): the model's rotational constant B_v is not
+				// positive here, so from this v on it describes no rotational
+				// structure at all.
+				if v == 0 {
+					return nil, cannot("%s: the model's rotational spacing E(v=0, J=1) − E(v=0, J=0) = %.6g cm-1 is not positive (B_0 ≤ 0): the constants describe no rotational levels", c.Model.Species()[sp], e1-gv)
+				}
+				m.vReason = fmt.Sprintf("the model's B_v turns negative at v=%d (E(v, J=1) ≤ E(v, J=0)): the sum stops at v=%d", v, v-1)
+				m.warn = append(m.warn, fmt.Sprintf("%s: the model's rotational constant B_v turns negative at v=%d (E(v, J=1) ≤ E(v, J=0): the Dunham expansion is extrapolated beyond its range); levels from v=%d on are left out of the sum", c.Model.Species()[sp], v, v))
+				break
+			}
 			if gv > ceiling {
 				m.vReason = fmt.Sprintf("%s reached after v=%d", d0Reason, v-1)
 				break
@@ -645,6 +661,15 @@ func enumerateManifold(c *fit.Constants, sp, blk int, term, eRef, eNeg, ceiling,
 			}
 			if !(e > ePrev) {
 				reason = "centrifugal turnover"
+				if J == 1 {
+					// Only a levels model gets here (a Dunham sum stops at the
+					// first v with B_v ≤ 0): a fitted B_v that is not positive.
+					if v == vs[0] {
+						return nil, cannot("%s: the rotational spacing E(v=%d, J=1) − E(v=%d, J=0) = %.6g cm-1 of the lowest level is not positive (B_v ≤ 0): the constants describe no rotational levels", c.Model.Species()[sp], v, v, e-ePrev)
+					}
+					reason = "B_v not positive (J = 0 only)"
+					m.warn = append(m.warn, fmt.Sprintf("%s: the rotational constant of v=%d is not positive (E(v,1) ≤ E(v,0)); only its J = 0 level enters the sum", c.Model.Species()[sp], v))
+				}
 				break
 			}
 			if e > ceiling {
@@ -893,4 +918,57 @@ func compressInts(xs []int) string {
 	}
 	flush()
 	return strings.Join(parts, ", ")
+}
+
+// checkPSD refuses a covariance that no multivariate normal has: a negative or
+// non-finite variance, or a correlation matrix with an eigenvalue below −1e-8
+// (rounding aside, a combination of the parameters with negative variance).
+// Linear propagation would take the square root of a negative number and the
+// Monte Carlo draws would quietly use another covariance.
+func checkPSD(cov *mat.SymDense, names []string) error {
+	n := len(names)
+	sd := make([]float64, n)
+	var idx []int
+	for i := 0; i < n; i++ {
+		v := cov.At(i, i)
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return fmt.Errorf("thermo: the variance of %s is %v: a covariance needs finite variances ≥ 0", names[i], v)
+		}
+		sd[i] = math.Sqrt(v)
+		if v > 0 {
+			idx = append(idx, i)
+			continue
+		}
+		for j := 0; j < n; j++ {
+			if cov.At(i, j) != 0 {
+				return fmt.Errorf("thermo: %s has zero variance but covariance %g with %s: the covariance is not positive semi-definite", names[i], cov.At(i, j), names[j])
+			}
+		}
+	}
+	if len(idx) == 0 {
+		return nil
+	}
+	rho := mat.NewSymDense(len(idx), nil)
+	for a, i := range idx {
+		for b := a; b < len(idx); b++ {
+			j := idx[b]
+			r := cov.At(i, j) / (sd[i] * sd[j])
+			if math.IsNaN(r) || math.IsInf(r, 0) {
+				return fmt.Errorf("thermo: the covariance of %s and %s is not finite", names[i], names[j])
+			}
+			rho.SetSym(a, b, r)
+		}
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(rho, false) {
+		return errors.New("thermo: the eigenvalues of the covariance cannot be computed")
+	}
+	lmin := math.Inf(1)
+	for _, l := range eig.Values(nil) {
+		lmin = math.Min(lmin, l)
+	}
+	if !(lmin >= -1e-8) {
+		return fmt.Errorf("thermo: the covariance of the constants is not positive semi-definite (its correlation matrix has the eigenvalue %.3g): some combination of the parameters would have a negative variance", lmin)
+	}
+	return nil
 }

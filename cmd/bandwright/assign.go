@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"os"
 	"path/filepath"
 
 	"github.com/urfave/cli/v2"
@@ -56,15 +55,16 @@ func assignCommand() *cli.Command {
 				return err
 			}
 			r := oc.Result
-			fmt.Fprintf(os.Stdout, "assign: %d lines assigned, %d peaks left over, internal fit rms %.3g cm-1\n", len(r.Lines), len(r.Unassigned), r.Fit.Stats.RMSCm)
+			fmt.Fprintf(c.App.Writer, "assign: %d lines assigned, %d peaks left over, internal fit rms %.3g cm-1\n", len(r.Lines), len(r.Unassigned), r.Fit.Stats.RMSCm)
 			for _, b := range r.Bands {
 				if b.Locked {
-					fmt.Fprintf(os.Stdout, "  %s: %d lines\n", b.Label(), b.Lines)
-				} else {
-					fmt.Fprintf(os.Stderr, "warning: band %s not locked: %s\n", b.Label(), b.Lock.Reason)
+					fmt.Fprintf(c.App.Writer, "  %s: %d lines\n", b.Label(), b.Lines)
 				}
 			}
-			fmt.Fprintf(os.Stdout, "results in %s (check %s)\n", filepath.Join(oc.Out, pipelines.LinesFile), filepath.Join(oc.Out, pipelines.AssignReportFile))
+			for _, w := range r.Warnings { // bands not locked, duplicate peaks, …
+				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
+			}
+			fmt.Fprintf(c.App.Writer, "results in %s (check %s)\n", filepath.Join(oc.Out, pipelines.LinesFile), filepath.Join(oc.Out, pipelines.AssignReportFile))
 			return nil
 		},
 	}

@@ -2,7 +2,7 @@ package main
 
 import (
 	"fmt"
-	"os"
+	"math"
 	"path/filepath"
 	"strings"
 
@@ -70,11 +70,15 @@ func fitCommand() *cli.Command {
 				return err
 			}
 			st := oc.Result.Stats
-			fmt.Fprintf(os.Stdout, "fit: %d lines (%d used, %d rejected), %d parameters, s = %.3g, rms %.3g cm-1\n", st.Lines, st.Used, st.Rejected, st.Params, st.Sigma, st.RMSCm)
-			for _, w := range oc.Result.Warnings {
-				fmt.Fprintln(os.Stderr, "warning:", w)
+			sText := fmt.Sprintf("%.3g", st.Sigma)
+			if math.IsNaN(st.Sigma) {
+				sText = "undefined (no degrees of freedom)"
 			}
-			fmt.Fprintf(os.Stdout, "results in %s\n", filepath.Join(o.Out, pipelines.ConstantsFile))
+			fmt.Fprintf(c.App.Writer, "fit: %d lines (%d used, %d rejected), %d parameters, s = %s, rms %.3g cm-1\n", st.Lines, st.Used, st.Rejected, st.Params, sText, st.RMSCm)
+			for _, w := range oc.Result.Warnings {
+				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
+			}
+			fmt.Fprintf(c.App.Writer, "results in %s\n", filepath.Join(o.Out, pipelines.ConstantsFile))
 			return nil
 		},
 	}
@@ -108,7 +112,7 @@ func predictCommand() *cli.Command {
 			if err != nil {
 				return err
 			}
-			fmt.Printf("predict: %d lines written to %s\n", n, c.String("out"))
+			fmt.Fprintf(c.App.Writer, "predict: %d lines written to %s\n", n, c.String("out"))
 			return nil
 		},
 	}

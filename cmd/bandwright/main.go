@@ -9,6 +9,7 @@ package main
 import (
 	"errors"
 	"fmt"
+	"io"
 	"os"
 	"sort"
 	"strings"
@@ -19,17 +20,22 @@ import (
 )
 
 func main() {
-	os.Exit(run(os.Args))
+	os.Exit(run(os.Args, os.Stdout, os.Stderr))
 }
 
-// run executes the command line and returns the exit code.
-func run(args []string) int {
+// run executes the command line with its output going to stdout and stderr, and
+// returns the exit code (it never exits the process itself, so tests can call it).
+func run(args []string, stdout, stderr io.Writer) int {
 	app := newApp()
+	app.Writer, app.ErrWriter = stdout, stderr
+	// The library would print an exit error and end the process itself; run
+	// returns the code instead.
+	app.ExitErrHandler = func(*cli.Context, error) {}
 	err := app.Run(flagsFirst(app, args))
 	if err == nil {
 		return 0
 	}
-	fmt.Fprintln(os.Stderr, "bandwright:", err)
+	fmt.Fprintln(stderr, "bandwright:", err)
 	var ec cli.ExitCoder
 	if errors.As(err, &ec) {
 		return ec.ExitCode()

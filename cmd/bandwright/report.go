@@ -35,7 +35,7 @@ func reportCommand() *cli.Command {
 			if err != nil {
 				return err
 			}
-			fmt.Printf("report: %d files written into %s (%s)\n", len(names), dir, filepath.Join(dir, report.HTMLFile))
+			fmt.Fprintf(c.App.Writer, "report: %d files written into %s (%s)\n", len(names), dir, filepath.Join(dir, report.HTMLFile))
 			return nil
 		},
 	}

@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"os"
 
 	"github.com/urfave/cli/v2"
 
@@ -47,14 +46,19 @@ func runCommand() *cli.Command {
 				return err
 			}
 			for _, s := range oc.Chosen {
-				fmt.Println(s)
+				fmt.Fprintln(c.App.Writer, s)
 			}
 			st := oc.Fit.Result.Stats
-			fmt.Printf("fit: %s model, %d lines (%d used, %d rejected), s = %.3g\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma)
-			for _, w := range oc.Fit.Result.Warnings {
-				fmt.Fprintln(os.Stderr, "warning:", w)
+			fmt.Fprintf(c.App.Writer, "fit: %s model, %d lines (%d used, %d rejected), s = %.3g\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma)
+			if oc.Assign != nil {
+				for _, w := range oc.Assign.Result.Warnings {
+					fmt.Fprintln(c.App.ErrWriter, "warning: assign:", w)
+				}
 			}
-			fmt.Printf("report: %s\n", oc.ReportPath())
+			for _, w := range oc.Fit.Result.Warnings {
+				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
+			}
+			fmt.Fprintf(c.App.Writer, "report: %s\n", oc.ReportPath())
 			return nil
 		},
 	}
@@ -81,22 +85,22 @@ func nightlyCommand() *cli.Command {
 			if c.Int("workers") < 1 {
 				return usageExit("nightly: --workers must be at least 1")
 			}
-			ctx, cancel := nightly.NotifyContext(context.Background(), os.Stderr)
+			ctx, cancel := nightly.NotifyContext(context.Background(), c.App.ErrWriter)
 			defer cancel()
 			rep, err := pipelines.RunNightly(ctx, pipelines.NightlyOptions{
 				Inbox: c.String("inbox"), Archive: c.String("archive"), Pipeline: c.String("pipeline"),
-				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Progress: os.Stderr,
+				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Progress: c.App.ErrWriter,
 			})
 			var be *pipelines.BatchError
 			if err != nil && !errors.As(err, &be) {
 				return err
 			}
-			fmt.Printf("nightly: %d processed, %d ok, %d failed, %d skipped, %d already done\n", rep.Processed, rep.Succeeded, rep.Failed, rep.Skipped, rep.AlreadyDone)
+			fmt.Fprintf(c.App.Writer, "nightly: %d processed, %d ok, %d failed, %d skipped, %d already done\n", rep.Processed, rep.Succeeded, rep.Failed, rep.Skipped, rep.AlreadyDone)
 			if rep.Summary != "" {
-				fmt.Printf("summary: %s\n", rep.Summary)
+				fmt.Fprintf(c.App.Writer, "summary: %s\n", rep.Summary)
 			}
 			if rep.Interrupted {
-				fmt.Println("nightly: stopped by a signal; the remaining files will be done by the next run")
+				fmt.Fprintln(c.App.Writer, "nightly: stopped by a signal; the remaining files will be done by the next run")
 			}
 			return err
 		},

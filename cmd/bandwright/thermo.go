@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 
@@ -67,12 +66,12 @@ func thermoCommand() *cli.Command {
 				return err
 			}
 			r := oc.Result
-			fmt.Printf("thermo: %s, %d temperatures, %d levels; %s; %s\n", r.Conventions.Species, len(r.Rows), r.System.NumLevels(),
+			fmt.Fprintf(c.App.Writer, "thermo: %s, %d temperatures, %d levels; %s; %s\n", r.Conventions.Species, len(r.Rows), r.System.NumLevels(),
 				r.Conventions.PressureLabel, r.Conventions.NuclearSpin)
 			for _, w := range r.Warnings {
-				fmt.Fprintln(os.Stderr, "warning:", w)
+				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
 			}
-			fmt.Printf("results in %s (%s, %s, %s)\n", o.Out, pipelines.ThermoCSVFile, pipelines.ThermoJSONFile, pipelines.NASA7File)
+			fmt.Fprintf(c.App.Writer, "results in %s (%s, %s, %s)\n", o.Out, pipelines.ThermoCSVFile, pipelines.ThermoJSONFile, pipelines.NASA7File)
 			return nil
 		},
 	}

@@ -25,6 +25,11 @@ func FuzzRead(f *testing.F) {
 		hdr + "12C16O,1,1,0,0,2147.08,0.001\n",
 		hdr[:len(hdr)-1] + ",comment,x\n12C16O,1,1,0,0,2147.08,0.001,\"a\r\r\nb\",=1\n",
 		hdr[:len(hdr)-1] + ",unit,branch\nD35Cl,1,0,0,1,6e7,3,MHz,P\n",
+		// Positions in MHz without a unit, a mix, a duplicate, text that is not UTF-8.
+		hdr + "12C16O,1,1,0,0,64368290.7,0.03\n",
+		hdr + "12C16O,1,1,0,0,2147.08,0.001\n12C16O,1,2,0,1,64482003.1,0.03\n12C16O,0,1,0,0,115271.2,0.001\n",
+		hdr + "12C16O,1,1,0,0,2147.08,0.001\n12C16O,1,1,0,0,2147.08,0.002\n",
+		hdr[:len(hdr)-1] + ",comment\n12C16O,1,1,0,0,2147.08,0.001,caf\xe9\n",
 	} {
 		f.Add([]byte(s))
 	}

@@ -21,7 +21,20 @@
 //	branch    no        O, P, Q, R or S; checked against ΔJ = J_up − J_lo
 //	comment   no        free text
 //
-// Any other column is kept and passed through (List.Extra, Line.Extra).
+// Any other column is kept and passed through (List.Extra, Line.Extra). Every cell must
+// be UTF-8 text.
+//
+// # Units
+//
+// A position in cm⁻¹ must be a transition within one electronic state of a diatomic
+// molecule, which bounds it: it must lie below MaxWavenumber (above the dissociation
+// energy of every diatomic molecule), and a pure-rotation line (v_up = v_lo) must imply
+// a rotational constant ν/(x_up − x_lo), x = J(J+1), below MaxRotationalConstant.
+// Positions in MHz written without a unit are far beyond both (a vibrational band
+// in MHz is above 10⁶, a rotational constant in MHz above 100), so such rows are refused
+// with a hint to add a unit column. In a file without a unit column, a band (one
+// species, v_up, v_lo) whose positions — divided by x_up − x_lo for pure rotation —
+// spread over more than a factor MixedUnitRatio is refused as a mix of cm⁻¹ and MHz.
 //
 // # Conventions
 //
@@ -175,6 +188,10 @@ type List struct {
 	// Extra names the pass-through columns: the union over all files read, in order of
 	// first appearance, each name as first written (trimmed). Line.Extra is aligned with it.
 	Extra []string
+	// Warnings are things that do not stop a fit but that a person should see, each
+	// naming the file and row: a line given twice (same species, quantum numbers,
+	// position and unit; see Read).
+	Warnings []Problem
 }
 
 // Species returns the distinct isotopologue labels of the lines, in order of first

@@ -14,6 +14,7 @@ import (
 	"github.com/gocarina/gocsv"
 
 	"bandwright/fit/species"
+	"bandwright/internal/textcheck"
 )
 
 // Limits on quantum numbers. Larger values are taken for a column mix-up: no bound
@@ -21,6 +22,24 @@ import (
 const (
 	MaxV = 100
 	MaxJ = 1000
+)
+
+// Limits that tell positions in MHz written without a unit from positions in cm⁻¹
+// (see the package doc, Units).
+const (
+	// MaxWavenumber bounds a position in cm⁻¹: no transition within one electronic
+	// state of a diatomic molecule reaches it, since the most strongly bound
+	// diatomic, CO, has a dissociation energy D0 of about 89 500 cm⁻¹ (11.1 eV;
+	// Huber & Herzberg 1979, from memory).
+	MaxWavenumber = 1e5
+	// MaxRotationalConstant bounds the rotational constant implied by a pure-rotation
+	// line in cm⁻¹, ν/(x_up − x_lo): the largest of any molecule is that of H2,
+	// B_e = 60.85 cm⁻¹ (Huber & Herzberg 1979, from memory).
+	MaxRotationalConstant = 100.0
+	// MixedUnitRatio is the spread, largest over smallest, of the reduced positions of
+	// one band beyond which a file without a unit column is taken to mix cm⁻¹ and MHz
+	// (1 cm⁻¹ = 29 979.2458 MHz; a band's own spread is below a factor 3).
+	MixedUnitRatio = 1000.0
 )
 
 // column indexes the standard columns.
@@ -154,14 +173,15 @@ type speciesResult struct {
 // reader accumulates lines from one or more files.
 type reader struct {
 	list      List
-	extraKeys map[string]int // header key -> index in list.Extra
+	noUnitCol map[string]bool // files (by name) without a unit column
+	extraKeys map[string]int  // header key -> index in list.Extra
 	species   map[string]speciesResult
 	failed    bool     // some file had a problem: lines are no longer kept
 	slab      []string // storage carved into Line.Extra slices
 }
 
 func newReader() *reader {
-	return &reader{extraKeys: make(map[string]int), species: make(map[string]speciesResult)}
+	return &reader{extraKeys: make(map[string]int), species: make(map[string]speciesResult), noUnitCol: make(map[string]bool)}
 }
 
 // Read reads a line list from r; name (a path or any label) is used in messages and in
@@ -171,6 +191,9 @@ func Read(r io.Reader, name string) (*List, error) {
 	c := &collector{file: name}
 	rd.read(r, c)
 	if err := merge(c); err != nil {
+		return nil, err
+	}
+	if err := rd.checkUnits(c); err != nil {
 		return nil, err
 	}
 	rd.finish()
@@ -196,6 +219,11 @@ func ReadFiles(paths ...string) (*List, error) {
 	for i, p := range paths {
 		c := &collector{file: p}
 		cs[i] = c
+		if why := textcheck.NotRegular(p); why != "" {
+			c.add(0, "", "%s", why)
+			rd.failed = true
+			continue
+		}
 		f, err := os.Open(p)
 		if err != nil {
 			reason := err.Error()
@@ -227,6 +255,9 @@ func ReadFiles(paths ...string) (*List, error) {
 	if err := merge(cs...); err != nil {
 		return nil, err
 	}
+	if err := rd.checkUnits(cs...); err != nil {
+		return nil, err
+	}
 	rd.finish()
 	return &rd.list, nil
 }
@@ -251,6 +282,7 @@ type file struct {
 	rd      *reader
 	c       *collector
 	col     [nColumns]int
+	names   []string // header names as written (trimmed), for messages
 	nFields int
 	extra   []int // column index of each pass-through column
 	extraAt []int // its index in List.Extra
@@ -388,7 +420,15 @@ func (f *file) header(h []string, line int) bool {
 	f.nFields = len(h)
 	keys := make([]string, len(h))
 	first := make(map[string]int, len(h))
+	f.names = make([]string, len(h))
+	bad := false
 	for i, name := range h {
+		if why := textcheck.InvalidUTF8(name); why != "" {
+			c.add(line, fmt.Sprintf("column %d", i+1), "name is %s", why)
+			bad = true
+			continue
+		}
+		f.names[i] = strings.TrimSpace(name)
 		k := headerKey(name)
 		switch prev, dup := first[k]; {
 		case k == "":
@@ -400,12 +440,18 @@ func (f *file) header(h []string, line int) bool {
 			keys[i] = k
 		}
 	}
+	if bad {
+		return false
+	}
 	col, err := mapHeader(keys)
 	if err != nil {
 		c.addErr(line, "", "cannot map the header: "+err.Error(), err)
 		return false
 	}
 	f.col = col
+	if col[colUnit] < 0 {
+		f.rd.noUnitCol[c.file] = true
+	}
 	missing := 0
 	for cl := column(0); cl < nRequired; cl++ {
 		if col[cl] < 0 {
@@ -456,6 +502,14 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	c := f.c
 	n0 := len(c.probs) + c.omitted
 	l := Line{File: c.file, Row: row}
+	for i, cell := range rec {
+		if why := textcheck.InvalidUTF8(cell); why != "" {
+			c.add(row, f.fieldName(i), "%s", why)
+		}
+	}
+	if len(c.probs)+c.omitted != n0 {
+		return l, false
+	}
 
 	if i := f.col[colSpecies]; i >= 0 {
 		l.Species = f.species(rec[i], row)
@@ -525,6 +579,20 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 		l.Extra = ex
 	}
 	return l, len(c.probs)+c.omitted == n0
+}
+
+// fieldName returns the name of column i for messages: the canonical spelling of a
+// standard column, the header name of any other.
+func (f *file) fieldName(i int) string {
+	for cl, j := range f.col {
+		if j == i {
+			return columnNames[cl]
+		}
+	}
+	if i < len(f.names) && f.names[i] != "" {
+		return f.names[i]
+	}
+	return fmt.Sprintf("column %d", i+1)
 }
 
 // textCell normalises the line breaks inside a text cell to "\n" (encoding/csv turns a

@@ -25,8 +25,12 @@ func TestRoundTrip(t *testing.T) {
 	extra := []string{"obs", "Quoted, name"}
 	var lines []Line
 	for i, x := range tricky {
+		u := Unit(i % 2)
+		if x >= MaxWavenumber {
+			u = MHz // Read refuses a position in cm-1 beyond every dissociation energy
+		}
 		l := Line{Species: "12C16O", VUp: 1, JUp: i + 1, VLo: 0, JLo: i, Position: x, Unc: tricky[len(tricky)-1-i],
-			Unit: Unit(i % 2), Branch: "R", Comment: "c" + string(rune('a'+i)), Extra: []string{"o", "x,\"y\"\nz"}}
+			Unit: u, Branch: "R", Comment: "c" + string(rune('a'+i)), Extra: []string{"o", "x,\"y\"\nz"}}
 		lines = append(lines, l)
 	}
 	lines = append(lines, Line{Species: "2H35Cl", VUp: 2, JUp: 3, VLo: 1, JLo: 5, Position: 2000, Unc: 0.5, Branch: "O",

@@ -20,9 +20,24 @@ type Dir struct {
 	names     []string
 	protected map[string]bool
 	done      bool
+	created   []string // parent folders Begin created, outermost first
 }
 
-// Begin starts building the folder final. The parent folders are created.
+// file is what Write writes into: an *os.File, or in tests a file that fails.
+type file interface {
+	io.Writer
+	Sync() error
+	Close() error
+}
+
+// createFile creates a new file for Write (a variable so that tests can make
+// writing fail, as a full disk does).
+var createFile = func(path string) (file, error) {
+	return os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+}
+
+// Begin starts building the folder final. The parent folders are created (and
+// removed again by Abort when they are left empty).
 func Begin(final string) (*Dir, error) {
 	if final == "" {
 		return nil, errors.New("outdir: no output folder given (--out)")
@@ -35,14 +50,33 @@ func Begin(final string) (*Dir, error) {
 		return nil, fmt.Errorf("outdir: %s exists and is not a folder", final)
 	}
 	parent := filepath.Dir(abs)
+	var created []string
+	for p := parent; ; p = filepath.Dir(p) {
+		if _, err := os.Lstat(p); err == nil || filepath.Dir(p) == p {
+			break
+		}
+		created = append([]string{p}, created...)
+	}
 	if err := os.MkdirAll(parent, 0o755); err != nil {
+		removeEmpty(created)
 		return nil, fmt.Errorf("outdir: %w", err)
 	}
 	tmp, err := os.MkdirTemp(parent, "."+filepath.Base(abs)+".partial-")
 	if err != nil {
+		removeEmpty(created)
 		return nil, fmt.Errorf("outdir: cannot write in %s: %w", parent, err)
 	}
-	return &Dir{final: abs, tmp: tmp, protected: map[string]bool{}}, nil
+	return &Dir{final: abs, tmp: tmp, protected: map[string]bool{}, created: created}, nil
+}
+
+// removeEmpty removes the folders of dirs (outermost first) that are empty,
+// innermost first.
+func removeEmpty(dirs []string) {
+	for i := len(dirs) - 1; i >= 0; i-- {
+		if os.Remove(dirs[i]) != nil {
+			return
+		}
+	}
 }
 
 // Protect names files that must never be replaced (the user's inputs): Commit
@@ -71,7 +105,7 @@ func (d *Dir) Write(name string, fn func(io.Writer) error) error {
 	if filepath.Base(name) != name || name == "." || name == ".." {
 		return fmt.Errorf("outdir: %q is not a plain file name", name)
 	}
-	f, err := os.OpenFile(filepath.Join(d.tmp, name), os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	f, err := createFile(filepath.Join(d.tmp, name))
 	if err != nil {
 		return fmt.Errorf("outdir: %w", err)
 	}
@@ -130,13 +164,15 @@ func (d *Dir) Commit() error {
 	return os.RemoveAll(d.tmp)
 }
 
-// Abort removes everything written so far. Safe to call after Commit (no-op).
+// Abort removes everything written so far, and the parent folders Begin
+// created if they are empty. Safe to call after Commit (no-op).
 func (d *Dir) Abort() {
 	if d.done {
 		return
 	}
 	d.done = true
 	os.RemoveAll(d.tmp)
+	removeEmpty(d.created)
 }
 
 func syncDir(p string) {

@@ -1,0 +1,134 @@
+package linelist
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+)
+
+// checkUnits runs the checks that need every line of the files read: positions
+// that cannot be in cm⁻¹ (see the package doc, Units) are problems of their file;
+// lines given twice become warnings. It returns the *Error of the problems found,
+// or nil.
+func (rd *reader) checkUnits(cs ...*collector) error {
+	byFile := make(map[string]*collector, len(cs))
+	for _, c := range cs {
+		byFile[c.file] = c
+	}
+	lines := rd.list.Lines
+
+	// Bands of files without a unit column whose reduced positions spread too far.
+	type bandKey struct {
+		file, species string
+		vUp, vLo      int
+	}
+	type extent struct {
+		min, max   float64
+		minI, maxI int
+	}
+	var order []bandKey
+	bands := map[bandKey]*extent{}
+	for i := range lines {
+		l := &lines[i]
+		if !rd.noUnitCol[l.File] {
+			continue
+		}
+		k := bandKey{l.File, l.Species, l.VUp, l.VLo}
+		r := reducedPosition(l)
+		e, ok := bands[k]
+		if !ok {
+			bands[k] = &extent{min: r, max: r, minI: i, maxI: i}
+			order = append(order, k)
+			continue
+		}
+		if r < e.min {
+			e.min, e.minI = r, i
+		}
+		if r > e.max {
+			e.max, e.maxI = r, i
+		}
+	}
+	mixed := map[bandKey]bool{}
+	for _, k := range order {
+		e := bands[k]
+		if e.max > MixedUnitRatio*e.min {
+			mixed[k] = true
+			hi, lo := &lines[e.maxI], &lines[e.minI]
+			per := ""
+			if hi.VUp == hi.VLo {
+				per = " per unit of J(J+1)"
+			}
+			byFile[k.file].add(hi.Row, "position", "%s is%s %.3g times that of row %d (%s) in the same band (%s %d-%d): the file seems to mix cm-1 and MHz; add a unit column (cm-1 or MHz) saying which each row is",
+				fmtPos(hi.Position), per, e.max/e.min, lo.Row, fmtPos(lo.Position), k.species, k.vUp, k.vLo)
+		}
+	}
+
+	// Rows whose position cannot be in cm⁻¹.
+	for i := range lines {
+		l := &lines[i]
+		if l.Unit != Wavenumber || mixed[bandKey{l.File, l.Species, l.VUp, l.VLo}] {
+			continue
+		}
+		hint := "is the row's unit MHz? say so in its unit column"
+		if rd.noUnitCol[l.File] {
+			hint = "if the positions are in MHz, add a unit column (cm-1 or MHz)"
+		}
+		if l.Position >= MaxWavenumber {
+			byFile[l.File].add(l.Row, "position", "%s cm-1 is beyond the dissociation energy of every diatomic molecule (no transition within one electronic state reaches %g cm-1); %s",
+				fmtPos(l.Position), MaxWavenumber, hint)
+			continue
+		}
+		if l.VUp == l.VLo {
+			if b := reducedPosition(l); b > MaxRotationalConstant {
+				byFile[l.File].add(l.Row, "position", "%s cm-1 for a pure-rotation line J=%d-%d implies a rotational constant of %.4g cm-1, larger than that of any molecule (H2: 60.85 cm-1); %s",
+					fmtPos(l.Position), l.JUp, l.JLo, b, hint)
+			}
+		}
+	}
+	if err := merge(cs...); err != nil {
+		return err
+	}
+
+	// Lines given twice.
+	type lineKey struct {
+		species            string
+		vUp, jUp, vLo, jLo int
+		position           uint64
+		unit               Unit
+	}
+	first := make(map[lineKey]int, len(lines))
+	for i := range lines {
+		l := &lines[i]
+		k := lineKey{l.Species, l.VUp, l.JUp, l.VLo, l.JLo, math.Float64bits(l.Position), l.Unit}
+		j, dup := first[k]
+		if !dup {
+			first[k] = i
+			continue
+		}
+		o := &lines[j]
+		where := "row " + strconv.Itoa(o.Row)
+		if o.File != l.File {
+			where = fmt.Sprintf("%s:%d", o.File, o.Row)
+		}
+		rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: l.Row,
+			Reason: fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", where)})
+	}
+	return nil
+}
+
+// reducedPosition is the position of a line divided, for pure rotation (v_up =
+// v_lo), by x_up − x_lo with x = J(J+1): about B_v, the same for every line of the
+// band. For other bands it is the position itself.
+func reducedPosition(l *Line) float64 {
+	if l.VUp != l.VLo {
+		return l.Position
+	}
+	xu := float64(l.JUp) * float64(l.JUp+1)
+	xl := float64(l.JLo) * float64(l.JLo+1)
+	if xu <= xl {
+		return l.Position
+	}
+	return l.Position / (xu - xl)
+}
+
+func fmtPos(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }

@@ -1,0 +1,179 @@
+package fit
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"os"
+	"strings"
+	"testing"
+
+	"bandwright/fit/model"
+)
+
+// demoRecord returns testdata/record-demo.json decoded into generic JSON, for
+// edits such as a person makes by hand.
+func demoRecord(t *testing.T) map[string]any {
+	t.Helper()
+	b, err := os.ReadFile("testdata/record-demo.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m map[string]any
+	if err := json.Unmarshal(b, &m); err != nil {
+		t.Fatal(err)
+	}
+	return m
+}
+
+func encode(t *testing.T, m map[string]any) []byte {
+	t.Helper()
+	b, err := json.MarshalIndent(m, "", "  ")
+	if err != nil {
+		t.Fatal(err)
+	}
+	return b
+}
+
+// covOf returns the covariance rows of a generic record.
+func covOf(m map[string]any) [][]any {
+	var out [][]any
+	for _, r := range m["covariance"].([]any) {
+		out = append(out, r.([]any))
+	}
+	return out
+}
+
+// TestReadRecordHandEdits: what a text editor or a careless edit does to a
+// record is read, or refused with a message naming the file and the place.
+func TestReadRecordHandEdits(t *testing.T) {
+	good, err := os.ReadFile("testdata/record-demo.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Read as it is, with a byte-order mark, with CRLF line ends, on one line.
+	var one bytes.Buffer
+	if err := json.Compact(&one, good); err != nil {
+		t.Fatal(err)
+	}
+	for name, b := range map[string][]byte{
+		"plain": good, "bom": append([]byte("\xef\xbb\xbf"), good...),
+		"crlf": bytes.ReplaceAll(good, []byte("\n"), []byte("\r\n")), "one line": one.Bytes(),
+	} {
+		if _, err := ReadRecord(bytes.NewReader(b), "c.json"); err != nil {
+			t.Errorf("%s: %v", name, err)
+		}
+	}
+
+	edit := func(f func(m map[string]any)) []byte {
+		m := demoRecord(t)
+		f(m)
+		return encode(t, m)
+	}
+	param := func(m map[string]any, i int) map[string]any {
+		return m["parameters"].([]any)[i].(map[string]any)
+	}
+	cases := []struct {
+		name string
+		in   []byte
+		want string
+	}{
+		{"empty", nil, "c.json: not a constants record: the file is empty"},
+		{"blank", []byte(" \n\t\n"), "the file is empty"},
+		{"cut short", good[:len(good)/2], "the file ends in the middle of the JSON"},
+		{"syntax", bytes.Replace(good, []byte(`"model": "dunham",`), []byte(`"model": "dunham"`), 1), "c.json:4:4: not a constants record: invalid character"},
+		{"NaN", bytes.Replace(good, []byte(`"value": 2169.8118597955`), []byte(`"value": NaN`), 1), "c.json:16:17: not a constants record: invalid character 'N'"},
+		{"trailing", append(append([]byte{}, good...), []byte("\n{\"schema\": 1}\n")...), "more follows the record's closing brace"},
+		{"wrong type", bytes.Replace(good, []byte(`"value": 2169.8118597955`), []byte(`"value": "2169.8"`), 1), "c.json:16:24: parameters.value: "},
+		{"duplicate key", bytes.Replace(good, []byte(`"value": 2169.8118597955,`), []byte(`"value": 2169.8118597955, "value": 2170.5,`), 1), "c.json:16:"},
+		{"duplicate key path", bytes.Replace(good, []byte(`"value": 2169.8118597955,`), []byte(`"value": 2169.8118597955, "value": 2170.5,`), 1), "parameters[0].value: the key is given twice"},
+		{"not UTF-8", bytes.Replace(good, []byte(`"model": "dunham"`), []byte("\"model\": \"dunh\xe4m\""), 1), "c.json:3:17: not UTF-8 text: byte 0xE4"},
+		{"future schema", bytes.Replace(good, []byte(Schema), []byte("bandwright.constants/2"), 1), "written by a newer bandwright"},
+		{"unit", edit(func(m map[string]any) { m["unit"] = "MHz" }), `unit: "MHz"; a constants record holds its constants in cm-1`},
+		{"Dunham indices", edit(func(m map[string]any) { param(m, 3)["k"] = 5.0 }), "parameters: Y01: k = 5, l = 1 do not match the name"},
+		{"negative sigma", edit(func(m map[string]any) { param(m, 3)["sigma"] = -1e-6 }), "Y01: value and sigma must be finite"},
+		{"negative variance", edit(func(m map[string]any) {
+			c := covOf(m)
+			c[3][3] = -c[3][3].(float64)
+		}), "covariance: the variance of Y01 is negative"},
+		{"sigma edited", edit(func(m map[string]any) { param(m, 3)["sigma"] = 2 * param(m, 3)["sigma"].(float64) }), "covariance: Y01 has sigma"},
+		{"correlation beyond 1", edit(func(m map[string]any) {
+			c := covOf(m)
+			x := 1.5 * math.Sqrt(c[3][3].(float64)*c[4][4].(float64))
+			c[3][4], c[4][3] = x, x
+		}), "covariance: the correlation of Y01 and Y11 is 1.5, outside −1…1"},
+		{"not positive semi-definite", edit(func(m map[string]any) {
+			// Y10, Y20, Y30 pairwise correlated by −0.6: each pair is possible,
+			// the three together are not (eigenvalue 1 + 2·(−0.6) = −0.2).
+			c := covOf(m)
+			for _, ij := range [][2]int{{0, 1}, {0, 2}, {1, 2}} {
+				i, j := ij[0], ij[1]
+				x := -0.6 * math.Sqrt(c[i][i].(float64)*c[j][j].(float64))
+				c[i][j], c[j][i] = x, x
+			}
+			for _, k := range []int{3, 4, 5} {
+				for _, i := range []int{0, 1, 2} {
+					c[i][k], c[k][i] = 0.0, 0.0
+				}
+			}
+		}), "covariance: not positive semi-definite (the correlation matrix has the eigenvalue -0.2"},
+		{"zero variance", edit(func(m map[string]any) {
+			c := covOf(m)
+			c[5][5] = 0.0
+			param(m, 5)["sigma"] = 0.0
+		}), "covariance: Y02 has zero variance but covariance"},
+	}
+	for _, c := range cases {
+		_, err := ReadRecord(bytes.NewReader(c.in), "c.json")
+		if err == nil || !strings.HasPrefix(err.Error(), "fit: c.json") || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want %q", c.name, err, c.want)
+		}
+	}
+
+	// A singular covariance that is positive semi-definite is a record the
+	// uncertainty propagation can use: read.
+	b := edit(func(m map[string]any) {
+		c := covOf(m)
+		for i := range c {
+			c[5][i], c[i][5] = 0.0, 0.0
+		}
+		param(m, 5)["sigma"] = 0.0
+	})
+	if _, err := ReadRecord(bytes.NewReader(b), "c.json"); err != nil {
+		t.Errorf("singular positive semi-definite covariance: %v", err)
+	}
+}
+
+// TestRecordWithoutDegreesOfFreedom: a fit with as many lines as parameters has
+// no dimensionless standard deviation; its record says null (JSON has no NaN)
+// and reads back as NaN.
+func TestRecordWithoutDegreesOfFreedom(t *testing.T) {
+	// One pure-rotation line of 12C16O, J = 1-0 at 2B ≈ 3.8451 cm-1 (Huber &
+	// Herzberg 1979, from memory), fitted with B alone.
+	lines := makeLines("12C16O", "one.csv", yset{{0, 1}: 1.92253}, []trans{{0, 1, 0, 0}}, 1e-3, newRNG(1))
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B"}}, Settings{})
+	if r.Stats.DOF != 0 || !math.IsNaN(r.Stats.Sigma) {
+		t.Fatalf("dof %d, s %v", r.Stats.DOF, r.Stats.Sigma)
+	}
+	var buf bytes.Buffer
+	if err := NewRecord(r).Write(&buf); err != nil {
+		t.Fatalf("write: %v", err)
+	}
+	if !strings.Contains(buf.String(), `"sigma_dimensionless": null`) {
+		t.Errorf("record:\n%s", buf.String())
+	}
+	rec, err := ReadRecord(&buf, "one.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !math.IsNaN(rec.Stats.Sigma) || rec.Stats.DOF != 0 {
+		t.Errorf("read back: %+v", rec.Stats)
+	}
+	var sum bytes.Buffer
+	if err := WriteSummary(&sum, Problem{Lines: lines, Model: r.Model}, r, NewRecord(r)); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(sum.String(), "NaN") || !strings.Contains(sum.String(), "undefined (no degrees of freedom)") {
+		t.Errorf("fit.md:\n%s", sum.String())
+	}
+}
