@@ -28,18 +28,31 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 	}
 	var order []bandKey
 	bands := map[bandKey]*extent{}
+	// Lines usually come band by band: remember the last band to spare a
+	// map lookup (string hashing) per line on the hot path of large files.
+	var lastKey bandKey
+	var last *extent
+	lastFile, lastNoUnit := "", false
 	for i := range lines {
 		l := &lines[i]
-		if !rd.noUnitCol[l.File] {
+		if l.File != lastFile || i == 0 {
+			lastFile, lastNoUnit = l.File, rd.noUnitCol[l.File]
+		}
+		if !lastNoUnit {
 			continue
 		}
 		k := bandKey{l.File, l.Species, l.VUp, l.VLo}
 		r := reducedPosition(l)
-		e, ok := bands[k]
-		if !ok {
-			bands[k] = &extent{min: r, max: r, minI: i, maxI: i}
-			order = append(order, k)
-			continue
+		e := last
+		if last == nil || k != lastKey {
+			var ok bool
+			e, ok = bands[k]
+			if !ok {
+				e = &extent{min: r, max: r, minI: i, maxI: i}
+				bands[k] = e
+				order = append(order, k)
+			}
+			lastKey, last = k, e
 		}
 		if r < e.min {
 			e.min, e.minI = r, i
@@ -66,7 +79,7 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 	// Rows whose position cannot be in cm⁻¹.
 	for i := range lines {
 		l := &lines[i]
-		if l.Unit != Wavenumber || mixed[bandKey{l.File, l.Species, l.VUp, l.VLo}] {
+		if l.Unit != Wavenumber || (len(mixed) > 0 && mixed[bandKey{l.File, l.Species, l.VUp, l.VLo}]) {
 			continue
 		}
 		hint := "is the row's unit MHz? say so in its unit column"
