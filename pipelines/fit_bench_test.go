@@ -6,6 +6,7 @@ import (
 	"math"
 	"path/filepath"
 	"runtime"
+	"strings"
 	"syscall"
 	"testing"
 	"time"
@@ -68,8 +69,17 @@ func benchmarkRunFit(b *testing.B, repeats int) {
 			b.Fatal(err)
 		}
 		st := oc.Result.Stats
-		if st.Lines != n || st.Used < n*97/100 || math.Abs(st.Sigma-1) > 0.1 || len(oc.Result.Warnings) > 0 {
-			b.Fatalf("fit of %d lines: %d used, s = %g, warnings %q", n, st.Used, st.Sigma, oc.Result.Warnings)
+		// The repeats of the million-line list reuse the noise stream, so a
+		// few printed positions coincide: duplicate-line warnings (capped) are
+		// expected there and nothing else is.
+		var other []string
+		for _, w := range oc.Result.Warnings {
+			if !strings.Contains(w, "duplicate line") {
+				other = append(other, w)
+			}
+		}
+		if st.Lines != n || st.Used < n*97/100 || math.Abs(st.Sigma-1) > 0.1 || len(other) > 0 || len(oc.Result.Warnings) > 60 {
+			b.Fatalf("fit of %d lines: %d used, s = %g, %d warnings, unexpected %q", n, st.Used, st.Sigma, len(oc.Result.Warnings), other)
 		}
 	}
 	b.ReportMetric((cpuTime()-cpu0).Seconds()/float64(ops), "cpu-s/op")

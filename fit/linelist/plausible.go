@@ -110,6 +110,7 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 		unit               Unit
 	}
 	first := make(map[lineKey]int, len(lines))
+	dups := 0
 	for i := range lines {
 		l := &lines[i]
 		k := lineKey{l.Species, l.VUp, l.JUp, l.VLo, l.JLo, math.Float64bits(l.Position), l.Unit}
@@ -118,6 +119,10 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 			first[k] = i
 			continue
 		}
+		dups++
+		if dups > MaxProblems {
+			continue // counted, summarised below
+		}
 		o := &lines[j]
 		where := "row " + strconv.Itoa(o.Row)
 		if o.File != l.File {
@@ -125,6 +130,11 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 		}
 		rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: l.Row,
 			Reason: fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", where)})
+	}
+	if dups > MaxProblems {
+		l := &lines[len(lines)-1]
+		rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: 0,
+			Reason: fmt.Sprintf("… and %d more duplicate lines (%d in all)", dups-MaxProblems, dups)})
 	}
 	return nil
 }
