@@ -496,6 +496,12 @@ func (w *work) solve() error {
 		Row: func(r int, dst []float64) (float64, float64) {
 			return d.row(rows[r], dst)
 		},
+		// Each call gets its own design scratch, so lsq may fold the two
+		// halves of a large problem on the two cores.
+		NewRow: func() func(int, []float64) (float64, float64) {
+			dd := w.newDesign(free)
+			return func(r int, dst []float64) (float64, float64) { return dd.row(rows[r], dst) }
+		},
 	}
 	const maxIter = 30
 	prev := math.Inf(1)

@@ -63,6 +63,13 @@ type Problem struct {
 	// than once for the same i and must return the same values each time;
 	// it must not keep dst.
 	Row func(i int, dst []float64) (y, sigma float64)
+	// NewRow, when set, returns a row function like Row that is independent
+	// of every other one it returns, so two may run at the same time (each
+	// with its own scratch space). With it, and at least 2·ParallelRows rows,
+	// Solve folds the first and the second half of the rows in two
+	// goroutines and merges the two factors. The split is always in two
+	// halves, so the result does not depend on the number of CPUs.
+	NewRow func() func(i int, dst []float64) (y, sigma float64)
 	// Names are the parameter names (len Cols) used in errors. If nil, the
 	// parameters are called x0, x1, ….
 	Names []string
@@ -230,6 +237,60 @@ func (e *RankError) Error() string {
 	return b.String()
 }
 
+// ParallelRows is the number of rows per half from which Solve folds the two
+// halves of a problem with NewRow concurrently.
+const ParallelRows = 16384
+
+// factor returns the upper-triangular factor R ((Cols+1)×(Cols+1), row-major)
+// of the weighted augmented rows [A_i/σ_i | y_i/σ_i], serially or, with
+// p.NewRow and enough rows, as the factor of [R₁; R₂] of the two halves.
+func factor(p Problem, block int) ([]float64, error) {
+	n := p.Cols
+	fold := func(row func(int, []float64) (float64, float64), from, to int) (*tsqr, error) {
+		acc := newTSQR(n+1, block)
+		for i := from; i < to; i++ {
+			dst := acc.next()
+			y, sigma := row(i, dst[:n])
+			if err := weightRow(p, i, dst, y, sigma); err != nil {
+				return nil, err
+			}
+		}
+		acc.finish()
+		return acc, nil
+	}
+	if p.NewRow == nil || p.Rows < 2*ParallelRows {
+		acc, err := fold(p.Row, 0, p.Rows)
+		if err != nil {
+			return nil, err
+		}
+		return acc.finish(), nil
+	}
+	half := p.Rows / 2
+	var second *tsqr
+	var err2 error
+	done := make(chan struct{})
+	row2 := p.NewRow()
+	go func() {
+		defer close(done)
+		second, err2 = fold(row2, half, p.Rows)
+	}()
+	first, err1 := fold(p.NewRow(), 0, half)
+	<-done
+	// Report the error of the lowest row, as the serial fold would.
+	if err1 != nil {
+		return nil, err1
+	}
+	if err2 != nil {
+		return nil, err2
+	}
+	r2 := second.finish()
+	m := n + 1
+	for i := 0; i < m; i++ {
+		copy(first.next(), r2[i*m:(i+1)*m])
+	}
+	return first.finish(), nil
+}
+
 // paramName returns the name of parameter j.
 func paramName(names []string, j int) string {
 	if names != nil {
@@ -276,15 +337,10 @@ func Solve(p Problem, s Settings) (*Result, error) {
 	}
 
 	n := p.Cols
-	acc := newTSQR(n+1, block)
-	for i := 0; i < p.Rows; i++ {
-		dst := acc.next()
-		y, sigma := p.Row(i, dst[:n])
-		if err := weightRow(p, i, dst, y, sigma); err != nil {
-			return nil, err
-		}
+	R, err := factor(p, block)
+	if err != nil {
+		return nil, err
 	}
-	R := acc.finish() // (n+1)×(n+1), row-major, upper triangular
 
 	res := &Result{
 		Chi2: R[n*(n+1)+n] * R[n*(n+1)+n],
