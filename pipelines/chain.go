@@ -181,7 +181,10 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		return nil, err
 	}
 
-	to := p.thermoOptions(d.TempPath(ConstantsFile))
+	to, err := p.thermoOptions(d.TempPath(ConstantsFile))
+	if err != nil {
+		return nil, err
+	}
 	t, err := Thermo(to)
 	if err != nil {
 		return nil, fmt.Errorf("thermo stage: %w", err)
@@ -234,7 +237,8 @@ func sortedKeys(m map[string][]byte) []string {
 // assignOptions returns the assign options of the pipeline for a peak list.
 func (p *Pipeline) assignOptions(peaks string) (AssignOptions, error) {
 	a := p.Assign
-	o := AssignOptions{Peaks: peaks, Start: a.Start, Constants: a.Constants, Spectrum: a.Spectrum, Temperature: a.Temperature}
+	o := AssignOptions{Peaks: peaks, Start: a.Start, Constants: a.Constants, Spectrum: a.Spectrum, Temperature: a.Temperature,
+		Unc: a.Unc, Unit: a.Unit, Species: a.Species}
 	if a.Tolerance > 0 {
 		o.Tolerance = strconv.FormatFloat(a.Tolerance, 'g', -1, 64)
 	}
@@ -250,9 +254,18 @@ func (p *Pipeline) assignOptions(peaks string) (AssignOptions, error) {
 }
 
 // thermoOptions returns the thermo options of the pipeline for a constants record.
-func (p *Pipeline) thermoOptions(constants string) ThermoOptions {
+func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
 	o := ThermoOptions{Constants: constants}
 	if t := p.Thermo; t != nil {
+		o.Species = t.Species
+		o.NASA.Break = t.NASABreakpoint
+		if t.NASALimits != "" {
+			lo, hi, err := ParseNASALimits(t.NASALimits)
+			if err != nil {
+				return o, UsageError{fmt.Errorf("pipelines: %s: thermo.nasa_limits: %w", p.Path, err)}
+			}
+			o.NASA.Low, o.NASA.High = lo, hi
+		}
 		var ts []string
 		for _, x := range t.Temperatures {
 			ts = append(ts, strconv.FormatFloat(x, 'g', -1, 64))
@@ -260,5 +273,5 @@ func (p *Pipeline) thermoOptions(constants string) ThermoOptions {
 		o.Temperatures = strings.Join(ts, ",")
 		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC, o.Seed, o.Card = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC, t.Seed, t.Card
 	}
-	return o
+	return o, nil
 }

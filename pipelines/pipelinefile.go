@@ -51,6 +51,11 @@ type AssignSection struct {
 	Spectrum    string   `toml:"spectrum"`
 	Temperature float64  `toml:"temperature"`
 	Tolerance   float64  `toml:"tolerance"`
+	// Unc, Unit and Species are --unc (e.g. "0.001" or "0.05MHz"), --unit
+	// and --species of `bandwright assign`.
+	Unc     string   `toml:"unc"`
+	Unit    string   `toml:"unit"`
+	Species []string `toml:"species"`
 }
 
 // FitSection holds the options of `bandwright fit`.
@@ -76,6 +81,11 @@ type ThermoSection struct {
 	NuclearSpin  string    `toml:"nuclear_spin"`
 	MC           int       `toml:"mc"`
 	Seed         uint64    `toml:"seed"`
+	Species      string    `toml:"species"`
+	// NASABreakpoint (K) and NASALimits ("LOW:HIGH" in K) choose the NASA-7
+	// ranges, as --nasa-breakpoint and --nasa-limits do.
+	NASABreakpoint float64 `toml:"nasa_breakpoint"`
+	NASALimits     string  `toml:"nasa_limits"`
 }
 
 // ReportSection chooses the report formats.
@@ -216,6 +226,14 @@ func (p *Pipeline) check(name string, b []byte) error {
 			if _, err := ParseRange(t.Range); err != nil {
 				return fmt.Errorf("pipelines: %s: thermo.range: %w", at("thermo", "range"), err)
 			}
+		}
+		if t.NASALimits != "" {
+			if _, _, err := ParseNASALimits(t.NASALimits); err != nil {
+				return fmt.Errorf("pipelines: %s: thermo.nasa_limits: %w", at("thermo", "nasa_limits"), err)
+			}
+		}
+		if t.NASABreakpoint < 0 || t.NASABreakpoint != t.NASABreakpoint {
+			return fmt.Errorf("pipelines: %s: thermo.nasa_breakpoint: must be a temperature in K", at("thermo", "nasa_breakpoint"))
 		}
 	}
 	if p.Report != nil {

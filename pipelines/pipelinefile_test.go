@@ -38,6 +38,9 @@ formats = ["html", "md"]
 	if o.Reject != 0 || o.Model != "dunham" || len(o.Terms) != 5 {
 		t.Errorf("fit options not carried over: %+v", o)
 	}
+	if to, err := p.thermoOptions("c.json"); err != nil || to.Composition != "natural" || to.Temperatures != "298.15,1000" {
+		t.Errorf("thermo options not carried over: %+v %v", to, err)
+	}
 	if len(p.Hash) != 64 {
 		t.Errorf("pipeline hash %q", p.Hash)
 	}
@@ -50,6 +53,7 @@ formats = ["html", "md"]
 		{"[fit]\nmodel = \"spline\"\n", "fit.model"},
 		{"[fit]\nreject = -1\n", "fit.reject"},
 		{"[report]\nformats = [\"pdf\"]\n", "report.formats"},
+		{"[thermo]\nnasa_limits = \"200-6000\"\n", "thermo.nasa_limits"},
 		{"name = \n", "pipe.toml:1"},
 		{"", "the file is empty"},
 		{"# only a comment\n\n", "the file is empty"},

@@ -282,3 +282,17 @@ func ParseRange(s string) ([]float64, error) {
 	}
 	return out, nil
 }
+
+// ParseNASALimits parses the NASA-7 fit limits "LOW:HIGH" (K).
+func ParseNASALimits(s string) (lo, hi float64, err error) {
+	parts := strings.Split(s, ":")
+	if len(parts) != 2 {
+		return 0, 0, fmt.Errorf("%q: write LOW:HIGH in K, e.g. 200:6000", s)
+	}
+	lo, err1 := strconv.ParseFloat(strings.TrimSpace(parts[0]), 64)
+	hi, err2 := strconv.ParseFloat(strings.TrimSpace(parts[1]), 64)
+	if err1 != nil || err2 != nil || math.IsNaN(lo) || math.IsNaN(hi) {
+		return 0, 0, fmt.Errorf("%q: LOW and HIGH must be numbers", s)
+	}
+	return lo, hi, nil
+}

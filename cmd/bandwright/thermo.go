@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 
@@ -49,7 +48,7 @@ func thermoCommand() *cli.Command {
 			if c.Int("mc") < 0 {
 				return usageExit("thermo: --mc %d: give the number of draws (0: off)", c.Int("mc"))
 			}
-			lo, hi, err := parseLimits(c.String("nasa-limits"))
+			lo, hi, err := pipelines.ParseNASALimits(c.String("nasa-limits"))
 			if err != nil {
 				return usageExit("thermo: --nasa-limits: %v", err)
 			}
@@ -78,15 +77,3 @@ func thermoCommand() *cli.Command {
 }
 
 // parseLimits reads LOW:HIGH (K).
-func parseLimits(s string) (lo, hi float64, err error) {
-	parts := strings.Split(s, ":")
-	if len(parts) != 2 {
-		return 0, 0, fmt.Errorf("%q: write LOW:HIGH in K, e.g. 200:6000", s)
-	}
-	lo, err1 := strconv.ParseFloat(strings.TrimSpace(parts[0]), 64)
-	hi, err2 := strconv.ParseFloat(strings.TrimSpace(parts[1]), 64)
-	if err1 != nil || err2 != nil || math.IsNaN(lo) || math.IsNaN(hi) {
-		return 0, 0, fmt.Errorf("%q: LOW and HIGH must be numbers", s)
-	}
-	return lo, hi, nil
-}
