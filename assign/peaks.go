@@ -85,32 +85,12 @@ type InputError struct {
 }
 
 func (e *InputError) Error() string {
-	if len(e.Problems) == 1 && e.Omitted == 0 {
-		return "assign: " + e.Problems[0].String()
-	}
-	var b strings.Builder
-	fmt.Fprintf(&b, "assign: %d problems", len(e.Problems)+e.Omitted)
-	for _, p := range e.Problems {
-		b.WriteString("\n")
-		b.WriteString(p.String())
-	}
-	if e.Omitted > 0 {
-		fmt.Fprintf(&b, "\n... and %d more", e.Omitted)
-	}
-	return b.String()
+	return linelist.FormatProblems("assign", e.Problems, e.Omitted)
 }
 
 // Unwrap returns the underlying causes, so errors.Is sees fs.ErrNotExist and
 // the like.
-func (e *InputError) Unwrap() []error {
-	var out []error
-	for _, p := range e.Problems {
-		if p.Err != nil {
-			out = append(out, p.Err)
-		}
-	}
-	return out
-}
+func (e *InputError) Unwrap() []error { return linelist.Causes(e.Problems) }
 
 // problems collects the problems of one file.
 type problems struct {
@@ -161,23 +141,6 @@ const (
 
 var peakColumns = [pcN]string{"position", "unc", "intensity", "unit"}
 
-type rowsCSV struct{ rows [][]string }
-
-func (s *rowsCSV) Read() ([]string, error) {
-	if len(s.rows) == 0 {
-		return nil, io.EOF
-	}
-	r := s.rows[0]
-	s.rows = s.rows[1:]
-	return r, nil
-}
-
-func (s *rowsCSV) ReadAll() ([][]string, error) {
-	r := s.rows
-	s.rows = nil
-	return r, nil
-}
-
 // mapPeakHeader returns the column index of each standard column (-1 when
 // absent) from distinct lower-case keys (empty keys are ignored).
 func mapPeakHeader(keys []string) ([pcN]int, error) {
@@ -190,7 +153,7 @@ func mapPeakHeader(keys []string) ([pcN]int, error) {
 		pos[i] = strconv.Itoa(i)
 	}
 	var out []peakHeader
-	if err := gocsv.UnmarshalCSV(&rowsCSV{rows: [][]string{keys, pos}}, &out); err != nil {
+	if err := gocsv.UnmarshalCSV(&linelist.Rows{Rows: [][]string{keys, pos}}, &out); err != nil {
 		return idx, err
 	}
 	if len(out) != 1 {

@@ -46,27 +46,36 @@ type Error struct {
 
 // Error returns "linelist: " followed by the single problem, or by the count and one
 // problem per line, ending with "... and N more" when problems were omitted.
-func (e *Error) Error() string {
-	if len(e.Problems) == 1 && e.Omitted == 0 {
-		return "linelist: " + e.Problems[0].String()
+func (e *Error) Error() string { return FormatProblems("linelist", e.Problems, e.Omitted) }
+
+// Unwrap returns the underlying causes of the problems that have one, so errors.Is and
+// errors.As see, for example, fs.ErrNotExist or a *species.ParseError.
+func (e *Error) Unwrap() []error { return Causes(e.Problems) }
+
+// FormatProblems writes problems as the error message of a reader of bandwright's CSV
+// files: "PKG: " and the single problem, or "PKG: N problems" and one problem per line,
+// ending with "... and N more" when omitted problems were only counted. The peak-list
+// reader of package assign shares it.
+func FormatProblems(pkg string, probs []Problem, omitted int) string {
+	if len(probs) == 1 && omitted == 0 {
+		return pkg + ": " + probs[0].String()
 	}
 	var b strings.Builder
-	fmt.Fprintf(&b, "linelist: %d problems", len(e.Problems)+e.Omitted)
-	for _, p := range e.Problems {
+	fmt.Fprintf(&b, "%s: %d problems", pkg, len(probs)+omitted)
+	for _, p := range probs {
 		b.WriteString("\n")
 		b.WriteString(p.String())
 	}
-	if e.Omitted > 0 {
-		fmt.Fprintf(&b, "\n... and %d more", e.Omitted)
+	if omitted > 0 {
+		fmt.Fprintf(&b, "\n... and %d more", omitted)
 	}
 	return b.String()
 }
 
-// Unwrap returns the underlying causes of the problems that have one, so errors.Is and
-// errors.As see, for example, fs.ErrNotExist or a *species.ParseError.
-func (e *Error) Unwrap() []error {
+// Causes returns the underlying causes of the problems that have one.
+func Causes(probs []Problem) []error {
 	var errs []error
-	for _, p := range e.Problems {
+	for _, p := range probs {
 		if p.Err != nil {
 			errs = append(errs, p.Err)
 		}

@@ -97,21 +97,25 @@ func headerKey(s string) string {
 	return strings.ToLower(strings.TrimSpace(s))
 }
 
-// sliceCSV serves fixed rows to gocsv (gocsv.CSVReader).
-type sliceCSV struct{ rows [][]string }
+// Rows serves fixed rows to gocsv (it implements gocsv.CSVReader): the header
+// mapping of this reader and of the peak-list reader of package assign feed gocsv a
+// header and one row of column indices through it.
+type Rows struct{ Rows [][]string }
 
-func (s *sliceCSV) Read() ([]string, error) {
-	if len(s.rows) == 0 {
+// Read returns the next row, io.EOF after the last.
+func (s *Rows) Read() ([]string, error) {
+	if len(s.Rows) == 0 {
 		return nil, io.EOF
 	}
-	r := s.rows[0]
-	s.rows = s.rows[1:]
+	r := s.Rows[0]
+	s.Rows = s.Rows[1:]
 	return r, nil
 }
 
-func (s *sliceCSV) ReadAll() ([][]string, error) {
-	r := s.rows
-	s.rows = nil
+// ReadAll returns the remaining rows.
+func (s *Rows) ReadAll() ([][]string, error) {
+	r := s.Rows
+	s.Rows = nil
 	return r, nil
 }
 
@@ -148,7 +152,7 @@ func mapHeader(keys []string) ([nColumns]int, error) {
 		}
 	}
 	var out []headerRow
-	if err := gocsv.UnmarshalCSV(&sliceCSV{rows: [][]string{names, pos}}, &out); err != nil {
+	if err := gocsv.UnmarshalCSV(&Rows{Rows: [][]string{names, pos}}, &out); err != nil {
 		return idx, err
 	}
 	if len(out) != 1 {
