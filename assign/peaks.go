@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"io/fs"
 	"math"
 	"os"
 	"strconv"
@@ -229,11 +228,7 @@ func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
 	}
 	f, err := os.Open(path)
 	if err != nil {
-		reason := err.Error()
-		var pe *fs.PathError
-		if errors.As(err, &pe) {
-			reason = "cannot open: " + pe.Err.Error()
-		}
+		reason := textcheck.OpenReason(err)
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
 	}
 	defer f.Close()

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"io/fs"
 	"math"
 	"os"
 	"regexp"
@@ -84,11 +83,7 @@ func ReadStartFile(path string) (*Start, error) {
 	}
 	data, err := os.ReadFile(path)
 	if err != nil {
-		reason := err.Error()
-		var pe *fs.PathError
-		if errors.As(err, &pe) {
-			reason = "cannot open: " + pe.Err.Error()
-		}
+		reason := textcheck.OpenReason(err)
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
 	}
 	return ReadStart(bytes.NewReader(data), path)

@@ -230,11 +230,7 @@ func ReadFiles(paths ...string) (*List, error) {
 		}
 		f, err := os.Open(p)
 		if err != nil {
-			reason := err.Error()
-			var pe *fs.PathError
-			if errors.As(err, &pe) {
-				reason = "cannot open: " + pe.Err.Error()
-			}
+			reason := textcheck.OpenReason(err)
 			c.addErr(0, "", reason, err)
 			rd.failed = true
 			continue

@@ -6,7 +6,9 @@ package textcheck
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
+	"io/fs"
 	"os"
 	"regexp"
 	"strings"
@@ -138,4 +140,15 @@ func At(name string, line int) string {
 		return fmt.Sprintf("%s:%d", name, line)
 	}
 	return name
+}
+
+// OpenReason words an error from opening a user's file for a problem report
+// that already names the file: "cannot open: no such file or directory"
+// rather than the path twice.
+func OpenReason(err error) string {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return "cannot open: " + pe.Err.Error()
+	}
+	return err.Error()
 }

@@ -1,6 +1,8 @@
 package textcheck
 
 import (
+	"errors"
+	"os"
 	"strings"
 	"testing"
 )
@@ -70,5 +72,17 @@ reject = 3
 	}
 	if At("f.toml", 0) != "f.toml" || At("f.toml", 7) != "f.toml:7" {
 		t.Error("At")
+	}
+}
+
+// TestOpenReason: an open error names its cause once, without the path the
+// problem report already gives.
+func TestOpenReason(t *testing.T) {
+	_, err := os.Open("/no/such/dir/x.csv")
+	if got := OpenReason(err); got != "cannot open: no such file or directory" {
+		t.Errorf("OpenReason = %q", got)
+	}
+	if got := OpenReason(errors.New("boom")); got != "boom" {
+		t.Errorf("non-path error: %q", got)
 	}
 }
