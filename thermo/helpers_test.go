@@ -107,16 +107,7 @@ func fitHH(t testing.TB, c hh, noise float64, seed uint64) (*fit.Record, *fit.Co
 			l.Unc = noise
 		}
 	}
-	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{NoReject: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec := fit.NewRecord(res)
-	cs, err := rec.Constants()
-	if err != nil {
-		t.Fatal(err)
-	}
-	return rec, cs
+	return fitRecord(t, lines, model.KindDunham, c.terms())
 }
 
 // levelsFit fits a levels model (terms) to the given lines' positions computed
@@ -140,7 +131,14 @@ func levelsFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise 
 			l.Unc = noise
 		}
 	}
-	m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindLevels, Terms: terms})
+	return fitRecord(t, lines, model.KindLevels, terms)
+}
+
+// fitRecord fits lines with the model kind and terms (no rejection) and
+// returns the record and its constants, as thermo reads them from a file.
+func fitRecord(t testing.TB, lines []linelist.Line, kind string, terms []string) (*fit.Record, *fit.Constants) {
+	t.Helper()
+	m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: kind, Terms: terms})
 	if err != nil {
 		t.Fatal(err)
 	}

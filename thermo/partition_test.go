@@ -21,20 +21,7 @@ func rigidRotor(t *testing.T, label string, b float64) (*fit.Record, *fit.Consta
 		lines = append(lines, linelist.Line{File: "rr", Row: j + 2, Species: label, VUp: 0, JUp: j + 1, VLo: 0, JLo: j,
 			Position: 2 * b * float64(j+1), Unc: 1e-6, Unit: linelist.Wavenumber})
 	}
-	m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindLevels, Terms: []string{"B"}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{NoReject: true})
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec := fit.NewRecord(res)
-	c, err := rec.Constants()
-	if err != nil {
-		t.Fatal(err)
-	}
-	return rec, c
+	return fitRecord(t, lines, model.KindLevels, []string{"B"})
 }
 
 // TestRigidRotor: for a rigid rotor Q equals the exact sum Σ(2J+1)e^(−c₂BJ(J+1)/T)
