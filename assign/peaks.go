@@ -15,6 +15,7 @@ import (
 
 	"bandwright/fit/linelist"
 	"bandwright/internal/textcheck"
+	"bandwright/units"
 )
 
 // Peak is one picked peak of a spectrum.
@@ -48,14 +49,14 @@ func (p Peak) UncWavenumber() float64 { return toCm(p.Unc, p.Unit) }
 
 func toCm(x float64, u linelist.Unit) float64 {
 	if u == linelist.MHz {
-		return x / linelist.MHzPerWavenumber
+		return x / units.MHzPerWavenumber
 	}
 	return x
 }
 
 func fromCm(x float64, u linelist.Unit) float64 {
 	if u == linelist.MHz {
-		return x * linelist.MHzPerWavenumber
+		return x * units.MHzPerWavenumber
 	}
 	return x
 }

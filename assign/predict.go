@@ -5,16 +5,11 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/unit/constant"
 
 	"bandwright/fit"
 	"bandwright/fit/model"
+	"bandwright/units"
 )
-
-// SecondRadiation is the second radiation constant c₂ = hc/k in cm K
-// (CODATA 2018 via gonum.org/v1/gonum/unit/constant): a level E cm⁻¹ above
-// the ground level is populated in proportion to exp(−c₂E/T).
-var SecondRadiation = float64(constant.Planck) * float64(constant.LightSpeedInVacuum) * 100 / float64(constant.Boltzmann)
 
 // Prediction is a calculated line with its relative intensity.
 type Prediction struct {
@@ -76,7 +71,7 @@ func NewIntensityModel(spec Spectrum, T float64, sp StartSpecies) (*IntensityMod
 				break
 			}
 			prev = e
-			t := SpinWeight(sp.Iso, J) * float64(2*J+1) * math.Exp(-SecondRadiation*(e-im.e00)/T)
+			t := SpinWeight(sp.Iso, J) * float64(2*J+1) * math.Exp(-units.SecondRadiation*(e-im.e00)/T)
 			qv += t
 			top = math.Max(top, t)
 			if J > 2 && t < 1e-15*top {
@@ -126,7 +121,7 @@ func (im *IntensityModel) RelativeIntensity(t Transition, nu float64) float64 {
 	}
 	T := im.Temperature
 	I := im.Species.Abundance * SpinWeight(im.Species.Iso, t.JLo) * s *
-		math.Exp(-SecondRadiation*im.LowerEnergy(t.VLo, t.JLo)/T) / im.Q
+		math.Exp(-units.SecondRadiation*im.LowerEnergy(t.VLo, t.JLo)/T) / im.Q
 	dv := t.VUp - t.VLo
 	if dv == 1 || dv == -1 {
 		I *= float64(max(t.VUp, t.VLo))
@@ -135,7 +130,7 @@ func (im *IntensityModel) RelativeIntensity(t Transition, nu float64) float64 {
 		if !(nu > 0) {
 			return 0
 		}
-		I *= nu * -math.Expm1(-SecondRadiation*nu/T)
+		I *= nu * -math.Expm1(-units.SecondRadiation*nu/T)
 	}
 	return I
 }

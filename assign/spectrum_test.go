@@ -10,6 +10,7 @@ import (
 
 	"bandwright/assign"
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // Hönl–London sum rule: the line strengths out of one lower level add up to
@@ -60,8 +61,8 @@ func TestPartitionFunctionAndIntensityMaximum(t *testing.T) {
 		t.Fatal(err)
 	}
 	c2 := float64(constant.Planck) * float64(constant.LightSpeedInVacuum) * 100 / float64(constant.Boltzmann)
-	if !scalar.EqualWithinAbsOrRel(assign.SecondRadiation, c2, 0, 1e-15) || math.Abs(c2-1.438776877) > 1e-9 {
-		t.Errorf("c2 = %v (CODATA 2018: 1.438776877 cm K, from memory)", assign.SecondRadiation)
+	if !scalar.EqualWithinAbsOrRel(units.SecondRadiation, c2, 0, 1e-15) || math.Abs(c2-1.438776877) > 1e-9 {
+		t.Errorf("c2 = %v (CODATA 2018: 1.438776877 cm K, from memory)", units.SecondRadiation)
 	}
 	B0 := eqCO[3] - eqCO[4]/2
 	u := c2 * B0 / T

@@ -9,6 +9,7 @@ import (
 
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // Derived is a constant computed from the fitted parameters, with its 1σ
@@ -157,8 +158,8 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]Derived) {
 		for j, q := range params {
 			if q.Element != "" && q.K == k && q.L == l {
 				sx := invMass(ref, q.Element)
-				yt -= species.ElectronMass * sx * p[j]
-				g[j] = -species.ElectronMass * sx
+				yt -= units.ElectronMass * sx * p[j]
+				g[j] = -units.ElectronMass * sx
 				bobIdx = append(bobIdx, j)
 			}
 		}

@@ -34,6 +34,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/lsq"
 	"bandwright/fit/model"
+	"bandwright/units"
 )
 
 // Problem is what a fit works on: the lines and the model. It holds no settings.
@@ -774,7 +775,7 @@ func (w *work) result() *Result {
 		omc := w.obs[i] - c
 		lr := LineResult{Used: w.used[i], Reason: w.reason[i]}
 		if l.Unit == linelist.MHz {
-			lr.Calc = c * linelist.MHzPerWavenumber
+			lr.Calc = c * units.MHzPerWavenumber
 			lr.OmC = l.Position - lr.Calc
 		} else {
 			lr.Calc = c

@@ -9,6 +9,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // TestJointIsotopologues fits two isotopologues jointly. The second one's
@@ -69,7 +70,7 @@ func TestBornOppenheimerBreakdown(t *testing.T) {
 		}
 		y := massScaled(yBO, muR, iso.ReducedMass())
 		mH := iso.A.Mass // H is the first atom in both labels
-		y[[2]int{0, 1}] *= 1 + species.ElectronMass/mH*delta
+		y[[2]int{0, 1}] *= 1 + units.ElectronMass/mH*delta
 		return y
 	}
 	yH, yD := gen("1H35Cl"), gen("2H35Cl")

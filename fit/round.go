@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"bandwright/fit/linelist"
+	"bandwright/units"
 )
 
 // Rounding records Watson's sequential rounding of a fit.
@@ -101,7 +102,7 @@ func (w *work) round(res *Result) error {
 		lr := &res.Lines[i]
 		c := w.calc(i)
 		if l.Unit == linelist.MHz {
-			c *= linelist.MHzPerWavenumber
+			c *= units.MHzPerWavenumber
 		}
 		lr.Calc = c
 		lr.OmC = l.Position - c

@@ -11,6 +11,7 @@ import (
 
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/units"
 )
 
 // TestWriteResidualsCSV writes residuals.csv for lines with awkward text
@@ -30,8 +31,8 @@ func TestWriteResidualsCSV(t *testing.T) {
 		lines[i].Extra = []string{texts[(i+3)%len(texts)], strconv.Itoa(i)}
 	}
 	lines[5].Unit = linelist.MHz
-	lines[5].Position *= linelist.MHzPerWavenumber
-	lines[5].Unc *= linelist.MHzPerWavenumber
+	lines[5].Position *= units.MHzPerWavenumber
+	lines[5].Unc *= units.MHzPerWavenumber
 	lines[7].Position += 1 // rejected
 	lines[9].File = "dir with, comma/a.csv"
 	extra := []string{"intensity, rel", "=HYPERLINK()"}

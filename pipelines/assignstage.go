@@ -14,6 +14,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
+	"bandwright/units"
 )
 
 // Files written by the assignment stage.
@@ -251,7 +252,7 @@ func parseQuantity(s string, u linelist.Unit, flag string) (float64, error) {
 		return 0, fmt.Errorf("assign: %s %q: want a positive number with an optional unit, e.g. 0.01 or 0.3MHz", flag, s)
 	}
 	if u == linelist.MHz {
-		x /= linelist.MHzPerWavenumber
+		x /= units.MHzPerWavenumber
 	}
 	return x, nil
 }

@@ -32,7 +32,7 @@ func TestBoltzmannExp(t *testing.T) {
 	for i := 0; i < 200_000; i++ {
 		check(1400*rng.Float64() - 700)
 	}
-	for _, x := range []float64{0, -0.0, 1e-300, -1e-300, -math.Ln2 / 512, math.Ln2 / 512, -50, -700, 700, -745, -800, 709, -1e10} {
+	for _, x := range []float64{0, math.Copysign(0, -1), 1e-300, -1e-300, -math.Ln2 / 512, math.Ln2 / 512, -50, -700, 700, -745, -800, 709, -1e10} {
 		check(x)
 	}
 	if !math.IsInf(boltzmann(800), 1) || !math.IsNaN(boltzmann(math.NaN())) {

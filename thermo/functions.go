@@ -4,14 +4,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/unit/constant"
-)
 
-// Physical constants (CODATA 2018, from gonum.org/v1/gonum/unit/constant).
-var (
-	// C2 is the second radiation constant hc/k in cm·K: E/k = C2·E[cm⁻¹].
-	C2 = float64(constant.Planck) * float64(constant.LightSpeedInVacuum) * 100 / float64(constant.Boltzmann)
-	// GasConstant is R = N_A·k in J mol⁻¹ K⁻¹.
-	GasConstant = float64(constant.Avogadro) * float64(constant.Boltzmann)
+	"bandwright/units"
 )
 
 // Standard pressures in Pa.
@@ -54,22 +48,22 @@ func translationalEntropy(M, T, p float64) float64 {
 	h := float64(constant.Planck)
 	m := M / 1000 / float64(constant.Avogadro)
 	lnA := math.Log(2*math.Pi) + math.Log(m) + math.Log(k) + math.Log(T) - 2*math.Log(h)
-	return GasConstant * (1.5*lnA + math.Log(k) + math.Log(T) - math.Log(p) + 2.5)
+	return units.GasConstant * (1.5*lnA + math.Log(k) + math.Log(T) - math.Log(p) + 2.5)
 }
 
 // hmh0 returns H°(T) − H°(0) in kJ mol⁻¹ from ⟨E⟩ (cm⁻¹).
 func hmh0(T, meanE float64) float64 {
-	return (2.5*GasConstant*T + GasConstant*C2*meanE) / 1000
+	return (2.5*units.GasConstant*T + units.GasConstant*units.SecondRadiation*meanE) / 1000
 }
 
 // functions turns the moments at T (and the H°(T)−H°(0) at 298.15 K, kJ/mol)
 // into the thermodynamic functions.
 func (sys *System) functions(T float64, m *moments, h298 float64) Functions {
-	beta := C2 / T
+	beta := units.SecondRadiation / T
 	meanE := m.a1 / m.a0
 	meanE2 := m.a2 / m.a0
 	variance := math.Max(0, meanE2-meanE*meanE)
-	r := GasConstant
+	r := units.GasConstant
 	var f Functions
 	f.Q = m.a0
 	f.Cp = 2.5*r + r*beta*beta*variance
@@ -87,11 +81,11 @@ func (sys *System) functions(T float64, m *moments, h298 float64) Functions {
 //	∂ln Q = −β⟨g⟩,  ∂⟨E⟩ = ⟨g⟩ − β(⟨Eg⟩ − ⟨E⟩⟨g⟩),  ∂⟨E²⟩ = 2⟨Eg⟩ − β(⟨E²g⟩ − ⟨E²⟩⟨g⟩),
 //	∂Cp = Rβ²(∂⟨E²⟩ − 2⟨E⟩∂⟨E⟩),  ∂(H−H0) = Rc₂∂⟨E⟩,  ∂S = R(∂ln Q + β∂⟨E⟩).
 func (sys *System) gradients(T float64, m *moments, f Functions, dh298 []float64, d *Gradients) {
-	beta := C2 / T
+	beta := units.SecondRadiation / T
 	inv := 1 / m.a0
 	meanE := m.a1 * inv
 	meanE2 := m.a2 * inv
-	r := GasConstant
+	r := units.GasConstant
 	for k := 0; k < sys.p; k++ {
 		g := m.g0[k] * inv
 		eg := m.g1[k] * inv
@@ -102,7 +96,7 @@ func (sys *System) gradients(T float64, m *moments, f Functions, dh298 []float64
 		dVar := dE2 - 2*meanE*dE
 		d.Q[k] = f.Q * dlnQ
 		d.Cp[k] = r * beta * beta * dVar
-		d.HmH0[k] = r * C2 * dE / 1000
+		d.HmH0[k] = r * units.SecondRadiation * dE / 1000
 		d.S[k] = r * (dlnQ + beta*dE)
 		d.HmH298[k] = d.HmH0[k] - dh298[k]
 		d.Gef[k] = d.S[k] - d.HmH298[k]*1000/T
@@ -117,9 +111,9 @@ func (sys *System) gradients(T float64, m *moments, f Functions, dh298 []float64
 func (sys *System) Evaluate(x []float64, T float64) Functions {
 	e := sys.energiesAt(x, nil, nil)
 	acc := newMoments(0)
-	sys.accumulateAt(e, C2/ReferenceTemperature, acc)
+	sys.accumulateAt(e, units.SecondRadiation/ReferenceTemperature, acc)
 	h298 := hmh0(ReferenceTemperature, acc.a1/acc.a0)
-	sys.accumulateAt(e, C2/T, acc)
+	sys.accumulateAt(e, units.SecondRadiation/T, acc)
 	return sys.functions(T, acc, h298)
 }
 
@@ -127,11 +121,11 @@ func (sys *System) Evaluate(x []float64, T float64) Functions {
 // respect to the fitted parameters at the nominal values.
 func (sys *System) FunctionsAt(T float64) (Functions, *Gradients) {
 	acc := newMoments(sys.p)
-	sys.accumulate(C2/ReferenceTemperature, acc, true)
+	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
 	f298 := sys.functions(ReferenceTemperature, acc, 0)
 	d298 := newGradients(sys.p)
 	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, sys.p), d298)
-	sys.accumulate(C2/T, acc, true)
+	sys.accumulate(units.SecondRadiation/T, acc, true)
 	f := sys.functions(T, acc, f298.HmH0)
 	d := newGradients(sys.p)
 	sys.gradients(T, acc, f, d298.HmH0, d)

@@ -15,6 +15,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // Limits of the level enumeration.
@@ -355,7 +356,7 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 		jLow++
 	}
 	eRef := gc.Model.Energy(gsp, vLow, jLow, gc.Values, nil)
-	eNeg := cutExponent * tMax / C2
+	eNeg := cutExponent * tMax / units.SecondRadiation
 
 	// Manifolds: the ground record, and one per state with its own record.
 	manOf := map[int]int{}

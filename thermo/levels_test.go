@@ -10,6 +10,7 @@ import (
 
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/units"
 )
 
 // coBands returns P and R lines of CO for the bands (v′, v″), J″ ≤ jmax.
@@ -150,7 +151,7 @@ func TestExcitedStates(t *testing.T) {
 			t.Fatal(err)
 		}
 		for i, r := range res.Rows {
-			want := ground.Rows[i].F.Q * (1 + 3*math.Exp(-C2*te/r.T))
+			want := ground.Rows[i].F.Q * (1 + 3*math.Exp(-units.SecondRadiation*te/r.T))
 			if own {
 				// Its own Dunham manifold is not bounded by the ground state's D0:
 				// compare below the levels where that matters.

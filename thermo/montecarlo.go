@@ -11,6 +11,8 @@ import (
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distmv"
+
+	"bandwright/units"
 )
 
 // evalBuf holds the scratch space of one evaluation at drawn parameters.
@@ -219,7 +221,7 @@ func (sys *System) MonteCarlo(temps []float64, n int, seed uint64, workers int) 
 	for start := 0; start < len(temps); {
 		end, size := start, 0
 		for end < len(temps) {
-			ni := sys.cut(C2 / temps[end])
+			ni := sys.cut(units.SecondRadiation / temps[end])
 			if end > start && (size+ni > budget || (end-start+1)*n*6 > budget) {
 				break
 			}
@@ -256,7 +258,7 @@ func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, wo
 	// Nominal factors w e^(−βE) of each temperature, up to its cut.
 	bs := make([][]float64, len(temps))
 	parallelFor(len(temps), workers, func(k int) {
-		beta := C2 / temps[k]
+		beta := units.SecondRadiation / temps[k]
 		nk := sys.cut(beta)
 		b := make([]float64, nk)
 		for i, e := range sys.e[:nk] {
@@ -304,7 +306,7 @@ func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, wo
 					}
 				}
 				for k, T := range temps {
-					beta := C2 / T
+					beta := units.SecondRadiation / T
 					b := bs[k]
 					for d := d0; d < d1; d++ {
 						sys.accumulateShifted(b, delta[(d-d0)*N:(d-d0)*N+len(b)], beta, acc)

@@ -6,6 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bandwright/units"
 )
 
 // NASA7Form is the published NASA 7-coefficient form (McBride, Zehe & Gordon,
@@ -157,7 +159,7 @@ func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
 	if len(T) != len(f) || len(T) == 0 {
 		return nil, errors.New("thermo: NASA-7 fit: no data")
 	}
-	R := GasConstant
+	R := units.GasConstant
 	type obs struct {
 		rng      int
 		tau      float64

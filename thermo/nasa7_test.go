@@ -5,6 +5,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/units"
 )
 
 // TestNASA7RecoversPolynomial: data generated from one 7-coefficient set (the
@@ -21,7 +23,7 @@ func TestNASA7RecoversPolynomial(t *testing.T) {
 	lo, hi := r.grid()
 	grid := append(append([]float64(nil), lo...), hi[1:]...)
 	fs := make([]Functions, len(grid))
-	R := GasConstant
+	R := units.GasConstant
 	for i, T := range grid {
 		fs[i] = Functions{Cp: ref.Cp(T) * R, HmH298: ref.H(T) * R * T / 1000, S: ref.S(T) * R}
 	}
@@ -72,7 +74,7 @@ func TestNASA7FromTable(t *testing.T) {
 			if T > brk {
 				rg = hi
 			}
-			R := GasConstant
+			R := units.GasConstant
 			if d := math.Abs(rg.Cp(T)*R - fs[i].Cp); d > rg.MaxDeviation.Cp.Value+1e-12 {
 				t.Errorf("%g K: Cp deviation %g above the reported %g", T, d, rg.MaxDeviation.Cp.Value)
 			}

@@ -11,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"bandwright/fit"
+	"bandwright/units"
 )
 
 // withValue returns a copy of c with the fitted parameter named name set to x.
@@ -121,12 +122,12 @@ func TestTemperatureExtremes(t *testing.T) {
 	e := func(J int) float64 {
 		return co.Model.Energy(0, 0, J, co.Values, nil) - co.Model.Energy(0, 0, 0, co.Values, nil)
 	}
-	qWant := 1 + 3*math.Exp(-C2*e(1)) + 5*math.Exp(-C2*e(2)) + 7*math.Exp(-C2*e(3))
+	qWant := 1 + 3*math.Exp(-units.SecondRadiation*e(1)) + 5*math.Exp(-units.SecondRadiation*e(2)) + 7*math.Exp(-units.SecondRadiation*e(3))
 	if q := r.Rows[0].F.Q; !scalar.EqualWithinRel(q, qWant, 1e-12) {
 		t.Errorf("Q(1 K) = %.15g, direct sum %.15g", q, qWant)
 	}
 	hot := r.Rows[1].F
-	if R := GasConstant; !(hot.Cp > 2.5*R && hot.Cp < 4.5*R) || !(hot.Q > 1) {
+	if R := units.GasConstant; !(hot.Cp > 2.5*R && hot.Cp < 4.5*R) || !(hot.Q > 1) {
 		t.Errorf("100 000 K: %+v", hot)
 	}
 
@@ -137,8 +138,8 @@ func TestTemperatureExtremes(t *testing.T) {
 	}
 	allFinite(t, r)
 	// E(J=1) of HF is 2B ≈ 42 cm-1: e^(−c₂·42/1 K) ≈ e^(−60), below the sum's cut.
-	if f := r.Rows[0].F; !scalar.EqualWithinAbsOrRel(f.Q, 1, 1e-15, 1e-15) || !scalar.EqualWithinAbsOrRel(f.Cp, 2.5*GasConstant, 1e-9, 1e-12) {
-		t.Errorf("HF at 1 K: Q = %v, Cp = %v (5/2 R = %v)", f.Q, f.Cp, 2.5*GasConstant)
+	if f := r.Rows[0].F; !scalar.EqualWithinAbsOrRel(f.Q, 1, 1e-15, 1e-15) || !scalar.EqualWithinAbsOrRel(f.Cp, 2.5*units.GasConstant, 1e-9, 1e-12) {
+		t.Errorf("HF at 1 K: Q = %v, Cp = %v (5/2 R = %v)", f.Q, f.Cp, 2.5*units.GasConstant)
 	}
 
 	for _, T := range []float64{1e-3, 0, -5, math.NaN(), math.Inf(1), 1e6} {

@@ -5,6 +5,8 @@ import (
 	"sort"
 
 	"gonum.org/v1/gonum/floats"
+
+	"bandwright/units"
 )
 
 // moments are the weighted Boltzmann sums of one pass at β = c₂/T:
@@ -123,8 +125,8 @@ func (sys *System) accumulateAt(e []float64, beta float64, acc *moments) {
 // the rotational sum, so its relative error shows where the rigid-rotor integral
 // fails: low T, light molecules, strong centrifugal distortion at high T.
 func (sys *System) ClosedForm(T float64) float64 {
-	beta := C2 / T
-	eNeg := cutExponent * sys.tMax / C2
+	beta := units.SecondRadiation / T
+	eNeg := cutExponent * sys.tMax / units.SecondRadiation
 	q := 0.0
 	for i, st := range sys.states {
 		m := sys.manifolds[sys.stateMan[i]]
@@ -137,8 +139,8 @@ func (sys *System) ClosedForm(T float64) float64 {
 			if de > eNeg {
 				continue
 			}
-			u := C2 * r.b / T
-			rot := T / (float64(sys.sigmaNumber) * C2 * r.b) * (1 + u/3 + u*u/15 + 4*u*u*u/315)
+			u := units.SecondRadiation * r.b / T
+			rot := T / (float64(sys.sigmaNumber) * units.SecondRadiation * r.b) * (1 + u/3 + u*u/15 + 4*u*u*u/315)
 			q += ge * math.Exp(-beta*de) * rot
 		}
 	}
@@ -183,7 +185,7 @@ type Population struct {
 // Populations returns the fraction w_i e^(−c₂E_i/T)/Q of every level in the sum
 // at temperature T, in order of energy.
 func (sys *System) Populations(T float64) []Population {
-	beta := C2 / T
+	beta := units.SecondRadiation / T
 	acc := newMoments(0)
 	sys.accumulate(beta, acc, false)
 	out := make([]Population, len(sys.e))

@@ -9,6 +9,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/units"
 )
 
 // rigidRotor fits a levels model with the single term B to the pure-rotation
@@ -57,7 +58,7 @@ func TestRigidRotor(t *testing.T) {
 					w = tc.odd
 				}
 				x := float64(j) * float64(j+1)
-				sum += w * float64(2*j+1) * math.Exp(-C2*b*x/r.T)
+				sum += w * float64(2*j+1) * math.Exp(-units.SecondRadiation*b*x/r.T)
 			}
 			if !scalar.EqualWithinRel(r.F.Q, sum, 1e-12) {
 				t.Errorf("%s %g K: Q = %.15g, exact sum %.15g", tc.label, r.T, r.F.Q, sum)
@@ -121,7 +122,7 @@ func TestConventions(t *testing.T) {
 	atm, _ := Compute(p, Settings{Temperatures: temps, Pressure: PressureAtm})
 	li, _ := Compute(p, Settings{Temperatures: temps, NuclearSpin: SpinLineIntensity})
 	nat, _ := Compute(p, Settings{Temperatures: temps, Composition: CompositionNatural})
-	R := GasConstant
+	R := units.GasConstant
 	mIso, mNat := base.Conventions.MolarMass, nat.Conventions.MolarMass
 	for i := range temps {
 		b, a, l, n := base.Rows[i], atm.Rows[i], li.Rows[i], nat.Rows[i]
@@ -151,12 +152,12 @@ func TestHighTemperatureFinite(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, r := range res.Rows {
-		if r.F.Cp < 2.5*GasConstant-1e-9 || r.F.Cp > 2.5*GasConstant+6*GasConstant {
+		if r.F.Cp < 2.5*units.GasConstant-1e-9 || r.F.Cp > 2.5*units.GasConstant+6*units.GasConstant {
 			t.Errorf("%g K: Cp = %g", r.T, r.F.Cp)
 		}
 	}
 	// At 1 K only the lowest level of HF is populated: Q = 1, Cp = 5/2 R.
-	if r := res.Rows[0]; !scalar.EqualWithinAbs(r.F.Q, 1, 1e-12) || !scalar.EqualWithinAbs(r.F.Cp, 2.5*GasConstant, 1e-9) {
+	if r := res.Rows[0]; !scalar.EqualWithinAbs(r.F.Q, 1, 1e-12) || !scalar.EqualWithinAbs(r.F.Cp, 2.5*units.GasConstant, 1e-9) {
 		t.Errorf("1 K: Q = %.15g, Cp = %.12g", r.F.Q, r.F.Cp)
 	}
 }

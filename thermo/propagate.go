@@ -6,6 +6,8 @@ import (
 	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
+
+	"bandwright/units"
 )
 
 // Table computes the rows at the temperatures with linearly propagated σ,
@@ -13,7 +15,7 @@ import (
 // the number of workers).
 func (sys *System) Table(temps []float64, workers int) []Row {
 	acc := newMoments(sys.p)
-	sys.accumulate(C2/ReferenceTemperature, acc, true)
+	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
 	f298 := sys.functions(ReferenceTemperature, acc, 0)
 	d298 := newGradients(sys.p)
 	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, sys.p), d298)
@@ -34,7 +36,7 @@ func (sys *System) Table(temps []float64, workers int) []Row {
 					return
 				}
 				T := temps[i]
-				beta := C2 / T
+				beta := units.SecondRadiation / T
 				sys.accumulate(beta, acc, true)
 				f := sys.functions(T, acc, h298)
 				sys.gradients(T, acc, f, dh298, d)
@@ -60,7 +62,7 @@ func (sys *System) Table(temps []float64, workers int) []Row {
 // nominal returns the functions (no σ) at the temperatures.
 func (sys *System) nominal(temps []float64, workers int) []Functions {
 	acc := newMoments(0)
-	sys.accumulate(C2/ReferenceTemperature, acc, false)
+	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, false)
 	h298 := hmh0(ReferenceTemperature, acc.a1/acc.a0)
 	out := make([]Functions, len(temps))
 	var next atomic.Int64
@@ -75,7 +77,7 @@ func (sys *System) nominal(temps []float64, workers int) []Functions {
 				if i >= len(temps) {
 					return
 				}
-				sys.accumulate(C2/temps[i], acc, false)
+				sys.accumulate(units.SecondRadiation/temps[i], acc, false)
 				out[i] = sys.functions(temps[i], acc, h298)
 			}
 		}()

@@ -7,6 +7,8 @@ import (
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/units"
 )
 
 func fnField(f Functions, i int) float64 {
@@ -252,7 +254,7 @@ func TestMonteCarloMatchesDirectEvaluation(t *testing.T) {
 			}
 			e := sys.energiesAt(x, nil, nil)
 			acc := newMoments(0)
-			sys.accumulateAt(e, C2/2000, acc)
+			sys.accumulateAt(e, units.SecondRadiation/2000, acc)
 			want := sys.functions(2000, acc, 0)
 			if !scalar.EqualWithinRel(got[d].S, want.S, 1e-13) || !scalar.EqualWithinRel(got[d].Cp, want.Cp, 1e-11) {
 				t.Errorf("linear=%v draw %d: S %.15g / %.15g, Cp %.15g / %.15g", linear, d, got[d].S, want.S, got[d].Cp, want.Cp)

@@ -32,9 +32,8 @@ import (
 	"sort"
 	"strconv"
 
-	"gonum.org/v1/gonum/unit/constant"
-
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // Term is one Dunham coefficient Y_kl in cm⁻¹.
@@ -113,8 +112,6 @@ type Peak struct {
 	Truth     []Line
 }
 
-var c2 = float64(constant.Planck) * float64(constant.LightSpeedInVacuum) * 100 / float64(constant.Boltzmann)
-
 // Lines returns the noise-free lines of the spec above its threshold.
 func Lines(s Spec) ([]Line, error) {
 	ref, err := species.Parse(s.Reference)
@@ -159,7 +156,7 @@ func Lines(s Spec) ([]Line, error) {
 				if J > 0 && E(v, J) <= E(v, J-1) {
 					break
 				}
-				q += gns(J) * float64(2*J+1) * math.Exp(-c2*(E(v, J)-E(0, 0))/s.Temperature)
+				q += gns(J) * float64(2*J+1) * math.Exp(-units.SecondRadiation*(E(v, J)-E(0, 0))/s.Temperature)
 			}
 		}
 		for _, b := range s.Bands {
@@ -205,12 +202,12 @@ func Lines(s Spec) ([]Line, error) {
 					if nu <= 0 || hl <= 0 {
 						continue
 					}
-					in := sp.Abundance * gns(J) * hl * math.Exp(-c2*(E(vl, J)-E(0, 0))/s.Temperature) / q
+					in := sp.Abundance * gns(J) * hl * math.Exp(-units.SecondRadiation*(E(vl, J)-E(0, 0))/s.Temperature) / q
 					if vu-vl == 1 {
 						in *= float64(vu)
 					}
 					if s.Spectrum != "raman" {
-						in *= nu * (1 - math.Exp(-c2*nu/s.Temperature))
+						in *= nu * (1 - math.Exp(-units.SecondRadiation*nu/s.Temperature))
 					}
 					out = append(out, Line{Species: iso.Label, VUp: vu, JUp: ju, VLo: vl, JLo: J, Position: nu, Intensity: in})
 				}
@@ -289,15 +286,13 @@ func Generate(s Spec) ([]Peak, error) {
 		}
 		p := Peak{Position: x.pos + u*rng.NormFloat64(), Unc: u, Intensity: x.in * math.Exp(s.IntensityNoise*rng.NormFloat64()), Truth: x.truth}
 		if s.Unit == "MHz" {
-			p.Position *= mhz
-			p.Unc *= mhz
+			p.Position *= units.MHzPerWavenumber
+			p.Unc *= units.MHzPerWavenumber
 		}
 		out = append(out, p)
 	}
 	return out, nil
 }
-
-var mhz = float64(constant.LightSpeedInVacuum) * 100 / 1e6
 
 // WriteCSV writes peaks as a peak list (position, unc, intensity, unit);
 // with truth, the true assignment follows in a column "truth" (species v′-v″

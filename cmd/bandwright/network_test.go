@@ -14,7 +14,6 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"runtime"
 	"strings"
 	"testing"
 )
@@ -39,8 +38,9 @@ func goTool(t *testing.T) string {
 	if p, err := exec.LookPath("go"); err == nil {
 		return p
 	}
-	p := filepath.Join(runtime.GOROOT(), "bin", "go")
-	if _, err := os.Stat(p); err != nil {
+	// Not on the path: the go command that runs the tests exports GOROOT.
+	p := filepath.Join(os.Getenv("GOROOT"), "bin", "go")
+	if _, err := os.Stat(p); os.Getenv("GOROOT") == "" || err != nil {
 		t.Skip("no go command to list the packages of the binary")
 	}
 	return p

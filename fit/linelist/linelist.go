@@ -67,13 +67,8 @@ import (
 	"strconv"
 	"strings"
 
-	"gonum.org/v1/gonum/unit/constant"
+	"bandwright/units"
 )
-
-// MHzPerWavenumber is the frequency in MHz of radiation of wavenumber 1 cm⁻¹:
-// c × 100 cm/m × 10⁻⁶ MHz/Hz = 29 979.2458 MHz, exact since the SI fixes c
-// (CODATA 2018 via gonum.org/v1/gonum/unit/constant).
-const MHzPerWavenumber = float64(constant.LightSpeedInVacuum) * 100 / 1e6
 
 // Unit is the unit of a line position and its uncertainty.
 type Unit int
@@ -112,7 +107,7 @@ func ParseUnit(s string) (Unit, error) {
 // toWavenumber converts x, in unit u, to cm⁻¹.
 func toWavenumber(x float64, u Unit) float64 {
 	if u == MHz {
-		return x / MHzPerWavenumber
+		return x / units.MHzPerWavenumber
 	}
 	return x
 }
@@ -133,11 +128,11 @@ type Line struct {
 	Extra    []string // pass-through values, aligned with List.Extra
 }
 
-// Wavenumber returns the position in cm⁻¹: Position, or Position / MHzPerWavenumber
+// Wavenumber returns the position in cm⁻¹: Position, or Position / units.MHzPerWavenumber
 // for a line given in MHz.
 func (l Line) Wavenumber() float64 { return toWavenumber(l.Position, l.Unit) }
 
-// UncWavenumber returns the 1σ uncertainty in cm⁻¹: Unc, or Unc / MHzPerWavenumber for
+// UncWavenumber returns the 1σ uncertainty in cm⁻¹: Unc, or Unc / units.MHzPerWavenumber for
 // a line given in MHz.
 func (l Line) UncWavenumber() float64 { return toWavenumber(l.Unc, l.Unit) }
 

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"strings"
 	"testing"
+
+	"bandwright/units"
 )
 
 // coRows returns a line list of n R lines of the 12C16O fundamental, positions in
@@ -24,7 +26,7 @@ func coRows(n int, mhzEvery int, withUnit bool) string {
 		nu, unc := 2143.27+3.83*m-0.0175*m*m, 0.001
 		unit := "cm-1"
 		if mhzEvery > 0 && j%mhzEvery == mhzEvery-1 {
-			nu, unc, unit = nu*MHzPerWavenumber, unc*MHzPerWavenumber, "MHz"
+			nu, unc, unit = nu*units.MHzPerWavenumber, unc*units.MHzPerWavenumber, "MHz"
 		}
 		fmt.Fprintf(&b, "12C16O,1,%d,0,%d,%.6f,%.6g", j+1, j, nu, unc)
 		if withUnit {

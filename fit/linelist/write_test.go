@@ -9,6 +9,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/units"
 )
 
 // sameFloat reports bit-for-bit equality: the round trip through text must be exact,
@@ -85,8 +87,8 @@ func equalStrings(a, b []string) bool {
 func TestMHzConversion(t *testing.T) {
 	// 1 cm-1 = c × 100 m⁻¹ → 299 792 458 m/s × 100 /m = 29 979.2458 MHz; c is exact by
 	// the definition of the metre (SI Brochure, 9th edition, 2019).
-	if !scalar.EqualWithinAbsOrRel(MHzPerWavenumber, 29979.2458, 0, 1e-15) {
-		t.Errorf("MHzPerWavenumber = %.10f", MHzPerWavenumber)
+	if !scalar.EqualWithinAbsOrRel(units.MHzPerWavenumber, 29979.2458, 0, 1e-15) {
+		t.Errorf("units.MHzPerWavenumber = %.10f", units.MHzPerWavenumber)
 	}
 	l, err := ReadFile("testdata/mixed_crlf.csv")
 	if err != nil {
@@ -101,7 +103,7 @@ func TestMHzConversion(t *testing.T) {
 	if got := co10.Wavenumber(); !scalar.EqualWithinAbsOrRel(got, want, 0, 1e-6) {
 		t.Errorf("CO J=1-0: %.8f cm-1, want %.8f", got, want)
 	}
-	if got := co10.UncWavenumber(); !scalar.EqualWithinAbsOrRel(got*MHzPerWavenumber, 0.0005, 0, 1e-14) {
+	if got := co10.UncWavenumber(); !scalar.EqualWithinAbsOrRel(got*units.MHzPerWavenumber, 0.0005, 0, 1e-14) {
 		t.Errorf("unc %g cm-1", got)
 	}
 	// cm-1 lines are not converted.

@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // Dunham is the Dunham expansion of the rovibrational energy,
@@ -182,7 +183,7 @@ func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
 				bt := bobTerm{param: len(m.params), coef: make([]float64, len(m.isos))}
 				sr := invMassSum(m.isos[0], el)
 				for s, iso := range m.isos {
-					bt.coef[s] = species.ElectronMass * (invMassSum(iso, el) - sr)
+					bt.coef[s] = units.ElectronMass * (invMassSum(iso, el) - sr)
 				}
 				m.bob[t] = append(m.bob[t], bt)
 				m.params = append(m.params, Param{Name: BOBName(k, l, el), V: -1, K: k, L: l, Element: el})

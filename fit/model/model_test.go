@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 func mustIsos(t *testing.T, labels ...string) []species.Isotopologue { return mustIsosB(t, labels...) }
@@ -127,7 +128,7 @@ func TestDunhamEnergyGradient(t *testing.T) {
 		case q.Element == "":
 			y := yr[kl]
 			for el, d := range delta[kl] {
-				y += yr[kl] * species.ElectronMass * inv(isos[0], el) * d
+				y += yr[kl] * units.ElectronMass * inv(isos[0], el) * d
 			}
 			p[i] = y
 		default:
@@ -144,7 +145,7 @@ func TestDunhamEnergyGradient(t *testing.T) {
 				ys := y * math.Pow(muR/mu, float64(kl[0]+2*kl[1])/2)
 				f := 1.0
 				for el, d := range delta[kl] {
-					f += species.ElectronMass * inv(iso, el) * d
+					f += units.ElectronMass * inv(iso, el) * d
 				}
 				want += ys * f * math.Pow(float64(v)+0.5, float64(kl[0])) * math.Pow(x, float64(kl[1]))
 			}

@@ -283,7 +283,7 @@ func (m Isotopologue) SpinExchangeStates() (symmetric, antisymmetric int, ok boo
 }
 
 // rbFactor is h/(8π²c) in kg·m (c in cm/s), so that B[cm-1] = rbFactor/(μ[kg]·r[m]²).
-var rbFactor = float64(constant.Planck) / (8 * math.Pi * math.Pi * float64(constant.LightSpeedInVacuum) * 100)
+const rbFactor = float64(constant.Planck) / (8 * math.Pi * math.Pi * float64(constant.LightSpeedInVacuum) * 100)
 
 // RFromB returns the bond length r in Å of a rigid rotor with rotational constant B in
 // cm-1 and reduced mass mu in u:

@@ -259,13 +259,6 @@ func TestSpinStates(t *testing.T) {
 	}
 }
 
-func TestElectronMass(t *testing.T) {
-	// CODATA 2018 electron mass 9.1093837015e-31 kg (from memory) over gonum's m_u.
-	if !scalar.EqualWithinAbsOrRel(ElectronMass, 9.1093837015e-31/1.66053906660e-27, 0, 1e-10) {
-		t.Errorf("ElectronMass %v u disagrees with m_e/m_u", ElectronMass)
-	}
-}
-
 // FuzzParse: Parse never panics, and a label it accepts round-trips: parsing the
 // canonical label gives the same isotopologue, and the canonical label is a fixed point.
 func FuzzParse(f *testing.F) {

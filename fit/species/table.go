@@ -24,10 +24,6 @@ import (
 	"strings"
 )
 
-// ElectronMass is the electron mass in u (CODATA 2018, from memory: 5.48579909065e-4 u).
-// It enters Born–Oppenheimer breakdown terms of the form (me/M_A)·Δ_kl^A.
-const ElectronMass = 5.48579909065e-4
-
 //go:embed isotopes.csv
 var isotopesCSV []byte
 
