@@ -157,7 +157,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]Derived) {
 		var bobIdx []int
 		for j, q := range params {
 			if q.Element != "" && q.K == k && q.L == l {
-				sx := invMass(ref, q.Element)
+				sx := ref.InverseMass(q.Element)
 				yt -= units.ElectronMass * sx * p[j]
 				g[j] = -units.ElectronMass * sx
 				bobIdx = append(bobIdx, j)
@@ -172,17 +172,6 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]Derived) {
 			r.add(out, fmt.Sprintf("Delta%d%d_%s", k, l, params[j].Element), "", linear{d, gd}, "1", "Born–Oppenheimer-breakdown constant Δ_kl of "+params[j].Element)
 		}
 	}
-}
-
-func invMass(iso species.Isotopologue, el string) float64 {
-	s := 0.0
-	if iso.A.Symbol == el {
-		s += 1 / iso.A.Mass
-	}
-	if iso.B.Symbol == el {
-		s += 1 / iso.B.Mass
-	}
-	return s
 }
 
 func deriveLevels(r *Result, m *model.Levels, out *[]Derived) {

@@ -35,7 +35,6 @@ import (
 type Dunham struct {
 	species  []string
 	isos     []species.Isotopologue
-	ref      int
 	terms    [][2]int // (k, l) of each Y parameter, parameter index = term index
 	elements []string // elements with breakdown terms
 	params   []Param
@@ -87,23 +86,44 @@ type DunhamOptions struct {
 // molecule: the same two elements). Parameters named in fixes but absent from
 // Terms are added as fixed parameters.
 func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
+	m, err := newDunhamSpecies(isos, o.Reference)
+	if err != nil {
+		return nil, err
+	}
+	if err := m.setTerms(o.Terms, o.Fixes); err != nil {
+		return nil, err
+	}
+	if len(o.BOBTerms) > 0 {
+		if err := m.addBreakdown(o.BOBTerms); err != nil {
+			return nil, err
+		}
+	}
+	if err := applyFixes(m.params, o.Fixes); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// newDunhamSpecies checks that isos are isotopologues of one molecule, each
+// listed once, and returns a model without terms over them, the reference
+// (index ref of isos) first.
+func newDunhamSpecies(isos []species.Isotopologue, ref int) (*Dunham, error) {
 	if len(isos) == 0 {
 		return nil, ErrNoLevels
 	}
-	if o.Reference < 0 || o.Reference >= len(isos) {
-		return nil, fmt.Errorf("model: reference isotopologue index %d out of range", o.Reference)
+	if ref < 0 || ref >= len(isos) {
+		return nil, fmt.Errorf("model: reference isotopologue index %d out of range", ref)
 	}
-	refEl := elementsOf(isos[o.Reference])
+	refEl := elementsOf(isos[ref])
 	for _, iso := range isos {
 		if elementsOf(iso) != refEl {
-			return nil, fmt.Errorf("model: a joint Dunham fit needs isotopologues of one molecule; %s and %s differ in their elements", isos[o.Reference].Label, iso.Label)
+			return nil, fmt.Errorf("model: a joint Dunham fit needs isotopologues of one molecule; %s and %s differ in their elements", isos[ref].Label, iso.Label)
 		}
 	}
-	m := &Dunham{ref: o.Reference}
-	// Reference first in Species() as documented.
-	order := []int{o.Reference}
+	m := &Dunham{}
+	order := []int{ref}
 	for i := range isos {
-		if i != o.Reference {
+		if i != ref {
 			order = append(order, i)
 		}
 	}
@@ -116,10 +136,15 @@ func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
 		m.isos = append(m.isos, isos[i])
 		m.species = append(m.species, isos[i].Label)
 	}
-	m.ref = 0
+	return m, nil
+}
 
-	names := append([]string(nil), o.Terms...)
-	for _, f := range o.Fixes {
+// setTerms gives the model its Y_kl parameters: the terms named, plus those
+// only held by a fix, ordered by l then k; and the mass-scaling factors
+// scale[s][t] = (μ_r/μ_s)^((k+2l)/2).
+func (m *Dunham) setTerms(terms []string, fixes []Fix) error {
+	names := append([]string(nil), terms...)
+	for _, f := range fixes {
 		if dunhamName.MatchString(f.Name) && !contains(names, f.Name) {
 			names = append(names, f.Name)
 		}
@@ -128,16 +153,15 @@ func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
 	for _, n := range names {
 		k, l, err := ParseDunhamTerm(n)
 		if err != nil {
-			return nil, err
+			return err
 		}
-		if have[[2]int{k, l}] {
-			continue
+		if !have[[2]int{k, l}] {
+			have[[2]int{k, l}] = true
+			m.terms = append(m.terms, [2]int{k, l})
 		}
-		have[[2]int{k, l}] = true
-		m.terms = append(m.terms, [2]int{k, l})
 	}
 	if len(m.terms) == 0 {
-		return nil, fmt.Errorf("model: no Dunham terms given (e.g. --terms Y10,Y20,Y01,Y11,Y02)")
+		return fmt.Errorf("model: no Dunham terms given (e.g. --terms Y10,Y20,Y01,Y11,Y02)")
 	}
 	sort.Slice(m.terms, func(a, b int) bool {
 		if m.terms[a][1] != m.terms[b][1] {
@@ -158,42 +182,41 @@ func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
 			m.scale[s][t] = math.Pow(muR/iso.ReducedMass(), float64(kl[0]+2*kl[1])/2)
 		}
 	}
-	// Breakdown terms: only for elements substituted in the data.
 	m.bob = make([][]bobTerm, len(m.terms))
-	if len(o.BOBTerms) > 0 {
-		for _, el := range substitutedElements(m.isos) {
-			m.elements = append(m.elements, el)
+	return nil
+}
+
+// addBreakdown adds a breakdown parameter δ_kl^X for each term named in
+// bobTerms and each element X substituted among the isotopologues, with its
+// coefficients m_e (S_X(s) − S_X(r)) per species.
+func (m *Dunham) addBreakdown(bobTerms []string) error {
+	m.elements = append(m.elements, substitutedElements(m.isos)...)
+	if len(m.elements) == 0 {
+		return fmt.Errorf("model: Born–Oppenheimer-breakdown terms need isotopologues that differ in the isotope of at least one element; all given isotopologues are %s", m.species[0])
+	}
+	for _, n := range bobTerms {
+		k, l, err := ParseDunhamTerm(n)
+		if err != nil {
+			return err
 		}
-		if len(m.elements) == 0 {
-			return nil, fmt.Errorf("model: Born–Oppenheimer-breakdown terms need isotopologues that differ in the isotope of at least one element; all given isotopologues are %s", m.species[0])
+		t := m.termIndex(k, l)
+		if t < 0 {
+			return fmt.Errorf("model: breakdown term %s needs %s among the fitted terms", BOBName(k, l, "X"), DunhamName(k, l))
 		}
-		for _, n := range o.BOBTerms {
-			k, l, err := ParseDunhamTerm(n)
-			if err != nil {
-				return nil, err
+		if len(m.bob[t]) > 0 {
+			continue
+		}
+		for _, el := range m.elements {
+			bt := bobTerm{param: len(m.params), coef: make([]float64, len(m.isos))}
+			sr := m.isos[0].InverseMass(el)
+			for s, iso := range m.isos {
+				bt.coef[s] = units.ElectronMass * (iso.InverseMass(el) - sr)
 			}
-			t := m.termIndex(k, l)
-			if t < 0 {
-				return nil, fmt.Errorf("model: breakdown term %s needs %s among the fitted terms", BOBName(k, l, "X"), DunhamName(k, l))
-			}
-			if len(m.bob[t]) > 0 {
-				continue
-			}
-			for _, el := range m.elements {
-				bt := bobTerm{param: len(m.params), coef: make([]float64, len(m.isos))}
-				sr := invMassSum(m.isos[0], el)
-				for s, iso := range m.isos {
-					bt.coef[s] = units.ElectronMass * (invMassSum(iso, el) - sr)
-				}
-				m.bob[t] = append(m.bob[t], bt)
-				m.params = append(m.params, Param{Name: BOBName(k, l, el), V: -1, K: k, L: l, Element: el})
-			}
+			m.bob[t] = append(m.bob[t], bt)
+			m.params = append(m.params, Param{Name: BOBName(k, l, el), V: -1, K: k, L: l, Element: el})
 		}
 	}
-	if err := applyFixes(m.params, o.Fixes); err != nil {
-		return nil, err
-	}
-	return m, nil
+	return nil
 }
 
 func elementsOf(iso species.Isotopologue) string {
@@ -212,27 +235,15 @@ func substitutedElements(isos []species.Isotopologue) []string {
 		if contains(out, el) {
 			continue
 		}
-		r := invMassSum(isos[0], el)
+		r := isos[0].InverseMass(el)
 		for _, iso := range isos[1:] {
-			if invMassSum(iso, el) != r {
+			if iso.InverseMass(el) != r {
 				out = append(out, el)
 				break
 			}
 		}
 	}
 	return out
-}
-
-// invMassSum returns Σ 1/M (u⁻¹) over the atoms of element el in iso.
-func invMassSum(iso species.Isotopologue, el string) float64 {
-	s := 0.0
-	if iso.A.Symbol == el {
-		s += 1 / iso.A.Mass
-	}
-	if iso.B.Symbol == el {
-		s += 1 / iso.B.Mass
-	}
-	return s
 }
 
 func (m *Dunham) termIndex(k, l int) int {

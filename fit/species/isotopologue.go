@@ -229,6 +229,22 @@ func (m Isotopologue) ReducedMass() float64 {
 	return m.A.Mass * m.B.Mass / (m.A.Mass + m.B.Mass)
 }
 
+// InverseMass returns S_X = Σ 1/M_i in u⁻¹ over the atoms i of element X
+// (symbol el) in the molecule: 1/M_A + 1/M_B for a homonuclear molecule of X,
+// 1/M of the one atom of X otherwise, and 0 when X is not in the molecule. The
+// Born–Oppenheimer-breakdown corrections (m_e/M)·Δ_kl of the Dunham
+// coefficients scale with it.
+func (m Isotopologue) InverseMass(el string) float64 {
+	s := 0.0
+	if m.A.Symbol == el {
+		s += 1 / m.A.Mass
+	}
+	if m.B.Symbol == el {
+		s += 1 / m.B.Mass
+	}
+	return s
+}
+
 // MolarMass returns the molar mass of this isotopologue in g/mol, numerically equal to
 // Mass in u (M = m·N_A·m_u with M_u = 1 g/mol).
 func (m Isotopologue) MolarMass() float64 { return m.Mass() }

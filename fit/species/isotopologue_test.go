@@ -302,3 +302,25 @@ func BenchmarkParse(b *testing.B) {
 		}
 	}
 }
+
+// TestInverseMass checks S_X = Σ 1/M over the atoms of element X: 12C has
+// mass 12 u exactly by definition of the unit; 14N 14.003074004 u (AME2020,
+// from memory).
+func TestInverseMass(t *testing.T) {
+	for _, c := range []struct {
+		label, el string
+		want      float64
+	}{
+		{"12C16O", "C", 1.0 / 12},
+		{"14N2", "N", 2 / 14.003074004},
+		{"1H35Cl", "O", 0},
+	} {
+		iso, err := Parse(c.label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := iso.InverseMass(c.el); !scalar.EqualWithinAbsOrRel(got, c.want, 1e-15, 1e-10) {
+			t.Errorf("%s: S_%s = %.12g, want %.12g", c.label, c.el, got, c.want)
+		}
+	}
+}

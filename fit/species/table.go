@@ -125,14 +125,7 @@ func loadTable(r io.Reader) (*tableData, error) {
 			return nil, fmt.Errorf("species: isotopes.csv: header lacks column %q", c)
 		}
 	}
-	t := &tableData{
-		elements:    make(map[string]Element),
-		isotopeAt:   make(map[isoKey]int),
-		radioactive: make(map[isoKey]bool),
-	}
-	weights := make(map[string]float64)
-	zOf := make(map[string]int)
-	symOfZ := make(map[int]string)
+	b := newTableBuilder()
 	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
@@ -142,70 +135,129 @@ func loadTable(r io.Reader) (*tableData, error) {
 		if err != nil {
 			return nil, fmt.Errorf("species: isotopes.csv: %w", err)
 		}
-		field := func(name string) string { return strings.TrimSpace(rec[col[name]]) }
-		bad := func(name string, cause error) error {
-			return fmt.Errorf("species: isotopes.csv: line %d: field %s: %w", line, name, cause)
+		row := tableRow{rec: rec, col: col, line: line}
+		iso, radio, weight, err := row.parse()
+		if err != nil {
+			return nil, err
 		}
-		sym := field("symbol")
-		if !validSymbol(sym) {
-			return nil, bad("symbol", fmt.Errorf("%q is not an element symbol (uppercase letter, then at most two lowercase)", sym))
+		if err := b.add(row, iso, radio, weight); err != nil {
+			return nil, err
 		}
-		z, err := strconv.Atoi(field("z"))
-		if err != nil || z < 1 {
-			return nil, bad("z", fmt.Errorf("%q is not a positive integer", field("z")))
-		}
-		a, err := strconv.Atoi(field("a"))
-		if err != nil || a < z {
-			return nil, bad("a", fmt.Errorf("%q is not an integer >= Z=%d", field("a"), z))
-		}
-		mass, err := strconv.ParseFloat(field("mass_u"), 64)
-		if err != nil || !(math.Abs(mass-float64(a)) < 0.5) {
-			return nil, bad("mass_u", fmt.Errorf("%q is not a mass within 0.5 u of A=%d", field("mass_u"), a))
-		}
-		twoI, err := strconv.Atoi(field("twice_spin"))
-		if err != nil || twoI < 0 {
-			return nil, bad("twice_spin", fmt.Errorf("%q is not a non-negative integer", field("twice_spin")))
-		}
-		// Nuclei of odd A have half-integer spin, of even A integer spin (common practice).
-		if twoI%2 != a%2 {
-			return nil, bad("twice_spin", fmt.Errorf("2I=%d has the wrong parity for A=%d", twoI, a))
-		}
-		ab, err := strconv.ParseFloat(field("abundance"), 64)
-		if err != nil || !(ab >= 0 && ab <= 1) {
-			return nil, bad("abundance", fmt.Errorf("%q is not a mole fraction in [0, 1]", field("abundance")))
-		}
-		w, err := strconv.ParseFloat(field("atomic_weight"), 64)
-		if err != nil || !(w > 0) || math.IsInf(w, 0) {
-			return nil, bad("atomic_weight", fmt.Errorf("%q is not a positive number", field("atomic_weight")))
-		}
-		var radio bool
-		switch field("radioactive") {
-		case "yes":
-			radio = true
-		case "no":
-		default:
-			return nil, bad("radioactive", fmt.Errorf("%q is neither yes nor no", field("radioactive")))
-		}
-		if prev, ok := zOf[sym]; ok && prev != z {
-			return nil, bad("z", fmt.Errorf("%s has Z=%d here but Z=%d on an earlier row", sym, z, prev))
-		}
-		if prev, ok := symOfZ[z]; ok && prev != sym {
-			return nil, bad("symbol", fmt.Errorf("Z=%d is %s here but %s on an earlier row", z, sym, prev))
-		}
-		if prev, ok := weights[sym]; ok && prev != w {
-			return nil, bad("atomic_weight", fmt.Errorf("%s has %v here but %v on an earlier row", sym, w, prev))
-		}
-		k := isoKey{sym, a}
-		if _, dup := t.isotopeAt[k]; dup {
-			return nil, bad("a", fmt.Errorf("%d%s appears twice", a, sym))
-		}
-		zOf[sym], symOfZ[z], weights[sym] = z, sym, w
-		t.isotopeAt[k] = -1 // placeholder; indices are set after sorting
-		if radio {
-			t.radioactive[k] = true
-		}
-		t.isotopes = append(t.isotopes, Isotope{Symbol: sym, Z: z, A: a, Mass: mass, TwiceSpin: twoI, Abundance: ab})
 	}
+	return b.finish()
+}
+
+// tableRow is one data row of isotopes.csv: its fields, the column of each
+// header name, and its line in the file (for messages).
+type tableRow struct {
+	rec  []string
+	col  map[string]int
+	line int
+}
+
+func (r tableRow) field(name string) string { return strings.TrimSpace(r.rec[r.col[name]]) }
+
+// bad returns the error for field name of this row.
+func (r tableRow) bad(name string, cause error) error {
+	return fmt.Errorf("species: isotopes.csv: line %d: field %s: %w", r.line, name, cause)
+}
+
+// parse reads the fields of the row and checks each on its own: the isotope,
+// whether it is radioactive, and the standard atomic weight of its element.
+func (r tableRow) parse() (iso Isotope, radio bool, weight float64, err error) {
+	sym := r.field("symbol")
+	if !validSymbol(sym) {
+		return iso, false, 0, r.bad("symbol", fmt.Errorf("%q is not an element symbol (uppercase letter, then at most two lowercase)", sym))
+	}
+	z, err := strconv.Atoi(r.field("z"))
+	if err != nil || z < 1 {
+		return iso, false, 0, r.bad("z", fmt.Errorf("%q is not a positive integer", r.field("z")))
+	}
+	a, err := strconv.Atoi(r.field("a"))
+	if err != nil || a < z {
+		return iso, false, 0, r.bad("a", fmt.Errorf("%q is not an integer >= Z=%d", r.field("a"), z))
+	}
+	mass, err := strconv.ParseFloat(r.field("mass_u"), 64)
+	if err != nil || !(math.Abs(mass-float64(a)) < 0.5) {
+		return iso, false, 0, r.bad("mass_u", fmt.Errorf("%q is not a mass within 0.5 u of A=%d", r.field("mass_u"), a))
+	}
+	twoI, err := strconv.Atoi(r.field("twice_spin"))
+	if err != nil || twoI < 0 {
+		return iso, false, 0, r.bad("twice_spin", fmt.Errorf("%q is not a non-negative integer", r.field("twice_spin")))
+	}
+	// Nuclei of odd A have half-integer spin, of even A integer spin (common practice).
+	if twoI%2 != a%2 {
+		return iso, false, 0, r.bad("twice_spin", fmt.Errorf("2I=%d has the wrong parity for A=%d", twoI, a))
+	}
+	ab, err := strconv.ParseFloat(r.field("abundance"), 64)
+	if err != nil || !(ab >= 0 && ab <= 1) {
+		return iso, false, 0, r.bad("abundance", fmt.Errorf("%q is not a mole fraction in [0, 1]", r.field("abundance")))
+	}
+	weight, err = strconv.ParseFloat(r.field("atomic_weight"), 64)
+	if err != nil || !(weight > 0) || math.IsInf(weight, 0) {
+		return iso, false, 0, r.bad("atomic_weight", fmt.Errorf("%q is not a positive number", r.field("atomic_weight")))
+	}
+	switch r.field("radioactive") {
+	case "yes":
+		radio = true
+	case "no":
+	default:
+		return iso, false, 0, r.bad("radioactive", fmt.Errorf("%q is neither yes nor no", r.field("radioactive")))
+	}
+	return Isotope{Symbol: sym, Z: z, A: a, Mass: mass, TwiceSpin: twoI, Abundance: ab}, radio, weight, nil
+}
+
+// tableBuilder collects the rows of an isotope table and checks them against
+// each other: one Z per symbol, one symbol per Z, one atomic weight per
+// element, each isotope once.
+type tableBuilder struct {
+	t       *tableData
+	weights map[string]float64
+	zOf     map[string]int
+	symOfZ  map[int]string
+}
+
+func newTableBuilder() *tableBuilder {
+	return &tableBuilder{
+		t: &tableData{
+			elements:    make(map[string]Element),
+			isotopeAt:   make(map[isoKey]int),
+			radioactive: make(map[isoKey]bool),
+		},
+		weights: make(map[string]float64),
+		zOf:     make(map[string]int),
+		symOfZ:  make(map[int]string),
+	}
+}
+
+// add adds the isotope of row after checking it against the earlier rows.
+func (b *tableBuilder) add(row tableRow, iso Isotope, radio bool, w float64) error {
+	sym, z := iso.Symbol, iso.Z
+	if prev, ok := b.zOf[sym]; ok && prev != z {
+		return row.bad("z", fmt.Errorf("%s has Z=%d here but Z=%d on an earlier row", sym, z, prev))
+	}
+	if prev, ok := b.symOfZ[z]; ok && prev != sym {
+		return row.bad("symbol", fmt.Errorf("atomic number %d is %s here but %s on an earlier row", z, sym, prev))
+	}
+	if prev, ok := b.weights[sym]; ok && prev != w {
+		return row.bad("atomic_weight", fmt.Errorf("%s has %v here but %v on an earlier row", sym, w, prev))
+	}
+	k := isoKey{sym, iso.A}
+	if _, dup := b.t.isotopeAt[k]; dup {
+		return row.bad("a", fmt.Errorf("%d%s appears twice", iso.A, sym))
+	}
+	b.zOf[sym], b.symOfZ[z], b.weights[sym] = z, sym, w
+	b.t.isotopeAt[k] = -1 // placeholder; indices are set after sorting
+	if radio {
+		b.t.radioactive[k] = true
+	}
+	b.t.isotopes = append(b.t.isotopes, iso)
+	return nil
+}
+
+// finish sorts the isotopes by Z then A and builds the element index.
+func (b *tableBuilder) finish() (*tableData, error) {
+	t := b.t
 	if len(t.isotopes) == 0 {
 		return nil, errors.New("species: isotopes.csv: no isotope rows")
 	}
@@ -218,7 +270,7 @@ func loadTable(r io.Reader) (*tableData, error) {
 	for i, iso := range t.isotopes {
 		t.isotopeAt[isoKey{iso.Symbol, iso.A}] = i
 		e := t.elements[iso.Symbol]
-		e.Symbol, e.Z, e.AtomicWeight = iso.Symbol, iso.Z, weights[iso.Symbol]
+		e.Symbol, e.Z, e.AtomicWeight = iso.Symbol, iso.Z, b.weights[iso.Symbol]
 		e.Isotopes = append(e.Isotopes, iso)
 		t.elements[iso.Symbol] = e
 	}
