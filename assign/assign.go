@@ -10,6 +10,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/internal/failure"
 )
 
 // Problem is what an assignment works on.
@@ -177,8 +178,8 @@ type Result struct {
 	Problem      Problem
 }
 
-// LockError reports that no band could be locked; errors.Is(err,
-// fit.ErrCannotFit) holds (exit code 2).
+// LockError reports that no band could be locked; its kind is
+// failure.CannotCompute (exit code 2).
 type LockError struct{ Bands []BandResult }
 
 func (e *LockError) Error() string {
@@ -190,8 +191,8 @@ func (e *LockError) Error() string {
 	return b.String()
 }
 
-// Is reports whether target is fit.ErrCannotFit.
-func (e *LockError) Is(target error) bool { return target == fit.ErrCannotFit }
+// FailureKind returns failure.CannotCompute.
+func (e *LockError) FailureKind() failure.Kind { return failure.CannotCompute }
 
 // run is the state of one assignment.
 type run struct {

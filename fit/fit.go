@@ -34,6 +34,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/lsq"
 	"bandwright/fit/model"
+	"bandwright/internal/failure"
 	"bandwright/units"
 )
 
@@ -243,24 +244,21 @@ func correlation(c *mat.SymDense) *mat.SymDense {
 	return out
 }
 
-// ErrCannotFit is matched (errors.Is) by every error that means the data do
-// not allow an honest fit: undetermined parameters, fewer lines than
-// parameters. The command line maps it to exit code 2.
-var ErrCannotFit = errors.New("fit: the data do not allow an honest fit")
-
-// CannotFitError is a fit that cannot be done honestly, with the reason.
+// CannotFitError is a fit that cannot be done honestly, with the reason
+// (fewer lines than parameters, lines a model cannot predict). Its kind is
+// failure.CannotCompute: the command line maps it to exit code 2.
 type CannotFitError struct{ Msg string }
 
 func (e *CannotFitError) Error() string { return e.Msg }
 
-// Is reports whether target is ErrCannotFit.
-func (e *CannotFitError) Is(target error) bool { return target == ErrCannotFit }
+// FailureKind returns failure.CannotCompute.
+func (e *CannotFitError) FailureKind() failure.Kind { return failure.CannotCompute }
 
-// Is reports whether target is ErrCannotFit.
-func (e *UndeterminedError) Is(target error) bool { return target == ErrCannotFit }
+// FailureKind returns failure.CannotCompute.
+func (e *UndeterminedError) FailureKind() failure.Kind { return failure.CannotCompute }
 
-// UndeterminedError reports parameters the data cannot determine. The command
-// line maps it to exit code 2.
+// UndeterminedError reports parameters the data cannot determine. Its kind is
+// failure.CannotCompute: the command line maps it to exit code 2.
 type UndeterminedError struct {
 	Groups [][]string // parameter IDs of each null direction, strongest first
 	Hints  []string   // what data would determine them

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 
 	"bandwright/fit/model"
+	"bandwright/internal/failure"
 )
 
 // coLevelsY is 12C16O of Huber & Herzberg (1979, from memory) truncated to
@@ -88,7 +89,7 @@ func TestLevelsModel(t *testing.T) {
 
 // TestLevelsPureRotationOnly: pure-rotation lines within v = 0 and within v = 1
 // never connect the two levels, so T_v1 is undetermined; the error must name
-// it and match ErrCannotFit.
+// it and be of kind failure.CannotCompute (exit code 2).
 func TestLevelsPureRotationOnly(t *testing.T) {
 	y := coLevelsY()
 	lines := makeLines("12C16O", "rot.csv", y, irBranches([][2]int{{0, 0}, {1, 1}}, 20), 1e-6, nil)
@@ -101,8 +102,8 @@ func TestLevelsPureRotationOnly(t *testing.T) {
 	if !errors.As(err, &ue) {
 		t.Fatalf("err = %v, want *UndeterminedError", err)
 	}
-	if !errors.Is(err, ErrCannotFit) {
-		t.Error("errors.Is(err, ErrCannotFit) is false")
+	if failure.KindOf(err) != failure.CannotCompute {
+		t.Errorf("kind %v, want failure.CannotCompute", failure.KindOf(err))
 	}
 	if len(ue.Groups) != 1 || len(ue.Groups[0]) != 1 || ue.Groups[0][0] != "T_v1[12C16O]" {
 		t.Errorf("undetermined groups %v, want [[T_v1[12C16O]]]", ue.Groups)

@@ -1,7 +1,6 @@
 package pipelines
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -12,6 +11,7 @@ import (
 	"bandwright/assign"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
 	"bandwright/units"
@@ -109,22 +109,22 @@ func WriteAssignOutputs(d *outdir.Dir, oc *AssignOutcome, o AssignOptions) error
 // Assign reads the inputs and assigns without writing anything.
 func Assign(o AssignOptions) (*AssignOutcome, error) {
 	if o.Peaks == "" {
-		return nil, UsageError{errors.New("assign: no peak list given")}
+		return nil, failure.Errorf(failure.BadInput, "assign: no peak list given")
 	}
 	if (o.Start == "") == (o.Constants == "") {
-		return nil, UsageError{errors.New("assign: give the starting constants with either --start FILE.toml or --constants constants.json")}
+		return nil, failure.Errorf(failure.BadInput, "assign: give the starting constants with either --start FILE.toml or --constants constants.json")
 	}
 	if len(o.Bands) == 0 {
-		return nil, UsageError{errors.New("assign: no bands given (--bands 1-0,2-1)")}
+		return nil, failure.Errorf(failure.BadInput, "assign: no bands given (--bands 1-0,2-1)")
 	}
 	spec, err := assign.ParseSpectrum(o.Spectrum)
 	if err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	defUnit := linelist.Wavenumber
 	if o.Unit != "" {
 		if defUnit, err = linelist.ParseUnit(o.Unit); err != nil {
-			return nil, UsageError{fmt.Errorf("assign: --unit: %w", err)}
+			return nil, failure.Errorf(failure.BadInput, "assign: --unit: %w", err)
 		}
 	}
 	T := o.Temperature
@@ -132,10 +132,10 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 		T = DefaultAssignTemp
 	}
 	if !(T > 0) || math.IsInf(T, 0) {
-		return nil, UsageError{fmt.Errorf("assign: --temperature must be > 0 K, got %g", T)}
+		return nil, failure.Errorf(failure.BadInput, "assign: --temperature must be > 0 K, got %g", T)
 	}
 	if T < thermo.MinTemperature || T > thermo.MaxTemperature {
-		return nil, UsageError{fmt.Errorf("assign: --temperature %g K is outside %g…%g K", T, thermo.MinTemperature, thermo.MaxTemperature)}
+		return nil, failure.Errorf(failure.BadInput, "assign: --temperature %g K is outside %g…%g K", T, thermo.MinTemperature, thermo.MaxTemperature)
 	}
 	inputs := []string{o.Peaks}
 	var st *assign.Start
@@ -157,7 +157,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 			return nil, err
 		}
 		if err := st.Select(o.Species); err != nil {
-			return nil, UsageError{err}
+			return nil, failure.Wrap(failure.BadInput, err)
 		}
 	} else {
 		_, c, err := LoadConstants(o.Constants)
@@ -165,34 +165,28 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 			return nil, err
 		}
 		if st, err = assign.StartFromConstants(c, o.Constants, o.Species); err != nil {
-			return nil, UsageError{err}
+			return nil, failure.Wrap(failure.BadInput, err)
 		}
 		if err := st.Select(o.Species); err != nil {
-			return nil, UsageError{err}
+			return nil, failure.Wrap(failure.BadInput, err)
 		}
 	}
 	peakUnit := commonUnit(pl)
 	tol, err := parseQuantity(o.Tolerance, peakUnit, "--tolerance")
 	if err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	unc, err := parseQuantity(o.Unc, peakUnit, "--unc")
 	if err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: o.Bands, Spectrum: spec, Temperature: T},
 		assign.Settings{Tolerance: tol, DefaultUnc: unc})
 	if err != nil {
 		return nil, err
 	}
-	after, err := HashFiles(inputs)
-	if err != nil {
+	if err := checkUnchanged(inputs, hashes); err != nil {
 		return nil, err
-	}
-	for i := range after {
-		if after[i] != hashes[i] {
-			return nil, fmt.Errorf("pipelines: %s changed while it was being read; run again when it is complete", inputs[i])
-		}
 	}
 	rec := fit.NewRecord(res.Fit)
 	for i, in := range inputs {

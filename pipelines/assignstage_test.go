@@ -11,6 +11,7 @@ import (
 	"bandwright/assign/synth"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 )
 
 // Synthetic CO hot-cell peak list (Huber & Herzberg 1979 constants, from
@@ -123,8 +124,8 @@ func TestAssignBadInputsWriteNothing(t *testing.T) {
 	for _, c := range cases {
 		c.o.Out = filepath.Join(dir, "out")
 		_, err := RunAssign(c.o)
-		if err == nil || !strings.Contains(err.Error(), c.want) || ExitCode(err) != c.code {
-			t.Errorf("%+v: got %v (exit %d), want %q (exit %d)", c.o, err, ExitCode(err), c.want, c.code)
+		if err == nil || !strings.Contains(err.Error(), c.want) || failure.ExitCode(err) != c.code {
+			t.Errorf("%+v: got %v (exit %d), want %q (exit %d)", c.o, err, failure.ExitCode(err), c.want, c.code)
 		}
 		if _, err := os.Stat(c.o.Out); !errors.Is(err, os.ErrNotExist) {
 			t.Errorf("%s: output folder written", c.want)
@@ -134,7 +135,7 @@ func TestAssignBadInputsWriteNothing(t *testing.T) {
 	hcl := filepath.Join(dir, "hcl.toml")
 	os.WriteFile(hcl, []byte("[[species]]\nname = \"1H35Cl\"\nomega_e = 2990.9\nomega_e_x_e = 52.8\nB_e = 10.59\nalpha_e = 0.307\nD_e = 5.3e-4\n"), 0o644)
 	_, err := RunAssign(AssignOptions{Peaks: peaks, Start: hcl, Bands: bands, Out: filepath.Join(dir, "out")})
-	if err == nil || ExitCode(err) != 2 || !strings.Contains(err.Error(), "1H35Cl 1-0") || !strings.Contains(err.Error(), "predicted inside the peaks' range") {
-		t.Errorf("HCl constants on CO peaks: %v (exit %d)", err, ExitCode(err))
+	if err == nil || failure.ExitCode(err) != 2 || !strings.Contains(err.Error(), "1H35Cl 1-0") || !strings.Contains(err.Error(), "predicted inside the peaks' range") {
+		t.Errorf("HCl constants on CO peaks: %v (exit %d)", err, failure.ExitCode(err))
 	}
 }

@@ -1,7 +1,6 @@
 package pipelines
 
 import (
-	"errors"
 	"fmt"
 	"strings"
 
@@ -10,6 +9,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/internal/failure"
 )
 
 // FTestLevel is the significance level of the F-test that admits a term in
@@ -103,7 +103,7 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 		next := append(append([]string(nil), terms...), t)
 		res, err := try(next, lines, !s.NoReject)
 		if err != nil {
-			if errors.Is(err, fit.ErrCannotFit) {
+			if failure.KindOf(err) == failure.CannotCompute {
 				c.Log = append(c.Log, fmt.Sprintf("%s: not determined by the data, left out", t))
 				continue
 			}

@@ -11,6 +11,7 @@ import (
 	"bandwright/assign"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/pipelines/report"
 )
@@ -80,7 +81,7 @@ func RunChain(o ChainOptions) (*ChainOutcome, error) {
 // chainInto runs the chain and writes its files into d (not committed).
 func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 	if len(o.Inputs) == 0 {
-		return nil, UsageError{errors.New("run: no input files given")}
+		return nil, failure.Errorf(failure.BadInput, "run: no input files given")
 	}
 	if len(o.Names) != 0 && len(o.Names) != len(o.Inputs) {
 		return nil, errors.New("pipelines: run: names and inputs differ in number")
@@ -101,7 +102,7 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 	lineFiles := o.Inputs
 	if p.Input == InputPeaks {
 		if len(o.Inputs) != 1 {
-			return nil, UsageError{fmt.Errorf("run: input = \"peaks\" takes one peak list at a time (%d given)", len(o.Inputs))}
+			return nil, failure.Errorf(failure.BadInput, "run: input = \"peaks\" takes one peak list at a time (%d given)", len(o.Inputs))
 		}
 		ao, err := p.assignOptions(o.Inputs[0])
 		if err != nil {
@@ -243,11 +244,11 @@ func (p *Pipeline) assignOptions(peaks string) (AssignOptions, error) {
 		o.Tolerance = strconv.FormatFloat(a.Tolerance, 'g', -1, 64)
 	}
 	if len(a.Bands) == 0 {
-		return o, UsageError{fmt.Errorf("pipelines: %s: assign.bands: no bands given (e.g. bands = [\"1-0\", \"2-1\"])", p.Path)}
+		return o, failure.Errorf(failure.BadInput, "pipelines: %s: assign.bands: no bands given (e.g. bands = [\"1-0\", \"2-1\"])", p.Path)
 	}
 	bands, err := fit.ParseBands(strings.Join(a.Bands, ","))
 	if err != nil {
-		return o, UsageError{fmt.Errorf("pipelines: %s: assign.bands: %w", p.Path, err)}
+		return o, failure.Errorf(failure.BadInput, "pipelines: %s: assign.bands: %w", p.Path, err)
 	}
 	o.Bands = bands
 	return o, nil
@@ -262,7 +263,7 @@ func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
 		if t.NASALimits != "" {
 			lo, hi, err := ParseNASALimits(t.NASALimits)
 			if err != nil {
-				return o, UsageError{fmt.Errorf("pipelines: %s: thermo.nasa_limits: %w", p.Path, err)}
+				return o, failure.Errorf(failure.BadInput, "pipelines: %s: thermo.nasa_limits: %w", p.Path, err)
 			}
 			o.NASA.Low, o.NASA.High = lo, hi
 		}

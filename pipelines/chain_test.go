@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 )
 
 // writeLines writes simulated CO lines (see coLines) as a line list.
@@ -153,8 +154,8 @@ func TestRunNightlyChain(t *testing.T) {
 	pf := filepath.Join(dir, "pipe.toml")
 	os.WriteFile(pf, []byte("[fit]\nmodel = \"dunham\"\nterms = [\"Y10\", \"Y20\", \"Y01\", \"Y11\", \"Y02\"]\n[thermo]\ntemperatures = [298.15]\n"), 0o644)
 	rep, err := RunNightly(context.Background(), NightlyOptions{Inbox: inbox, Archive: archive, Pipeline: pf, Workers: 2})
-	var be *BatchError
-	if !errors.As(err, &be) || ExitCode(err) != 3 {
+	var be *failure.BatchError
+	if !errors.As(err, &be) || failure.ExitCode(err) != 3 {
 		t.Fatalf("want a batch error (exit 3), got %v", err)
 	}
 	if rep.Succeeded != 2 || rep.Failed != 1 {

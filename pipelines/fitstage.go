@@ -5,18 +5,13 @@
 package pipelines
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
-	"errors"
-	"fmt"
 	"io"
-	"os"
 	"time"
 
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
-	"bandwright/internal/textcheck"
+	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 )
 
@@ -83,13 +78,13 @@ func RunFit(o FitOptions) (*FitOutcome, error) {
 // Fit reads the inputs and fits without writing anything.
 func Fit(o FitOptions) (*FitOutcome, error) {
 	if len(o.Inputs) == 0 {
-		return nil, UsageError{errors.New("fit: no line-list files given")}
+		return nil, failure.Errorf(failure.BadInput, "fit: no line-list files given")
 	}
 	var fixes []model.Fix
 	for _, f := range o.Fix {
 		fx, err := model.ParseFix(f)
 		if err != nil {
-			return nil, UsageError{err}
+			return nil, failure.Wrap(failure.BadInput, err)
 		}
 		fixes = append(fixes, fx)
 	}
@@ -123,7 +118,7 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	}
 	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: o.Terms, Fixes: fixes, Reference: o.Reference, BOBTerms: o.BOBTerms})
 	if err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	p := fit.Problem{Lines: list.Lines, Model: m}
 	s := fit.Settings{Reject: o.Reject, NoReject: o.Reject == 0, Round: o.Round, Calibrate: o.Calibrate}
@@ -131,15 +126,8 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if err != nil {
 		return nil, err
 	}
-	// The input must not have changed while it was read.
-	after, err := HashFiles(o.Inputs)
-	if err != nil {
+	if err := checkUnchanged(o.Inputs, hashes); err != nil {
 		return nil, err
-	}
-	for i := range after {
-		if after[i] != hashes[i] {
-			return nil, fmt.Errorf("pipelines: %s changed while it was being read; run again when it is complete", o.Inputs[i])
-		}
 	}
 	// Warnings of the reader (lines given twice) come first, naming file and row.
 	if len(list.Warnings) > 0 {
@@ -186,65 +174,4 @@ func WriteFitOutputs(d *outdir.Dir, oc *FitOutcome) error {
 		return err
 	}
 	return d.Write(FitReportFile, func(w io.Writer) error { return fit.WriteSummary(w, oc.Problem, oc.Result, oc.Record) })
-}
-
-// HashFiles returns the SHA-256 (hex) of each file.
-func HashFiles(paths []string) ([]string, error) {
-	out := make([]string, len(paths))
-	for i, p := range paths {
-		h, err := HashFile(p)
-		if err != nil {
-			return nil, err
-		}
-		out[i] = h
-	}
-	return out, nil
-}
-
-// HashFile returns the SHA-256 (hex) of a file's content.
-func HashFile(p string) (string, error) {
-	if why := textcheck.NotRegular(p); why != "" {
-		return "", UsageError{fmt.Errorf("pipelines: %s %s", p, why)}
-	}
-	f, err := os.Open(p)
-	if err != nil {
-		return "", fmt.Errorf("pipelines: %w", err)
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("pipelines: %s: %w", p, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
-}
-
-// UsageError marks an error in the options given (exit code 1).
-type UsageError struct{ Err error }
-
-func (e UsageError) Error() string { return e.Err.Error() }
-func (e UsageError) Unwrap() error { return e.Err }
-
-// ExitCode maps an error to the exit codes of bandwright: 0 success, 1 bad
-// input or usage, 2 a computation that cannot be done honestly, 3 a batch in
-// which some files failed.
-func ExitCode(err error) int {
-	if err == nil {
-		return 0
-	}
-	var ue *fit.UndeterminedError
-	if errors.As(err, &ue) || errors.Is(err, fit.ErrCannotFit) {
-		return 2
-	}
-	var be *BatchError
-	if errors.As(err, &be) {
-		return 3
-	}
-	return 1
-}
-
-// BatchError reports a batch in which some files failed.
-type BatchError struct{ Failed, Total int }
-
-func (e *BatchError) Error() string {
-	return fmt.Sprintf("pipelines: %d of %d files failed (see the ledger)", e.Failed, e.Total)
 }

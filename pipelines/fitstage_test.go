@@ -17,6 +17,7 @@ import (
 
 	"bandwright/fit"
 	"bandwright/fit/species"
+	"bandwright/internal/failure"
 )
 
 // coY are the Dunham coefficients Y_kl (cm⁻¹) of 12C16O X¹Σ⁺ from the constants
@@ -303,8 +304,8 @@ func TestRunFitBadInput(t *testing.T) {
 	if want := in + ":4: unc"; !strings.Contains(err.Error(), want) {
 		t.Errorf("error %q does not mention %q", err, want)
 	}
-	if ExitCode(err) != 1 {
-		t.Errorf("exit code %d, want 1 (bad input)", ExitCode(err))
+	if failure.ExitCode(err) != 1 {
+		t.Errorf("exit code %d, want 1 (bad input)", failure.ExitCode(err))
 	}
 	if _, serr := os.Stat(out); !errors.Is(serr, os.ErrNotExist) {
 		t.Errorf("output folder exists after a failed run (%v)", serr)
@@ -338,8 +339,8 @@ func TestRunFitUndetermined(t *testing.T) {
 		t.Fatal("Y10 and Y20 from one band were accepted")
 	}
 	var ue *fit.UndeterminedError
-	if !errors.As(err, &ue) || ExitCode(err) != 2 {
-		t.Errorf("err %v (exit %d), want *fit.UndeterminedError, exit 2", err, ExitCode(err))
+	if !errors.As(err, &ue) || failure.ExitCode(err) != 2 {
+		t.Errorf("err %v (exit %d), want *fit.UndeterminedError, exit 2", err, failure.ExitCode(err))
 	}
 	if !strings.Contains(err.Error(), "Y10") || !strings.Contains(err.Error(), "Y20") {
 		t.Errorf("message does not name Y10 and Y20: %v", err)
@@ -349,7 +350,7 @@ func TestRunFitUndetermined(t *testing.T) {
 	}
 	// Usage errors: an unknown term.
 	_, err = RunFit(FitOptions{Inputs: []string{in}, Model: "dunham", Terms: []string{"Q1"}, Out: out})
-	if err == nil || ExitCode(err) != 1 {
-		t.Errorf("unknown term: err %v exit %d", err, ExitCode(err))
+	if err == nil || failure.ExitCode(err) != 1 {
+		t.Errorf("unknown term: err %v exit %d", err, failure.ExitCode(err))
 	}
 }

@@ -1,12 +1,13 @@
 package pipelines
 
 import (
-	"errors"
 	"testing"
+
+	"bandwright/internal/failure"
 )
 
 // FuzzParsePipeline: arbitrary pipeline-file content never panics, and every
-// refusal is a usage error (exit code 1) that names the file.
+// refusal is bad input (exit code 1) that names the file.
 func FuzzParsePipeline(f *testing.F) {
 	f.Add([]byte("name = \"co\"\ninput = \"lines\"\n[fit]\nmodel = \"dunham\"\nterms = [\"Y10\", \"Y01\"]\n"))
 	f.Add([]byte("input = \"peaks\"\n[assign]\nstart = \"s.toml\"\nbands = [\"1-0\"]\n[thermo]\nrange = \"10:6000:1\"\n[report]\nformats = [\"md\"]\n"))
@@ -19,8 +20,7 @@ func FuzzParsePipeline(f *testing.F) {
 	f.Fuzz(func(t *testing.T, b []byte) {
 		p, err := ParsePipeline(b, "fuzz.toml")
 		if err != nil {
-			var ue UsageError
-			if !errors.As(err, &ue) {
+			if failure.KindOf(err) != failure.BadInput {
 				t.Fatalf("refusal is not a usage error: %T %v", err, err)
 			}
 			return

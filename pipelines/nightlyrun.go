@@ -2,10 +2,10 @@ package pipelines
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"io"
 
+	"bandwright/internal/failure"
 	"bandwright/pipelines/nightly"
 	"bandwright/pipelines/outdir"
 )
@@ -20,11 +20,11 @@ type NightlyOptions struct {
 }
 
 // RunNightly runs the pipeline file's chain on every new file of the inbox
-// (package nightly has the rules). It returns a *BatchError (exit code 3) when
+// (package nightly has the rules). It returns a *failure.BatchError (exit code 3) when
 // some files failed and the others completed.
 func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) {
 	if o.Pipeline == "" {
-		return nil, UsageError{errors.New("nightly: --pipeline FILE is required: an unattended run must not guess its model")}
+		return nil, failure.Errorf(failure.BadInput, "nightly: --pipeline FILE is required: an unattended run must not guess its model")
 	}
 	p, err := LoadPipeline(o.Pipeline)
 	if err != nil {
@@ -34,7 +34,7 @@ func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) 
 	if o.Shard != "" {
 		k, n, err = nightly.ParseShard(o.Shard)
 		if err != nil {
-			return nil, UsageError{err}
+			return nil, failure.Wrap(failure.BadInput, err)
 		}
 	}
 	job := func(ctx context.Context, in nightly.Input, work string) (*nightly.JobResult, error) {
@@ -64,7 +64,7 @@ func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) 
 		return nil, err
 	}
 	if rep.Failed > 0 {
-		return rep, &BatchError{Failed: rep.Failed, Total: rep.Processed}
+		return rep, &failure.BatchError{Failed: rep.Failed, Total: rep.Processed}
 	}
 	return rep, nil
 }

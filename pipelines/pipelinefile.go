@@ -12,6 +12,7 @@ import (
 
 	"github.com/BurntSushi/toml"
 
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/thermo"
 )
@@ -103,7 +104,7 @@ const (
 // name the key; relative paths are resolved against the file's folder.
 func LoadPipeline(path string) (*Pipeline, error) {
 	if why := textcheck.NotRegular(path); why != "" {
-		return nil, UsageError{fmt.Errorf("pipelines: %s %s", path, why)}
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
 	}
 	b, err := os.ReadFile(path)
 	if err != nil {
@@ -124,12 +125,12 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
-			return nil, UsageError{fmt.Errorf("pipelines: %s:%d: %s%s", name, pe.Position.Line, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))}
+			return nil, failure.Errorf(failure.BadInput, "pipelines: %s:%d: %s%s", name, pe.Position.Line, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))
 		}
-		return nil, UsageError{fmt.Errorf("pipelines: %s: %v", name, err)}
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: %v", name, err)
 	}
 	if len(md.Keys()) == 0 {
-		return nil, UsageError{fmt.Errorf("pipelines: %s: the file is empty (no keys); a pipeline file says at least what it reads, e.g. input = \"lines\"", name)}
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: the file is empty (no keys); a pipeline file says at least what it reads, e.g. input = \"lines\"", name)
 	}
 	if und := md.Undecoded(); len(und) > 0 {
 		var keys []string
@@ -142,13 +143,13 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 		} else if len(k) == 2 {
 			line = textcheck.KeyLine(b, k[0], -1, k[1])
 		}
-		return nil, UsageError{fmt.Errorf("pipelines: %s: unknown key %s (see the README's pipeline-file section)", textcheck.At(name, line), strings.Join(keys, ", "))}
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: unknown key %s (see the README's pipeline-file section)", textcheck.At(name, line), strings.Join(keys, ", "))
 	}
 	sum := sha256.Sum256(b)
 	p.Hash = hex.EncodeToString(sum[:])
 	p.Path = name
 	if err := p.check(name, b); err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	base := filepath.Dir(name)
 	rel := func(s string) string {

@@ -1,10 +1,11 @@
 package pipelines
 
 import (
-	"errors"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"bandwright/internal/failure"
 )
 
 func TestParsePipeline(t *testing.T) {
@@ -77,9 +78,8 @@ formats = ["html", "md"]
 			t.Errorf("%q: no error", c.text)
 			continue
 		}
-		var ue UsageError
-		if !errors.As(err, &ue) || ExitCode(err) != 1 {
-			t.Errorf("%q: want a usage error (exit 1), got %T", c.text, err)
+		if failure.KindOf(err) != failure.BadInput || failure.ExitCode(err) != 1 {
+			t.Errorf("%q: want bad input (exit 1), got %T of kind %v", c.text, err, failure.KindOf(err))
 		}
 		if !strings.Contains(err.Error(), c.want) || !strings.Contains(err.Error(), "pipe.toml") {
 			t.Errorf("%q: error %q should name the file and %q", c.text, err, c.want)

@@ -9,13 +9,14 @@ import (
 	"github.com/google/renameio/v2"
 
 	"bandwright/fit"
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
 
 // LoadConstants reads a constants record from a file.
 func LoadConstants(path string) (*fit.Record, *fit.Constants, error) {
 	if why := textcheck.NotRegular(path); why != "" {
-		return nil, nil, UsageError{fmt.Errorf("pipelines: %s %s", path, why)}
+		return nil, nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
 	}
 	f, err := os.Open(path)
 	if err != nil {
@@ -48,13 +49,13 @@ func RunPredict(constants, sp string, bands []fit.BandSpec, jmax int, branches [
 	for _, s := range spp {
 		ps, err := fit.Predict(c, s, bands, jmax, branches)
 		if err != nil {
-			return 0, UsageError{err}
+			return 0, failure.Wrap(failure.BadInput, err)
 		}
 		all = append(all, ps...)
 	}
 	if a, _ := filepath.Abs(out); a != "" {
 		if b, _ := filepath.Abs(constants); a == b {
-			return 0, UsageError{fmt.Errorf("predict: --out %s would overwrite the constants record", out)}
+			return 0, failure.Errorf(failure.BadInput, "predict: --out %s would overwrite the constants record", out)
 		}
 	}
 	if err := writeFileAtomic(out, func(w io.Writer) error { return fit.WritePredictions(w, all) }); err != nil {

@@ -13,6 +13,7 @@ import (
 
 	"bandwright/fit"
 	"bandwright/fit/species"
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
@@ -98,11 +99,11 @@ func WriteThermoOutputs(d *outdir.Dir, oc *ThermoOutcome) error {
 // Thermo reads the constants record and the card and computes without writing.
 func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	if o.Constants == "" {
-		return nil, UsageError{errors.New("thermo: no constants record given")}
+		return nil, failure.Errorf(failure.BadInput, "thermo: no constants record given")
 	}
 	temps, err := thermoTemperatures(o.Temperatures, o.Range)
 	if err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	s := thermo.Settings{Temperatures: temps, Composition: o.Composition, NuclearSpin: o.NuclearSpin,
 		MonteCarlo: o.MC, Seed: o.Seed, Workers: o.Workers, NASA: o.NASA}
@@ -112,10 +113,10 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	case "1atm":
 		s.Pressure = thermo.PressureAtm
 	default:
-		return nil, UsageError{fmt.Errorf("thermo: --pressure: %q: choose 1bar or 1atm", o.Pressure)}
+		return nil, failure.Errorf(failure.BadInput, "thermo: --pressure: %q: choose 1bar or 1atm", o.Pressure)
 	}
 	if err := s.Check(); err != nil {
-		return nil, UsageError{err}
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 
 	rec, c, err := LoadConstants(o.Constants)
@@ -127,7 +128,7 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	var card *thermo.Card
 	if o.Card != "" {
 		if why := textcheck.NotRegular(o.Card); why != "" {
-			return nil, UsageError{fmt.Errorf("pipelines: %s %s", o.Card, why)}
+			return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", o.Card, why)
 		}
 		f, err := os.Open(o.Card)
 		if err != nil {
@@ -151,7 +152,7 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	}
 	iso, err := species.Parse(p.Species)
 	if err != nil {
-		return nil, UsageError{fmt.Errorf("thermo: --species: %w", err)}
+		return nil, failure.Errorf(failure.BadInput, "thermo: --species: %w", err)
 	}
 	p.Species = iso.Label
 	if card != nil {

@@ -16,6 +16,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/internal/failure"
 	"bandwright/thermo"
 )
 
@@ -245,8 +246,8 @@ func TestThermoBadInput(t *testing.T) {
 				t.Errorf("%+v: error %q does not name %q", tc.o, err, w)
 			}
 		}
-		if ExitCode(err) != 1 {
-			t.Errorf("%+v: exit code %d", tc.o, ExitCode(err))
+		if failure.ExitCode(err) != 1 {
+			t.Errorf("%+v: exit code %d", tc.o, failure.ExitCode(err))
 		}
 		if _, err := os.Stat(out); err == nil {
 			t.Fatalf("%+v: the output folder was written", tc.o)

@@ -15,6 +15,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/internal/failure"
 	"bandwright/units"
 )
 
@@ -190,23 +191,22 @@ type ZeroPoint struct {
 }
 
 // ErrCannotCompute marks a level sum or table that cannot be computed honestly
-// (no bound levels, too many levels, non-finite results). It reports true for
-// errors.Is(err, fit.ErrCannotFit), so the command line maps it to exit code 2.
+// (no bound levels, too many levels, non-finite results). Its kind is
+// failure.CannotCompute, which the command line maps to exit code 2.
 var ErrCannotCompute = cannotCompute{}
 
 type cannotCompute struct{}
 
 func (cannotCompute) Error() string { return "thermo: the level sum cannot be computed honestly" }
 
-// Is makes errors.Is(ErrCannotCompute, fit.ErrCannotFit) true (exit code 2).
-func (cannotCompute) Is(target error) bool { return target == fit.ErrCannotFit }
+// FailureKind returns failure.CannotCompute.
+func (cannotCompute) FailureKind() failure.Kind { return failure.CannotCompute }
 
 type computeError struct{ msg string }
 
-func (e *computeError) Error() string { return e.msg }
-func (e *computeError) Is(target error) bool {
-	return target == ErrCannotCompute || target == fit.ErrCannotFit
-}
+func (e *computeError) Error() string             { return e.msg }
+func (e *computeError) Is(target error) bool      { return target == ErrCannotCompute }
+func (e *computeError) FailureKind() failure.Kind { return failure.CannotCompute }
 
 func cannot(format string, a ...any) error {
 	return &computeError{msg: "thermo: " + fmt.Sprintf(format, a...)}

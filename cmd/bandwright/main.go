@@ -16,6 +16,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/internal/failure"
 	"bandwright/pipelines"
 )
 
@@ -40,7 +41,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 	if errors.As(err, &ec) {
 		return ec.ExitCode()
 	}
-	return pipelines.ExitCode(err)
+	return failure.ExitCode(err)
 }
 
 func newApp() *cli.App {
@@ -133,6 +134,7 @@ func commands() []*cli.Command {
 	return out
 }
 
+// usageExit refuses the command line as given (exit code 1).
 func usageExit(format string, a ...any) error {
-	return cli.Exit(fmt.Sprintf(format, a...), 1)
+	return failure.Errorf(failure.BadInput, format, a...)
 }

@@ -7,6 +7,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/internal/failure"
 	"bandwright/pipelines"
 	"bandwright/pipelines/nightly"
 )
@@ -91,7 +92,7 @@ func nightlyCommand() *cli.Command {
 				Inbox: c.String("inbox"), Archive: c.String("archive"), Pipeline: c.String("pipeline"),
 				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Progress: c.App.ErrWriter,
 			})
-			var be *pipelines.BatchError
+			var be *failure.BatchError
 			if err != nil && !errors.As(err, &be) {
 				return err
 			}

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
+
+	"bandwright/internal/failure"
 )
 
 // MaxProblems is the number of problems kept per file; further ones are only counted
@@ -51,6 +53,9 @@ func (e *Error) Error() string { return FormatProblems("linelist", e.Problems, e
 // Unwrap returns the underlying causes of the problems that have one, so errors.Is and
 // errors.As see, for example, fs.ErrNotExist or a *species.ParseError.
 func (e *Error) Unwrap() []error { return Causes(e.Problems) }
+
+// FailureKind returns failure.BadInput: the files must be fixed (exit code 1).
+func (e *Error) FailureKind() failure.Kind { return failure.BadInput }
 
 // FormatProblems writes problems as the error message of a reader of bandwright's CSV
 // files: "PKG: " and the single problem, or "PKG: N problems" and one problem per line,

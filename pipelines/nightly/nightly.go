@@ -77,6 +77,8 @@ import (
 	"strings"
 	"sync"
 	"time"
+
+	"bandwright/internal/failure"
 )
 
 // Job runs the chain of stages on one input. in.Path is a private snapshot of
@@ -220,7 +222,7 @@ type Report struct {
 // failed (the others completed), 0 otherwise (including nothing to do).
 func (r *Report) ExitCode() int {
 	if r.Failed > 0 {
-		return 3
+		return failure.PartialBatch.ExitCode()
 	}
 	return 0
 }

@@ -13,7 +13,7 @@ import (
 	"testing"
 	"time"
 
-	"bandwright/pipelines"
+	"bandwright/internal/failure"
 	"bandwright/pipelines/report"
 )
 
@@ -402,10 +402,10 @@ func TestNoConstants(t *testing.T) {
 	if err == nil || !strings.HasPrefix(err.Error(), "report: ") || !strings.Contains(err.Error(), "no constants.json") {
 		t.Fatalf("got %v", err)
 	}
-	if c := pipelines.ExitCode(err); c != 1 {
+	if c := failure.ExitCode(err); c != 1 {
 		t.Errorf("exit code %d, want 1", c)
 	}
-	if _, err := report.Rebuild(filepath.Join(dir, "absent"), report.Options{}); err == nil || pipelines.ExitCode(err) != 1 {
+	if _, err := report.Rebuild(filepath.Join(dir, "absent"), report.Options{}); err == nil || failure.ExitCode(err) != 1 {
 		t.Errorf("a missing folder: %v", err)
 	}
 	if _, err := report.Build(dir, report.Options{Formats: []string{"pdf"}}); err == nil || !strings.Contains(err.Error(), "pdf") {
