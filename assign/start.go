@@ -14,7 +14,7 @@ import (
 	"github.com/BurntSushi/toml"
 	"gonum.org/v1/gonum/mat"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
@@ -36,7 +36,7 @@ type StartSpecies struct {
 	// Constants.Model. Start files give constants without covariance (no
 	// fitted parameters): their predictions carry σ = 0, and the band lock
 	// measures how far off they are.
-	Constants *fit.Constants
+	Constants *constants.Set
 	Index     int
 	// ScaledFrom names the isotopologue whose constants were mass-scaled to
 	// this one (Dunham relations Y_kl ∝ μ^−(k+2l)/2), empty when the species'
@@ -280,7 +280,7 @@ func tomlReason(err error) string {
 // equilibrium constants of ref (target == ref, or an isotopologue of the same
 // molecule reached by mass scaling). It returns the constants and the species
 // index of target.
-func dunhamStart(ref, target species.Isotopologue, e startEntry) (*fit.Constants, int, error) {
+func dunhamStart(ref, target species.Isotopologue, e startEntry) (*constants.Set, int, error) {
 	vals := map[string]float64{}
 	set := func(name string, v *float64, sign float64) {
 		if v != nil {
@@ -300,7 +300,7 @@ func dunhamStart(ref, target species.Isotopologue, e startEntry) (*fit.Constants
 
 // dunhamConstants builds fixed Dunham constants (no covariance) from the Y_kl
 // of ref, for target.
-func dunhamConstants(ref, target species.Isotopologue, vals map[string]float64) (*fit.Constants, int, error) {
+func dunhamConstants(ref, target species.Isotopologue, vals map[string]float64) (*constants.Set, int, error) {
 	var terms []string
 	for n := range vals {
 		terms = append(terms, n)
@@ -321,7 +321,7 @@ func dunhamConstants(ref, target species.Isotopologue, vals map[string]float64) 
 		ps[i].Value = vals[ps[i].Name]
 		ps[i].Fixed = true
 	}
-	return &fit.Constants{Model: m, Params: ps, Values: model.Values(ps), Cov: mat.NewSymDense(1, []float64{0})}, idx, nil
+	return &constants.Set{Model: m, Params: ps, Values: model.Values(ps), Cov: mat.NewSymDense(1, []float64{0})}, idx, nil
 }
 
 // NaturalAbundance returns the product of the representative isotopic
@@ -348,7 +348,7 @@ func sameMolecule(a, b species.Isotopologue) bool {
 // must belong to the molecule of a Dunham record (their constants follow by
 // mass scaling; the covariance carries over since the fitted parameters are
 // those of the reference). Abundances are natural (NaturalAbundance).
-func StartFromConstants(c *fit.Constants, name string, extra []string) (*Start, error) {
+func StartFromConstants(c *constants.Set, name string, extra []string) (*Start, error) {
 	st := &Start{File: name}
 	for i, lab := range c.Model.Species() {
 		iso, err := species.Parse(lab)

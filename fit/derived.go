@@ -7,22 +7,11 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"bandwright/constants"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
 	"bandwright/units"
 )
-
-// Derived is a constant computed from the fitted parameters, with its 1σ
-// propagated through the full covariance: σ² = gᵀ C g with g the gradient of
-// the constant with respect to the fitted parameters.
-type Derived struct {
-	Name    string  `json:"name"`
-	Species string  `json:"species,omitempty"`
-	Value   float64 `json:"value"`
-	Sigma   float64 `json:"sigma"`
-	Unit    string  `json:"unit"`
-	Note    string  `json:"note,omitempty"`
-}
 
 // linear is a quantity with its gradient with respect to all model parameters.
 type linear struct {
@@ -41,8 +30,8 @@ func sigmaOf(r *Result, g []float64) float64 {
 	return math.Sqrt(math.Max(mat.Inner(v, r.Cov, v), 0))
 }
 
-func (r *Result) add(out *[]Derived, name, sp string, q linear, unit, note string) {
-	*out = append(*out, Derived{Name: name, Species: sp, Value: q.v, Sigma: sigmaOf(r, q.g), Unit: unit, Note: note})
+func (r *Result) add(out *[]constants.Derived, name, sp string, q linear, unit, note string) {
+	*out = append(*out, constants.Derived{Name: name, Species: sp, Value: q.v, Sigma: sigmaOf(r, q.g), Unit: unit, Note: note})
 }
 
 // Derive computes the derived constants of a fit result.
@@ -59,8 +48,8 @@ func (r *Result) add(out *[]Derived, name, sp string, q linear, unit, note strin
 // a generalised least-squares fit of B_v = B_e − α_e(v+½) + γ_e(v+½)² that uses
 // the covariance of the B_v, r_0 from B_0 and r_e from B_e; with three or more
 // levels including v = 0, ω_e and ω_e x_e from G(v) − G(0) = ω_e v − ω_e x_e v(v+1).
-func Derive(r *Result) []Derived {
-	var out []Derived
+func Derive(r *Result) []constants.Derived {
+	var out []constants.Derived
 	switch m := r.Model.(type) {
 	case *model.Dunham:
 		deriveDunham(r, m, &out)
@@ -69,7 +58,7 @@ func Derive(r *Result) []Derived {
 	}
 	for _, c := range r.Calib {
 		if !c.Fixed {
-			out = append(out, Derived{Name: "kappa", Value: c.Kappa, Sigma: c.Sigma, Unit: "1", Note: "calibration factor of " + c.File + " (ν_obs = (1+κ)ν)"})
+			out = append(out, constants.Derived{Name: "kappa", Value: c.Kappa, Sigma: c.Sigma, Unit: "1", Note: "calibration factor of " + c.File + " (ν_obs = (1+κ)ν)"})
 		}
 	}
 	return out
@@ -92,7 +81,7 @@ var dunhamDerived = []struct {
 	{"H_e", 0, 3, 1, "Y03"},
 }
 
-func deriveDunham(r *Result, m *model.Dunham, out *[]Derived) {
+func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 	p := model.Values(r.Params)
 	np := len(p)
 	has := map[[2]int]bool{}
@@ -174,7 +163,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]Derived) {
 	}
 }
 
-func deriveLevels(r *Result, m *model.Levels, out *[]Derived) {
+func deriveLevels(r *Result, m *model.Levels, out *[]constants.Derived) {
 	p := model.Values(r.Params)
 	np := len(p)
 	// Band origins of the bands present in the data.

@@ -22,7 +22,6 @@
 package fit
 
 import (
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -31,6 +30,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/lsq"
 	"bandwright/fit/model"
@@ -119,53 +119,6 @@ type LineResult struct {
 	Reason string // why a line was not used
 }
 
-// Stats summarises a fit.
-type Stats struct {
-	Lines     int     `json:"lines"`
-	Used      int     `json:"used"`
-	Rejected  int     `json:"rejected"`
-	Params    int     `json:"parameters_fitted"`
-	DOF       int     `json:"dof"`
-	Chi2      float64 `json:"chi2"`
-	Sigma     float64 `json:"sigma_dimensionless"`
-	RMSCm     float64 `json:"rms_cm-1"`
-	RMSMHz    float64 `json:"rms_MHz,omitempty"`
-	LinesMHz  int     `json:"lines_MHz,omitempty"`
-	Condition float64 `json:"condition_number"`
-	Iter      int     `json:"iterations"`
-}
-
-// MarshalJSON writes the statistics with sigma_dimensionless null when it is
-// undefined (NaN: a fit without degrees of freedom), since JSON has no NaN.
-func (s Stats) MarshalJSON() ([]byte, error) {
-	type plain Stats
-	aux := struct {
-		plain
-		Sigma *float64 `json:"sigma_dimensionless"`
-	}{plain: plain(s)}
-	if !math.IsNaN(s.Sigma) {
-		aux.Sigma = &s.Sigma
-	}
-	return json.Marshal(aux)
-}
-
-// UnmarshalJSON reads what MarshalJSON writes: a null sigma_dimensionless is NaN.
-func (s *Stats) UnmarshalJSON(b []byte) error {
-	type plain Stats
-	aux := struct {
-		*plain
-		Sigma *float64 `json:"sigma_dimensionless"`
-	}{plain: (*plain)(s)}
-	if err := json.Unmarshal(b, &aux); err != nil {
-		return err
-	}
-	s.Sigma = math.NaN()
-	if aux.Sigma != nil {
-		s.Sigma = *aux.Sigma
-	}
-	return nil
-}
-
 // Result is the outcome of a fit.
 type Result struct {
 	Model  model.Model
@@ -177,35 +130,17 @@ type Result struct {
 	// Cov is the covariance of the fitted parameters (see the package doc for
 	// its scaling).
 	Cov      *mat.SymDense
-	Stats    Stats
+	Stats    constants.Stats
 	Lines    []LineResult
 	Status   Status
 	Warnings []string
-	Derived  []Derived
-	Rounding *Rounding
+	Derived  []constants.Derived
+	Rounding *constants.Rounding
 	Files    []string
 	// Bands lists the bands (and pure-rotation sets, VUp = VLo) among the lines
 	// used; Observed the levels they reach with the highest J in each.
-	Bands    []Band
-	Observed []LevelRange
-}
-
-// Band counts the used lines of one band of one isotopologue.
-type Band struct {
-	Species string `json:"species"`
-	VUp     int    `json:"v_up"`
-	VLo     int    `json:"v_lo"`
-	Lines   int    `json:"lines"`
-	JMin    int    `json:"j_min"`
-	JMax    int    `json:"j_max"`
-}
-
-// LevelRange is a vibrational level reached by the used lines and the highest J
-// observed in it: the range outside which a model extrapolates.
-type LevelRange struct {
-	Species string `json:"species"`
-	V       int    `json:"v"`
-	JMax    int    `json:"j_max"`
+	Bands    []constants.Band
+	Observed []constants.LevelRange
 }
 
 // CovNames returns the names of the covariance rows (parameter IDs, then κ of
@@ -791,7 +726,7 @@ func (w *work) result() *Result {
 	}
 	r.Bands, r.Observed = coverage(w.p.Lines, w.used)
 	used := w.countUsed()
-	r.Stats = Stats{
+	r.Stats = constants.Stats{
 		Lines: len(w.p.Lines), Used: used, Rejected: len(w.p.Lines) - used,
 		Params: nc, DOF: dof, Chi2: chi2, Sigma: s,
 		RMSCm:     math.Sqrt(sumCm / float64(max(used, 1))),
@@ -816,7 +751,7 @@ func significanceWarnings(r *Result) []string {
 	for _, j := range r.Free {
 		p := r.Params[j]
 		if p.Sigma > 0 && math.Abs(p.Value) < 3*p.Sigma {
-			out = append(out, fmt.Sprintf("%s = %s is less than 3σ from zero: the data barely determine it; consider removing it or fixing it at a literature value", p.ID(), FormatParen(p.Value, p.Sigma)))
+			out = append(out, fmt.Sprintf("%s = %s is less than 3σ from zero: the data barely determine it; consider removing it or fixing it at a literature value", p.ID(), constants.FormatParen(p.Value, p.Sigma)))
 		}
 	}
 	names := r.CovNames()
@@ -877,7 +812,7 @@ func hintFor(id string, w *work) string {
 }
 
 // coverage lists the bands and levels reached by the used lines.
-func coverage(lines []linelist.Line, used []bool) ([]Band, []LevelRange) {
+func coverage(lines []linelist.Line, used []bool) ([]constants.Band, []constants.LevelRange) {
 	type bk struct {
 		s      string
 		vu, vl int
@@ -887,9 +822,9 @@ func coverage(lines []linelist.Line, used []bool) ([]Band, []LevelRange) {
 		v int
 	}
 	bi := map[bk]int{}
-	var bands []Band
+	var bands []constants.Band
 	lv := map[lk]int{}
-	var levels []LevelRange
+	var levels []constants.LevelRange
 	for i, l := range lines {
 		if !used[i] {
 			continue
@@ -899,7 +834,7 @@ func coverage(lines []linelist.Line, used []bool) ([]Band, []LevelRange) {
 		if !ok {
 			j = len(bands)
 			bi[k] = j
-			bands = append(bands, Band{Species: l.Species, VUp: l.VUp, VLo: l.VLo, JMin: l.JLo, JMax: l.JLo})
+			bands = append(bands, constants.Band{Species: l.Species, VUp: l.VUp, VLo: l.VLo, JMin: l.JLo, JMax: l.JLo})
 		}
 		b := &bands[j]
 		b.Lines++
@@ -911,7 +846,7 @@ func coverage(lines []linelist.Line, used []bool) ([]Band, []LevelRange) {
 			if !ok {
 				j = len(levels)
 				lv[k] = j
-				levels = append(levels, LevelRange{Species: l.Species, V: x[0], JMax: x[1]})
+				levels = append(levels, constants.LevelRange{Species: l.Species, V: x[0], JMax: x[1]})
 			}
 			levels[j].JMax = max(levels[j].JMax, x[1])
 		}

@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
@@ -204,7 +205,7 @@ func paramOf(t testing.TB, r *Result, id string) model.Param {
 }
 
 // derivedOf returns the derived constant name of species sp ("" for none).
-func derivedOf(t testing.TB, ds []Derived, name, sp string) Derived {
+func derivedOf(t testing.TB, ds []constants.Derived, name, sp string) constants.Derived {
 	t.Helper()
 	for _, d := range ds {
 		if d.Name == name && d.Species == sp {
@@ -212,7 +213,7 @@ func derivedOf(t testing.TB, ds []Derived, name, sp string) Derived {
 		}
 	}
 	t.Fatalf("no derived constant %s[%s]", name, sp)
-	return Derived{}
+	return constants.Derived{}
 }
 
 // lre is the log relative error −log10(|x − ref|/|ref|), the accuracy

@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/constants"
 	"bandwright/fit/model"
 )
 
@@ -62,7 +63,7 @@ func TestHuberHerzbergNoisy(t *testing.T) {
 				p := paramOf(t, r, model.DunhamName(kl[0], kl[1]))
 				z := math.Abs(p.Value-want) / p.Sigma
 				if !(z < 4) {
-					t.Errorf("%s = %s, Huber & Herzberg %g: %.1fσ away", p.ID(), FormatParen(p.Value, p.Sigma), want, z)
+					t.Errorf("%s = %s, Huber & Herzberg %g: %.1fσ away", p.ID(), constants.FormatParen(p.Value, p.Sigma), want, z)
 				}
 				zmax = math.Max(zmax, z)
 			}
@@ -73,10 +74,10 @@ func TestHuberHerzbergNoisy(t *testing.T) {
 			re := derivedOf(t, r.Derived, "r_e", c.label)
 			// r_e of Huber & Herzberg (1979), from memory.
 			if !scalar.EqualWithinAbs(re.Value, c.re, 1e-5) {
-				t.Errorf("r_e = %s Å, Huber & Herzberg %g Å: differs by %.2g Å", FormatParen(re.Value, re.Sigma), c.re, re.Value-c.re)
+				t.Errorf("r_e = %s Å, Huber & Herzberg %g Å: differs by %.2g Å", constants.FormatParen(re.Value, re.Sigma), c.re, re.Value-c.re)
 			}
 			t.Logf("%s: s = %.3f, r_e = %.7f Å (table %.6f, diff %.1e), B_e = %s", c.label, r.Stats.Sigma, re.Value, c.re, re.Value-c.re,
-				FormatParen(paramOf(t, r, "Y01").Value, paramOf(t, r, "Y01").Sigma))
+				constants.FormatParen(paramOf(t, r, "Y01").Value, paramOf(t, r, "Y01").Sigma))
 		})
 	}
 }

@@ -10,6 +10,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"bandwright/constants"
 	"bandwright/fit/model"
 )
 
@@ -55,7 +56,7 @@ var branchDJ = map[string]int{"O": -2, "P": -1, "Q": 0, "R": 1, "S": 2}
 // Predict calculates the lines of the given bands of one species up to lower
 // J = jmax for the branches given (default: P and R for vibrational bands, R for
 // pure rotation).
-func Predict(c *Constants, sp string, bands []BandSpec, jmax int, branches []string) ([]Prediction, error) {
+func Predict(c *constants.Set, sp string, bands []BandSpec, jmax int, branches []string) ([]Prediction, error) {
 	s := model.SpeciesIndex(c.Model, sp)
 	if s < 0 {
 		return nil, fmt.Errorf("fit: species %s is not in the constants record (it has %s)", sp, strings.Join(c.Model.Species(), ", "))

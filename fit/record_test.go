@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/constants"
 	"bandwright/fit/model"
 )
 
@@ -40,11 +41,11 @@ func TestRecordRoundTrip(t *testing.T) {
 			if err := NewRecord(r).Write(&buf); err != nil {
 				t.Fatal(err)
 			}
-			rec, err := ReadRecord(bytes.NewReader(buf.Bytes()), "constants.json")
+			rec, err := constants.Read(bytes.NewReader(buf.Bytes()), "constants.json")
 			if err != nil {
 				t.Fatal(err)
 			}
-			if rec.Schema != Schema || rec.CovarianceConvention != CovarianceConvention {
+			if rec.Schema != constants.Schema || rec.CovarianceConvention != constants.CovarianceConvention {
 				t.Errorf("schema %q, convention %q", rec.Schema, rec.CovarianceConvention)
 			}
 			c, err := rec.Constants()
@@ -135,12 +136,12 @@ func TestRecordRefusals(t *testing.T) {
 		{"not json", []byte("{"), []string{"c.json", "not a constants record"}},
 		{"unknown model", edit(func(m map[string]any) { m["model"] = "spline" }), []string{"c.json", "spline"}},
 	} {
-		_, err := ReadRecord(bytes.NewReader(tc.data), "c.json")
+		_, err := constants.Read(bytes.NewReader(tc.data), "c.json")
 		if err == nil {
 			t.Errorf("%s: accepted", tc.name)
 			continue
 		}
-		if !strings.HasPrefix(err.Error(), "fit: ") {
+		if !strings.HasPrefix(err.Error(), "constants: ") {
 			t.Errorf("%s: %q does not start with the package name", tc.name, err)
 		}
 		for _, w := range tc.want {

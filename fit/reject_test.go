@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/internal/failure"
@@ -50,7 +51,7 @@ func TestRejectPlantedOutliers(t *testing.T) {
 	for kl, want := range y {
 		p := paramOf(t, r, model.DunhamName(kl[0], kl[1]))
 		if math.Abs(p.Value-want) > 4*p.Sigma {
-			t.Errorf("%s = %s, Huber & Herzberg %g", p.ID(), FormatParen(p.Value, p.Sigma), want)
+			t.Errorf("%s = %s, Huber & Herzberg %g", p.ID(), constants.FormatParen(p.Value, p.Sigma), want)
 		}
 	}
 	if !(r.Stats.Sigma > 0.8 && r.Stats.Sigma < 1.2) {
@@ -139,13 +140,13 @@ func TestCalibrationFactor(t *testing.T) {
 	}
 	c := r.Calib[1]
 	if z := math.Abs(c.Kappa-kappa) / c.Sigma; !(z < 3) {
-		t.Errorf("κ = %s, planted %g: %.1fσ away", FormatParen(c.Kappa, c.Sigma), kappa, z)
+		t.Errorf("κ = %s, planted %g: %.1fσ away", constants.FormatParen(c.Kappa, c.Sigma), kappa, z)
 	}
-	t.Logf("κ = %s (planted %g), %d Gauss–Newton solves", FormatParen(c.Kappa, c.Sigma), kappa, r.Stats.Iter)
+	t.Logf("κ = %s (planted %g), %d Gauss–Newton solves", constants.FormatParen(c.Kappa, c.Sigma), kappa, r.Stats.Iter)
 	for kl, want := range y {
 		p := paramOf(t, r, model.DunhamName(kl[0], kl[1]))
 		if z := math.Abs(p.Value-want) / p.Sigma; !(z < 4) {
-			t.Errorf("%s = %s, truth %g: %.1fσ", p.ID(), FormatParen(p.Value, p.Sigma), want, z)
+			t.Errorf("%s = %s, truth %g: %.1fσ", p.ID(), constants.FormatParen(p.Value, p.Sigma), want, z)
 		}
 	}
 	if r.Status != Converged {

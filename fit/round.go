@@ -4,31 +4,10 @@ import (
 	"fmt"
 	"math"
 
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/units"
 )
-
-// Rounding records Watson's sequential rounding of a fit.
-type Rounding struct {
-	// Steps lists the parameters in the order they were rounded, with the
-	// rounding unit used.
-	Steps []RoundStep `json:"steps"`
-	// Chi2Before and Chi2After are χ² of the unrounded and rounded constants
-	// on the same lines.
-	Chi2Before float64 `json:"chi2_before"`
-	Chi2After  float64 `json:"chi2_after"`
-}
-
-// RoundStep is one parameter's rounding.
-type RoundStep struct {
-	Param     string  `json:"parameter"`
-	Unrounded float64 `json:"unrounded"`
-	Rounded   float64 `json:"rounded"`
-	Unit      float64 `json:"unit"`
-	// CondSigma is the conditional σ of the parameter (all others held) at the
-	// moment it was rounded.
-	CondSigma float64 `json:"conditional_sigma"`
-}
 
 // round applies sequential rounding (J.K.G. Watson, J. Mol. Spectrosc. 66 (1977)
 // 500): the free parameter with the largest relative uncertainty is rounded to
@@ -43,7 +22,7 @@ type RoundStep struct {
 // of the rounded constants.
 // Calibration factors are refitted but not rounded.
 func (w *work) round(res *Result) error {
-	rd := &Rounding{}
+	rd := &constants.Rounding{}
 	rd.Chi2Before, _ = w.chi2()
 	s := res.Stats.Sigma
 	if !(s > 0) || math.IsNaN(s) {
@@ -81,7 +60,7 @@ func (w *work) round(res *Result) error {
 		// Print-and-parse so the stored value is the decimal a person reads.
 		w.values[best] = parseShort(w.values[best], unit)
 		w.omcOK = false
-		rd.Steps = append(rd.Steps, RoundStep{Param: w.params[best].ID(), Unrounded: old, Rounded: w.values[best], Unit: unit, CondSigma: sc})
+		rd.Steps = append(rd.Steps, constants.RoundStep{Param: w.params[best].ID(), Unrounded: old, Rounded: w.values[best], Unit: unit, CondSigma: sc})
 		w.fixedIdx[best] = true
 		remaining = removeInt(remaining, best)
 		if len(w.freeNow())+len(w.kfree) > 0 {

@@ -8,6 +8,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/constants"
 	"bandwright/fit/model"
 )
 
@@ -108,7 +109,7 @@ func TestSignificanceWarning(t *testing.T) {
 	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: append(y.terms(), "Y03")}, Settings{})
 	p := paramOf(t, r, "Y03")
 	if math.Abs(p.Value) >= 3*p.Sigma {
-		t.Fatalf("Y03 = %s came out significant; choose another seed", FormatParen(p.Value, p.Sigma))
+		t.Fatalf("Y03 = %s came out significant; choose another seed", constants.FormatParen(p.Value, p.Sigma))
 	}
 	var hits []string
 	for _, w := range r.Warnings {

@@ -10,6 +10,7 @@ import (
 	"unicode"
 	"unicode/utf8"
 
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 )
 
@@ -129,7 +130,7 @@ func csvNeedsQuotes(s string) bool {
 
 // WriteSummary writes fit.md: the constants in parenthetical notation, the
 // statistics, the warnings and the largest residuals.
-func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
+func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) error {
 	var b strings.Builder
 	fmt.Fprintf(&b, "# bandwright fit — %s model\n\n", r.Model.Kind())
 	fmt.Fprintf(&b, "Species: %s", strings.Join(r.Model.Species(), ", "))
@@ -138,7 +139,7 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
 	}
 	b.WriteString("\n\n")
 	b.WriteString("Units: cm⁻¹. Uncertainties are 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. ")
-	b.WriteString("σ are " + CovarianceConvention + ".\n\n")
+	b.WriteString("σ are " + constants.CovarianceConvention + ".\n\n")
 	b.WriteString("## Statistics\n\n| quantity | value |\n|---|---|\n")
 	st := r.Stats
 	fmt.Fprintf(&b, "| lines given | %d |\n| lines used | %d |\n| lines rejected | %d |\n| parameters fitted | %d |\n| degrees of freedom | %d |\n", st.Lines, st.Used, st.Rejected, st.Params, st.DOF)
@@ -165,11 +166,11 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
 		if q.V >= 0 {
 			name = fmt.Sprintf("%s (v=%d)", q.Name, q.V)
 		}
-		fmt.Fprintf(&b, "| %s | %s | %s | %s |\n", name, mdEscape(sp), FormatParen(q.Value, q.Sigma), note)
+		fmt.Fprintf(&b, "| %s | %s | %s | %s |\n", name, mdEscape(sp), constants.FormatParen(q.Value, q.Sigma), note)
 	}
 	for _, c := range r.Calib {
 		if !c.Fixed {
-			fmt.Fprintf(&b, "| κ | %s | %s | calibration factor |\n", mdEscape(c.File), FormatParen(c.Kappa, c.Sigma))
+			fmt.Fprintf(&b, "| κ | %s | %s | calibration factor |\n", mdEscape(c.File), constants.FormatParen(c.Kappa, c.Sigma))
 		}
 	}
 	if r.Rounding != nil {
@@ -178,7 +179,7 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *Record) error {
 	if len(r.Derived) > 0 {
 		b.WriteString("\n## Derived constants\n\n| constant | species | value | unit | note |\n|---|---|---|---|---|\n")
 		for _, d := range r.Derived {
-			fmt.Fprintf(&b, "| %s | %s | %s | %s | %s |\n", d.Name, mdEscape(d.Species), FormatParen(d.Value, d.Sigma), d.Unit, mdEscape(d.Note))
+			fmt.Fprintf(&b, "| %s | %s | %s | %s | %s |\n", d.Name, mdEscape(d.Species), constants.FormatParen(d.Value, d.Sigma), d.Unit, mdEscape(d.Note))
 		}
 	}
 	b.WriteString("\n## Warnings\n\n")

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"bandwright/assign"
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
@@ -17,13 +18,9 @@ import (
 	"bandwright/units"
 )
 
-// Files written by the assignment stage.
-const (
-	LinesFile         = "lines.csv"
-	UnassignedFile    = "unassigned.csv"
-	AssignReportFile  = "assign.md"
-	DefaultAssignTemp = 296.0
-)
+// DefaultAssignTemp is the sample temperature (K) assign assumes for the
+// predicted intensities when none is given.
+const DefaultAssignTemp = 296.0
 
 // AssignOptions are the options of `bandwright assign`.
 type AssignOptions struct {
@@ -54,7 +51,7 @@ type AssignOptions struct {
 // AssignOutcome is what an assignment run produced.
 type AssignOutcome struct {
 	Result *assign.Result
-	Record *fit.Record
+	Record *constants.Record
 	Out    string
 }
 
@@ -88,20 +85,20 @@ func RunAssign(o AssignOptions) (*AssignOutcome, error) {
 
 // WriteAssignOutputs writes the assignment stage's files into d.
 func WriteAssignOutputs(d *outdir.Dir, oc *AssignOutcome, o AssignOptions) error {
-	if err := d.Write(LinesFile, func(w io.Writer) error { return assign.WriteLines(w, oc.Result) }); err != nil {
+	if err := d.Write(constants.LinesFile, func(w io.Writer) error { return assign.WriteLines(w, oc.Result) }); err != nil {
 		return err
 	}
-	if err := d.Write(UnassignedFile, func(w io.Writer) error { return assign.WriteUnassigned(w, oc.Result) }); err != nil {
+	if err := d.Write(constants.UnassignedFile, func(w io.Writer) error { return assign.WriteUnassigned(w, oc.Result) }); err != nil {
 		return err
 	}
-	if err := d.Write(ConstantsFile, oc.Record.Write); err != nil {
+	if err := d.Write(constants.ConstantsFile, oc.Record.Write); err != nil {
 		return err
 	}
 	start := o.Start
 	if start == "" {
 		start = o.Constants
 	}
-	return d.Write(AssignReportFile, func(w io.Writer) error {
+	return d.Write(constants.AssignReportFile, func(w io.Writer) error {
 		return assign.WriteReport(w, oc.Result, assign.ReportInfo{Peaks: o.Peaks, Start: start, Version: Version})
 	})
 }
@@ -190,7 +187,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 	}
 	rec := fit.NewRecord(res.Fit)
 	for i, in := range inputs {
-		rec.Provenance.Inputs = append(rec.Provenance.Inputs, fit.Input{Path: in, SHA256: hashes[i]})
+		rec.Provenance.Inputs = append(rec.Provenance.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}
 	rec.Provenance.Version = Version
 	rec.Provenance.Created = time.Now().UTC().Format(time.RFC3339)

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"bandwright/assign/synth"
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
@@ -52,12 +53,12 @@ func TestRunAssignWritesFilesThatFitReads(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{LinesFile, UnassignedFile, ConstantsFile, AssignReportFile} {
+	for _, f := range []string{constants.LinesFile, constants.UnassignedFile, constants.ConstantsFile, constants.AssignReportFile} {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Errorf("%s: %v", f, err)
 		}
 	}
-	list, err := linelist.ReadFile(filepath.Join(out, LinesFile))
+	list, err := linelist.ReadFile(filepath.Join(out, constants.LinesFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -81,7 +82,7 @@ func TestRunAssignWritesFilesThatFitReads(t *testing.T) {
 		}
 	}
 	// The line list fits at once (Dunham model, every isotopologue jointly).
-	fo, err := RunFit(FitOptions{Inputs: []string{filepath.Join(out, LinesFile)}, Model: "dunham", Terms: []string{"Y10", "Y20", "Y30", "Y01", "Y11", "Y02"}, Reject: 3, Out: filepath.Join(dir, "fit")})
+	fo, err := RunFit(FitOptions{Inputs: []string{filepath.Join(out, constants.LinesFile)}, Model: "dunham", Terms: []string{"Y10", "Y20", "Y30", "Y01", "Y11", "Y02"}, Reject: 3, Out: filepath.Join(dir, "fit")})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -94,7 +95,7 @@ func TestRunAssignWritesFilesThatFitReads(t *testing.T) {
 			t.Errorf("Y11 = %v ± %v", p.Value, p.Sigma)
 		}
 	}
-	md, _ := os.ReadFile(filepath.Join(out, AssignReportFile))
+	md, _ := os.ReadFile(filepath.Join(out, constants.AssignReportFile))
 	for _, want := range []string{"| 12C16O 1-0 |", "| 13C16O 2-1 |", "Combination differences", "Internal fit"} {
 		if !strings.Contains(string(md), want) {
 			t.Errorf("assign.md lacks %q", want)

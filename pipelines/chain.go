@@ -9,17 +9,13 @@ import (
 	"strings"
 
 	"bandwright/assign"
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/pipelines/report"
 )
-
-// AssignConstantsFile is the name, inside a chain's output folder, of the
-// constants record of the assignment stage's internal fit (the chain's own
-// constants.json is the fit stage's).
-const AssignConstantsFile = "assign-constants.json"
 
 // ChainOptions are the options of `bandwright run`.
 type ChainOptions struct {
@@ -48,7 +44,7 @@ type ChainOutcome struct {
 // only Markdown was written).
 func (c *ChainOutcome) ReportPath() string {
 	for _, f := range c.Reports {
-		if f == report.HTMLFile {
+		if f == constants.ReportHTMLFile {
 			return filepath.Join(c.Out, f)
 		}
 	}
@@ -118,30 +114,30 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 			return nil, err
 		}
 		oc.Assign = a
-		if err := d.Write(LinesFile, func(w io.Writer) error { return assign.WriteLines(w, a.Result) }); err != nil {
+		if err := d.Write(constants.LinesFile, func(w io.Writer) error { return assign.WriteLines(w, a.Result) }); err != nil {
 			return nil, err
 		}
-		if err := d.Write(UnassignedFile, func(w io.Writer) error { return assign.WriteUnassigned(w, a.Result) }); err != nil {
+		if err := d.Write(constants.UnassignedFile, func(w io.Writer) error { return assign.WriteUnassigned(w, a.Result) }); err != nil {
 			return nil, err
 		}
-		if err := d.Write(AssignConstantsFile, a.Record.Write); err != nil {
+		if err := d.Write(constants.AssignConstantsFile, a.Record.Write); err != nil {
 			return nil, err
 		}
 		start := ao.Start
 		if start == "" {
 			start = ao.Constants
 		}
-		if err := d.Write(AssignReportFile, func(w io.Writer) error {
+		if err := d.Write(constants.AssignReportFile, func(w io.Writer) error {
 			return assign.WriteReport(w, a.Result, assign.ReportInfo{Peaks: names[0], Start: start, Version: Version})
 		}); err != nil {
 			return nil, err
 		}
-		lineFiles = []string{d.TempPath(LinesFile)}
+		lineFiles = []string{d.TempPath(constants.LinesFile)}
 	}
 
 	fo := p.FitOptions(lineFiles, "")
 	if p.Input == InputPeaks {
-		fo.Names = []string{LinesFile}
+		fo.Names = []string{constants.LinesFile}
 	} else {
 		fo.Names = names
 	}
@@ -171,7 +167,7 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		if err != nil {
 			return nil, err
 		}
-		f.Record.Provenance.Inputs = append(f.Record.Provenance.Inputs, fit.Input{Path: names[0], SHA256: h})
+		f.Record.Provenance.Inputs = append(f.Record.Provenance.Inputs, constants.Input{Path: names[0], SHA256: h})
 		f.Record.Provenance.Options["assigned_by"] = "bandwright assign: lines.csv in this folder, from the peak list " + names[0]
 	}
 	if len(oc.Chosen) > 0 {
@@ -182,7 +178,7 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		return nil, err
 	}
 
-	to, err := p.thermoOptions(d.TempPath(ConstantsFile))
+	to, err := p.thermoOptions(d.TempPath(constants.ConstantsFile))
 	if err != nil {
 		return nil, err
 	}
@@ -191,7 +187,7 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		return nil, fmt.Errorf("thermo stage: %w", err)
 	}
 	if len(t.Provenance.Inputs) > 0 {
-		t.Provenance.Inputs[0].Path = ConstantsFile + " (this folder)"
+		t.Provenance.Inputs[0].Path = constants.ConstantsFile + " (this folder)"
 	}
 	oc.Thermo = t
 	d.Protect(t.Inputs...) // the card and the records it names

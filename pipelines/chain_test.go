@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
 )
@@ -43,7 +44,7 @@ func TestRunChainLinesAutomatic(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{ConstantsFile, ResidualsFile, FitReportFile, ThermoCSVFile, ThermoJSONFile, NASA7File, "report.html", "report.md"} {
+	for _, f := range []string{constants.ConstantsFile, constants.ResidualsFile, constants.FitReportFile, constants.ThermoCSVFile, constants.ThermoJSONFile, constants.NASA7File, "report.html", "report.md"} {
 		if st, err := os.Stat(filepath.Join(out, f)); err != nil || st.Size() == 0 {
 			t.Errorf("%s missing or empty: %v", f, err)
 		}
@@ -111,7 +112,7 @@ formats = ["md"]
 	if oc.Assign == nil || len(oc.Assign.Result.Lines) < 200 {
 		t.Fatalf("assign stage did not run or assigned too little")
 	}
-	for _, f := range []string{LinesFile, UnassignedFile, AssignReportFile, AssignConstantsFile, ConstantsFile, ThermoCSVFile, "report.md"} {
+	for _, f := range []string{constants.LinesFile, constants.UnassignedFile, constants.AssignReportFile, constants.AssignConstantsFile, constants.ConstantsFile, constants.ThermoCSVFile, "report.md"} {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Errorf("%s missing: %v", f, err)
 		}
@@ -129,7 +130,7 @@ formats = ["md"]
 	}
 	// thermo.csv: the CODATA key value S°(298.15 K) = 197.660 J/mol/K of CO
 	// (Cox, Wagman & Medvedev 1989, from memory) under the natural convention.
-	f, _ := os.Open(filepath.Join(out, ThermoCSVFile))
+	f, _ := os.Open(filepath.Join(out, constants.ThermoCSVFile))
 	defer f.Close()
 	r := csv.NewReader(f)
 	r.Comment = '#'

@@ -8,6 +8,7 @@ import (
 	"io"
 	"time"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
@@ -40,17 +41,10 @@ type FitOptions struct {
 type FitOutcome struct {
 	Problem fit.Problem
 	Result  *fit.Result
-	Record  *fit.Record
+	Record  *constants.Record
 	Extra   []string
 	Out     string
 }
-
-// Files written by the fit stage.
-const (
-	ConstantsFile = "constants.json"
-	ResidualsFile = "residuals.csv"
-	FitReportFile = "fit.md"
-)
 
 // RunFit reads the line lists, fits, and writes constants.json, residuals.csv
 // and fit.md into o.Out (nothing is written when anything fails).
@@ -142,7 +136,7 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 		if len(o.Names) == len(o.Inputs) {
 			in = o.Names[i]
 		}
-		rec.Provenance.Inputs = append(rec.Provenance.Inputs, fit.Input{Path: in, SHA256: hashes[i]})
+		rec.Provenance.Inputs = append(rec.Provenance.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}
 	rec.Provenance.Version = Version
 	rec.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
@@ -167,11 +161,11 @@ func termsOf(t []string, kind string) []string {
 
 // WriteFitOutputs writes the fit stage's files into d.
 func WriteFitOutputs(d *outdir.Dir, oc *FitOutcome) error {
-	if err := d.Write(ConstantsFile, oc.Record.Write); err != nil {
+	if err := d.Write(constants.ConstantsFile, oc.Record.Write); err != nil {
 		return err
 	}
-	if err := d.Write(ResidualsFile, func(w io.Writer) error { return fit.WriteResiduals(w, oc.Problem, oc.Result, oc.Extra) }); err != nil {
+	if err := d.Write(constants.ResidualsFile, func(w io.Writer) error { return fit.WriteResiduals(w, oc.Problem, oc.Result, oc.Extra) }); err != nil {
 		return err
 	}
-	return d.Write(FitReportFile, func(w io.Writer) error { return fit.WriteSummary(w, oc.Problem, oc.Result, oc.Record) })
+	return d.Write(constants.FitReportFile, func(w io.Writer) error { return fit.WriteSummary(w, oc.Problem, oc.Result, oc.Record) })
 }

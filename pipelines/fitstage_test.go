@@ -15,6 +15,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/species"
 	"bandwright/internal/failure"
@@ -157,7 +158,7 @@ func TestRunFitEndToEnd(t *testing.T) {
 	if err != nil || !bytes.Equal(before, after) {
 		t.Fatalf("input changed by the fit (err %v)", err)
 	}
-	for _, name := range []string{ConstantsFile, ResidualsFile, FitReportFile} {
+	for _, name := range []string{constants.ConstantsFile, constants.ResidualsFile, constants.FitReportFile} {
 		st, err := os.Stat(filepath.Join(out, name))
 		if err != nil || st.Size() == 0 {
 			t.Errorf("%s: %v (size %d)", name, err, sizeOf(st))
@@ -173,11 +174,11 @@ func TestRunFitEndToEnd(t *testing.T) {
 
 	// constants.json: reads back, holds the constants the lines were made
 	// from (within 4σ) and the input's SHA-256.
-	f, err := os.Open(filepath.Join(out, ConstantsFile))
+	f, err := os.Open(filepath.Join(out, constants.ConstantsFile))
 	if err != nil {
 		t.Fatal(err)
 	}
-	rec, err := fit.ReadRecord(f, ConstantsFile)
+	rec, err := constants.Read(f, constants.ConstantsFile)
 	f.Close()
 	if err != nil {
 		t.Fatal(err)
@@ -192,7 +193,7 @@ func TestRunFitEndToEnd(t *testing.T) {
 		want := coY[[2]int{*p.K, *p.L}]
 		// Huber & Herzberg (1979), from memory.
 		if math.Abs(p.Value-want) > 4*p.Sigma {
-			t.Errorf("%s = %s, Huber & Herzberg %g", p.Name, fit.FormatParen(p.Value, p.Sigma), want)
+			t.Errorf("%s = %s, Huber & Herzberg %g", p.Name, constants.FormatParen(p.Value, p.Sigma), want)
 		}
 	}
 	h, err := HashFile(in)
@@ -202,12 +203,12 @@ func TestRunFitEndToEnd(t *testing.T) {
 	if len(rec.Provenance.Inputs) != 1 || rec.Provenance.Inputs[0].SHA256 != h || rec.Provenance.Version != Version {
 		t.Errorf("provenance %+v", rec.Provenance)
 	}
-	if rec.CovarianceConvention != fit.CovarianceConvention {
+	if rec.CovarianceConvention != constants.CovarianceConvention {
 		t.Errorf("covariance convention %q", rec.CovarianceConvention)
 	}
 
 	// residuals.csv: one row per line, o−c equal to the fit's, used lines as counted.
-	rf, err := os.Open(filepath.Join(out, ResidualsFile))
+	rf, err := os.Open(filepath.Join(out, constants.ResidualsFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -244,7 +245,7 @@ func TestRunFitEndToEnd(t *testing.T) {
 	}
 
 	// fit.md names the constants in parenthetical notation and the convention.
-	md, err := os.ReadFile(filepath.Join(out, FitReportFile))
+	md, err := os.ReadFile(filepath.Join(out, constants.FitReportFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -254,7 +255,7 @@ func TestRunFitEndToEnd(t *testing.T) {
 			y01 = p
 		}
 	}
-	for _, want := range []string{fit.FormatParen(y01.Value, y01.Sigma), "scaled by the square of the dimensionless standard deviation", "13C16O"} {
+	for _, want := range []string{constants.FormatParen(y01.Value, y01.Sigma), "scaled by the square of the dimensionless standard deviation", "13C16O"} {
 		if !strings.Contains(string(md), want) {
 			t.Errorf("fit.md does not contain %q", want)
 		}
@@ -264,7 +265,7 @@ func TestRunFitEndToEnd(t *testing.T) {
 	if _, err := RunFit(FitOptions{Inputs: []string{in}, Model: "dunham", Terms: smallTerms, Reject: 3, Round: true, Out: out}); err != nil {
 		t.Fatal(err)
 	}
-	if b, _ := os.ReadFile(filepath.Join(out, ConstantsFile)); !bytes.Contains(b, []byte(`"rounding"`)) {
+	if b, _ := os.ReadFile(filepath.Join(out, constants.ConstantsFile)); !bytes.Contains(b, []byte(`"rounding"`)) {
 		t.Error("second run did not replace constants.json")
 	}
 }

@@ -8,13 +8,14 @@ import (
 
 	"github.com/google/renameio/v2"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
 
 // LoadConstants reads a constants record from a file.
-func LoadConstants(path string) (*fit.Record, *fit.Constants, error) {
+func LoadConstants(path string) (*constants.Record, *constants.Set, error) {
 	if why := textcheck.NotRegular(path); why != "" {
 		return nil, nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
 	}
@@ -23,7 +24,7 @@ func LoadConstants(path string) (*fit.Record, *fit.Constants, error) {
 		return nil, nil, fmt.Errorf("pipelines: %w", err)
 	}
 	defer f.Close()
-	rec, err := fit.ReadRecord(f, path)
+	rec, err := constants.Read(f, path)
 	if err != nil {
 		return nil, nil, err
 	}

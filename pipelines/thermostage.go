@@ -11,19 +11,12 @@ import (
 	"strings"
 	"time"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/fit/species"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
-)
-
-// Files written by the thermo stage.
-const (
-	ThermoCSVFile  = "thermo.csv"
-	ThermoJSONFile = "thermo.json"
-	NASA7File      = "nasa7.json"
 )
 
 // DefaultTemperatures is the table used when neither a list nor a range is given (K).
@@ -56,7 +49,7 @@ type ThermoOptions struct {
 // ThermoOutcome is what a thermo run produced.
 type ThermoOutcome struct {
 	Result     *thermo.Result
-	Provenance fit.Provenance
+	Provenance constants.Provenance
 	Inputs     []string // files read: constants, card, excited-state constants
 	Out        string
 }
@@ -87,13 +80,13 @@ func RunThermo(o ThermoOptions) (*ThermoOutcome, error) {
 // WriteThermoOutputs writes the thermo stage's files into d.
 func WriteThermoOutputs(d *outdir.Dir, oc *ThermoOutcome) error {
 	r := oc.Result
-	if err := d.Write(ThermoCSVFile, r.WriteCSV); err != nil {
+	if err := d.Write(constants.ThermoCSVFile, r.WriteCSV); err != nil {
 		return err
 	}
-	if err := d.Write(ThermoJSONFile, func(w io.Writer) error { return r.WriteJSON(w, oc.Provenance) }); err != nil {
+	if err := d.Write(constants.ThermoJSONFile, func(w io.Writer) error { return r.WriteJSON(w, oc.Provenance) }); err != nil {
 		return err
 	}
-	return d.Write(NASA7File, func(w io.Writer) error { return r.WriteNASA7(w, oc.Provenance) })
+	return d.Write(constants.NASA7File, func(w io.Writer) error { return r.WriteNASA7(w, oc.Provenance) })
 }
 
 // Thermo reads the constants record and the card and computes without writing.
@@ -185,9 +178,9 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	if err != nil {
 		return nil, err
 	}
-	prov := fit.Provenance{Version: Version, Created: time.Now().UTC().Format(time.RFC3339)}
+	prov := constants.Provenance{Version: Version, Created: time.Now().UTC().Format(time.RFC3339)}
 	for i, in := range inputs {
-		prov.Inputs = append(prov.Inputs, fit.Input{Path: in, SHA256: hashes[i]})
+		prov.Inputs = append(prov.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}
 	prov.Options = map[string]any{
 		"species": iso.Label, "temperatures": o.Temperatures, "range": o.Range,

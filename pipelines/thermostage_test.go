@@ -13,6 +13,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
@@ -113,7 +114,7 @@ func TestRunThermo(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	comments, header, rows := readThermoCSV(t, filepath.Join(out, ThermoCSVFile))
+	comments, header, rows := readThermoCSV(t, filepath.Join(out, constants.ThermoCSVFile))
 	if strings.Join(header, ",") != strings.Join(thermo.Columns, ",") {
 		t.Errorf("header %v", header)
 	}
@@ -132,7 +133,7 @@ func TestRunThermo(t *testing.T) {
 		t.Errorf("S°(298.15 K) = %.4f", s)
 	}
 	var tj map[string]any
-	b, err := os.ReadFile(filepath.Join(out, ThermoJSONFile))
+	b, err := os.ReadFile(filepath.Join(out, constants.ThermoJSONFile))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -150,7 +151,7 @@ func TestRunThermo(t *testing.T) {
 	var n7 struct {
 		NASA7 thermo.NASA7 `json:"nasa7"`
 	}
-	b, err = os.ReadFile(filepath.Join(out, NASA7File))
+	b, err = os.ReadFile(filepath.Join(out, constants.NASA7File))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -188,7 +189,7 @@ constants = "a-state.json"
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, header, rows := readThermoCSV(t, filepath.Join(out, ThermoCSVFile))
+	_, header, rows := readThermoCSV(t, filepath.Join(out, constants.ThermoCSVFile))
 	want := append(append([]string(nil), thermo.Columns...), thermo.MCColumns...)
 	if strings.Join(header, ",") != strings.Join(want, ",") || len(rows) != 30 {
 		t.Errorf("header %v, %d rows", header, len(rows))

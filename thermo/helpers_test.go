@@ -4,6 +4,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
@@ -87,7 +88,7 @@ func (c hh) lines() []linelist.Line {
 // fitHH runs the chain lines → fit: lines generated from the constants with
 // Gaussian noise of noise cm⁻¹ (fixed seed), fitted with the Dunham model, and
 // turned into a record. It returns the record and its constants.
-func fitHH(t testing.TB, c hh, noise float64, seed uint64) (*fit.Record, *fit.Constants) {
+func fitHH(t testing.TB, c hh, noise float64, seed uint64) (*constants.Record, *constants.Set) {
 	t.Helper()
 	lines := c.lines()
 	m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindDunham, Terms: c.terms()})
@@ -112,7 +113,7 @@ func fitHH(t testing.TB, c hh, noise float64, seed uint64) (*fit.Record, *fit.Co
 
 // levelsFit fits a levels model (terms) to the given lines' positions computed
 // from the Dunham constants c.
-func levelsFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise float64) (*fit.Record, *fit.Constants) {
+func levelsFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise float64) (*constants.Record, *constants.Set) {
 	t.Helper()
 	dm, err := fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindDunham, Terms: c.terms()})
 	if err != nil {
@@ -136,7 +137,7 @@ func levelsFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise 
 
 // fitRecord fits lines with the model kind and terms (no rejection) and
 // returns the record and its constants, as thermo reads them from a file.
-func fitRecord(t testing.TB, lines []linelist.Line, kind string, terms []string) (*fit.Record, *fit.Constants) {
+func fitRecord(t testing.TB, lines []linelist.Line, kind string, terms []string) (*constants.Record, *constants.Set) {
 	t.Helper()
 	m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: kind, Terms: terms})
 	if err != nil {

@@ -12,7 +12,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
 	"bandwright/internal/failure"
@@ -42,9 +42,9 @@ type State struct {
 	// Constants of the state. Nil for the ground state (TermEnergy 0, which
 	// takes Problem.Constants) and for a state that is the ground-state
 	// manifold shifted by TermEnergy.
-	Constants *fit.Constants
+	Constants *constants.Set
 	// Observed lists the levels of the state's fitted data (extrapolation check).
-	Observed []fit.LevelRange
+	Observed []constants.LevelRange
 	// Source names the state's constants record in messages.
 	Source string
 }
@@ -55,9 +55,9 @@ type Problem struct {
 	// Species is the isotopologue label; empty: the first species of the record.
 	Species string
 	// Constants of the ground electronic state (a fit record turned back into a model).
-	Constants *fit.Constants
-	// Observed lists the levels reached by the fitted data (fit.Record.Observed).
-	Observed []fit.LevelRange
+	Constants *constants.Set
+	// Observed lists the levels reached by the fitted data (constants.Record.Observed).
+	Observed []constants.LevelRange
 	// Source names the constants record in messages and outputs.
 	Source string
 	// States lists the electronic states; nil means one ¹Σ⁺ state (¹Σg⁺ for a
@@ -70,7 +70,7 @@ type Problem struct {
 // block is one constants record in the combined parameter space: its fitted
 // parameters are x[offset : offset+len(c.Free)].
 type block struct {
-	c      *fit.Constants
+	c      *constants.Set
 	offset int
 	label  string // "" for the ground state
 }
@@ -584,7 +584,7 @@ func (sys *System) levelGrad(st, idx int, dst []float64) []float64 {
 //   - every level below the ceiling: D0 above the lowest level when given (ground
 //     state), otherwise, for a Dunham model, the top of its G(v);
 //   - every level whose population can matter at tMax: term + E − eRef ≤ 50 kT_max/hc.
-func enumerateManifold(c *fit.Constants, sp, blk int, term, eRef, eNeg, ceiling, d0, tMax float64, count *int) (*manifold, error) {
+func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling, d0, tMax float64, count *int) (*manifold, error) {
 	m := &manifold{block: blk, sp: sp, nfree: len(c.Free), jReason: map[string]int{}, ceilingAbs: ceiling}
 	np := len(c.Values)
 	grad := make([]float64, np)
@@ -707,7 +707,7 @@ func enumerateManifold(c *fit.Constants, sp, blk int, term, eRef, eNeg, ceiling,
 
 // rotConstant returns B_v of level v: Σ_k Y_k1 (v+½)^k for a Dunham model, the
 // fitted B_v of a levels model.
-func rotConstant(c *fit.Constants, sp, v int) float64 {
+func rotConstant(c *constants.Set, sp, v int) float64 {
 	switch m := c.Model.(type) {
 	case *model.Dunham:
 		b := 0.0
@@ -730,7 +730,7 @@ func rotConstant(c *fit.Constants, sp, v int) float64 {
 // flagExtrapolated marks the levels outside the fitted data: v above the highest
 // observed v, or J above the highest J observed in that v (in the highest J
 // observed in any v when v itself was not observed).
-func (m *manifold) flagExtrapolated(obs []fit.LevelRange, label string) {
+func (m *manifold) flagExtrapolated(obs []constants.LevelRange, label string) {
 	m.ext = make([]bool, len(m.e))
 	jmax := map[int]int{}
 	vmax, jall := -1, -1
@@ -783,7 +783,7 @@ func (m *manifold) jSummary() string {
 // (v+½), D_v the mean of the fitted D_v. A record with a single vibrational
 // level gives no estimate. Levels run up to the top of the estimated G(v), the dissociation energy
 // when given, and the population limit at tMax.
-func (m *manifold) estimateMissing(c *fit.Constants, lm *model.Levels, sp int, term, eRef, eNeg, d0, tMax float64) {
+func (m *manifold) estimateMissing(c *constants.Set, lm *model.Levels, sp int, term, eRef, eNeg, d0, tMax float64) {
 	vs := lm.LevelsOf(sp)
 	if len(vs) < 2 {
 		m.missNote = "only one vibrational level in the record: the missing levels cannot be estimated (their share of Q is not known)"

@@ -9,13 +9,13 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 	"gonum.org/v1/gonum/mat"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/internal/failure"
 	"bandwright/units"
 )
 
 // withValue returns a copy of c with the fitted parameter named name set to x.
-func withValue(t *testing.T, c *fit.Constants, name string, x float64) *fit.Constants {
+func withValue(t *testing.T, c *constants.Set, name string, x float64) *constants.Set {
 	t.Helper()
 	v := c.FreeValues()
 	for k, j := range c.Free {
@@ -52,7 +52,7 @@ func allFinite(t *testing.T, r *Result) {
 	if err := r.WriteCSV(&csv); err != nil {
 		t.Fatal(err)
 	}
-	if err := r.WriteJSON(&js, fit.Provenance{}); err != nil {
+	if err := r.WriteJSON(&js, constants.Provenance{}); err != nil {
 		t.Fatal(err)
 	}
 	for _, out := range []string{csv.String(), js.String()} {

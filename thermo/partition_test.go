@@ -6,7 +6,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/units"
@@ -15,7 +15,7 @@ import (
 // rigidRotor fits a levels model with the single term B to the pure-rotation
 // lines ν = 2B(J+1), J = 0…30, of label (exact positions), so that the model is
 // a rigid rotor with constant B.
-func rigidRotor(t *testing.T, label string, b float64) (*fit.Record, *fit.Constants) {
+func rigidRotor(t *testing.T, label string, b float64) (*constants.Record, *constants.Set) {
 	t.Helper()
 	var lines []linelist.Line
 	for j := 0; j <= 30; j++ {

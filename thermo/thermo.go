@@ -7,7 +7,7 @@ import (
 	"sort"
 	"strings"
 
-	"bandwright/fit"
+	"bandwright/constants"
 )
 
 // Composition conventions of the translational part.
@@ -279,7 +279,7 @@ func (sys *System) conventions(s Settings) Conventions {
 	if z.ZPE != nil {
 		c.EnergyZero += fmt.Sprintf("; zero-point energy E(0,0) = %.6f(σ %.2g) cm-1 above the potential minimum", *z.ZPE, *z.ZPESigma)
 	}
-	c.Uncertainty = "linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + fit.CovarianceConvention
+	c.Uncertainty = "linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + constants.CovarianceConvention
 	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T (rigid rotor with Mulholland's series, same v as the exact sum); Q_closed_form_error = Q_closed_form/Q − 1"
 	return c
 }

@@ -8,7 +8,7 @@ import (
 	"strconv"
 	"strings"
 
-	"bandwright/fit"
+	"bandwright/constants"
 )
 
 // Schemas of the files the thermo stage writes.
@@ -121,23 +121,23 @@ type jsonFns struct {
 }
 
 type jsonTable struct {
-	Schema      string         `json:"schema"`
-	Conventions Conventions    `json:"conventions"`
-	Levels      []StateLevels  `json:"levels"`
-	EnergyZero  ZeroPoint      `json:"energy_zero"`
-	Parameters  []string       `json:"fitted_parameters"`
-	MonteCarlo  *MCInfo        `json:"monte_carlo,omitempty"`
-	Columns     []string       `json:"columns"`
-	Table       []jsonRow      `json:"table"`
-	Warnings    []string       `json:"warnings"`
-	Provenance  fit.Provenance `json:"provenance"`
+	Schema      string               `json:"schema"`
+	Conventions Conventions          `json:"conventions"`
+	Levels      []StateLevels        `json:"levels"`
+	EnergyZero  ZeroPoint            `json:"energy_zero"`
+	Parameters  []string             `json:"fitted_parameters"`
+	MonteCarlo  *MCInfo              `json:"monte_carlo,omitempty"`
+	Columns     []string             `json:"columns"`
+	Table       []jsonRow            `json:"table"`
+	Warnings    []string             `json:"warnings"`
+	Provenance  constants.Provenance `json:"provenance"`
 }
 
 func ptr(x float64) *float64 { return &x }
 
 // WriteJSON writes thermo.json: the table with conventions, the levels used,
 // the energy zero, warnings and provenance.
-func (r *Result) WriteJSON(w io.Writer, prov fit.Provenance) error {
+func (r *Result) WriteJSON(w io.Writer, prov constants.Provenance) error {
 	if err := r.checkFinite(); err != nil {
 		return err
 	}
@@ -170,20 +170,20 @@ func (r *Result) WriteJSON(w io.Writer, prov fit.Provenance) error {
 }
 
 type jsonNASA struct {
-	Schema           string         `json:"schema"`
-	Species          string         `json:"species"`
-	StandardPressure string         `json:"standard_pressure"`
-	Composition      string         `json:"composition"`
-	NuclearSpin      string         `json:"nuclear_spin"`
-	Units            string         `json:"units"`
-	NASA7            *NASA7         `json:"nasa7"`
-	Caution          string         `json:"caution"`
-	Provenance       fit.Provenance `json:"provenance"`
+	Schema           string               `json:"schema"`
+	Species          string               `json:"species"`
+	StandardPressure string               `json:"standard_pressure"`
+	Composition      string               `json:"composition"`
+	NuclearSpin      string               `json:"nuclear_spin"`
+	Units            string               `json:"units"`
+	NASA7            *NASA7               `json:"nasa7"`
+	Caution          string               `json:"caution"`
+	Provenance       constants.Provenance `json:"provenance"`
 }
 
 // WriteNASA7 writes nasa7.json: the two ranges with their coefficients, the
 // largest deviation of Cp, H and S, the method and the conventions.
-func (r *Result) WriteNASA7(w io.Writer, prov fit.Provenance) error {
+func (r *Result) WriteNASA7(w io.Writer, prov constants.Provenance) error {
 	if r.NASA == nil {
 		return fmt.Errorf("thermo: no NASA-7 fit in the result")
 	}

@@ -6,6 +6,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/pipelines"
 )
@@ -64,7 +65,7 @@ func assignCommand() *cli.Command {
 			for _, w := range r.Warnings { // bands not locked, duplicate peaks, …
 				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
 			}
-			fmt.Fprintf(c.App.Writer, "results in %s (check %s)\n", filepath.Join(oc.Out, pipelines.LinesFile), filepath.Join(oc.Out, pipelines.AssignReportFile))
+			fmt.Fprintf(c.App.Writer, "results in %s (check %s)\n", filepath.Join(oc.Out, constants.LinesFile), filepath.Join(oc.Out, constants.AssignReportFile))
 			return nil
 		},
 	}

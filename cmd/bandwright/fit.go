@@ -8,6 +8,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/pipelines"
 )
@@ -78,7 +79,7 @@ func fitCommand() *cli.Command {
 			for _, w := range oc.Result.Warnings {
 				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
 			}
-			fmt.Fprintf(c.App.Writer, "results in %s\n", filepath.Join(o.Out, pipelines.ConstantsFile))
+			fmt.Fprintf(c.App.Writer, "results in %s\n", filepath.Join(o.Out, constants.ConstantsFile))
 			return nil
 		},
 	}

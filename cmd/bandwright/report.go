@@ -6,6 +6,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/constants"
 	"bandwright/pipelines"
 	"bandwright/pipelines/report"
 )
@@ -35,7 +36,7 @@ func reportCommand() *cli.Command {
 			if err != nil {
 				return err
 			}
-			fmt.Fprintf(c.App.Writer, "report: %d files written into %s (%s)\n", len(names), dir, filepath.Join(dir, report.HTMLFile))
+			fmt.Fprintf(c.App.Writer, "report: %d files written into %s (%s)\n", len(names), dir, filepath.Join(dir, constants.ReportHTMLFile))
 			return nil
 		},
 	}

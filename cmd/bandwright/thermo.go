@@ -7,6 +7,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/constants"
 	"bandwright/pipelines"
 	"bandwright/thermo"
 )
@@ -70,7 +71,7 @@ func thermoCommand() *cli.Command {
 			for _, w := range r.Warnings {
 				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
 			}
-			fmt.Fprintf(c.App.Writer, "results in %s (%s, %s, %s)\n", o.Out, pipelines.ThermoCSVFile, pipelines.ThermoJSONFile, pipelines.NASA7File)
+			fmt.Fprintf(c.App.Writer, "results in %s (%s, %s, %s)\n", o.Out, constants.ThermoCSVFile, constants.ThermoJSONFile, constants.NASA7File)
 			return nil
 		},
 	}

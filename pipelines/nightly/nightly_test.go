@@ -17,7 +17,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/pipelines/nightly"
 )
 
@@ -73,7 +73,7 @@ func TestFirstRunThenNothing(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rec, err := fit.ReadRecord(f, "constants.json")
+	rec, err := constants.Read(f, "constants.json")
 	f.Close()
 	if err != nil {
 		t.Fatal(err)

@@ -3,7 +3,7 @@ package nightly
 import (
 	"strconv"
 
-	"bandwright/fit"
+	"bandwright/constants"
 )
 
 // mainDerived are the derived constants of a fit that RecordConstants keeps
@@ -17,7 +17,7 @@ var mainDerived = map[string]bool{"omega_e": true, "omega_e_x_e": true, "B_e": t
 // the derived ω_e, ω_e x_e, B_e, α_e, D_e and r_e of every isotopologue when
 // the record has them. Calibration factors are left out (they belong to one
 // file). Units: cm⁻¹, r_e in ångström, as in the record.
-func RecordConstants(rec *fit.Record) []Constant {
+func RecordConstants(rec *constants.Record) []Constant {
 	var out []Constant
 	for _, p := range rec.Parameters {
 		if p.Fixed || p.Name == "kappa" {

@@ -13,7 +13,7 @@ import (
 
 	"github.com/google/renameio/v2"
 
-	"bandwright/fit"
+	"bandwright/constants"
 )
 
 // SummaryName returns the base name (without extension) of the summary of a
@@ -95,7 +95,7 @@ func (r *runner) writeSummary(date string, extra *Report) (string, string, error
 				d.OK++
 				okSHA[rec[1]] = true
 				f.Link = f.Output + "/"
-				if _, err := os.Stat(filepath.Join(r.a.dir, filepath.FromSlash(f.Output), "report.html")); err == nil {
+				if _, err := os.Stat(filepath.Join(r.a.dir, filepath.FromSlash(f.Output), constants.ReportHTMLFile)); err == nil {
 					f.Link = f.Output + "/report.html"
 				}
 			} else {
@@ -113,13 +113,13 @@ func (r *runner) writeSummary(date string, extra *Report) (string, string, error
 			}
 			v, _ := strconv.ParseFloat(rec[5], 64)
 			s, _ := strconv.ParseFloat(rec[6], 64)
-			c := sumConst{Input: rec[1], Constant: label(rec[3], rec[4]), Value: fit.FormatParen(v, s), Unit: rec[7],
+			c := sumConst{Input: rec[1], Constant: label(rec[3], rec[4]), Value: constants.FormatParen(v, s), Unit: rec[7],
 				N: rec[8], Flagged: rec[12] != ""}
 			if z, err := strconv.ParseFloat(rec[11], 64); err == nil {
 				c.Z = strconv.FormatFloat(z, 'f', 1, 64)
 				m, _ := strconv.ParseFloat(rec[9], 64)
 				sm, _ := strconv.ParseFloat(rec[10], 64)
-				c.Mean = fit.FormatParen(m, sm)
+				c.Mean = constants.FormatParen(m, sm)
 			}
 			d.Constants = append(d.Constants, c)
 			if c.Flagged {

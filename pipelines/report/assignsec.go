@@ -4,6 +4,8 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+
+	"bandwright/constants"
 )
 
 // assignSection summarises the assign stage's files.
@@ -81,7 +83,7 @@ func assignSection(d *document, f *folder) {
 	}
 	if f.assignMD != nil {
 		s.para("The assign stage's own summary, assign.md:")
-		s.file(assignMDFile, string(f.assignMD))
+		s.file(constants.AssignReportFile, string(f.assignMD))
 	}
 }
 

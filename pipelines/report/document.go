@@ -6,7 +6,7 @@ import (
 	"strconv"
 	"strings"
 
-	"bandwright/fit"
+	"bandwright/constants"
 )
 
 // The report is assembled once as a neutral document (sections of
@@ -171,7 +171,7 @@ func fixed(x float64, dec int) string {
 	return s
 }
 
-// paren formats value(σ) in the parenthetical notation (fit.FormatParen);
+// paren formats value(σ) in the parenthetical notation (constants.FormatParen);
 // a value without a finite positive σ is written alone.
 func paren(v, s float64) string {
 	if !finite(v) {
@@ -180,5 +180,5 @@ func paren(v, s float64) string {
 	if !finite(s) || s <= 0 {
 		return strconv.FormatFloat(v, 'g', 10, 64)
 	}
-	return fit.FormatParen(v, s)
+	return constants.FormatParen(v, s)
 }

@@ -15,21 +15,8 @@ import (
 	"strconv"
 	"strings"
 
-	"bandwright/fit"
+	"bandwright/constants"
 	"bandwright/fit/linelist"
-)
-
-// Names of the stage outputs a report reads.
-const (
-	constantsFile  = "constants.json"
-	residualsFile  = "residuals.csv"
-	fitSummaryFile = "fit.md"
-	thermoCSVFile  = "thermo.csv"
-	thermoJSONFile = "thermo.json"
-	nasa7File      = "nasa7.json"
-	assignMDFile   = "assign.md"
-	linesFile      = "lines.csv"
-	unassignedFile = "unassigned.csv"
 )
 
 // stageFiles lists, per stage, the files a report looks for, in the order the
@@ -38,16 +25,16 @@ var stageFiles = []struct {
 	stage string
 	files []string
 }{
-	{"assign", []string{assignMDFile, linesFile, unassignedFile}},
-	{"fit", []string{constantsFile, residualsFile, fitSummaryFile}},
-	{"thermo", []string{thermoCSVFile, thermoJSONFile, nasa7File}},
+	{"assign", []string{constants.AssignReportFile, constants.LinesFile, constants.UnassignedFile}},
+	{"fit", []string{constants.ConstantsFile, constants.ResidualsFile, constants.FitReportFile}},
+	{"thermo", []string{constants.ThermoCSVFile, constants.ThermoJSONFile, constants.NASA7File}},
 }
 
 // folder is what a report was built from: the stage outputs found in one
 // output folder.
 type folder struct {
 	dir       string
-	record    *fit.Record
+	record    *constants.Record
 	residuals []residual // nil when residuals.csv is absent
 	thermo    *thermoTable
 	lines     []linelist.Line // lines.csv of the assign stage
@@ -102,27 +89,27 @@ func readFolder(dir string) (*folder, error) {
 			contents[name] = b
 		}
 	}
-	cb, ok := contents[constantsFile]
+	cb, ok := contents[constants.ConstantsFile]
 	if !ok {
-		return nil, fmt.Errorf("report: %s has no %s: a report needs the output of the fit stage (run bandwright fit --out %s, or give the folder that holds constants.json)", dir, constantsFile, dir)
+		return nil, fmt.Errorf("report: %s has no %s: a report needs the output of the fit stage (run bandwright fit --out %s, or give the folder that holds constants.json)", dir, constants.ConstantsFile, dir)
 	}
-	rec, err := fit.ReadRecord(bytes.NewReader(cb), constantsFile)
+	rec, err := constants.Read(bytes.NewReader(cb), constants.ConstantsFile)
 	if err != nil {
 		return nil, fmt.Errorf("report: %w", err)
 	}
 	f.record = rec
-	if b, ok := contents[residualsFile]; ok {
-		if f.residuals, err = readResiduals(b, residualsFile); err != nil {
+	if b, ok := contents[constants.ResidualsFile]; ok {
+		if f.residuals, err = readResiduals(b, constants.ResidualsFile); err != nil {
 			return nil, err
 		}
 	}
-	if b, ok := contents[thermoCSVFile]; ok {
-		if f.thermo, err = readThermo(b, thermoCSVFile); err != nil {
+	if b, ok := contents[constants.ThermoCSVFile]; ok {
+		if f.thermo, err = readThermo(b, constants.ThermoCSVFile); err != nil {
 			return nil, err
 		}
 	}
-	if b, ok := contents[linesFile]; ok {
-		l, err := linelist.Read(bytes.NewReader(b), linesFile)
+	if b, ok := contents[constants.LinesFile]; ok {
+		l, err := linelist.Read(bytes.NewReader(b), constants.LinesFile)
 		if err != nil {
 			// The assign stage wrote it; a line list the fit could not read is
 			// reported in its section rather than stopping the whole report.
@@ -131,12 +118,12 @@ func readFolder(dir string) (*folder, error) {
 			f.lines = l.Lines
 		}
 	}
-	if b, ok := contents[unassignedFile]; ok {
-		if f.unassign, err = readGenericCSV(b, unassignedFile); err != nil {
+	if b, ok := contents[constants.UnassignedFile]; ok {
+		if f.unassign, err = readGenericCSV(b, constants.UnassignedFile); err != nil {
 			return nil, err
 		}
 	}
-	f.assignMD = contents[assignMDFile]
+	f.assignMD = contents[constants.AssignReportFile]
 	return f, nil
 }
 

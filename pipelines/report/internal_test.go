@@ -49,7 +49,7 @@ func TestNumberFormatting(t *testing.T) {
 			}
 		}
 	}
-	// Parenthetical notation from fit.FormatParen; 1.922529(3) means
+	// Parenthetical notation from constants.FormatParen; 1.922529(3) means
 	// 1.922529 ± 0.000003 (design.md conventions).
 	if got := paren(1.922529, 0.000003); got != "1.922529(3)" {
 		t.Errorf("paren = %q", got)

@@ -16,7 +16,7 @@
 //  1. At a glance — species, model, fit status, statistics, bands, levels
 //     reached, warnings, stages not in the folder.
 //  2. Constants — fitted and fixed parameters in parenthetical notation
-//     (fit.FormatParen), the rounding when done, derived constants.
+//     (constants.FormatParen), the rounding when done, derived constants.
 //  3. Residuals by band — o−c against J″ per band with ±3σ guides, rejected
 //     lines marked; the largest residuals; rejected and annotated lines.
 //  4. Observed and calculated positions — calculated against observed, and
@@ -47,13 +47,8 @@ import (
 	"strings"
 	"time"
 
+	"bandwright/constants"
 	"bandwright/pipelines/outdir"
-)
-
-// File names of a report.
-const (
-	HTMLFile = "report.html"
-	MDFile   = "report.md"
 )
 
 // Options choose what a report holds. The zero value builds both formats.
@@ -111,16 +106,16 @@ func Build(dir string, o Options) (map[string][]byte, error) {
 	if wantHTML {
 		var b bytes.Buffer
 		if err := writeHTML(&b, doc); err != nil {
-			return nil, fmt.Errorf("report: %s: %w", HTMLFile, err)
+			return nil, fmt.Errorf("report: %s: %w", constants.ReportHTMLFile, err)
 		}
-		out[HTMLFile] = b.Bytes()
+		out[constants.ReportHTMLFile] = b.Bytes()
 	}
 	if wantMD {
 		var b bytes.Buffer
 		if err := writeMarkdown(&b, doc); err != nil {
-			return nil, fmt.Errorf("report: %s: %w", MDFile, err)
+			return nil, fmt.Errorf("report: %s: %w", constants.ReportMarkdownFile, err)
 		}
-		out[MDFile] = b.Bytes()
+		out[constants.ReportMarkdownFile] = b.Bytes()
 		for _, fig := range doc.figures {
 			if fig.SVG != nil {
 				out[fig.Name] = svgFile(fig.SVG)
@@ -163,7 +158,7 @@ func Rebuild(dir string, o Options) ([]string, error) {
 	// With Markdown written, figures of an older report that the new one no
 	// longer references are stale; without it, an older report.md still
 	// points at them.
-	if _, ok := files[MDFile]; ok {
+	if _, ok := files[constants.ReportMarkdownFile]; ok {
 		if err := removeStaleFigures(dir, files); err != nil {
 			return names, err
 		}

@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"bandwright/constants"
 	"bandwright/internal/failure"
 	"bandwright/pipelines/report"
 )
@@ -125,7 +126,7 @@ func build(t *testing.T, dir string, o report.Options) map[string][]byte {
 func TestHTMLCarriesPlots(t *testing.T) {
 	dir := fitFolder(t)
 	files := build(t, dir, report.Options{Version: "test"})
-	p := parsePage(t, files[report.HTMLFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
 	// Bands 1–0 and 2–1 are drawn; 3–2 has one line and is not. Then
 	// calculated-against-observed, o−c against position, correlations.
 	if got, want := len(p.svgs), 2+2+1; got != want {
@@ -185,7 +186,7 @@ func TestHTMLCarriesPlots(t *testing.T) {
 			t.Errorf("report.html lacks %q", want)
 		}
 	}
-	// The parenthetical notation of fit.FormatParen is used for constants.
+	// The parenthetical notation of constants.FormatParen is used for constants.
 	if !regexp.MustCompile(`2169\.8\d*\(\d+\)`).MatchString(p.text) {
 		t.Error("ωe = Y10 is not in parenthetical notation")
 	}
@@ -196,7 +197,7 @@ func TestHTMLCarriesPlots(t *testing.T) {
 func TestCommentsEscaped(t *testing.T) {
 	dir := fitFolder(t)
 	files := build(t, dir, report.Options{Title: "<b>bold</b> title"})
-	h := string(files[report.HTMLFile])
+	h := string(files[constants.ReportHTMLFile])
 	if regexp.MustCompile(`(?i)<script`).MatchString(h) {
 		t.Error("report.html contains a <script element")
 	}
@@ -206,11 +207,11 @@ func TestCommentsEscaped(t *testing.T) {
 	if strings.Contains(h, "<b>bold</b>") || !strings.Contains(h, "&lt;b&gt;bold&lt;/b&gt; title") {
 		t.Error("the title is not escaped in report.html")
 	}
-	p := parsePage(t, files[report.HTMLFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
 	if !strings.Contains(p.text, scriptComment) {
 		t.Error("the comment does not read as text in report.html")
 	}
-	md := string(files[report.MDFile])
+	md := string(files[constants.ReportMarkdownFile])
 	if strings.Contains(md, "<script") || !strings.Contains(md, "&lt;script&gt;alert(1)&lt;/script&gt;") {
 		t.Error("report.md does not neutralise the <script> comment")
 	}
@@ -230,7 +231,7 @@ func TestCommentsEscaped(t *testing.T) {
 func TestHTMLSelfContained(t *testing.T) {
 	dir := fitFolder(t)
 	files := build(t, dir, report.Options{})
-	p := parsePage(t, files[report.HTMLFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
 	for _, el := range []string{"script", "link", "img", "iframe", "object", "embed", "image", "use"} {
 		if p.elements[el] > 0 {
 			t.Errorf("report.html has %d <%s> element(s)", p.elements[el], el)
@@ -243,13 +244,13 @@ func TestHTMLSelfContained(t *testing.T) {
 			}
 		}
 	}
-	if regexp.MustCompile(`(?i)(src|href)\s*=\s*["']?\s*(https?:)?//`).Match(files[report.HTMLFile]) {
+	if regexp.MustCompile(`(?i)(src|href)\s*=\s*["']?\s*(https?:)?//`).Match(files[constants.ReportHTMLFile]) {
 		t.Error("report.html has a network src/href")
 	}
-	if regexp.MustCompile(`(?i)url\(|@import`).Match(files[report.HTMLFile]) {
+	if regexp.MustCompile(`(?i)url\(|@import`).Match(files[constants.ReportHTMLFile]) {
 		t.Error("the stylesheet loads something")
 	}
-	if !bytes.Contains(files[report.HTMLFile], []byte("@media print")) {
+	if !bytes.Contains(files[constants.ReportHTMLFile], []byte("@media print")) {
 		t.Error("no print stylesheet")
 	}
 }
@@ -259,7 +260,7 @@ func TestHTMLSelfContained(t *testing.T) {
 func TestMarkdownFigures(t *testing.T) {
 	dir := fitFolder(t)
 	files := build(t, dir, report.Options{})
-	refs := regexp.MustCompile(`!\[[^\n]*?\]\(([^)\s]+)\)`).FindAllStringSubmatch(string(files[report.MDFile]), -1)
+	refs := regexp.MustCompile(`!\[[^\n]*?\]\(([^)\s]+)\)`).FindAllStringSubmatch(string(files[constants.ReportMarkdownFile]), -1)
 	if len(refs) != 5 {
 		t.Fatalf("report.md references %d figures, want 5", len(refs))
 	}
@@ -287,9 +288,9 @@ func TestMarkdownFigures(t *testing.T) {
 	}
 	// The same tables in both formats: every table caption of the HTML is in
 	// the Markdown.
-	caps := regexp.MustCompile(`<b>Table (\d+)\.</b>`).FindAllSubmatch(files[report.HTMLFile], -1)
+	caps := regexp.MustCompile(`<b>Table (\d+)\.</b>`).FindAllSubmatch(files[constants.ReportHTMLFile], -1)
 	for _, c := range caps {
-		if !bytes.Contains(files[report.MDFile], []byte("*Table "+string(c[1])+".*")) {
+		if !bytes.Contains(files[constants.ReportMarkdownFile], []byte("*Table "+string(c[1])+".*")) {
 			t.Errorf("table %s is in the HTML but not in the Markdown", c[1])
 		}
 	}
@@ -332,7 +333,7 @@ func TestRebuild(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !slices.Contains(names, report.HTMLFile) || !slices.Contains(names, report.MDFile) || len(names) != 7 {
+	if !slices.Contains(names, constants.ReportHTMLFile) || !slices.Contains(names, constants.ReportMarkdownFile) || len(names) != 7 {
 		t.Errorf("Rebuild wrote %q", names)
 	}
 	after := snapshotDir(t, dir)
@@ -363,7 +364,7 @@ func TestRebuild(t *testing.T) {
 	files := build(t, dir, report.Options{})
 	for _, n := range names {
 		b, _ := os.ReadFile(filepath.Join(dir, n))
-		if n != report.HTMLFile && n != report.MDFile && !bytes.Equal(b, files[n]) {
+		if n != constants.ReportHTMLFile && n != constants.ReportMarkdownFile && !bytes.Equal(b, files[n]) {
 			t.Errorf("%s on disk differs from Build", n)
 		}
 	}
@@ -387,7 +388,7 @@ func TestRebuildFailureKeepsOldReport(t *testing.T) {
 		t.Fatalf("want an error naming residuals.csv, row 3, status; got %v", err)
 	}
 	now := snapshotDir(t, dir)
-	for _, n := range []string{report.HTMLFile, report.MDFile, "report-correlation.svg"} {
+	for _, n := range []string{constants.ReportHTMLFile, constants.ReportMarkdownFile, "report-correlation.svg"} {
 		if !bytes.Equal(now[n].content, old[n].content) {
 			t.Errorf("%s changed although the rebuild failed", n)
 		}
@@ -430,7 +431,7 @@ func TestThermoSection(t *testing.T) {
 		}
 	})
 	files := build(t, dir, report.Options{})
-	p := parsePage(t, files[report.HTMLFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
 	if !slices.Contains(p.ids, "thermo") {
 		t.Fatal("no thermo section")
 	}
@@ -485,11 +486,11 @@ func TestOnePointPlots(t *testing.T) {
 	dir := fitFolder(t)
 	writeThermo(t, filepath.Join(dir, "thermo.csv"), []float64{298.15}, false, nil)
 	files := build(t, dir, report.Options{})
-	p := parsePage(t, files[report.HTMLFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
 	if n := strings.Count(p.text, "Not plotted"); n != 1+4 {
 		t.Errorf("%d figures explained as not plotted, want 5 (one band, four thermo figures)", n)
 	}
-	if !strings.Contains(string(files[report.MDFile]), "Not plotted: Q(T), internal partition function has 1 finite value(s)") {
+	if !strings.Contains(string(files[constants.ReportMarkdownFile]), "Not plotted: Q(T), internal partition function has 1 finite value(s)") {
 		t.Error("report.md does not say why Q(T) is not plotted")
 	}
 }
@@ -503,17 +504,17 @@ func TestAssignSection(t *testing.T) {
 	os.WriteFile(filepath.Join(dir, "unassigned.csv"), []byte("position,unc,intensity,reason\n2100.5,0.001,0.3,<i>no match</i>\n2101.5,0.001,0.2,no match\n"), 0o644)
 	os.WriteFile(filepath.Join(dir, "assign.md"), []byte("# assign\n\n<script>alert(2)</script>\n"), 0o644)
 	files := build(t, dir, report.Options{})
-	h := string(files[report.HTMLFile])
+	h := string(files[constants.ReportHTMLFile])
 	if strings.Contains(h, "<i>no match") || strings.Contains(h, "<script>alert(2)") {
 		t.Error("assign files are not escaped in report.html")
 	}
-	p := parsePage(t, files[report.HTMLFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
 	for _, want := range []string{"Assigned lines in lines.csv (94)", "P 25, R 27", "Peaks left unassigned (unassigned.csv, 2 peaks)", "<i>no match</i>", "<script>alert(2)</script>"} {
 		if !strings.Contains(p.text, want) {
 			t.Errorf("assignment section lacks %q", want)
 		}
 	}
-	md := string(files[report.MDFile])
+	md := string(files[constants.ReportMarkdownFile])
 	if !strings.Contains(md, "[assign.md](assign.md)") || strings.Contains(md, "<i>") {
 		t.Error("report.md: assign.md not linked or a peak not neutralised")
 	}
@@ -523,11 +524,11 @@ func TestAssignSection(t *testing.T) {
 func TestFormats(t *testing.T) {
 	dir := fitFolder(t)
 	h := build(t, dir, report.Options{Formats: []string{"html"}})
-	if len(h) != 1 || h[report.HTMLFile] == nil {
+	if len(h) != 1 || h[constants.ReportHTMLFile] == nil {
 		t.Errorf("html only: %d files", len(h))
 	}
 	m := build(t, dir, report.Options{Formats: []string{"md"}})
-	if m[report.HTMLFile] != nil || m[report.MDFile] == nil || len(m) != 6 {
+	if m[constants.ReportHTMLFile] != nil || m[constants.ReportMarkdownFile] == nil || len(m) != 6 {
 		t.Errorf("md only: %d files", len(m))
 	}
 	// Reproducible: the same folder and time give the same bytes.

@@ -13,7 +13,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
-	"bandwright/fit"
+	"bandwright/constants"
 )
 
 func sprintf(format string, a ...any) string { return fmt.Sprintf(format, a...) }
@@ -36,7 +36,7 @@ func buildDocument(f *folder, o Options) *document {
 		d.Stages = append(d.Stages, stage{Name: sf.stage, Present: len(names) > 0, Files: strings.Join(names, ", ")})
 	}
 	glance(d, f)
-	constants(d, f)
+	constantsSection(d, f)
 	if f.residuals != nil {
 		residualSection(d, f)
 		positionSection(d, f)
@@ -117,7 +117,7 @@ func glance(d *document, f *folder) {
 		missing = append(missing, "residuals.csv (fit stage): the residual and position sections are left out.")
 	}
 	if f.thermo == nil {
-		if f.has(thermoJSONFile) || f.has(nasa7File) {
+		if f.has(constants.ThermoJSONFile) || f.has(constants.NASA7File) {
 			missing = append(missing, "thermo.csv (thermo stage; thermo.json or nasa7.json is present, but the section is built from thermo.csv): the thermodynamic section is left out.")
 		} else {
 			missing = append(missing, "thermo.csv (thermo stage): the thermodynamic section is left out.")
@@ -133,7 +133,7 @@ func glance(d *document, f *folder) {
 }
 
 // paramLabel names a parameter of the record for tables and axes.
-func paramLabel(p fit.RecordParam, multi bool) string {
+func paramLabel(p constants.Param, multi bool) string {
 	if p.Name == "kappa" {
 		b := filepath.Base(p.File)
 		return "κ " + strings.TrimSuffix(b, filepath.Ext(b))
@@ -148,8 +148,8 @@ func paramLabel(p fit.RecordParam, multi bool) string {
 	return l
 }
 
-// constants lists the fitted and derived constants.
-func constants(d *document, f *folder) {
+// constantsSection lists the fitted and derived constants.
+func constantsSection(d *document, f *folder) {
 	rec := f.record
 	s := d.section("constants", "Constants")
 	s.para("Values in %s with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. σ and the covariance are %s.", unitName(rec.Unit), rec.CovarianceConvention)

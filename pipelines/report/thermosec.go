@@ -9,6 +9,8 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
+
+	"bandwright/constants"
 )
 
 // thermoSection shows the thermodynamic table: an excerpt, Q(T) and Cp°(T)
@@ -29,7 +31,7 @@ func thermoSection(d *document, f *folder) {
 	}
 	s.para("thermo.csv holds %d temperatures from %s K to %s K; below, an excerpt with 1σ in parentheses (the file has every row). Its conventions (energy zero, nuclear spin, standard pressure) are listed under Conventions.", th.n, num(tMin, 6), num(tMax, 6))
 	var others []string
-	for _, n := range []string{thermoJSONFile, nasa7File} {
+	for _, n := range []string{constants.ThermoJSONFile, constants.NASA7File} {
 		if f.has(n) {
 			others = append(others, n)
 		}

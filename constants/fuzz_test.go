@@ -1,4 +1,4 @@
-package fit
+package constants
 
 import (
 	"bytes"
@@ -20,13 +20,13 @@ func FuzzReadRecord(f *testing.F) {
 	f.Add([]byte(`{"schema":"bandwright.constants/1","model":"dunham","unit":"cm-1","species":["12C16O"],"parameters":[{"name":"Y01","k":0,"l":1,"value":1.9,"sigma":1e-6,"fixed":false},{"name":"Y11","k":1,"l":1,"value":-0.0175,"sigma":1e-6,"fixed":false}],"covariance":[[1e-12,2e-12],[2e-12,1e-12]]}`))
 	f.Add([]byte(`{"schema":"bandwright.constants/1","model":"dunham","species":["12C16O"],"parameters":[{"name":"Y01","k":0,"l":1,"value":1.9,"sigma":0,"fixed":false}],"covariance":[[NaN]]}`))
 	f.Fuzz(func(t *testing.T, b []byte) {
-		rec, err := ReadRecord(bytes.NewReader(b), "fuzz.json")
+		rec, err := Read(bytes.NewReader(b), "fuzz.json")
 		if err != nil {
 			return
 		}
 		c, err := rec.Constants()
 		if err != nil {
-			t.Fatalf("ReadRecord accepted a record whose Constants fail: %v", err)
+			t.Fatalf("Read accepted a record whose Constants fail: %v", err)
 		}
 		if c.Cov.SymmetricDim() != max(len(c.Free), 1) {
 			t.Fatalf("covariance %d for %d fitted parameters", c.Cov.SymmetricDim(), len(c.Free))

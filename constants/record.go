@@ -1,0 +1,187 @@
+// Package constants is the constants record (constants.json): the file
+// format that the fit stage writes and every later stage reads (thermo,
+// assign, predict, the reports and the nightly history), with its reader and
+// writer, the model it rebuilds, the covariance convention, the parenthetical
+// notation of value(σ), and the names of the files in an output folder.
+//
+// It depends on the energy-level models (package model) but not on the
+// fitting engine (package fit), which turns a fit result into a Record
+// (fit.NewRecord).
+//
+// Uncertainty convention (the same everywhere in bandwright): the covariance
+// of the fitted parameters is s²·(AᵀWA)⁻¹, scaled by the square of the
+// dimensionless standard deviation s = √(χ²/dof) of the fit, W = diag(1/u²);
+// every record states it in covariance_convention.
+package constants
+
+import (
+	"encoding/json"
+	"io"
+	"math"
+)
+
+// Schema is the schema tag of constants records this version writes and reads.
+const Schema = "bandwright.constants/1"
+
+// CovarianceConvention states how σ and the covariance are scaled, written
+// into every record.
+const CovarianceConvention = "scaled by the square of the dimensionless standard deviation of the fit: C = s²(AᵀWA)⁻¹, W = diag(1/unc²), s = √(χ²/dof)"
+
+// Record is the constants record (constants.json) written by fit and read by
+// thermo, assign and predict.
+type Record struct {
+	Schema           string   `json:"schema"`
+	Model            string   `json:"model"`
+	Unit             string   `json:"unit"`
+	Species          []string `json:"species"`
+	ReferenceSpecies string   `json:"reference_species,omitempty"`
+	Parameters       []Param  `json:"parameters"`
+	// Covariance and Correlation cover the fitted (not fixed) parameters in
+	// their order in Parameters.
+	Covariance           [][]float64  `json:"covariance"`
+	Correlation          [][]float64  `json:"correlation"`
+	CovarianceConvention string       `json:"covariance_convention"`
+	Stats                Stats        `json:"stats"`
+	Status               string       `json:"status"`
+	Bands                []Band       `json:"bands"`
+	Observed             []LevelRange `json:"levels_observed"`
+	Derived              []Derived    `json:"derived"`
+	Rounding             *Rounding    `json:"rounding,omitempty"`
+	Warnings             []string     `json:"warnings"`
+	Provenance           Provenance   `json:"provenance"`
+}
+
+// Param is one parameter in a record: a model parameter (levels or Dunham
+// indices, species or element) or a calibration factor (name "kappa", file).
+type Param struct {
+	Name    string  `json:"name"`
+	V       *int    `json:"v,omitempty"`
+	K       *int    `json:"k,omitempty"`
+	L       *int    `json:"l,omitempty"`
+	Species string  `json:"species,omitempty"`
+	Element string  `json:"element,omitempty"`
+	File    string  `json:"file,omitempty"` // calibration factors
+	Value   float64 `json:"value"`
+	Sigma   float64 `json:"sigma"`
+	Fixed   bool    `json:"fixed"`
+}
+
+// Provenance says where a record came from.
+type Provenance struct {
+	Inputs  []Input        `json:"inputs"`
+	Version string         `json:"version"`
+	Options map[string]any `json:"options"`
+	Created string         `json:"created"`
+}
+
+// Input is one input file and its SHA-256.
+type Input struct {
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"`
+}
+
+// Stats summarises a fit.
+type Stats struct {
+	Lines     int     `json:"lines"`
+	Used      int     `json:"used"`
+	Rejected  int     `json:"rejected"`
+	Params    int     `json:"parameters_fitted"`
+	DOF       int     `json:"dof"`
+	Chi2      float64 `json:"chi2"`
+	Sigma     float64 `json:"sigma_dimensionless"`
+	RMSCm     float64 `json:"rms_cm-1"`
+	RMSMHz    float64 `json:"rms_MHz,omitempty"`
+	LinesMHz  int     `json:"lines_MHz,omitempty"`
+	Condition float64 `json:"condition_number"`
+	Iter      int     `json:"iterations"`
+}
+
+// MarshalJSON writes the statistics with sigma_dimensionless null when it is
+// undefined (NaN: a fit without degrees of freedom), since JSON has no NaN.
+func (s Stats) MarshalJSON() ([]byte, error) {
+	type plain Stats
+	aux := struct {
+		plain
+		Sigma *float64 `json:"sigma_dimensionless"`
+	}{plain: plain(s)}
+	if !math.IsNaN(s.Sigma) {
+		aux.Sigma = &s.Sigma
+	}
+	return json.Marshal(aux)
+}
+
+// UnmarshalJSON reads what MarshalJSON writes: a null sigma_dimensionless is NaN.
+func (s *Stats) UnmarshalJSON(b []byte) error {
+	type plain Stats
+	aux := struct {
+		*plain
+		Sigma *float64 `json:"sigma_dimensionless"`
+	}{plain: (*plain)(s)}
+	if err := json.Unmarshal(b, &aux); err != nil {
+		return err
+	}
+	s.Sigma = math.NaN()
+	if aux.Sigma != nil {
+		s.Sigma = *aux.Sigma
+	}
+	return nil
+}
+
+// Band counts the used lines of one band of one isotopologue.
+type Band struct {
+	Species string `json:"species"`
+	VUp     int    `json:"v_up"`
+	VLo     int    `json:"v_lo"`
+	Lines   int    `json:"lines"`
+	JMin    int    `json:"j_min"`
+	JMax    int    `json:"j_max"`
+}
+
+// LevelRange is a vibrational level reached by the used lines and the highest J
+// observed in it: the range outside which a model extrapolates.
+type LevelRange struct {
+	Species string `json:"species"`
+	V       int    `json:"v"`
+	JMax    int    `json:"j_max"`
+}
+
+// Derived is a constant computed from the fitted parameters, with its 1σ
+// propagated through the full covariance: σ² = gᵀ C g with g the gradient of
+// the constant with respect to the fitted parameters.
+type Derived struct {
+	Name    string  `json:"name"`
+	Species string  `json:"species,omitempty"`
+	Value   float64 `json:"value"`
+	Sigma   float64 `json:"sigma"`
+	Unit    string  `json:"unit"`
+	Note    string  `json:"note,omitempty"`
+}
+
+// Rounding records Watson's sequential rounding of a fit.
+type Rounding struct {
+	// Steps lists the parameters in the order they were rounded, with the
+	// rounding unit used.
+	Steps []RoundStep `json:"steps"`
+	// Chi2Before and Chi2After are χ² of the unrounded and rounded constants
+	// on the same lines.
+	Chi2Before float64 `json:"chi2_before"`
+	Chi2After  float64 `json:"chi2_after"`
+}
+
+// RoundStep is one parameter's rounding.
+type RoundStep struct {
+	Param     string  `json:"parameter"`
+	Unrounded float64 `json:"unrounded"`
+	Rounded   float64 `json:"rounded"`
+	Unit      float64 `json:"unit"`
+	// CondSigma is the conditional σ of the parameter (all others held) at the
+	// moment it was rounded.
+	CondSigma float64 `json:"conditional_sigma"`
+}
+
+// Write writes the record as indented JSON.
+func (rec *Record) Write(w io.Writer) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(rec)
+}

@@ -1,0 +1,263 @@
+package constants
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bandwright/fit/linelist"
+	"bandwright/fit/model"
+	"bandwright/fit/species"
+)
+
+// Set is a record turned back into a model that can be evaluated, with the
+// covariance of its fitted model parameters (calibration factors dropped: the
+// marginal covariance of the model parameters is the sub-matrix).
+type Set struct {
+	Model  model.Model
+	Params []model.Param
+	Values []float64
+	// Free indexes the fitted model parameters in Params; Cov follows it.
+	Free []int
+	Cov  *mat.SymDense
+}
+
+// kappa is the parameter name of a calibration factor in a record.
+const kappa = "kappa"
+
+// Constants rebuilds the model of a record with its values and the
+// covariance of its fitted model parameters, after checking the record's
+// parameters and covariance (sizes, finite values, symmetry, σ = √C_ii,
+// positive semi-definiteness).
+func (rec *Record) Constants() (*Set, error) {
+	if len(rec.Species) == 0 {
+		return nil, errors.New("species: empty")
+	}
+	modelParams, fittedModel, nFitted, err := rec.splitParams()
+	if err != nil {
+		return nil, err
+	}
+	if err := checkCovarianceShape(rec.Covariance, nFitted); err != nil {
+		return nil, err
+	}
+	if err := checkCovariance(rec.Parameters, rec.Covariance); err != nil {
+		return nil, err
+	}
+	m, err := rebuildModel(rec.Model, rec.Species, modelParams)
+	if err != nil {
+		return nil, err
+	}
+	return newSet(m, rec.Model, modelParams, fittedModel, rec.Covariance)
+}
+
+// splitParams returns the model parameters of the record (calibration factors
+// left out), the index among the fitted parameters (the covariance rows) of
+// each fitted model parameter, and the number of fitted parameters.
+func (rec *Record) splitParams() (modelParams []Param, fittedModel []int, nFitted int, err error) {
+	for _, p := range rec.Parameters {
+		if !p.Fixed {
+			if p.Name != kappa {
+				fittedModel = append(fittedModel, nFitted)
+			}
+			nFitted++
+		}
+		if p.Name == kappa {
+			continue
+		}
+		if math.IsNaN(p.Value) || math.IsInf(p.Value, 0) || math.IsNaN(p.Sigma) || p.Sigma < 0 {
+			return nil, nil, 0, fmt.Errorf("parameters: %s: value and sigma must be finite (sigma ≥ 0)", p.Name)
+		}
+		modelParams = append(modelParams, p)
+	}
+	return modelParams, fittedModel, nFitted, nil
+}
+
+// checkCovarianceShape checks that cov is an n × n symmetric matrix of finite
+// numbers.
+func checkCovarianceShape(cov [][]float64, n int) error {
+	if len(cov) != n {
+		return fmt.Errorf("covariance: %d rows for %d fitted parameters", len(cov), n)
+	}
+	for i, row := range cov {
+		if len(row) != n {
+			return fmt.Errorf("covariance: row %d has %d entries, want %d", i+1, len(row), n)
+		}
+		for j, v := range row {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("covariance: entry (%d,%d) is not finite", i+1, j+1)
+			}
+			if j < i && math.Abs(v-cov[j][i]) > 1e-9*math.Sqrt(math.Abs(cov[i][i]*cov[j][j]))+1e-300 {
+				return fmt.Errorf("covariance: not symmetric at (%d,%d)", i+1, j+1)
+			}
+		}
+	}
+	return nil
+}
+
+// rebuildModel builds the model of kind over the species from the record's
+// model parameters.
+func rebuildModel(kind string, sp []string, ps []Param) (model.Model, error) {
+	switch kind {
+	case model.KindLevels:
+		m, err := levelsFromRecord(sp, ps)
+		if err != nil {
+			return nil, err
+		}
+		return m, nil
+	case model.KindDunham:
+		m, err := dunhamFromRecord(sp, ps)
+		if err != nil {
+			return nil, err
+		}
+		return m, nil
+	}
+	return nil, fmt.Errorf("model: %q is not a model bandwright knows (levels, dunham)", kind)
+}
+
+// newSet sets the record's values on the rebuilt model m, after checking that
+// the record lists its parameters in the model's order, and takes the
+// covariance of the fitted model parameters out of cov.
+func newSet(m model.Model, kind string, modelParams []Param, fittedModel []int, cov [][]float64) (*Set, error) {
+	ps := m.Params()
+	if len(ps) != len(modelParams) {
+		return nil, fmt.Errorf("parameters: %d given, the %s model rebuilt from them has %d", len(modelParams), kind, len(ps))
+	}
+	c := &Set{Model: m}
+	for i := range ps {
+		rp := modelParams[i]
+		if ps[i].Name != rp.Name || (rp.Species != "" && ps[i].Species != rp.Species && ps[i].Element == "") {
+			return nil, fmt.Errorf("parameters: entry %d (%s) is out of the model's order", i+1, rp.Name)
+		}
+		ps[i].Value, ps[i].Sigma, ps[i].Fixed = rp.Value, rp.Sigma, rp.Fixed
+		if !rp.Fixed {
+			c.Free = append(c.Free, i)
+		}
+	}
+	c.Params = ps
+	c.Values = model.Values(ps)
+	n := len(c.Free)
+	if n == 0 {
+		c.Cov = mat.NewSymDense(1, []float64{0})
+		return c, nil
+	}
+	c.Cov = mat.NewSymDense(n, nil)
+	for a := 0; a < n; a++ {
+		for b := a; b < n; b++ {
+			c.Cov.SetSym(a, b, cov[fittedModel[a]][fittedModel[b]])
+		}
+	}
+	return c, nil
+}
+
+func levelsFromRecord(sp []string, ps []Param) (*model.Levels, error) {
+	levels := map[string][]int{}
+	terms := map[string]bool{}
+	for _, p := range ps {
+		if p.V == nil {
+			return nil, fmt.Errorf("parameters: %s has no v (levels model)", p.Name)
+		}
+		if *p.V < 0 || *p.V > linelist.MaxV {
+			return nil, fmt.Errorf("parameters: %s: v = %d is outside 0…%d", p.Name, *p.V, linelist.MaxV)
+		}
+		if p.Name == "T" {
+			levels[p.Species] = append(levels[p.Species], *p.V)
+		} else {
+			terms[p.Name] = true
+		}
+	}
+	var specs []model.LevelSpec
+	for _, s := range sp {
+		if _, err := species.Parse(s); err != nil {
+			return nil, err
+		}
+		if len(levels[s]) == 0 {
+			return nil, fmt.Errorf("species: %s has no term values T in the record", s)
+		}
+		specs = append(specs, model.LevelSpec{Species: s, V: levels[s]})
+	}
+	var ts []string
+	for _, t := range model.RotTerms {
+		if terms[t] {
+			ts = append(ts, t)
+		}
+	}
+	return model.NewLevels(specs, ts, nil)
+}
+
+func dunhamFromRecord(sp []string, ps []Param) (*model.Dunham, error) {
+	var isos []species.Isotopologue
+	for _, s := range sp {
+		iso, err := species.Parse(s)
+		if err != nil {
+			return nil, err
+		}
+		isos = append(isos, iso)
+	}
+	var terms, bob []string
+	for _, p := range ps {
+		if p.K == nil || p.L == nil {
+			return nil, fmt.Errorf("parameters: %s has no k, l (Dunham model)", p.Name)
+		}
+		if p.Element == "" {
+			if k, l, err := model.ParseDunhamTerm(p.Name); err != nil || k != *p.K || l != *p.L {
+				return nil, fmt.Errorf("parameters: %s: k = %d, l = %d do not match the name", p.Name, *p.K, *p.L)
+			}
+		} else if *p.K < 0 || *p.K > 9 || *p.L < 0 || *p.L > 9 {
+			return nil, fmt.Errorf("parameters: %s: k = %d, l = %d must be single digits", p.Name, *p.K, *p.L)
+		}
+		if p.Element != "" {
+			n := model.DunhamName(*p.K, *p.L)
+			if !contains(bob, n) {
+				bob = append(bob, n)
+			}
+			continue
+		}
+		terms = append(terms, p.Name)
+	}
+	return model.NewDunham(isos, model.DunhamOptions{Terms: terms, BOBTerms: bob})
+}
+
+func contains(xs []string, s string) bool {
+	for _, x := range xs {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// Energy returns E(v, J) of species s in cm⁻¹ and, when gradFree is not nil,
+// ∂E/∂p for each fitted parameter in covariance order.
+func (c *Set) Energy(s, v, J int, gradFree []float64) float64 {
+	if gradFree == nil {
+		return c.Model.Energy(s, v, J, c.Values, nil)
+	}
+	g := make([]float64, len(c.Values))
+	e := c.Model.Energy(s, v, J, c.Values, g)
+	for k, j := range c.Free {
+		gradFree[k] = g[j]
+	}
+	return e
+}
+
+// WithFree returns a copy whose fitted parameters are set to x (covariance
+// order), for Monte Carlo draws and finite-difference checks.
+func (c *Set) WithFree(x []float64) *Set {
+	d := *c
+	d.Values = append([]float64(nil), c.Values...)
+	for k, j := range c.Free {
+		d.Values[j] = x[k]
+	}
+	return &d
+}
+
+// FreeValues returns the values of the fitted parameters in covariance order.
+func (c *Set) FreeValues() []float64 {
+	x := make([]float64, len(c.Free))
+	for k, j := range c.Free {
+		x[k] = c.Values[j]
+	}
+	return x
+}
