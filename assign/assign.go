@@ -18,7 +18,7 @@ type Problem struct {
 	Peaks *PeakList
 	Start *Start
 	// Bands are looked for in every species of Start.
-	Bands    []fit.BandSpec
+	Bands    []linelist.Band
 	Spectrum Spectrum
 	// Temperature of the sample in K, for predicted intensities.
 	Temperature float64
@@ -395,7 +395,7 @@ func newRun(p Problem, s Settings) (*run, error) {
 		}
 		r.species = append(r.species, &spState{sp: sp, im: im})
 	}
-	seen := map[fit.BandSpec]bool{}
+	seen := map[linelist.Band]bool{}
 	for _, spst := range r.species {
 		for _, bs := range p.Bands {
 			if seen[bs] && spst == r.species[0] {
@@ -446,7 +446,7 @@ func (r *run) guessScale() float64 {
 }
 
 // newBand predicts the lines of a band from the starting constants.
-func (r *run) newBand(sp *spState, bs fit.BandSpec) (*band, error) {
+func (r *run) newBand(sp *spState, bs linelist.Band) (*band, error) {
 	dJs, err := r.p.Spectrum.DeltaJ(bs)
 	if err != nil {
 		return nil, err

@@ -6,7 +6,7 @@ import (
 
 	"bandwright/assign"
 	"bandwright/assign/synth"
-	"bandwright/fit"
+	"bandwright/fit/linelist"
 )
 
 // benchSpec is the speed target of issue 4: 20 000 peaks, 4 bands (1-0, 2-1,
@@ -37,7 +37,7 @@ func BenchmarkAssign20000Peaks(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	p := assign.Problem{Peaks: pl, Start: st, Bands: []fit.BandSpec{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}, {VUp: 3, VLo: 2}, {VUp: 2, VLo: 0}}, Spectrum: assign.Infrared, Temperature: 1500}
+	p := assign.Problem{Peaks: pl, Start: st, Bands: []linelist.Band{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}, {VUp: 3, VLo: 2}, {VUp: 2, VLo: 0}}, Spectrum: assign.Infrared, Temperature: 1500}
 	var res *assign.Result
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {

@@ -7,10 +7,10 @@ import (
 
 	"bandwright/assign"
 	"bandwright/assign/synth"
-	"bandwright/fit"
+	"bandwright/fit/linelist"
 )
 
-var coBands = []fit.BandSpec{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}}
+var coBands = []linelist.Band{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}}
 
 // The final internal fit returns the constants the lines were made from:
 // B_0 = Be − αe/2 and B_1 = Be − 3αe/2 of 12C16O (Huber & Herzberg 1979, from
@@ -81,7 +81,7 @@ func TestCombinationDifferencesAndUnlockedBand(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	bands := append([]fit.BandSpec{{VUp: 3, VLo: 2}}, coBands...)
+	bands := append([]linelist.Band{{VUp: 3, VLo: 2}}, coBands...)
 	res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: bands, Spectrum: assign.Infrared, Temperature: 700},
 		assign.Settings{Tolerance: 0.05, Sigmas: 100})
 	if err != nil {

@@ -187,7 +187,7 @@ func WriteReport(w io.Writer, res *Result, info ReportInfo) error {
 	fmt.Fprintf(&b, "- species: %s\n", strings.Join(sps, ", "))
 	var bs []string
 	for _, x := range p.Bands {
-		bs = append(bs, fmt.Sprintf("%d-%d", x.VUp, x.VLo))
+		bs = append(bs, x.String())
 	}
 	fmt.Fprintf(&b, "- bands: %s; spectrum: %s; temperature: %g K\n", strings.Join(bs, ", "), p.Spectrum, p.Temperature)
 	if res.Settings.Tolerance > 0 {

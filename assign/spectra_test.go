@@ -6,10 +6,10 @@ import (
 
 	"bandwright/assign"
 	"bandwright/assign/synth"
-	"bandwright/fit"
+	"bandwright/fit/linelist"
 )
 
-func runScenario(t *testing.T, spec synth.Spec, start string, bands []fit.BandSpec, spectrum assign.Spectrum, set assign.Settings) (*assign.Result, score, [][]synth.Line) {
+func runScenario(t *testing.T, spec synth.Spec, start string, bands []linelist.Band, spectrum assign.Spectrum, set assign.Settings) (*assign.Result, score, [][]synth.Line) {
 	t.Helper()
 	peaks, err := synth.Generate(spec)
 	if err != nil {
@@ -41,7 +41,7 @@ func TestRamanN2(t *testing.T) {
 			Bands: [][2]int{{1, 0}, {0, 0}}, Spectrum: "raman", Temperature: 296, Threshold: 1e-3, Unc: 2e-3, UncMax: 1e-2,
 			IntensityNoise: 0.1, Missing: 0.05, Spurious: 0.10, Resolution: 0.01, Seed: seed}
 		start := startTOML("14N14N", eqN2, perturb{dwe: 0.6, dwexe: 0.05, rbe: 0.001, rae: 0.02, rde: 0.03})
-		res, s, _ := runScenario(t, spec, start, []fit.BandSpec{{VUp: 1, VLo: 0}, {VUp: 0, VLo: 0}}, assign.Raman, assign.Settings{})
+		res, s, _ := runScenario(t, spec, start, []linelist.Band{{VUp: 1, VLo: 0}, {VUp: 0, VLo: 0}}, assign.Raman, assign.Settings{})
 		if s.assignedFrac() < 0.97 || s.wrongFrac() > 0.01 {
 			t.Errorf("seed %d: assigned %.2f %%, wrong %.2f %%", seed, 100*s.assignedFrac(), 100*s.wrongFrac())
 		}
@@ -65,7 +65,7 @@ func TestRotationHCl(t *testing.T) {
 			Bands:   [][2]int{{0, 0}}, Spectrum: "rotation", Temperature: 296, Threshold: 1e-3, Unc: 5e-4, UncMax: 5e-3,
 			IntensityNoise: 0.1, Missing: 0.05, Spurious: 0.10, Resolution: 0.002, Seed: seed}
 		start := startTOML("1H35Cl", eqHCl, perturb{rbe: 0.0008, rae: 0.02, rde: 0.03}, "1H37Cl")
-		_, s, _ := runScenario(t, spec, start, []fit.BandSpec{{VUp: 0, VLo: 0}}, assign.Rotation, assign.Settings{})
+		_, s, _ := runScenario(t, spec, start, []linelist.Band{{VUp: 0, VLo: 0}}, assign.Rotation, assign.Settings{})
 		if s.assignedFrac() < 0.97 || s.wrongFrac() > 0.01 {
 			t.Errorf("seed %d: assigned %.2f %%, wrong %.2f %%", seed, 100*s.assignedFrac(), 100*s.wrongFrac())
 		}
@@ -96,7 +96,7 @@ func TestRotationCOMHz(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []fit.BandSpec{{VUp: 0, VLo: 0}}, Spectrum: assign.Rotation, Temperature: 296}, assign.Settings{})
+	res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []linelist.Band{{VUp: 0, VLo: 0}}, Spectrum: assign.Rotation, Temperature: 296}, assign.Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}

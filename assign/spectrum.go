@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"strings"
 
-	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/species"
 )
@@ -50,7 +49,7 @@ func (s Spectrum) String() string {
 
 // DeltaJ returns the branches (ΔJ = J′ − J″) a band shows in this spectrum,
 // or an error when the band does not fit the spectrum's selection rules.
-func (s Spectrum) DeltaJ(b fit.BandSpec) ([]int, error) {
+func (s Spectrum) DeltaJ(b linelist.Band) ([]int, error) {
 	switch s {
 	case Infrared:
 		if b.VUp == b.VLo {
@@ -93,7 +92,7 @@ func (t Transition) Branch() string { return linelist.BranchLetter(t.DeltaJ()) }
 // Label writes the transition in the notation of the trade, branch letter and
 // lower-state J: "12C16O 1-0 P(12)".
 func (t Transition) Label() string {
-	return fmt.Sprintf("%s %d-%d %s(%d)", t.Species, t.VUp, t.VLo, t.Branch(), t.JLo)
+	return t.Species + " " + linelist.TransitionLabel(t.VUp, t.JUp, t.VLo, t.JLo)
 }
 
 // HonlLondon returns the rotational line-strength factor S(J″, ΔJ) of a

@@ -7,7 +7,7 @@ import (
 
 	"bandwright/assign"
 	"bandwright/assign/synth"
-	"bandwright/fit"
+	"bandwright/fit/linelist"
 )
 
 // coScenario is the several-seed check of the issue: 12C16O 1-0 and its hot
@@ -47,7 +47,7 @@ func TestSyntheticCOSeveralSeeds(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []fit.BandSpec{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}}, Spectrum: assign.Infrared, Temperature: 700}, assign.Settings{})
+		res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []linelist.Band{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}}, Spectrum: assign.Infrared, Temperature: 700}, assign.Settings{})
 		if err != nil {
 			t.Fatalf("seed %d: %v", seed, err)
 		}

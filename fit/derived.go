@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"bandwright/constants"
+	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
 	"bandwright/units"
@@ -198,7 +199,7 @@ func deriveLevels(r *Result, m *model.Levels, out *[]constants.Derived) {
 		iu, il := m.Index(b.s, b.vu, "T"), m.Index(b.s, b.vl, "T")
 		g[iu] += 1
 		g[il] -= 1
-		r.add(out, fmt.Sprintf("nu0_%d-%d", b.vu, b.vl), species_[b.s], linear{p[iu] - p[il], g}, "cm-1", "band origin T_v′ − T_v″")
+		r.add(out, "nu0_"+linelist.BandLabel(b.vu, b.vl), species_[b.s], linear{p[iu] - p[il], g}, "cm-1", "band origin T_v′ − T_v″")
 	}
 	for s, label := range species_ {
 		iso, err := species.Parse(label)

@@ -11,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"bandwright/constants"
+	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 )
 
@@ -25,44 +26,16 @@ type Prediction struct {
 	Sigma    float64 // cm⁻¹
 }
 
-// BandSpec is a band v′–v″ (v′ = v″ for pure rotation).
-type BandSpec struct{ VUp, VLo int }
-
-// ParseBands parses "1-0,2-1,0-0".
-func ParseBands(s string) ([]BandSpec, error) {
-	var out []BandSpec
-	for _, f := range strings.Split(s, ",") {
-		f = strings.TrimSpace(f)
-		if f == "" {
-			continue
-		}
-		a, b, ok := strings.Cut(f, "-")
-		vu, e1 := strconv.Atoi(strings.TrimSpace(a))
-		vl, e2 := strconv.Atoi(strings.TrimSpace(b))
-		if !ok || e1 != nil || e2 != nil || vu < 0 || vl < 0 || vu > 100 || vl > 100 {
-			return nil, fmt.Errorf("fit: band %q: write v′-v″ with levels 0…100, e.g. 1-0 or 2-1 (0-0 for pure rotation)", f)
-		}
-		out = append(out, BandSpec{vu, vl})
-	}
-	if len(out) == 0 {
-		return nil, fmt.Errorf("fit: no bands given (e.g. 1-0,2-1)")
-	}
-	return out, nil
-}
-
-// branchDJ maps branch letters to ΔJ = J′ − J″.
-var branchDJ = map[string]int{"O": -2, "P": -1, "Q": 0, "R": 1, "S": 2}
-
 // Predict calculates the lines of the given bands of one species up to lower
 // J = jmax for the branches given (default: P and R for vibrational bands, R for
 // pure rotation).
-func Predict(c *constants.Set, sp string, bands []BandSpec, jmax int, branches []string) ([]Prediction, error) {
+func Predict(c *constants.Set, sp string, bands []linelist.Band, jmax int, branches []string) ([]Prediction, error) {
 	s := model.SpeciesIndex(c.Model, sp)
 	if s < 0 {
 		return nil, fmt.Errorf("fit: species %s is not in the constants record (it has %s)", sp, strings.Join(c.Model.Species(), ", "))
 	}
 	for _, b := range branches {
-		if _, ok := branchDJ[b]; !ok {
+		if _, ok := linelist.BranchDeltaJ(b); !ok {
 			return nil, fmt.Errorf("fit: branch %q: use O, P, Q, R or S", b)
 		}
 	}
@@ -73,11 +46,11 @@ func Predict(c *constants.Set, sp string, bands []BandSpec, jmax int, branches [
 	var out []Prediction
 	for _, b := range bands {
 		if !c.Model.HasLevel(s, b.VUp) || !c.Model.HasLevel(s, b.VLo) {
-			return nil, fmt.Errorf("fit: band %d-%d of %s: the constants record has no parameters for one of its levels", b.VUp, b.VLo, sp)
+			return nil, fmt.Errorf("fit: band %s of %s: the constants record has no parameters for one of its levels", b, sp)
 		}
 		for _, v := range []int{b.VUp, b.VLo} {
 			if e0, e1 := c.Energy(s, v, 0, nil), c.Energy(s, v, 1, nil); !(e1 > e0) {
-				return nil, &CannotFitError{Msg: fmt.Sprintf("fit: band %d-%d of %s: the model's rotational constant B_v is not positive at v=%d (E(v, J=1) − E(v, J=0) = %.6g cm-1; the constants are extrapolated beyond their range): its lines cannot be predicted", b.VUp, b.VLo, sp, v, e1-e0)}
+				return nil, &CannotFitError{Msg: fmt.Sprintf("fit: band %s of %s: the model's rotational constant B_v is not positive at v=%d (E(v, J=1) − E(v, J=0) = %.6g cm-1; the constants are extrapolated beyond their range): its lines cannot be predicted", b, sp, v, e1-e0)}
 			}
 		}
 		br := branches
@@ -88,7 +61,7 @@ func Predict(c *constants.Set, sp string, bands []BandSpec, jmax int, branches [
 			}
 		}
 		for _, name := range br {
-			dj := branchDJ[name]
+			dj, _ := linelist.BranchDeltaJ(name)
 			if b.VUp == b.VLo && dj <= 0 {
 				continue // pure rotation: emission/absorption J → J+1 only
 			}

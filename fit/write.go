@@ -196,7 +196,7 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 		if !lr.Used {
 			st = "rejected"
 		}
-		fmt.Fprintf(&b, "| %s:%d | %s | %d–%d %s(%d) | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, l.VUp, l.VLo, linelist.BranchLetter(l.DeltaJ()), l.JLo, lr.OmC, l.Unit, lr.Norm, st)
+		fmt.Fprintf(&b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, linelist.TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo), lr.OmC, l.Unit, lr.Norm, st)
 	}
 	if rec != nil && len(rec.Provenance.Inputs) > 0 {
 		b.WriteString("\n## Inputs\n\n")

@@ -29,7 +29,7 @@ type AssignOptions struct {
 	// constants.json of an earlier fit) gives the starting constants.
 	Start     string
 	Constants string
-	Bands     []fit.BandSpec
+	Bands     []linelist.Band
 	Spectrum  string // ir (default), raman, rotation
 	// Temperature in K; 0 means 296.
 	Temperature float64
@@ -193,7 +193,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 	rec.Provenance.Created = time.Now().UTC().Format(time.RFC3339)
 	var bands []string
 	for _, b := range o.Bands {
-		bands = append(bands, fmt.Sprintf("%d-%d", b.VUp, b.VLo))
+		bands = append(bands, b.String())
 	}
 	tolOpt := any("default")
 	if tol > 0 {

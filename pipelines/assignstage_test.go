@@ -10,7 +10,6 @@ import (
 
 	"bandwright/assign/synth"
 	"bandwright/constants"
-	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
 )
@@ -49,7 +48,7 @@ func TestRunAssignWritesFilesThatFitReads(t *testing.T) {
 	dir := t.TempDir()
 	peaks, start := writeCOInputs(t, dir)
 	out := filepath.Join(dir, "out")
-	oc, err := RunAssign(AssignOptions{Peaks: peaks, Start: start, Bands: []fit.BandSpec{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}}, Temperature: 700, Out: out})
+	oc, err := RunAssign(AssignOptions{Peaks: peaks, Start: start, Bands: []linelist.Band{{VUp: 1, VLo: 0}, {VUp: 2, VLo: 1}}, Temperature: 700, Out: out})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -110,7 +109,7 @@ func TestAssignBadInputsWriteNothing(t *testing.T) {
 	os.WriteFile(bad, []byte("[[species]]\nname = \"12C16O\"\nomega_e = 2170\nomega_ex_e = 13\nB_e = 1.93\nalpha_e = 0.0175\nD_e = 6e-6\n"), 0o644)
 	badPeaks := filepath.Join(dir, "bad.csv")
 	os.WriteFile(badPeaks, []byte("position,unc\n2143.2,0.001\n2144.1,-1\n"), 0o644)
-	bands := []fit.BandSpec{{VUp: 1, VLo: 0}}
+	bands := []linelist.Band{{VUp: 1, VLo: 0}}
 	cases := []struct {
 		o    AssignOptions
 		want string
@@ -120,7 +119,7 @@ func TestAssignBadInputsWriteNothing(t *testing.T) {
 		{AssignOptions{Peaks: badPeaks, Start: start, Bands: bands}, "bad.csv:3: unc: must be > 0", 1},
 		{AssignOptions{Peaks: peaks, Bands: bands}, "either --start", 1},
 		{AssignOptions{Peaks: peaks, Start: start, Bands: bands, Tolerance: "0.1nm"}, "--tolerance", 1},
-		{AssignOptions{Peaks: peaks, Start: start, Bands: []fit.BandSpec{{VUp: 0, VLo: 0}}}, "pure rotation", 1},
+		{AssignOptions{Peaks: peaks, Start: start, Bands: []linelist.Band{{VUp: 0, VLo: 0}}}, "pure rotation", 1},
 	}
 	for _, c := range cases {
 		c.o.Out = filepath.Join(dir, "out")

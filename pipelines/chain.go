@@ -242,7 +242,7 @@ func (p *Pipeline) assignOptions(peaks string) (AssignOptions, error) {
 	if len(a.Bands) == 0 {
 		return o, failure.Errorf(failure.BadInput, "pipelines: %s: assign.bands: no bands given (e.g. bands = [\"1-0\", \"2-1\"])", p.Path)
 	}
-	bands, err := fit.ParseBands(strings.Join(a.Bands, ","))
+	bands, err := linelist.ParseBands(strings.Join(a.Bands, ","))
 	if err != nil {
 		return o, failure.Errorf(failure.BadInput, "pipelines: %s: assign.bands: %w", p.Path, err)
 	}

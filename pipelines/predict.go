@@ -10,6 +10,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit"
+	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
@@ -37,7 +38,7 @@ func LoadConstants(path string) (*constants.Record, *constants.Set, error) {
 
 // RunPredict writes the predicted lines of the given bands to out (atomically)
 // and returns how many were written.
-func RunPredict(constants, sp string, bands []fit.BandSpec, jmax int, branches []string, out string) (int, error) {
+func RunPredict(constants, sp string, bands []linelist.Band, jmax int, branches []string, out string) (int, error) {
 	_, c, err := LoadConstants(constants)
 	if err != nil {
 		return 0, err

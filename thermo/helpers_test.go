@@ -73,7 +73,7 @@ func (c hh) lines() []linelist.Line {
 			}
 		}
 	}
-	// Hot band 2–1 so that v=1 is observed as a lower level too.
+	// Hot band 2-1 so that v=1 is observed as a lower level too.
 	for jl := 1; jl <= c.jmax; jl++ {
 		if c.homonuclear {
 			add(2, jl, 1, jl)

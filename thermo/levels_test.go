@@ -31,7 +31,7 @@ func coBands(bands [][2]int, jmax int) []linelist.Line {
 	return ls
 }
 
-// TestLevelsModelMissingLevels: a levels model of v = 0, 1, 2 (bands 1–0, 2–1)
+// TestLevelsModelMissingLevels: a levels model of v = 0, 1, 2 (bands 1-0, 2-1)
 // lacks v ≥ 3. The output names the missing levels, and their estimated share
 // of Q is negligible at room temperature and large at 3000 K, where the exact
 // Dunham sum (all v) shows the size of the gap: Q_levels/(1 − share) must come

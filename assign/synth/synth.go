@@ -32,6 +32,7 @@ import (
 	"sort"
 	"strconv"
 
+	"bandwright/fit/linelist"
 	"bandwright/fit/species"
 	"bandwright/units"
 )
@@ -327,6 +328,5 @@ func WriteCSV(w io.Writer, peaks []Peak, unit string, truth bool) error {
 
 // Label writes a line as "12C16O 1-0 P(12)".
 func Label(l Line) string {
-	b := map[int]string{-2: "O", -1: "P", 0: "Q", 1: "R", 2: "S"}[l.JUp-l.JLo]
-	return fmt.Sprintf("%s %d-%d %s(%d)", l.Species, l.VUp, l.VLo, b, l.JLo)
+	return l.Species + " " + linelist.TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo)
 }

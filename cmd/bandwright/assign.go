@@ -7,7 +7,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"bandwright/constants"
-	"bandwright/fit"
+	"bandwright/fit/linelist"
 	"bandwright/pipelines"
 )
 
@@ -42,7 +42,7 @@ func assignCommand() *cli.Command {
 			if c.String("bands") == "" {
 				return usageExit("assign: --bands is required (e.g. --bands 1-0,2-1)")
 			}
-			bands, err := fit.ParseBands(c.String("bands"))
+			bands, err := linelist.ParseBands(c.String("bands"))
 			if err != nil {
 				return usageExit("%v", err)
 			}

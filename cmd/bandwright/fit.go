@@ -9,7 +9,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"bandwright/constants"
-	"bandwright/fit"
+	"bandwright/fit/linelist"
 	"bandwright/pipelines"
 )
 
@@ -102,7 +102,7 @@ func predictCommand() *cli.Command {
 			if c.NArg() != 1 {
 				return usageExit("predict: give one constants.json")
 			}
-			bands, err := fit.ParseBands(c.String("bands"))
+			bands, err := linelist.ParseBands(c.String("bands"))
 			if err != nil {
 				return usageExit("%v", err)
 			}

@@ -139,44 +139,6 @@ func (l Line) UncWavenumber() float64 { return toWavenumber(l.Unc, l.Unit) }
 // DeltaJ returns ΔJ = J_up − J_lo.
 func (l Line) DeltaJ() int { return l.JUp - l.JLo }
 
-// BranchLetter returns the letter of the branch with ΔJ = J_up − J_lo = dJ:
-// −2 "O", −1 "P", 0 "Q", +1 "R", +2 "S"; "" for any other dJ.
-func BranchLetter(dJ int) string {
-	switch dJ {
-	case -2:
-		return "O"
-	case -1:
-		return "P"
-	case 0:
-		return "Q"
-	case 1:
-		return "R"
-	case 2:
-		return "S"
-	}
-	return ""
-}
-
-// branchDeltaJ returns ΔJ for a branch letter (any case) and whether it is known.
-func branchDeltaJ(b string) (int, bool) {
-	if len(b) != 1 {
-		return 0, false
-	}
-	switch b[0] {
-	case 'O', 'o':
-		return -2, true
-	case 'P', 'p':
-		return -1, true
-	case 'Q', 'q':
-		return 0, true
-	case 'R', 'r':
-		return 1, true
-	case 'S', 's':
-		return 2, true
-	}
-	return 0, false
-}
-
 // List is a set of lines read from one or more files.
 type List struct {
 	Lines []Line

@@ -548,7 +548,7 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 
 	if i := f.col[colBranch]; i >= 0 {
 		if t := strings.TrimSpace(rec[i]); t != "" {
-			bdJ, known := branchDeltaJ(t)
+			bdJ, known := BranchDeltaJ(t)
 			switch {
 			case !known:
 				c.add(row, "branch", "unknown branch %q: use O, P, Q, R or S", t)

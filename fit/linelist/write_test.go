@@ -141,8 +141,8 @@ func TestBranchLetter(t *testing.T) {
 			t.Errorf("BranchLetter(%d) = %q, want %q", dJ, got, w)
 		}
 		if w != "" {
-			if d, ok := branchDeltaJ(w); !ok || d != dJ {
-				t.Errorf("branchDeltaJ(%q) = %d, %v", w, d, ok)
+			if d, ok := BranchDeltaJ(w); !ok || d != dJ {
+				t.Errorf("BranchDeltaJ(%q) = %d, %v", w, d, ok)
 			}
 		}
 	}

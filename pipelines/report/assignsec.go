@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"bandwright/constants"
+	"bandwright/fit/linelist"
 )
 
 // assignSection summarises the assign stage's files.
@@ -34,7 +35,7 @@ func assignSection(d *document, f *folder) {
 			a.jMin, a.jMax = min(a.jMin, l.JLo), max(a.jMax, l.JLo)
 			b := l.Branch
 			if b == "" {
-				b = branchLetter(l.JUp - l.JLo)
+				b = linelist.BranchLetter(l.JUp - l.JLo)
 			}
 			a.br[b]++
 		}
@@ -57,7 +58,7 @@ func assignSection(d *document, f *folder) {
 					bs = append(bs, sprintf("%s %d", b, a.br[b]))
 				}
 			}
-			t.Rows = append(t.Rows, []string{k.sp, sprintf("%d–%d", k.vUp, k.vLo), strconv.Itoa(a.n), strings.Join(bs, ", "), sprintf("%d–%d", a.jMin, a.jMax)})
+			t.Rows = append(t.Rows, []string{k.sp, linelist.BandLabel(k.vUp, k.vLo), strconv.Itoa(a.n), strings.Join(bs, ", "), sprintf("%d–%d", a.jMin, a.jMax)})
 		}
 		d.table(s, t)
 	}
@@ -85,20 +86,4 @@ func assignSection(d *document, f *folder) {
 		s.para("The assign stage's own summary, assign.md:")
 		s.file(constants.AssignReportFile, string(f.assignMD))
 	}
-}
-
-func branchLetter(dJ int) string {
-	switch dJ {
-	case -2:
-		return "O"
-	case -1:
-		return "P"
-	case 0:
-		return "Q"
-	case 1:
-		return "R"
-	case 2:
-		return "S"
-	}
-	return "?"
 }

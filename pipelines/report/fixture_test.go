@@ -81,7 +81,7 @@ func bandLines(vUp, vLo, jmax int) []fixtureLine {
 const scriptComment = "<script>alert(1)</script>"
 const markdownComment = "see [here](http://example.invalid/x.png) | *bold* _it_ `code` # not a heading"
 
-// fitFolder simulates a line list (1–0 and 2–1 bands, one 3–2 line on its
+// fitFolder simulates a line list (1-0 and 2-1 bands, one 3-2 line on its
 // own, one misassigned line, two commented lines) and fits it into a fresh
 // folder, returned.
 func fitFolder(t testing.TB) string {

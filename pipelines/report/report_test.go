@@ -127,7 +127,7 @@ func TestHTMLCarriesPlots(t *testing.T) {
 	dir := fitFolder(t)
 	files := build(t, dir, report.Options{Version: "test"})
 	p := parsePage(t, files[constants.ReportHTMLFile])
-	// Bands 1–0 and 2–1 are drawn; 3–2 has one line and is not. Then
+	// Bands 1-0 and 2-1 are drawn; 3-2 has one line and is not. Then
 	// calculated-against-observed, o−c against position, correlations.
 	if got, want := len(p.svgs), 2+2+1; got != want {
 		t.Fatalf("report.html has %d <svg> elements, want %d", got, want)
@@ -135,26 +135,26 @@ func TestHTMLCarriesPlots(t *testing.T) {
 	band10 := p.svgs[0]
 	for _, want := range []string{"v′=1 ← v″=0", "J″ (lower level)", "o − c / cm⁻¹", "P branch", "R branch", "±3σ", "rejected"} {
 		if !band10.hasText(want) {
-			t.Errorf("residual plot of 1–0 lacks %q; texts %q", want, band10.texts)
+			t.Errorf("residual plot of 1-0 lacks %q; texts %q", want, band10.texts)
 		}
 	}
 	// Series: 26 R and 25 P lines less the rejected one, each a glyph in its
 	// Okabe–Ito colour (blue #0072B2 for P, orange #E69F00 for R), plus the
 	// legend thumbnail.
 	if n := band10.fills["#0072B2"]; n < 20 {
-		t.Errorf("residual plot of 1–0 has %d P-branch glyphs", n)
+		t.Errorf("residual plot of 1-0 has %d P-branch glyphs", n)
 	}
 	if n := band10.fills["#E69F00"]; n < 20 {
-		t.Errorf("residual plot of 1–0 has %d R-branch glyphs", n)
+		t.Errorf("residual plot of 1-0 has %d R-branch glyphs", n)
 	}
 	if n := band10.fills["#D55E00"]; n < 2 {
-		t.Errorf("residual plot of 1–0 marks %d rejected glyphs (want the line and its legend entry)", n)
+		t.Errorf("residual plot of 1-0 marks %d rejected glyphs (want the line and its legend entry)", n)
 	}
 	if !p.svgs[1].hasText("v′=2 ← v″=1") {
-		t.Errorf("second plot is not the 2–1 band: %q", p.svgs[1].texts)
+		t.Errorf("second plot is not the 2-1 band: %q", p.svgs[1].texts)
 	}
-	if !strings.Contains(p.text, "Not plotted: 12C16O 3–2 has 1 line(s)") {
-		t.Error("the one-line band 3–2 is not explained")
+	if !strings.Contains(p.text, "Not plotted: 12C16O 3-2 has 1 line(s)") {
+		t.Error("the one-line band 3-2 is not explained")
 	}
 	for _, want := range []string{"observed / cm⁻¹", "calculated / cm⁻¹", "calculated = observed"} {
 		if !p.svgs[2].hasText(want) {

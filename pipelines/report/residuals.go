@@ -9,6 +9,8 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg/draw"
+
+	"bandwright/fit/linelist"
 )
 
 // bandKey identifies a band of one isotopologue in residuals.csv.
@@ -59,7 +61,7 @@ func bandName(k bandKey) string {
 	if k.vUp == k.vLo {
 		return sprintf("%s pure rotation v=%d", k.species, k.vUp)
 	}
-	return sprintf("%s %d–%d", k.species, k.vUp, k.vLo)
+	return k.species + " " + linelist.BandLabel(k.vUp, k.vLo)
 }
 
 // residualSection plots o−c against J for each band and lists the lines that
@@ -131,7 +133,7 @@ func lineRow(r residual) []string {
 	}
 	return []string{
 		sprintf("%s:%d", filepath.Base(r.file), r.row), r.species,
-		sprintf("%d–%d %s(%d)", r.vUp, r.vLo, br, r.jLo),
+		linelist.BandLabel(r.vUp, r.vLo) + sprintf(" %s(%d)", br, r.jLo),
 		num(r.obs, 12), num(r.oc, 4), unitName(unit), fixed(r.norm, 2), status, r.note, r.comment,
 	}
 }

@@ -14,6 +14,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"bandwright/constants"
+	"bandwright/fit/linelist"
 )
 
 func sprintf(format string, a ...any) string { return fmt.Sprintf(format, a...) }
@@ -95,7 +96,7 @@ func glance(d *document, f *folder) {
 	if len(rec.Bands) > 0 {
 		t := &table{Caption: "Bands among the lines used (v′ = v″: pure rotation).", Head: []string{"species", "band v′–v″", "lines used", "J range"}, Numeric: []bool{false, false, true, false}}
 		for _, b := range rec.Bands {
-			t.Rows = append(t.Rows, []string{b.Species, sprintf("%d–%d", b.VUp, b.VLo), strconv.Itoa(b.Lines), sprintf("%d–%d", b.JMin, b.JMax)})
+			t.Rows = append(t.Rows, []string{b.Species, linelist.BandLabel(b.VUp, b.VLo), strconv.Itoa(b.Lines), sprintf("%d–%d", b.JMin, b.JMax)})
 		}
 		d.table(s, t)
 	}
