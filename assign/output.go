@@ -10,7 +10,7 @@ import (
 	"strings"
 
 	"bandwright/constants"
-	"bandwright/fit/linelist"
+	"bandwright/internal/csvcell"
 )
 
 // lineColumns are the line-list columns of lines.csv (read by `bandwright
@@ -62,7 +62,7 @@ func WriteLines(w io.Writer, res *Result) error {
 	head := append([]string(nil), lineColumns...)
 	for _, n := range names {
 		if n != "" {
-			head = append(head, linelist.NeutraliseCell(n))
+			head = append(head, csvcell.Neutralise(n))
 		}
 	}
 	cw.Write(head)
@@ -86,7 +86,7 @@ func WriteLines(w io.Writer, res *Result) error {
 			unc = strconv.FormatFloat(a.Unc, 'g', -1, 64)
 		}
 		rec := []string{a.Species, strconv.Itoa(a.VUp), strconv.Itoa(a.JUp), strconv.Itoa(a.VLo), strconv.Itoa(a.JLo),
-			p.Text, unc, p.Unit.String(), a.Branch(), linelist.NeutraliseCell(strings.Join(notes, "; ")),
+			p.Text, unc, p.Unit.String(), a.Branch(), csvcell.Neutralise(strings.Join(notes, "; ")),
 			strconv.Itoa(p.Index), strconv.FormatFloat(a.Confidence, 'f', 3, 64), blend,
 			strconv.FormatFloat(a.ObsMinusCalc, 'g', 4, 64), strconv.Itoa(a.CDChecked), strconv.Itoa(a.CDPassed),
 			p.IntensityText, strconv.FormatFloat(a.Intensity, 'g', 4, 64)}
@@ -98,7 +98,7 @@ func WriteLines(w io.Writer, res *Result) error {
 			if i < len(p.Extra) {
 				v = p.Extra[i]
 			}
-			rec = append(rec, linelist.NeutraliseCell(v))
+			rec = append(rec, csvcell.Neutralise(v))
 		}
 		if err := cw.Write(rec); err != nil {
 			return err
@@ -127,7 +127,7 @@ func WriteUnassigned(w io.Writer, res *Result) error {
 		if n == "" {
 			n = extra[i]
 		}
-		head = append(head, linelist.NeutraliseCell(n))
+		head = append(head, csvcell.Neutralise(n))
 	}
 	cw.Write(head)
 	for _, u := range res.Unassigned {
@@ -142,13 +142,13 @@ func WriteUnassigned(w io.Writer, res *Result) error {
 		if u.Dropped != nil {
 			dropped = u.Dropped.Label()
 		}
-		rec := []string{strconv.Itoa(p.Index), p.Text, p.UncText, p.Unit.String(), p.IntensityText, near, npos, dist, dropped, linelist.NeutraliseCell(u.Reason)}
+		rec := []string{strconv.Itoa(p.Index), p.Text, p.UncText, p.Unit.String(), p.IntensityText, near, npos, dist, dropped, csvcell.Neutralise(u.Reason)}
 		for i := range names {
 			v := ""
 			if i < len(p.Extra) {
 				v = p.Extra[i]
 			}
-			rec = append(rec, linelist.NeutraliseCell(v))
+			rec = append(rec, csvcell.Neutralise(v))
 		}
 		if err := cw.Write(rec); err != nil {
 			return err

@@ -7,11 +7,10 @@ import (
 	"math"
 	"strconv"
 	"strings"
-	"unicode"
-	"unicode/utf8"
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/internal/csvcell"
 )
 
 // WriteResiduals writes residuals.csv: every input line with its observed and
@@ -19,19 +18,19 @@ import (
 // used, its file and row, and its pass-through columns. The CSV follows RFC
 // 4180 as encoding/csv writes it (a field is quoted when it holds a comma, a
 // quote, a line break or starts with white space); text cells go through
-// linelist.NeutraliseCell. Rows are formatted into one reused buffer.
+// csvcell.Neutralise. Rows are formatted into one reused buffer.
 func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 	bw := bufio.NewWriterSize(w, 64<<10)
 	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status", "note", "comment"}
-	n := linelist.NeutraliseCell
+	n := csvcell.Neutralise
 	var b []byte
 	for k, h := range head {
 		b = appendSep(b, k)
-		b = appendCSVField(b, h)
+		b = csvcell.Append(b, h)
 	}
 	for _, h := range extra {
 		b = appendSep(b, 1)
-		b = appendCSVField(b, n(h))
+		b = csvcell.Append(b, n(h))
 	}
 	b = append(b, '\n')
 	if _, err := bw.Write(b); err != nil {
@@ -48,17 +47,17 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		if branch == "" {
 			branch = linelist.BranchLetter(l.DeltaJ())
 		}
-		b = appendCSVField(b[:0], n(l.File))
+		b = csvcell.Append(b[:0], n(l.File))
 		b = append(b, ',')
 		b = strconv.AppendInt(b, int64(l.Row), 10)
 		b = append(b, ',')
-		b = appendCSVField(b, l.Species)
+		b = csvcell.Append(b, l.Species)
 		for _, q := range [4]int{l.VUp, l.JUp, l.VLo, l.JLo} {
 			b = append(b, ',')
 			b = strconv.AppendInt(b, int64(q), 10)
 		}
 		b = append(b, ',')
-		b = appendCSVField(b, branch)
+		b = csvcell.Append(b, branch)
 		b = append(b, ',')
 		b = append(b, l.Unit.String()...)
 		b = append(b, ',')
@@ -74,16 +73,16 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		b = append(b, ',')
 		b = append(b, status...)
 		b = append(b, ',')
-		b = appendCSVField(b, n(lr.Reason))
+		b = csvcell.Append(b, n(lr.Reason))
 		b = append(b, ',')
-		b = appendCSVField(b, n(l.Comment))
+		b = csvcell.Append(b, n(l.Comment))
 		for k := range extra {
 			v := ""
 			if k < len(l.Extra) {
 				v = l.Extra[k]
 			}
 			b = append(b, ',')
-			b = appendCSVField(b, n(v))
+			b = csvcell.Append(b, n(v))
 		}
 		b = append(b, '\n')
 		if _, err := bw.Write(b); err != nil {
@@ -98,34 +97,6 @@ func appendSep(b []byte, k int) []byte {
 		return append(b, ',')
 	}
 	return b
-}
-
-// appendCSVField appends s as one CSV field, quoted (with quotes doubled) when
-// encoding/csv would quote it: it contains a comma, a quote, CR or LF, starts
-// with a white-space character, or is the PostgreSQL end marker \. .
-func appendCSVField(b []byte, s string) []byte {
-	if !csvNeedsQuotes(s) {
-		return append(b, s...)
-	}
-	b = append(b, '"')
-	for i := 0; i < len(s); i++ {
-		if s[i] == '"' {
-			b = append(b, '"')
-		}
-		b = append(b, s[i])
-	}
-	return append(b, '"')
-}
-
-func csvNeedsQuotes(s string) bool {
-	if s == "" {
-		return false
-	}
-	if s == `\.` || strings.ContainsAny(s, ",\"\r\n") {
-		return true
-	}
-	r, _ := utf8.DecodeRuneInString(s)
-	return unicode.IsSpace(r)
 }
 
 // WriteSummary writes fit.md: the constants in parenthetical notation, the

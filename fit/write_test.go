@@ -11,6 +11,7 @@ import (
 
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/internal/csvcell"
 	"bandwright/units"
 )
 
@@ -54,7 +55,7 @@ func TestWriteResidualsCSV(t *testing.T) {
 
 	var want bytes.Buffer
 	cw := csv.NewWriter(&want)
-	n := linelist.NeutraliseCell
+	n := csvcell.Neutralise
 	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status", "note", "comment"}
 	for _, e := range extra {
 		head = append(head, n(e))

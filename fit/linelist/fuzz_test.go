@@ -7,11 +7,13 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"bandwright/internal/csvcell"
 )
 
 // FuzzRead: Read never panics; a failed read is a *Error with at least one problem
 // naming the file; a successful read written with Write reads back to the same lines,
-// text cells passed through NeutraliseCell and floats bit for bit.
+// text cells passed through csvcell.Neutralise and floats bit for bit.
 func FuzzRead(f *testing.F) {
 	seeds, _ := filepath.Glob("testdata/*.csv")
 	for _, s := range seeds {
@@ -68,7 +70,7 @@ func FuzzRead(f *testing.F) {
 			t.Fatalf("%d lines %d extra, then %d and %d", len(l1.Lines), len(l1.Extra), len(l2.Lines), len(l2.Extra))
 		}
 		for i, n := range l1.Extra {
-			if l2.Extra[i] != NeutraliseCell(n) {
+			if l2.Extra[i] != csvcell.Neutralise(n) {
 				t.Fatalf("extra name %q became %q", n, l2.Extra[i])
 			}
 		}
@@ -76,11 +78,11 @@ func FuzzRead(f *testing.F) {
 			a, b := l1.Lines[i], l2.Lines[i]
 			if a.Species != b.Species || a.VUp != b.VUp || a.JUp != b.JUp || a.VLo != b.VLo || a.JLo != b.JLo ||
 				!sameFloat(a.Position, b.Position) || !sameFloat(a.Unc, b.Unc) || a.Unit != b.Unit ||
-				NeutraliseCell(a.Branch) != b.Branch || NeutraliseCell(a.Comment) != b.Comment {
+				csvcell.Neutralise(a.Branch) != b.Branch || csvcell.Neutralise(a.Comment) != b.Comment {
 				t.Fatalf("line %d:\n%+v\n%+v", i, a, b)
 			}
 			for j := range a.Extra {
-				if NeutraliseCell(a.Extra[j]) != b.Extra[j] {
+				if csvcell.Neutralise(a.Extra[j]) != b.Extra[j] {
 					t.Fatalf("line %d extra %d: %q became %q", i, j, a.Extra[j], b.Extra[j])
 				}
 			}

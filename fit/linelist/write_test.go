@@ -2,7 +2,6 @@ package linelist
 
 import (
 	"bytes"
-	"encoding/csv"
 	"errors"
 	"math"
 	"strings"
@@ -148,38 +147,7 @@ func TestBranchLetter(t *testing.T) {
 	}
 }
 
-// TestNeutraliseCell follows the OWASP "CSV Injection" guidance (common practice): text
-// starting with a formula trigger gets a leading quote; numbers stay numbers.
-func TestNeutraliseCell(t *testing.T) {
-	for in, want := range map[string]string{
-		"":                 "",
-		"plain":            "plain",
-		"1=1":              "1=1",
-		"-1.5":             "-1.5",
-		"+3e-4":            "+3e-4",
-		"-1e999":           "-1e999",
-		"=cmd()":           "'=cmd()",
-		"+SUM(A1:A2)":      "'+SUM(A1:A2)",
-		"-2+3":             "'-2+3",
-		"@SUM(A1)":         "'@SUM(A1)",
-		"-Inf":             "'-Inf",
-		"-0x1p3":           "'-0x1p3",
-		"\t=1+1":           "'\t=1+1",
-		"\r=1+1":           "'\r=1+1",
-		"'=cmd()":          "'=cmd()",
-		"=HYPERLINK(\"\")": "'=HYPERLINK(\"\")",
-	} {
-		got := NeutraliseCell(in)
-		if got != want {
-			t.Errorf("NeutraliseCell(%q) = %q, want %q", in, got, want)
-		}
-		if NeutraliseCell(got) != got {
-			t.Errorf("NeutraliseCell not idempotent on %q", got)
-		}
-	}
-}
-
-// TestWriteNeutralises: Write applies NeutraliseCell to text cells only.
+// TestWriteNeutralises: Write applies csvcell.Neutralise to text cells only.
 func TestWriteNeutralises(t *testing.T) {
 	lines := []Line{{Species: "12C16O", VUp: 1, JUp: 1, Position: 2147.08, Unc: 0.001, Comment: "=cmd()", Extra: []string{"-1.5", "@x"}},
 		{Species: "12C16O", VUp: 1, JUp: 0, JLo: 1, Position: 2139.43, Unc: 0.001, Comment: "-1.5"}}
@@ -219,24 +187,5 @@ func TestWriteErrors(t *testing.T) {
 	}
 	if err := Write(failWriter{}, one, []string{"x", "y"}); !errors.Is(err, errDisk) {
 		t.Errorf("failing writer: error %v", err)
-	}
-}
-
-// TestAppendCellMatchesEncodingCSV: Write's cell quoting gives the bytes of the standard
-// library's csv.Writer (the reference implementation of RFC 4180 quoting here).
-func TestAppendCellMatchesEncodingCSV(t *testing.T) {
-	cells := []string{"", "a", " a", "a ", "\ta", "a,b", `a"b`, `"`, `""`, "a\nb", "a\r\nb", "\r", `\.`, `\.x`,
-		"\u00a0nbsp", "\u2003em", "naïve", "'=x", "#x"}
-	for _, c := range cells {
-		var ref bytes.Buffer
-		cw := csv.NewWriter(&ref)
-		if err := cw.Write([]string{"x", c}); err != nil {
-			t.Fatal(err)
-		}
-		cw.Flush()
-		got := string(appendCell(appendCell(nil, 0, "x"), 1, c)) + "\n"
-		if got != ref.String() {
-			t.Errorf("cell %q: got %q, encoding/csv %q", c, got, ref.String())
-		}
 	}
 }

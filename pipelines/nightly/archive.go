@@ -12,7 +12,7 @@ import (
 
 	"github.com/gofrs/flock"
 
-	"bandwright/fit/linelist"
+	"bandwright/internal/csvcell"
 )
 
 // Names inside the archive.
@@ -196,8 +196,8 @@ func (a *archive) state(sha string) shaState {
 
 // ledgerRowFor is a ledger row with its text cells neutralised.
 func ledgerRowFor(input, sha string, st Status, started, finished time.Time, output, msg string) []string {
-	return []string{linelist.NeutraliseCell(input), sha, string(st), started.Format(time.RFC3339),
-		finished.Format(time.RFC3339), linelist.NeutraliseCell(output), linelist.NeutraliseCell(msg)}
+	return []string{csvcell.Neutralise(input), sha, string(st), started.Format(time.RFC3339),
+		finished.Format(time.RFC3339), csvcell.Neutralise(output), csvcell.Neutralise(msg)}
 }
 
 // record appends the ok row of a result and then its history rows, and
@@ -221,7 +221,7 @@ func (a *archive) addHistory(input, sha, finished string, cs []Constant, thresho
 	ds := make([]Drift, len(cs))
 	rows := make([][]string, len(cs))
 	for i, c := range cs {
-		sp, nm, un := linelist.NeutraliseCell(c.Species), linelist.NeutraliseCell(c.Name), linelist.NeutraliseCell(c.Unit)
+		sp, nm, un := csvcell.Neutralise(c.Species), csvcell.Neutralise(c.Name), csvcell.Neutralise(c.Unit)
 		d := Drift{Constant: c, Mean: math.NaN(), SigmaMean: math.NaN(), Z: math.NaN()}
 		if g := a.history.agg[key(sp, nm, un)]; g != nil && g.n > 0 {
 			d.N = g.n
@@ -237,7 +237,7 @@ func (a *archive) addHistory(input, sha, finished string, cs []Constant, thresho
 		if d.Flagged {
 			flag = "flagged"
 		}
-		rows[i] = []string{sha, linelist.NeutraliseCell(input), finished, sp, nm, fmtF(c.Value), fmtF(c.Sigma), un,
+		rows[i] = []string{sha, csvcell.Neutralise(input), finished, sp, nm, fmtF(c.Value), fmtF(c.Sigma), un,
 			strconv.Itoa(d.N), fmtNaN(d.Mean), fmtNaN(d.SigmaMean), fmtNaN(d.Z), flag}
 	}
 	if err := a.hist.append(rows); err != nil {
