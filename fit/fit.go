@@ -158,26 +158,9 @@ func (r *Result) CovNames() []string {
 	return n
 }
 
-// Correlation returns the correlation matrix of the fitted parameters.
-func (r *Result) Correlation() *mat.SymDense { return correlation(r.Cov) }
-
-func correlation(c *mat.SymDense) *mat.SymDense {
-	n := c.SymmetricDim()
-	out := mat.NewSymDense(n, nil)
-	for i := 0; i < n; i++ {
-		for j := i; j < n; j++ {
-			d := math.Sqrt(c.At(i, i) * c.At(j, j))
-			v := 0.0
-			if d > 0 {
-				v = c.At(i, j) / d
-			} else if i == j {
-				v = 1
-			}
-			out.SetSym(i, j, v)
-		}
-	}
-	return out
-}
+// Correlation returns the correlation matrix of the fitted parameters
+// (lsq.Correlation: a parameter of zero variance is uncorrelated with all).
+func (r *Result) Correlation() *mat.SymDense { return lsq.Correlation(r.Cov) }
 
 // CannotFitError is a fit that cannot be done honestly, with the reason
 // (fewer lines than parameters, lines a model cannot predict). Its kind is

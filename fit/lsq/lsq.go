@@ -138,31 +138,38 @@ func (r *Result) SigmaScaled() []float64 {
 }
 
 // Correlation returns the correlation matrix of a covariance matrix,
-// ρ_jk = C_jk / sqrt(C_jj C_kk). An entry whose variance is not positive
-// gives NaN in its row and column (and on its diagonal).
+// ρ_jk = C_jk / √(C_jj C_kk). It is the one correlation rule of bandwright
+// (records, reports, warnings). A parameter with zero variance — held exactly
+// by the fit, or with a zero row in a record — is uncorrelated with every
+// other: ρ_jk = 0 for k ≠ j and ρ_jj = 1, so the matrix stays finite (JSON
+// has no NaN) and a zero row of the covariance stays a zero row. A negative
+// or NaN variance is not a covariance: its row and column are NaN.
 func Correlation(cov *mat.SymDense) *mat.SymDense {
 	n := cov.SymmetricDim()
 	d := make([]float64, n)
 	for j := range d {
-		v := cov.At(j, j)
-		if v > 0 {
+		switch v := cov.At(j, j); {
+		case v >= 0:
 			d[j] = math.Sqrt(v)
-		} else {
+		default:
 			d[j] = math.NaN()
 		}
 	}
 	c := mat.NewSymDense(n, nil)
 	for j := 0; j < n; j++ {
 		for k := j; k < n; k++ {
-			if j == k {
-				if math.IsNaN(d[j]) {
-					c.SetSym(j, j, math.NaN())
-				} else {
-					c.SetSym(j, j, 1)
-				}
-				continue
+			var r float64
+			switch {
+			case math.IsNaN(d[j]) || math.IsNaN(d[k]):
+				r = math.NaN()
+			case j == k:
+				r = 1
+			case d[j] == 0 || d[k] == 0:
+				r = 0
+			default:
+				r = cov.At(j, k) / (d[j] * d[k])
 			}
-			c.SetSym(j, k, cov.At(j, k)/(d[j]*d[k]))
+			c.SetSym(j, k, r)
 		}
 	}
 	return c

@@ -562,8 +562,14 @@ func TestCorrelation(t *testing.T) {
 	if !eqRel(c.At(0, 0), 1, 1e-15) || !eqRel(c.At(1, 1), 1, 1e-15) || !eqRel(c.At(0, 1), 2.0/6, 1e-15) {
 		t.Errorf("correlation %v", mat.Formatted(c))
 	}
-	if !math.IsNaN(c.At(2, 2)) || !math.IsNaN(c.At(0, 2)) {
-		t.Errorf("zero variance should give NaN: %v", mat.Formatted(c))
+	// Zero variance: uncorrelated with the others, unit diagonal.
+	if c.At(2, 2) != 1 || c.At(0, 2) != 0 || c.At(1, 2) != 0 {
+		t.Errorf("zero variance should give ρ_jj = 1, ρ_jk = 0: %v", mat.Formatted(c))
+	}
+	// A negative variance is no covariance: NaN in its row and column.
+	bad := mat.NewSymDense(2, []float64{4, 0, 0, -1})
+	if cb := Correlation(bad); !math.IsNaN(cb.At(1, 1)) || !math.IsNaN(cb.At(0, 1)) || cb.At(0, 0) != 1 {
+		t.Errorf("negative variance should give NaN: %v", mat.Formatted(cb))
 	}
 	// On a real fit: unit diagonal, entries within [−1, 1].
 	A, y, sigma := randomProblem(8, 30, 4)
