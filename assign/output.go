@@ -10,13 +10,13 @@ import (
 	"strings"
 
 	"bandwright/constants"
+	"bandwright/fit/linelist"
 	"bandwright/internal/csvcell"
 )
 
-// lineColumns are the line-list columns of lines.csv (read by `bandwright
-// fit`), followed by the assignment's own columns.
-var lineColumns = []string{"species", "v_up", "J_up", "v_lo", "J_lo", "position", "unc", "unit", "branch", "comment",
-	"peak_index", "confidence", "blend", "o_minus_c", "cd_checks", "cd_passed", "intensity", "intensity_predicted"}
+// assignColumns are the assignment's own columns of lines.csv, after the
+// line-list columns (linelist.Columns) that `bandwright fit` reads.
+var assignColumns = []string{"peak_index", "confidence", "blend", "o_minus_c", "cd_checks", "cd_passed", "intensity", "intensity_predicted"}
 
 // passThrough returns the names under which the peak list's own columns are
 // written: a name that repeats one of ours gets "peak_" in front (a
@@ -57,16 +57,16 @@ func WriteLines(w io.Writer, res *Result) error {
 	if res.Problem.Peaks != nil {
 		extra = res.Problem.Peaks.Extra
 	}
-	names, commentAt := passThrough(extra, lineColumns)
-	cw := csv.NewWriter(w)
-	head := append([]string(nil), lineColumns...)
+	names, commentAt := passThrough(extra, append(linelist.Columns(), assignColumns...))
+	cols := append([]string(nil), assignColumns...)
 	for _, n := range names {
 		if n != "" {
-			head = append(head, csvcell.Neutralise(n))
+			cols = append(cols, n)
 		}
 	}
-	cw.Write(head)
-	for _, a := range res.Lines {
+	lines := make([]linelist.Line, len(res.Lines))
+	uncText := make([]string, len(res.Lines))
+	for k, a := range res.Lines {
 		p := a.Peak
 		var notes []string
 		if commentAt >= 0 && commentAt < len(p.Extra) && strings.TrimSpace(p.Extra[commentAt]) != "" {
@@ -81,13 +81,10 @@ func WriteLines(w io.Writer, res *Result) error {
 			}
 			notes = append(notes, "blend with "+strings.Join(ls, ", "))
 		}
-		unc := p.UncText
-		if p.Unc == 0 || a.UncSource != "peak list" {
-			unc = strconv.FormatFloat(a.Unc, 'g', -1, 64)
+		if p.Unc != 0 && a.UncSource == "peak list" {
+			uncText[k] = p.UncText
 		}
-		rec := []string{a.Species, strconv.Itoa(a.VUp), strconv.Itoa(a.JUp), strconv.Itoa(a.VLo), strconv.Itoa(a.JLo),
-			p.Text, unc, p.Unit.String(), a.Branch(), csvcell.Neutralise(strings.Join(notes, "; ")),
-			strconv.Itoa(p.Index), strconv.FormatFloat(a.Confidence, 'f', 3, 64), blend,
+		vals := []string{strconv.Itoa(p.Index), strconv.FormatFloat(a.Confidence, 'f', 3, 64), blend,
 			strconv.FormatFloat(a.ObsMinusCalc, 'g', 4, 64), strconv.Itoa(a.CDChecked), strconv.Itoa(a.CDPassed),
 			p.IntensityText, strconv.FormatFloat(a.Intensity, 'g', 4, 64)}
 		for i, n := range names {
@@ -98,14 +95,14 @@ func WriteLines(w io.Writer, res *Result) error {
 			if i < len(p.Extra) {
 				v = p.Extra[i]
 			}
-			rec = append(rec, csvcell.Neutralise(v))
+			vals = append(vals, v)
 		}
-		if err := cw.Write(rec); err != nil {
-			return err
-		}
+		lines[k] = linelist.Line{Species: a.Species, VUp: a.VUp, JUp: a.JUp, VLo: a.VLo, JLo: a.JLo,
+			Position: p.Position, Unc: a.Unc, Unit: p.Unit, Branch: a.Branch(), Comment: strings.Join(notes, "; "), Extra: vals}
 	}
-	cw.Flush()
-	return cw.Error()
+	return linelist.WriteText(w, lines, cols, func(k int) (string, string) {
+		return res.Lines[k].Peak.Text, uncText[k]
+	})
 }
 
 var leftoverColumns = []string{"peak_index", "position", "unc", "unit", "intensity", "nearest", "nearest_position", "distance", "dropped", "reason"}

@@ -18,6 +18,20 @@ import (
 // bit. Text cells (species, branch, comment, pass-through names and values) go through
 // csvcell.Neutralise. Lines end with "\n".
 func Write(w io.Writer, lines []Line, extra []string) error {
+	return WriteText(w, lines, extra, nil)
+}
+
+// Columns returns the standard columns of a line list in the order Write
+// writes them: species, v_up, J_up, v_lo, J_lo, position, unc, unit, branch,
+// comment.
+func Columns() []string { return append([]string(nil), columnNames[:]...) }
+
+// WriteText is Write with the position and unc of line i written as text(i)
+// gives them instead of their shortest float form, for a writer that copies
+// numbers from another file and keeps the digits the user wrote (assign
+// repeats the peak list's position). An empty text, or a nil text, writes the
+// float. Each text must read back as the line's Position or Unc.
+func WriteText(w io.Writer, lines []Line, extra []string, text func(i int) (position, unc string)) error {
 	seen := make(map[string]bool, len(columnNames)+len(extra))
 	for _, n := range columnNames {
 		seen[headerKey(n)] = true
@@ -55,8 +69,12 @@ func Write(w io.Writer, lines []Line, extra []string) error {
 		for _, q := range [4]int{l.VUp, l.JUp, l.VLo, l.JLo} {
 			row = strconv.AppendInt(append(row, ','), int64(q), 10)
 		}
-		row = strconv.AppendFloat(append(row, ','), l.Position, 'g', -1, 64)
-		row = strconv.AppendFloat(append(row, ','), l.Unc, 'g', -1, 64)
+		var pos, unc string
+		if text != nil {
+			pos, unc = text(i)
+		}
+		row = appendNumber(append(row, ','), pos, l.Position)
+		row = appendNumber(append(row, ','), unc, l.Unc)
 		row = append(append(row, ','), l.Unit.String()...)
 		row = appendCell(row, 1, csvcell.Neutralise(l.Branch))
 		row = appendCell(row, 1, csvcell.Neutralise(l.Comment))
@@ -76,6 +94,14 @@ func Write(w io.Writer, lines []Line, extra []string) error {
 		return fmt.Errorf("linelist: write: %w", err)
 	}
 	return nil
+}
+
+// appendNumber appends text, or the shortest form of x when text is empty.
+func appendNumber(b []byte, text string, x float64) []byte {
+	if text != "" {
+		return csvcell.Append(b, text)
+	}
+	return strconv.AppendFloat(b, x, 'g', -1, 64)
 }
 
 // appendCell appends a comma (unless j is 0) and the text s as one CSV field
