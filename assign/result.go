@@ -36,7 +36,7 @@ func (r *run) result() (*Result, error) {
 		return nil, err
 	}
 	prob := fit.Problem{Lines: lines, Model: m}
-	fr, err := fit.Fit(prob, fit.Settings{NoReject: true})
+	fr, err := fit.Fit(prob, fit.Settings{})
 	if err != nil {
 		return nil, err
 	}

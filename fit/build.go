@@ -20,6 +20,23 @@ type ModelSpec struct {
 	BOBTerms  []string // Dunham terms that get Born–Oppenheimer-breakdown parameters
 }
 
+// Defaults of the fit that the command line and the pipeline file apply when
+// an option is not given. Each is written here once; the Go types of fit and
+// pipelines work at their zero values (see Settings).
+const (
+	// DefaultModel is the model kind of --model and of the pipeline file's
+	// fit.model.
+	DefaultModel = model.KindDunham
+	// DefaultReject is the rejection threshold of --reject and of fit.reject,
+	// in units of the fit's dimensionless standard deviation.
+	DefaultReject = 3.0
+)
+
+// DefaultBOBTerms returns the Dunham terms that get Born–Oppenheimer-breakdown
+// parameters with --bob (pipeline file: bob = true) when no terms are named:
+// Y10 and Y01.
+func DefaultBOBTerms() []string { return []string{"Y10", "Y01"} }
+
 // DefaultTerms returns the terms used when none are given: B and D for the
 // levels model; Y10, Y20, Y01, Y11, Y02 for Dunham.
 func DefaultTerms(kind string) []string {

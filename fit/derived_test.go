@@ -70,7 +70,7 @@ func TestDerivedGradients(t *testing.T) {
 	t.Run("dunham CO", func(t *testing.T) {
 		y := hhCO.dunham()
 		lines := makeLines("12C16O", "a.csv", y, hhCO.transitions(), 1e-3, rng)
-		r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+		r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject})
 		for _, name := range []string{"r_e", "D_e_Kratzer", "alpha_e_Pekeris", "U01", "U30"} {
 			derivedOf(t, r.Derived, name, map[bool]string{true: "12C16O", false: ""}[name[0] != 'U'])
 		}
@@ -85,7 +85,7 @@ func TestDerivedGradients(t *testing.T) {
 		yD[[2]int{1, 0}] *= 1 - 1e-4
 		lines := append(makeLines("1H35Cl", "a.csv", y, hhHCl.transitions(), 1e-3, rng), makeLines("2H35Cl", "a.csv", yD, hhHCl.transitions(), 1e-3, rng)...)
 		renumber(lines)
-		r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms(), BOBTerms: []string{"Y10", "Y01"}}, Settings{})
+		r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms(), BOBTerms: []string{"Y10", "Y01"}}, Settings{Reject: DefaultReject})
 		derivedOf(t, r.Derived, "Delta01_H", "")
 		derivedOf(t, r.Derived, "Delta10_H", "")
 		derivedOf(t, r.Derived, "r_e", "2H35Cl")
@@ -95,7 +95,7 @@ func TestDerivedGradients(t *testing.T) {
 		y := hhCO.dunham()
 		y[[2]int{2, 1}] = 1e-6 // makes B_v curve so γ_e is not zero
 		lines := makeLines("12C16O", "a.csv", y, irBranches([][2]int{{1, 0}, {2, 1}, {3, 2}, {2, 0}}, 30), 1e-3, rng)
-		r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{})
+		r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
 		for _, name := range []string{"nu0_1-0", "nu0_2-0", "r_0", "B_e", "alpha_e", "gamma_e", "r_e", "omega_e", "omega_e_x_e"} {
 			derivedOf(t, r.Derived, name, "12C16O")
 		}
@@ -105,7 +105,7 @@ func TestDerivedGradients(t *testing.T) {
 		y := coLevelsY()
 		a := makeLines("12C16O", "a.csv", y, irBranches([][2]int{{1, 0}}, 30), 1e-3, rng)
 		b := makeLines("12C16O", "b.csv", y, irBranches([][2]int{{1, 0}}, 25), 1e-3, rng)
-		r := mustFit(t, append(a, b...), ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Calibrate: true})
+		r := mustFit(t, append(a, b...), ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject, Calibrate: true})
 		if r.Cov.SymmetricDim() != len(r.Free)+1 {
 			t.Fatalf("covariance %d rows for %d parameters and one κ", r.Cov.SymmetricDim(), len(r.Free))
 		}
@@ -127,7 +127,7 @@ func TestCalibrationJacobian(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	w, err := newWork(Problem{Lines: lines, Model: m}, Settings{Calibrate: true})
+	w, err := newWork(Problem{Lines: lines, Model: m}, Settings{Reject: DefaultReject, Calibrate: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -207,7 +207,7 @@ func TestReFromBe(t *testing.T) {
 				terms = append(terms, n)
 			}
 		}
-		r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: terms, Fixes: []model.Fix{{Name: "Y01", V: -1, Value: c.be}}}, Settings{})
+		r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: terms, Fixes: []model.Fix{{Name: "Y01", V: -1, Value: c.be}}}, Settings{Reject: DefaultReject})
 		d := derivedOf(t, r.Derived, "r_e", c.label)
 		if !scalar.EqualWithinRel(d.Value, re, 1e-14) || d.Sigma != 0 {
 			t.Errorf("%s: derived r_e = %g ± %g, want %g ± 0 (B_e fixed)", c.label, d.Value, d.Sigma, re)

@@ -44,15 +44,16 @@ type Problem struct {
 	Model model.Model
 }
 
-// Settings are the limits and switches of a fit. The zero value is a plain fit
-// with rejection at 3 s and no calibration or rounding.
+// Settings are the limits and switches of a fit. The zero value is a plain
+// weighted fit: no rejection, calibration or rounding. 0 means the same for
+// Reject on every layer (fit.Settings, pipelines.FitOptions, the pipeline
+// file and --reject): rejection off.
 type Settings struct {
 	// Reject is the rejection threshold in units of the fit's dimensionless
 	// standard deviation s: lines with |o−c|/u > Reject·s are dropped and the
-	// fit repeated. 0 means the default 3.
+	// fit repeated. 0 turns rejection off; the command line and the pipeline
+	// file use DefaultReject when none is given.
 	Reject float64
-	// NoReject turns rejection off (--reject 0 on the command line).
-	NoReject bool
 	// MaxRejectFraction caps the rejected share of lines; 0 means 0.10. When
 	// the cap is reached rejection stops and a warning says so.
 	MaxRejectFraction float64
@@ -63,13 +64,6 @@ type Settings struct {
 	Round bool
 	// RankTolerance is passed to the least-squares engine (0: its default).
 	RankTolerance float64
-}
-
-func (s Settings) reject() float64 {
-	if s.Reject > 0 {
-		return s.Reject
-	}
-	return 3
 }
 
 func (s Settings) maxRejectFraction() float64 {
@@ -489,14 +483,14 @@ func (w *work) run() error {
 		if err := w.solve(); err != nil {
 			return err
 		}
-		if w.s.NoReject {
+		if !(w.s.Reject > 0) {
 			return nil
 		}
 		sd := w.sigma()
 		if !(sd > 0) {
 			return nil
 		}
-		thr := w.s.reject() * sd
+		thr := w.s.Reject * sd
 		rejected := n - w.countUsed()
 		type cand struct {
 			i int
@@ -531,11 +525,11 @@ func (w *work) run() error {
 		}
 		for _, c := range cs {
 			w.used[c.i] = false
-			w.reason[c.i] = fmt.Sprintf("rejected: |o−c|/unc = %.2f > %.2f (%.1f × s)", c.z, thr, w.s.reject())
+			w.reason[c.i] = fmt.Sprintf("rejected: |o−c|/unc = %.2f > %.2f (%.1f × s)", c.z, thr, w.s.Reject)
 		}
 		if capped {
 			w.status = RejectionCapped
-			w.warn = append(w.warn, fmt.Sprintf("more lines exceed the rejection threshold (%.1f × s) than the cap of %.0f %% allows; the worst %d were rejected and the rest kept — check the assignment", w.s.reject(), 100*w.s.maxRejectFraction(), maxRej))
+			w.warn = append(w.warn, fmt.Sprintf("more lines exceed the rejection threshold (%.1f × s) than the cap of %.0f %% allows; the worst %d were rejected and the rest kept — check the assignment", w.s.Reject, 100*w.s.maxRejectFraction(), maxRej))
 			if len(cs) > 0 {
 				if err := w.solve(); err != nil {
 					return err

@@ -23,7 +23,7 @@ func TestHuberHerzbergExact(t *testing.T) {
 		t.Run(c.label, func(t *testing.T) {
 			y := c.dunham()
 			lines := makeLines(c.label, "exact.csv", y, c.transitions(), 1e-4, nil)
-			r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+			r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject})
 			if r.Stats.Rejected != 0 {
 				t.Errorf("%d lines rejected from exact data", r.Stats.Rejected)
 			}
@@ -57,7 +57,7 @@ func TestHuberHerzbergNoisy(t *testing.T) {
 			y := c.dunham()
 			const unc = 1e-3
 			lines := makeLines(c.label, "noisy.csv", y, c.transitions(), unc, newRNG(uint64(100+i)))
-			r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{NoReject: true})
+			r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
 			zmax := 0.0
 			for kl, want := range y {
 				p := paramOf(t, r, model.DunhamName(kl[0], kl[1]))

@@ -32,7 +32,7 @@ func TestJointIsotopologues(t *testing.T) {
 			lines := makeLines(tc.c.label, "a.csv", y, tc.c.transitions(), 1e-4, nil)
 			lines = append(lines, makeLines(tc.other, "a.csv", y2, tc.c.transitions(), 1e-4, nil)...)
 			renumber(lines)
-			r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+			r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject})
 			if sp := r.Model.Species(); len(sp) != 2 || sp[0] != tc.c.label {
 				t.Fatalf("species %v, want the reference %s first", sp, tc.c.label)
 			}
@@ -78,7 +78,7 @@ func TestBornOppenheimerBreakdown(t *testing.T) {
 	lines := append(makeLines("1H35Cl", "hcl.csv", yH, ts, 1e-4, nil), makeLines("2H35Cl", "hcl.csv", yD, ts, 1e-4, nil)...)
 	renumber(lines)
 	spec := ModelSpec{Kind: model.KindDunham, Terms: yBO.terms(), BOBTerms: []string{"Y01"}}
-	r := mustFit(t, lines, spec, Settings{})
+	r := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
 
 	// Only the substituted element (H) gets a breakdown parameter.
 	var bob []string
@@ -108,7 +108,7 @@ func TestBornOppenheimerBreakdown(t *testing.T) {
 
 	// Without the breakdown term the same data cannot be fitted exactly:
 	// the mass scaling alone leaves residuals far above unc.
-	r0 := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: yBO.terms()}, Settings{NoReject: true})
+	r0 := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: yBO.terms()}, Settings{})
 	if r0.Stats.Sigma < 10 {
 		t.Errorf("without BOB01_H s = %.3g; the breakdown in the data should show", r0.Stats.Sigma)
 	}

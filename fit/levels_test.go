@@ -36,7 +36,7 @@ func TestLevelsModel(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			lines := makeLines("12C16O", "lv.csv", y, irBranches(tc.bands, 30), 1e-4, nil)
-			r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{})
+			r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
 			levels := map[int]bool{}
 			for _, b := range tc.bands {
 				levels[b[0]], levels[b[1]] = true, true
@@ -97,7 +97,7 @@ func TestLevelsPureRotationOnly(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Fit(Problem{Lines: lines, Model: m}, Settings{})
+	_, err = Fit(Problem{Lines: lines, Model: m}, Settings{Reject: DefaultReject})
 	var ue *UndeterminedError
 	if !errors.As(err, &ue) {
 		t.Fatalf("err = %v, want *UndeterminedError", err)

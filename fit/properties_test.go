@@ -46,10 +46,10 @@ func sameFit(t *testing.T, what string, a, b *Result, tol float64) {
 func TestLineOrderInvariance(t *testing.T) {
 	lines, y := propertyLines(t)
 	spec := ModelSpec{Kind: model.KindDunham, Terms: y.terms()}
-	a := mustFit(t, lines, spec, Settings{})
+	a := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
 	shuffled := append([]linelist.Line(nil), lines...)
 	newRNG(3).Shuffle(len(shuffled), func(i, j int) { shuffled[i], shuffled[j] = shuffled[j], shuffled[i] })
-	b := mustFit(t, shuffled, spec, Settings{})
+	b := mustFit(t, shuffled, spec, Settings{Reject: DefaultReject})
 	if b.Model.Species()[0] != a.Model.Species()[0] {
 		// The reference is the first species met; keep it the same.
 		t.Fatalf("reference changed with the order: %s vs %s", b.Model.Species()[0], a.Model.Species()[0])
@@ -66,13 +66,13 @@ func TestLineOrderInvariance(t *testing.T) {
 func TestUncertaintyScaleInvariance(t *testing.T) {
 	lines, y := propertyLines(t)
 	spec := ModelSpec{Kind: model.KindDunham, Terms: y.terms()}
-	a := mustFit(t, lines, spec, Settings{})
+	a := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
 	for _, c := range []float64{10, 0.01} {
 		scaled := append([]linelist.Line(nil), lines...)
 		for i := range scaled {
 			scaled[i].Unc *= c
 		}
-		b := mustFit(t, scaled, spec, Settings{})
+		b := mustFit(t, scaled, spec, Settings{Reject: DefaultReject})
 		sameFit(t, "unc scaled", a, b, 1e-9)
 		if !scalar.EqualWithinRel(b.Stats.Sigma, a.Stats.Sigma/c, 1e-9) {
 			t.Errorf("c = %g: s = %.12g, want s/c = %.12g", c, b.Stats.Sigma, a.Stats.Sigma/c)
@@ -92,7 +92,7 @@ func TestUncertaintyScaleInvariance(t *testing.T) {
 func TestMHzLines(t *testing.T) {
 	lines, y := propertyLines(t)
 	spec := ModelSpec{Kind: model.KindDunham, Terms: y.terms()}
-	a := mustFit(t, lines, spec, Settings{})
+	a := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
 	for _, which := range []string{"pure rotation", "all"} {
 		mhz := append([]linelist.Line(nil), lines...)
 		n := 0
@@ -106,7 +106,7 @@ func TestMHzLines(t *testing.T) {
 				}
 			}
 		}
-		b := mustFit(t, mhz, spec, Settings{})
+		b := mustFit(t, mhz, spec, Settings{Reject: DefaultReject})
 		sameFit(t, which+" in MHz", a, b, 1e-9)
 		if b.Stats.LinesMHz != n {
 			t.Errorf("%s: %d MHz lines counted, want %d", which, b.Stats.LinesMHz, n)
@@ -142,11 +142,11 @@ func TestFitWithoutTransitioner(t *testing.T) {
 		if _, ok := m.(model.Transitioner); !ok {
 			t.Fatalf("%s model does not implement model.Transitioner", spec.Kind)
 		}
-		a, err := Fit(Problem{Lines: lines, Model: m}, Settings{Round: true})
+		a, err := Fit(Problem{Lines: lines, Model: m}, Settings{Reject: DefaultReject, Round: true})
 		if err != nil {
 			t.Fatal(err)
 		}
-		b, err := Fit(Problem{Lines: lines, Model: energyOnly{m}}, Settings{Round: true})
+		b, err := Fit(Problem{Lines: lines, Model: energyOnly{m}}, Settings{Reject: DefaultReject, Round: true})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -26,9 +26,9 @@ func recordCases(t *testing.T) map[string]*Result {
 	co2 := makeLines("12C16O", "b.csv", hhCO.dunham(), irBranches([][2]int{{1, 0}}, 20), 1e-3, rng)
 	return map[string]*Result{
 		"dunham": mustFit(t, hcl, ModelSpec{Kind: model.KindDunham, Terms: []string{"Y10", "Y20", "Y30", "Y01", "Y11", "Y02"}, BOBTerms: []string{"Y01"},
-			Fixes: []model.Fix{{Name: "Y12", V: -1, Value: -1e-6}}}, Settings{}),
-		"levels":    mustFit(t, co, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{}),
-		"calibrate": mustFit(t, append(co, co2...), ModelSpec{Kind: model.KindDunham, Terms: hhCO.dunham().terms()}, Settings{Calibrate: true}),
+			Fixes: []model.Fix{{Name: "Y12", V: -1, Value: -1e-6}}}, Settings{Reject: DefaultReject}),
+		"levels":    mustFit(t, co, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject}),
+		"calibrate": mustFit(t, append(co, co2...), ModelSpec{Kind: model.KindDunham, Terms: hhCO.dunham().terms()}, Settings{Reject: DefaultReject, Calibrate: true}),
 	}
 }
 

@@ -31,7 +31,7 @@ func TestRejectPlantedOutliers(t *testing.T) {
 		lines[i].Position += math.Copysign(50*lines[i].Unc, float64(k%2)-0.5)
 	}
 	spec := ModelSpec{Kind: model.KindDunham, Terms: y.terms()}
-	r := mustFit(t, lines, spec, Settings{})
+	r := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
 	for _, i := range planted {
 		lr := r.Lines[i]
 		if lr.Used || !strings.Contains(lr.Reason, "rejected") {
@@ -59,7 +59,7 @@ func TestRejectPlantedOutliers(t *testing.T) {
 	}
 
 	// Rejection off keeps every line.
-	k := mustFit(t, lines, spec, Settings{NoReject: true})
+	k := mustFit(t, lines, spec, Settings{})
 	if k.Stats.Rejected != 0 || k.Stats.Used != len(lines) {
 		t.Errorf("NoReject: %d rejected, %d used of %d", k.Stats.Rejected, k.Stats.Used, len(lines))
 	}
@@ -89,7 +89,7 @@ func TestRejectionCap(t *testing.T) {
 		lines[i].Position += float64(20+i%13) * lines[i].Unc
 		bad++
 	}
-	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject})
 	if r.Status != RejectionCapped {
 		t.Errorf("status %v, want RejectionCapped (%d of %d lines planted)", r.Status, bad, n)
 	}
@@ -112,7 +112,7 @@ func TestRejectionCap(t *testing.T) {
 		}
 	}
 	// A higher cap lets all of them go.
-	r2 := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{MaxRejectFraction: 0.3})
+	r2 := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject, MaxRejectFraction: 0.3})
 	if r2.Status != Converged || r2.Stats.Rejected < bad {
 		t.Errorf("cap 30 %%: status %v, %d rejected of %d planted", r2.Status, r2.Stats.Rejected, bad)
 	}
@@ -134,7 +134,7 @@ func TestCalibrationFactor(t *testing.T) {
 	}
 	lines := append(a, b...)
 	spec := ModelSpec{Kind: model.KindDunham, Terms: y.terms()}
-	r := mustFit(t, lines, spec, Settings{Calibrate: true})
+	r := mustFit(t, lines, spec, Settings{Reject: DefaultReject, Calibrate: true})
 	if len(r.Calib) != 2 || !r.Calib[0].Fixed || r.Calib[0].Kappa != 0 || r.Calib[1].File != "cal.csv" {
 		t.Fatalf("calibration %+v", r.Calib)
 	}
@@ -160,7 +160,7 @@ func TestCalibrationFactor(t *testing.T) {
 		t.Errorf("derived kappa %g, calibration %g", kd.Value, c.Kappa)
 	}
 	// Without calibration the scaled file biases the fit: s grows well above 1.
-	u := mustFit(t, lines, spec, Settings{NoReject: true})
+	u := mustFit(t, lines, spec, Settings{})
 	if u.Stats.Sigma < 1.5 {
 		t.Errorf("uncalibrated s = %.2f; a 5e-7 scale error (≈1e-3 cm⁻¹ = 10 unc) should show", u.Stats.Sigma)
 	}
@@ -180,7 +180,7 @@ func TestCalibrationUnlinked(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Fit(Problem{Lines: lines, Model: m}, Settings{Calibrate: true})
+	_, err = Fit(Problem{Lines: lines, Model: m}, Settings{Reject: DefaultReject, Calibrate: true})
 	var ue *UndeterminedError
 	if !errors.As(err, &ue) || failure.KindOf(err) != failure.CannotCompute {
 		t.Fatalf("err = %v, want *UndeterminedError", err)
@@ -192,7 +192,7 @@ func TestCalibrationUnlinked(t *testing.T) {
 		t.Errorf("message gives no hint about calibration: %v", err)
 	}
 	// One file only: calibration is refused.
-	if _, err := Fit(Problem{Lines: a, Model: m}, Settings{Calibrate: true}); err == nil {
+	if _, err := Fit(Problem{Lines: a, Model: m}, Settings{Reject: DefaultReject, Calibrate: true}); err == nil {
 		t.Error("Calibrate accepted a single file")
 	}
 }

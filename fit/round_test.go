@@ -39,8 +39,8 @@ func TestSequentialRounding(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			lines, _ := noisyCO(41, 1e-3)
 			spec := ModelSpec{Kind: tc.kind, Terms: tc.terms}
-			plain := mustFit(t, lines, spec, Settings{})
-			r := mustFit(t, lines, spec, Settings{Round: true})
+			plain := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
+			r := mustFit(t, lines, spec, Settings{Reject: DefaultReject, Round: true})
 			rd := r.Rounding
 			if rd == nil {
 				t.Fatal("no rounding record")
@@ -106,7 +106,7 @@ func TestSequentialRounding(t *testing.T) {
 // (the data were generated without it) is flagged |value|/σ < 3.
 func TestSignificanceWarning(t *testing.T) {
 	lines, y := noisyCO(51, 1e-3)
-	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: append(y.terms(), "Y03")}, Settings{})
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: append(y.terms(), "Y03")}, Settings{Reject: DefaultReject})
 	p := paramOf(t, r, "Y03")
 	if math.Abs(p.Value) >= 3*p.Sigma {
 		t.Fatalf("Y03 = %s came out significant; choose another seed", constants.FormatParen(p.Value, p.Sigma))
@@ -121,7 +121,7 @@ func TestSignificanceWarning(t *testing.T) {
 		t.Errorf("significance warnings %q, want one for Y03", hits)
 	}
 	// The well-determined fit has no such warning.
-	r0 := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+	r0 := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject})
 	for _, w := range r0.Warnings {
 		if strings.Contains(w, "less than 3σ") || strings.Contains(w, "correlated") {
 			t.Errorf("unexpected warning %q", w)
@@ -136,7 +136,7 @@ func TestCorrelationWarning(t *testing.T) {
 	y := hhCO.dunham()
 	delete(y, [2]int{3, 0})
 	lines := makeLines("12C16O", "hot.csv", y, irBranches([][2]int{{21, 20}, {22, 21}}, 30), 1e-3, newRNG(61))
-	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{Reject: DefaultReject})
 	names := r.CovNames()
 	c := r.Correlation()
 	i10, i20 := -1, -1

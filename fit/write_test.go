@@ -41,7 +41,7 @@ func TestWriteResidualsCSV(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r, err := Fit(Problem{Lines: lines, Model: m}, Settings{})
+	r, err := Fit(Problem{Lines: lines, Model: m}, Settings{Reject: DefaultReject})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -89,7 +89,7 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 		}
 		st := sel
 		if !reject {
-			st.NoReject = true
+			st.Reject = 0
 		}
 		return fit.Fit(fit.Problem{Lines: ls, Model: m}, st)
 	}
@@ -101,7 +101,7 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 	c.Log = append(c.Log, fmt.Sprintf("start %s: χ² %.6g, dof %d", strings.Join(terms, ","), cur.Stats.Chi2, cur.Stats.DOF))
 	for _, t := range candidates {
 		next := append(append([]string(nil), terms...), t)
-		res, err := try(next, lines, !s.NoReject)
+		res, err := try(next, lines, s.Reject > 0)
 		if err != nil {
 			if failure.KindOf(err) == failure.CannotCompute {
 				c.Log = append(c.Log, fmt.Sprintf("%s: not determined by the data, left out", t))

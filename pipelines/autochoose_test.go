@@ -52,7 +52,7 @@ func TestChooseModel(t *testing.T) {
 	// One band: the levels model, and D is needed at J up to 40 with 1e-4 cm⁻¹
 	// noise (D x² reaches 6e-6·1640² ≈ 16 cm⁻¹), H is not (H_v ~ 1e-11 from
 	// the Dunham constants above: not in the simulated data at all).
-	c, err := ChooseModel(coLines(t, [][2]int{{1, 0}}, 40, 1e-4, 1), fit.Settings{})
+	c, err := ChooseModel(coLines(t, [][2]int{{1, 0}}, 40, 1e-4, 1), fit.Settings{Reject: fit.DefaultReject})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -62,7 +62,7 @@ func TestChooseModel(t *testing.T) {
 	// Three bands reaching v = 0…3: Dunham with the five leading terms and
 	// Y30, which the simulated data contain (ωeye = 0.010511 cm⁻¹ against
 	// 1e-4 cm⁻¹ noise).
-	c, err = ChooseModel(coLines(t, [][2]int{{1, 0}, {2, 1}, {3, 2}}, 35, 1e-4, 2), fit.Settings{})
+	c, err = ChooseModel(coLines(t, [][2]int{{1, 0}, {2, 1}, {3, 2}}, 35, 1e-4, 2), fit.Settings{Reject: fit.DefaultReject})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -146,7 +146,7 @@ func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
 		if err != nil {
 			return nil, err
 		}
-		ch, err := ChooseModel(list.Lines, fit.Settings{Reject: fo.Reject, NoReject: fo.Reject == 0})
+		ch, err := ChooseModel(list.Lines, fit.Settings{Reject: fo.Reject})
 		if err != nil {
 			return nil, err
 		}

@@ -25,7 +25,7 @@ type FitOptions struct {
 	Model     string
 	Terms     []string
 	Fix       []string // NAME=VALUE
-	Reject    float64  // threshold in units of s; 0 turns rejection off
+	Reject    float64  // threshold in units of s; 0 turns rejection off (fit.Settings.Reject)
 	Round     bool
 	BOBTerms  []string
 	Calibrate bool
@@ -108,14 +108,14 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	}
 	kind := o.Model
 	if kind == "" {
-		kind = model.KindDunham
+		kind = fit.DefaultModel
 	}
 	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: o.Terms, Fixes: fixes, Reference: o.Reference, BOBTerms: o.BOBTerms})
 	if err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	p := fit.Problem{Lines: list.Lines, Model: m}
-	s := fit.Settings{Reject: o.Reject, NoReject: o.Reject == 0, Round: o.Round, Calibrate: o.Calibrate}
+	s := fit.Settings{Reject: o.Reject, Round: o.Round, Calibrate: o.Calibrate}
 	res, err := fit.Fit(p, s)
 	if err != nil {
 		return nil, err

@@ -12,6 +12,7 @@ import (
 
 	"github.com/BurntSushi/toml"
 
+	"bandwright/fit"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/thermo"
@@ -250,12 +251,12 @@ func (p *Pipeline) check(name string, b []byte) error {
 // FitOptions returns the fit options of the pipeline for the given inputs and
 // output folder.
 func (p *Pipeline) FitOptions(inputs []string, out string) FitOptions {
-	o := FitOptions{Inputs: inputs, Out: out, Reject: 3}
+	o := FitOptions{Inputs: inputs, Out: out, Reject: fit.DefaultReject}
 	if f := p.Fit; f != nil {
 		o.Model, o.Terms, o.Fix, o.Round, o.Calibrate, o.Reference = f.Model, f.Terms, f.Fix, f.Round, f.Calibrate, f.Reference
 		o.BOBTerms = f.BOBTerms
 		if f.BOB && len(o.BOBTerms) == 0 {
-			o.BOBTerms = []string{"Y10", "Y01"}
+			o.BOBTerms = fit.DefaultBOBTerms()
 		}
 		if f.Reject != nil {
 			o.Reject = *f.Reject

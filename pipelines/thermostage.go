@@ -19,9 +19,12 @@ import (
 	"bandwright/thermo"
 )
 
-// DefaultTemperatures is the table used when neither a list nor a range is given (K).
-var DefaultTemperatures = []float64{100, 200, 298.15, 300, 400, 500, 600, 700, 800, 900, 1000,
-	1500, 2000, 2500, 3000, 3500, 4000, 4500, 5000, 5500, 6000}
+// defaultTemperatures returns the table used when neither a list nor a range
+// is given (K).
+func defaultTemperatures() []float64 {
+	return []float64{100, 200, 298.15, 300, 400, 500, 600, 700, 800, 900, 1000,
+		1500, 2000, 2500, 3000, 3500, 4000, 4500, 5000, 5500, 6000}
+}
 
 // maxRangeTemperatures bounds the number of temperatures of a --range.
 const maxRangeTemperatures = 1_000_000
@@ -33,7 +36,7 @@ type ThermoOptions struct {
 	// Species is the isotopologue; empty: the card's, else the record's first.
 	Species string
 	// Temperatures is a comma-separated list in K ("298.15,1000"); Range is
-	// "FROM:TO:STEP" in K. At most one of them; neither: DefaultTemperatures.
+	// "FROM:TO:STEP" in K. At most one of them; neither: 100 … 6000 K (defaultTemperatures).
 	Temperatures string
 	Range        string
 	Pressure     string // "1bar" (default) or "1atm"
@@ -203,7 +206,7 @@ func thermoTemperatures(list, rng string) ([]float64, error) {
 	case rng != "":
 		return ParseRange(rng)
 	}
-	return append([]float64(nil), DefaultTemperatures...), nil
+	return defaultTemperatures(), nil
 }
 
 // ParseTemperatures reads a comma-separated list of temperatures in K. Every

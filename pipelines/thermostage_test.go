@@ -54,7 +54,7 @@ func writeCOConstants(t *testing.T, dir, name string, seed uint64) string {
 		l := &lines[i]
 		l.Position = m.Energy(0, l.VUp, l.JUp, p, nil) - m.Energy(0, l.VLo, l.JLo, p, nil) + 0.001*rng.NormFloat64()
 	}
-	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{NoReject: true})
+	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}

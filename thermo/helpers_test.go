@@ -143,7 +143,7 @@ func fitRecord(t testing.TB, lines []linelist.Line, kind string, terms []string)
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{NoReject: true})
+	res, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -28,24 +28,30 @@ const NASA7Method = "equality-constrained linear least squares (null-space metho
 const NASA7EnthalpyReference = "H°(298.15 K) = 0: the polynomial gives H°(T) − H°(298.15 K); add ΔfH°(298.15 K)/R (in K) to a6 of both ranges for the formation-enthalpy convention"
 
 // NASARanges chooses the temperature ranges of the NASA-7 fit (K). Zero values
-// take the defaults 200, 1000, 6000 K and a 10 K grid.
+// take the defaults of DefaultNASARanges.
 type NASARanges struct {
 	Low, Break, High float64
 	Step             float64
 }
 
+// DefaultNASARanges returns the NASA-7 ranges used for fields left at zero:
+// 200–1000 K and 1000–6000 K on a 10 K grid (the command line shows them as
+// its defaults).
+func DefaultNASARanges() NASARanges { return NASARanges{Low: 200, Break: 1000, High: 6000, Step: 10} }
+
 func (r NASARanges) withDefaults() NASARanges {
+	d := DefaultNASARanges()
 	if r.Low == 0 {
-		r.Low = 200
+		r.Low = d.Low
 	}
 	if r.Break == 0 {
-		r.Break = 1000
+		r.Break = d.Break
 	}
 	if r.High == 0 {
-		r.High = 6000
+		r.High = d.High
 	}
 	if r.Step == 0 {
-		r.Step = 10
+		r.Step = d.Step
 	}
 	return r
 }

@@ -9,6 +9,7 @@ import (
 	"github.com/urfave/cli/v2"
 
 	"bandwright/constants"
+	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/pipelines"
 )
@@ -39,10 +40,10 @@ func fitCommand() *cli.Command {
 			"Writes constants.json, residuals.csv and fit.md into --out. σ are scaled by the fit's dimensionless standard deviation.",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
-			&cli.StringFlag{Name: "model", Value: "dunham", Usage: "energy-level model: dunham or levels"},
+			&cli.StringFlag{Name: "model", Value: fit.DefaultModel, Usage: "energy-level model: dunham or levels"},
 			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: levels B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,… (default: B,D or Y10,Y20,Y01,Y11,Y02)"},
 			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…); repeatable"},
-			&cli.Float64Flag{Name: "reject", Value: 3, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
+			&cli.Float64Flag{Name: "reject", Value: fit.DefaultReject, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
 			&cli.BoolFlag{Name: "round", Usage: "sequential rounding of the constants (Watson 1977)"},
 			&cli.BoolFlag{Name: "bob", Usage: "Born–Oppenheimer-breakdown terms for Y10 and Y01 of each substituted element (dunham)"},
 			&cli.StringSliceFlag{Name: "bob-terms", Usage: "the Dunham terms that get breakdown terms (implies --bob)"},
@@ -56,7 +57,7 @@ func fitCommand() *cli.Command {
 			}
 			bob := splitList(c.StringSlice("bob-terms"))
 			if c.Bool("bob") && len(bob) == 0 {
-				bob = []string{"Y10", "Y01"}
+				bob = fit.DefaultBOBTerms()
 			}
 			if c.Float64("reject") < 0 {
 				return usageExit("fit: --reject must be ≥ 0 (0 turns rejection off)")

@@ -15,6 +15,7 @@ import (
 func init() { register(40, thermoCommand) }
 
 func thermoCommand() *cli.Command {
+	nasa := thermo.DefaultNASARanges()
 	return &cli.Command{
 		Name:      "thermo",
 		Usage:     "partition functions, ideal-gas thermodynamic functions and NASA-7 polynomials with propagated σ",
@@ -33,8 +34,8 @@ func thermoCommand() *cli.Command {
 			&cli.StringFlag{Name: "nuclear-spin", Value: thermo.SpinThermochemistry, Usage: "nuclear-spin convention: thermochemistry (spin degeneracy divided out) or line-intensity (full degeneracy)"},
 			&cli.IntFlag{Name: "mc", Usage: "Monte Carlo draws from the fit's covariance (0: off)"},
 			&cli.StringFlag{Name: "seed", Value: "1", Usage: "seed of the Monte Carlo draws (unsigned integer)"},
-			&cli.Float64Flag{Name: "nasa-breakpoint", Value: 1000, Usage: "breakpoint of the NASA-7 ranges, K"},
-			&cli.StringFlag{Name: "nasa-limits", Value: "200:6000", Usage: "lower and upper limits of the NASA-7 fit, LOW:HIGH in K"},
+			&cli.Float64Flag{Name: "nasa-breakpoint", Value: nasa.Break, Usage: "breakpoint of the NASA-7 ranges, K"},
+			&cli.StringFlag{Name: "nasa-limits", Value: fmt.Sprintf("%g:%g", nasa.Low, nasa.High), Usage: "lower and upper limits of the NASA-7 fit, LOW:HIGH in K"},
 			&cli.StringFlag{Name: "out", Value: "bandwright-thermo", Usage: "output folder"},
 		},
 		Action: func(c *cli.Context) error {
