@@ -162,7 +162,7 @@ type Result struct {
 	Lines      []Assignment // sorted by species, band, branch, J″
 	Unassigned []Leftover   // peaks without assignment, in peak-list order, dropped lines included
 	Bands      []BandResult
-	// Fit is the final internal fit (levels model, see package doc) of
+	// Fit is the final internal fit (term-values model, see package doc) of
 	// exactly Lines; FitProblem its lines and model.
 	Fit        *fit.Result
 	FitProblem fit.Problem
@@ -292,7 +292,7 @@ func (b *band) label() string { return fmt.Sprintf("%s %d-%d", b.sp.sp.Label, b.
 //  2. lock each band, strongest first, onto the peaks not taken by a
 //     stronger band (see Lock); a band that cannot be locked is reported with
 //     the best offset found and its score, and left out;
-//  3. fit the locked lines (levels model per isotopologue, package fit),
+//  3. fit the locked lines (term-values model per isotopologue, package fit),
 //     predict every band again with σ from the fit's covariance, extend
 //     each branch to higher J, and match peaks to predictions one to one by
 //     a minimum-cost assignment on the sparse graph of candidates within
@@ -688,7 +688,7 @@ func (r *run) fitModel(lines []linelist.Line, extraFix map[string]bool) (model.M
 			}
 		}
 	}
-	return fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D", "H", "L"}, Fixes: fixes})
+	return fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D", "H", "L"}, Fixes: fixes})
 }
 
 func (r *run) speciesState(label string) *spState {

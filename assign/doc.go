@@ -20,7 +20,7 @@
 //
 // Conventions: positions in cm⁻¹ inside (peaks in MHz are converted with
 // 1 cm⁻¹ = 29 979.2458 MHz and written back in their own unit); uncertainties
-// 1σ; the internal fit is a levels model per isotopologue (T_v, B_v, D_v, H_v,
+// 1σ; the internal fit is a term-values model per isotopologue (T_v, B_v, D_v, H_v,
 // L_v, the terms the data cannot determine held at the starting values) with
 // the covariance convention of package fit; later bands of a molecule are
 // locked from a joint Dunham fit (mass-scaled across isotopologues) of the

@@ -263,7 +263,7 @@ func WriteReport(w io.Writer, res *Result, info ReportInfo) error {
 		}
 	}
 	if res.Fit != nil {
-		b.WriteString("\n## Internal fit (levels model)\n\n| parameter | value (cm-1) |\n|---|---|\n")
+		b.WriteString("\n## Internal fit (term-values model)\n\n| parameter | value (cm-1) |\n|---|---|\n")
 		for _, q := range res.Fit.Params {
 			v := constants.FormatParen(q.Value, q.Sigma)
 			if q.Fixed {
@@ -275,7 +275,7 @@ func WriteReport(w io.Writer, res *Result, info ReportInfo) error {
 	b.WriteString("\n## Conventions\n\n")
 	b.WriteString("Positions in cm-1 unless a line's unit says MHz (1 cm-1 = 29 979.2458 MHz). Uncertainties are 1σ; `1.922529(3)` means 1.922529 ± 0.000003. ")
 	b.WriteString("Predicted intensities: Boltzmann population of the lower level at the stated temperature, nuclear-spin weight, Hönl–London (infrared, rotation) or Placzek–Teller (Raman) factor, abundance, harmonic-oscillator vibrational factor, and ν(1 − e^(−c₂ν/T)) for absorption; each band's scale and a linear trend with lower-state energy are fitted to the observed intensities. ")
-	b.WriteString("The internal fit is a levels model per isotopologue (T_v, B_v, D_v, H_v, L_v as the J range allows; terms not floated are held at the starting constants), with covariance " + constants.CovarianceConvention + ". ")
+	b.WriteString("The internal fit is a term-values model per isotopologue (T_v, B_v, D_v, H_v, L_v as the J range allows; terms not floated are held at the starting constants), with covariance " + constants.CovarianceConvention + ". ")
 	b.WriteString("confidence (0–1) in lines.csv ranks assignments: lock margin × how clearly the peak beats other candidates × combination-difference checks × share of a blended peak; it is not a calibrated probability.\n")
 	_, err := io.WriteString(w, b.String())
 	return err

@@ -51,7 +51,7 @@ type Record struct {
 	Provenance           Provenance   `json:"provenance"`
 }
 
-// Param is one parameter in a record: a model parameter (levels or Dunham
+// Param is one parameter in a record: a model parameter (term-values or Dunham
 // indices, species or element) or a calibration factor (name "kappa", file).
 type Param struct {
 	Name    string  `json:"name"`

@@ -100,8 +100,8 @@ func checkCovarianceShape(cov [][]float64, n int) error {
 // model parameters.
 func rebuildModel(kind string, sp []string, ps []Param) (model.Model, error) {
 	switch kind {
-	case model.KindLevels:
-		m, err := levelsFromRecord(sp, ps)
+	case model.KindTermValues:
+		m, err := termValuesFromRecord(sp, ps)
 		if err != nil {
 			return nil, err
 		}
@@ -113,7 +113,7 @@ func rebuildModel(kind string, sp []string, ps []Param) (model.Model, error) {
 		}
 		return m, nil
 	}
-	return nil, fmt.Errorf("model: %q is not a model bandwright knows (levels, dunham)", kind)
+	return nil, fmt.Errorf("model: %q is not a model bandwright knows (term-values, dunham)", kind)
 }
 
 // newSet sets the record's values on the rebuilt model m, after checking that
@@ -151,12 +151,12 @@ func newSet(m model.Model, kind string, modelParams []Param, fittedModel []int, 
 	return c, nil
 }
 
-func levelsFromRecord(sp []string, ps []Param) (*model.Levels, error) {
+func termValuesFromRecord(sp []string, ps []Param) (*model.TermValues, error) {
 	levels := map[string][]int{}
 	terms := map[string]bool{}
 	for _, p := range ps {
 		if p.V == nil {
-			return nil, fmt.Errorf("parameters: %s has no v (levels model)", p.Name)
+			return nil, fmt.Errorf("parameters: %s has no v (term-values model)", p.Name)
 		}
 		if *p.V < 0 || *p.V > linelist.MaxV {
 			return nil, fmt.Errorf("parameters: %s: v = %d is outside 0…%d", p.Name, *p.V, linelist.MaxV)
@@ -183,7 +183,7 @@ func levelsFromRecord(sp []string, ps []Param) (*model.Levels, error) {
 			ts = append(ts, t)
 		}
 	}
-	return model.NewLevels(specs, ts, nil)
+	return model.NewTermValues(specs, ts, nil)
 }
 
 func dunhamFromRecord(sp []string, ps []Param) (*model.Dunham, error) {

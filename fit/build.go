@@ -13,8 +13,8 @@ import (
 
 // ModelSpec chooses a model for a set of lines.
 type ModelSpec struct {
-	Kind      string   // model.KindLevels or model.KindDunham
-	Terms     []string // levels: B, D, H, L; Dunham: Y10, Y01, …
+	Kind      string   // model.KindTermValues or model.KindDunham
+	Terms     []string // term values: B, D, H, L; Dunham: Y10, Y01, …
 	Fixes     []model.Fix
 	Reference string   // Dunham reference isotopologue; empty: the first in the lines
 	BOBTerms  []string // Dunham terms that get Born–Oppenheimer-breakdown parameters
@@ -38,7 +38,7 @@ const (
 func DefaultBOBTerms() []string { return []string{"Y10", "Y01"} }
 
 // DefaultTerms returns the terms used when none are given: B and D for the
-// levels model; Y10, Y20, Y01, Y11, Y02 for Dunham.
+// term-values model; Y10, Y20, Y01, Y11, Y02 for Dunham.
 func DefaultTerms(kind string) []string {
 	if kind == model.KindDunham {
 		return []string{"Y10", "Y20", "Y01", "Y11", "Y02"}
@@ -47,7 +47,7 @@ func DefaultTerms(kind string) []string {
 }
 
 // BuildModel builds the model of spec for the species and levels present in
-// lines: the levels model gets parameters for every vibrational level the
+// lines: the term-values model gets parameters for every vibrational level the
 // lines reach; the Dunham model covers every isotopologue in the lines.
 func BuildModel(lines []linelist.Line, spec ModelSpec) (model.Model, error) {
 	if len(lines) == 0 {
@@ -68,7 +68,7 @@ func BuildModel(lines []linelist.Line, spec ModelSpec) (model.Model, error) {
 		terms = DefaultTerms(spec.Kind)
 	}
 	switch spec.Kind {
-	case model.KindLevels:
+	case model.KindTermValues:
 		if spec.Reference != "" {
 			return nil, errors.New("fit: --reference applies to the Dunham model only")
 		}
@@ -84,7 +84,7 @@ func BuildModel(lines []linelist.Line, spec ModelSpec) (model.Model, error) {
 			sort.Ints(vs)
 			specs = append(specs, model.LevelSpec{Species: s, V: vs})
 		}
-		m, err := model.NewLevels(specs, terms, spec.Fixes)
+		m, err := model.NewTermValues(specs, terms, spec.Fixes)
 		if err != nil {
 			return nil, fmt.Errorf("fit: %w", err)
 		}
@@ -120,5 +120,5 @@ func BuildModel(lines []linelist.Line, spec ModelSpec) (model.Model, error) {
 		}
 		return m, nil
 	}
-	return nil, fmt.Errorf("fit: model %q: choose levels or dunham", spec.Kind)
+	return nil, fmt.Errorf("fit: model %q: choose term-values or dunham", spec.Kind)
 }

@@ -44,7 +44,7 @@ func (r *Result) add(out *[]constants.Derived, name, sp string, q linear, unit, 
 // breakdown terms, Δ_kl^X. Diagnostics: the Kratzer relation D_e ≈ 4B_e³/ω_e²
 // and the Pekeris relation α_e ≈ 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e.
 //
-// Levels fits: band origins ν₀ = T_v′ − T_v″ of the bands present; with two or
+// Term-values fits: band origins ν₀ = T_v′ − T_v″ of the bands present; with two or
 // more levels of an isotopologue, B_e and α_e (and γ_e with four or more) from
 // a generalised least-squares fit of B_v = B_e − α_e(v+½) + γ_e(v+½)² that uses
 // the covariance of the B_v, r_0 from B_0 and r_e from B_e; with three or more
@@ -54,8 +54,8 @@ func Derive(r *Result) []constants.Derived {
 	switch m := r.Model.(type) {
 	case *model.Dunham:
 		deriveDunham(r, m, &out)
-	case *model.Levels:
-		deriveLevels(r, m, &out)
+	case *model.TermValues:
+		deriveTermValues(r, m, &out)
 	}
 	for _, c := range r.Calib {
 		if !c.Fixed {
@@ -164,7 +164,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 	}
 }
 
-func deriveLevels(r *Result, m *model.Levels, out *[]constants.Derived) {
+func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) {
 	p := model.Values(r.Params)
 	np := len(p)
 	// Band origins of the bands present in the data.

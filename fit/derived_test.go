@@ -95,7 +95,7 @@ func TestDerivedGradients(t *testing.T) {
 		y := hhCO.dunham()
 		y[[2]int{2, 1}] = 1e-6 // makes B_v curve so γ_e is not zero
 		lines := makeLines("12C16O", "a.csv", y, irBranches([][2]int{{1, 0}, {2, 1}, {3, 2}, {2, 0}}, 30), 1e-3, rng)
-		r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
+		r := mustFit(t, lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
 		for _, name := range []string{"nu0_1-0", "nu0_2-0", "r_0", "B_e", "alpha_e", "gamma_e", "r_e", "omega_e", "omega_e_x_e"} {
 			derivedOf(t, r.Derived, name, "12C16O")
 		}
@@ -105,7 +105,7 @@ func TestDerivedGradients(t *testing.T) {
 		y := coLevelsY()
 		a := makeLines("12C16O", "a.csv", y, irBranches([][2]int{{1, 0}}, 30), 1e-3, rng)
 		b := makeLines("12C16O", "b.csv", y, irBranches([][2]int{{1, 0}}, 25), 1e-3, rng)
-		r := mustFit(t, append(a, b...), ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject, Calibrate: true})
+		r := mustFit(t, append(a, b...), ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject, Calibrate: true})
 		if r.Cov.SymmetricDim() != len(r.Free)+1 {
 			t.Fatalf("covariance %d rows for %d parameters and one κ", r.Cov.SymmetricDim(), len(r.Free))
 		}

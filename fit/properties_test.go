@@ -134,7 +134,7 @@ type energyOnly struct{ model.Model }
 // same fit.
 func TestFitWithoutTransitioner(t *testing.T) {
 	lines, y := propertyLines(t)
-	for _, spec := range []ModelSpec{{Kind: model.KindDunham, Terms: y.terms()}, {Kind: model.KindLevels, Terms: []string{"B", "D"}}} {
+	for _, spec := range []ModelSpec{{Kind: model.KindDunham, Terms: y.terms()}, {Kind: model.KindTermValues, Terms: []string{"B", "D"}}} {
 		m, err := BuildModel(lines, spec)
 		if err != nil {
 			t.Fatal(err)

@@ -17,7 +17,7 @@ func TestRecordWithoutDegreesOfFreedom(t *testing.T) {
 	// One pure-rotation line of 12C16O, J = 1-0 at 2B ≈ 3.8451 cm-1 (Huber &
 	// Herzberg 1979, from memory), fitted with B alone.
 	lines := makeLines("12C16O", "one.csv", yset{{0, 1}: 1.92253}, []trans{{0, 1, 0, 0}}, 1e-3, newRNG(1))
-	r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B"}}, Settings{Reject: DefaultReject})
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B"}}, Settings{Reject: DefaultReject})
 	if r.Stats.DOF != 0 || !math.IsNaN(r.Stats.Sigma) {
 		t.Fatalf("dof %d, s %v", r.Stats.DOF, r.Stats.Sigma)
 	}

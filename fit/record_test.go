@@ -14,7 +14,7 @@ import (
 
 // recordCases are fits whose records must survive a write and a read: a
 // Dunham fit of two isotopologues with a breakdown term and a fixed term, a
-// levels fit, and a calibrated fit (κ in the covariance, dropped on reading).
+// term-values fit, and a calibrated fit (κ in the covariance, dropped on reading).
 func recordCases(t *testing.T) map[string]*Result {
 	y := hhHCl.dunham()
 	rng := newRNG(71)
@@ -27,8 +27,8 @@ func recordCases(t *testing.T) map[string]*Result {
 	return map[string]*Result{
 		"dunham": mustFit(t, hcl, ModelSpec{Kind: model.KindDunham, Terms: []string{"Y10", "Y20", "Y30", "Y01", "Y11", "Y02"}, BOBTerms: []string{"Y01"},
 			Fixes: []model.Fix{{Name: "Y12", V: -1, Value: -1e-6}}}, Settings{Reject: DefaultReject}),
-		"levels":    mustFit(t, co, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject}),
-		"calibrate": mustFit(t, append(co, co2...), ModelSpec{Kind: model.KindDunham, Terms: hhCO.dunham().terms()}, Settings{Reject: DefaultReject, Calibrate: true}),
+		"term-values": mustFit(t, co, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject}),
+		"calibrate":   mustFit(t, append(co, co2...), ModelSpec{Kind: model.KindDunham, Terms: hhCO.dunham().terms()}, Settings{Reject: DefaultReject, Calibrate: true}),
 	}
 }
 
@@ -99,7 +99,7 @@ func TestRecordRoundTrip(t *testing.T) {
 // TestRecordRefusals: a newer schema is refused with a message saying so, a
 // foreign schema and a covariance of the wrong size are refused.
 func TestRecordRefusals(t *testing.T) {
-	r := recordCases(t)["levels"]
+	r := recordCases(t)["term-values"]
 	var buf bytes.Buffer
 	if err := NewRecord(r).Write(&buf); err != nil {
 		t.Fatal(err)

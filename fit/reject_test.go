@@ -167,7 +167,7 @@ func TestCalibrationFactor(t *testing.T) {
 }
 
 // TestCalibrationUnlinked: a file whose lines are the only ones of an
-// isotopologue in a levels model has nothing tying it to the reference
+// isotopologue in a term-values model has nothing tying it to the reference
 // file — scaling all its term values by (1+κ) reproduces it — so κ is
 // undetermined and named.
 func TestCalibrationUnlinked(t *testing.T) {
@@ -176,7 +176,7 @@ func TestCalibrationUnlinked(t *testing.T) {
 	y13 := massScaled(y, reducedMass(t, "12C16O"), reducedMass(t, "13C16O"))
 	b := makeLines("13C16O", "other.csv", y13, irBranches([][2]int{{1, 0}}, 20), 1e-4, newRNG(2))
 	lines := append(a, b...)
-	m, err := BuildModel(lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}})
+	m, err := BuildModel(lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}})
 	if err != nil {
 		t.Fatal(err)
 	}

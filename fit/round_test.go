@@ -34,7 +34,7 @@ func TestSequentialRounding(t *testing.T) {
 		terms []string
 	}{
 		{"dunham", model.KindDunham, hhCO.dunham().terms()},
-		{"levels", model.KindLevels, []string{"B", "D"}},
+		{"term-values", model.KindTermValues, []string{"B", "D"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			lines, _ := noisyCO(41, 1e-3)

@@ -12,6 +12,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/fit/model"
 	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
@@ -200,7 +201,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 		tolOpt = tol
 	}
 	rec.Provenance.Options = map[string]any{
-		"stage": "assign", "model": "levels", "bands": strings.Join(bands, ","), "spectrum": spec.String(),
+		"stage": "assign", "model": model.KindTermValues, "bands": strings.Join(bands, ","), "spectrum": spec.String(),
 		"temperature_K": T, "tolerance_cm-1": tolOpt, "species": st.Labels(),
 	}
 	return &AssignOutcome{Result: res, Record: rec}, nil

@@ -26,7 +26,7 @@ type Choice struct {
 }
 
 // ChooseModel picks a model and its terms for lines when no pipeline file
-// says: the levels model when every isotopologue has a single band (one pair
+// says: the term-values model when every isotopologue has a single band (one pair
 // of vibrational levels), the Dunham model when several vibrational levels are
 // connected. Terms are added in order of expected size while the data
 // determine them (no undetermined parameter, |value|/σ ≥ 3) and an F-test says
@@ -67,10 +67,10 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 	c := &Choice{}
 	var start, candidates []string
 	if single {
-		c.Model = model.KindLevels
+		c.Model = model.KindTermValues
 		start = []string{"B"}
 		candidates = []string{"D", "H", "L"}
-		c.Log = append(c.Log, "one band per isotopologue: levels model (term values T_v and B_v per level)")
+		c.Log = append(c.Log, "one band per isotopologue: term-values model (term values T_v and B_v per level)")
 	} else {
 		c.Model = model.KindDunham
 		start = []string{"Y01"}

@@ -49,15 +49,15 @@ func coLines(t testing.TB, bands [][2]int, jmax int, unc float64, seed uint64) [
 }
 
 func TestChooseModel(t *testing.T) {
-	// One band: the levels model, and D is needed at J up to 40 with 1e-4 cm⁻¹
+	// One band: the term-values model, and D is needed at J up to 40 with 1e-4 cm⁻¹
 	// noise (D x² reaches 6e-6·1640² ≈ 16 cm⁻¹), H is not (H_v ~ 1e-11 from
 	// the Dunham constants above: not in the simulated data at all).
 	c, err := ChooseModel(coLines(t, [][2]int{{1, 0}}, 40, 1e-4, 1), fit.Settings{Reject: fit.DefaultReject})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c.Model != model.KindLevels || !slices.Equal(c.Terms, []string{"B", "D"}) {
-		t.Errorf("one band: chose %s %v, want levels [B D]\n%v", c.Model, c.Terms, c.Log)
+	if c.Model != model.KindTermValues || !slices.Equal(c.Terms, []string{"B", "D"}) {
+		t.Errorf("one band: chose %s %v, want term-values [B D]\n%v", c.Model, c.Terms, c.Log)
 	}
 	// Three bands reaching v = 0…3: Dunham with the five leading terms and
 	// Y30, which the simulated data contain (ωeye = 0.010511 cm⁻¹ against

@@ -13,6 +13,7 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"bandwright/fit"
+	"bandwright/fit/model"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/thermo"
@@ -207,9 +208,9 @@ func (p *Pipeline) check(name string, b []byte) error {
 			return fmt.Errorf("pipelines: %s: fit.reject: must be a finite number ≥ 0 (0 turns rejection off), got %v", at("fit", "reject"), *r)
 		}
 		switch p.Fit.Model {
-		case "", "levels", "dunham":
+		case "", model.KindTermValues, model.KindDunham:
 		default:
-			return fmt.Errorf("pipelines: %s: fit.model: %q; use \"levels\" or \"dunham\"", at("fit", "model"), p.Fit.Model)
+			return fmt.Errorf("pipelines: %s: fit.model: %q; use \"term-values\" or \"dunham\"", at("fit", "model"), p.Fit.Model)
 		}
 	}
 	if t := p.Thermo; t != nil {

@@ -30,7 +30,7 @@ import (
 //
 // term_energy is the energy of the state's model zero above the ground state's
 // model zero (T_e between potential minima for Dunham models, the separation of
-// the lowest vibrational levels for levels models). Exactly one state has
+// the lowest vibrational levels for term-values models). Exactly one state has
 // term_energy 0: the ground state, whose constants are the record given to the
 // thermo stage. A state without constants is the ground-state manifold shifted by
 // term_energy. Paths are relative to the card.

@@ -70,7 +70,7 @@
 // dissociation energy D0 (species card) above the lowest level; without D0 it
 // stays below the top of the model's own G(v), the model's estimate of the
 // dissociation limit (levels above it are not bound in the model's own
-// picture). Levels model: the vibrational levels of the record; the missing
+// picture). Term-values model: the vibrational levels of the record; the missing
 // ones are named and their share of Q is estimated (see Row.MissingShare).
 // Levels that cannot hold more than e⁻⁵⁰ of the molecules at the highest
 // temperature are not enumerated.

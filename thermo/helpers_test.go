@@ -111,9 +111,9 @@ func fitHH(t testing.TB, c hh, noise float64, seed uint64) (*constants.Record, *
 	return fitRecord(t, lines, model.KindDunham, c.terms())
 }
 
-// levelsFit fits a levels model (terms) to the given lines' positions computed
+// termValuesFit fits a term-values model (terms) to the given lines' positions computed
 // from the Dunham constants c.
-func levelsFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise float64) (*constants.Record, *constants.Set) {
+func termValuesFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise float64) (*constants.Record, *constants.Set) {
 	t.Helper()
 	dm, err := fit.BuildModel(lines, fit.ModelSpec{Kind: model.KindDunham, Terms: c.terms()})
 	if err != nil {
@@ -132,7 +132,7 @@ func levelsFit(t testing.TB, c hh, lines []linelist.Line, terms []string, noise 
 			l.Unc = noise
 		}
 	}
-	return fitRecord(t, lines, model.KindLevels, terms)
+	return fitRecord(t, lines, model.KindTermValues, terms)
 }
 
 // fitRecord fits lines with the model kind and terms (no rejection) and

@@ -80,7 +80,7 @@ type block struct {
 type manifold struct {
 	block   int
 	sp      int
-	levels  bool // a levels model
+	levels  bool // a term-values model
 	v, J    []int32
 	e       []float64 // model energy, cm⁻¹ (model's own zero)
 	grad    []float64 // ∂e/∂x over the block's fitted parameters, len(e)·nfree
@@ -91,7 +91,7 @@ type manifold struct {
 	jReason map[string]int
 	// rot gives G_v = E(v, 0) and B_v of each enumerated v, for the closed form.
 	rot []vibRot
-	// missing: estimates of the vibrational levels a levels model lacks.
+	// missing: estimates of the vibrational levels a term-values model lacks.
 	missingV   []int
 	missE      []float64
 	missJ      []int32
@@ -133,7 +133,7 @@ type System struct {
 	zero levelRef
 	e0   float64 // absolute energy of the zero (state term + model energy)
 
-	// Estimated missing levels (levels models), absolute energies above the zero.
+	// Estimated missing levels (term-values models), absolute energies above the zero.
 	missE []float64
 	missW []float64
 
@@ -180,7 +180,7 @@ type ZeroPoint struct {
 	V     int    `json:"v"`
 	J     int    `json:"J"`
 	// ZPE is E(v=0, J=0) of the ground state above the potential minimum (Dunham
-	// models only) with its 1σ, cm⁻¹; nil for a levels model, whose zero is the
+	// models only) with its 1σ, cm⁻¹; nil for a term-values model, whose zero is the
 	// lowest vibrational level of the record.
 	ZPE      *float64 `json:"zero_point_energy_cm-1,omitempty"`
 	ZPESigma *float64 `json:"zero_point_energy_sigma_cm-1,omitempty"`
@@ -348,7 +348,7 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 	gc := p.Constants
 	gsp := model.SpeciesIndex(gc.Model, iso.Label)
 	vLow := 0
-	if lm, ok := gc.Model.(*model.Levels); ok {
+	if lm, ok := gc.Model.(*model.TermValues); ok {
 		vLow = lm.LevelsOf(gsp)[0]
 	}
 	jLow := states[ground].Lambda
@@ -455,7 +455,7 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 		}
 	}
 
-	// Missing vibrational levels of levels models (estimates, no gradients).
+	// Missing vibrational levels of term-values models (estimates, no gradients).
 	for i := range states {
 		m := sys.manifolds[sys.stateMan[i]]
 		for k := range m.missE {
@@ -538,7 +538,7 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 		sys.zp.ZPE, sys.zp.ZPESigma = &zpe, &sd
 		sys.zp.Note = "zero-point energy E(v=0, J=0) of the ground state above the potential minimum (Dunham model); Q, H°(T)−H°(0) are measured from the lowest level"
 	} else {
-		sys.zp.Note = fmt.Sprintf("levels model: energies are measured from the band origin of the lowest vibrational level in the record (v=%d); the zero-point energy above the potential minimum is not known from a levels model", vLow)
+		sys.zp.Note = fmt.Sprintf("term-values model: energies are measured from the band origin of the lowest vibrational level in the record (v=%d); the zero-point energy above the potential minimum is not known from a term-values model", vLow)
 	}
 	if vLow > 0 {
 		sys.warnings = append(sys.warnings, fmt.Sprintf("the record's lowest vibrational level of %s is v=%d: levels below it are missing, and the energy zero is not the lowest level of the molecule", iso.Label, vLow))
@@ -578,7 +578,7 @@ func (sys *System) levelGrad(st, idx int, dst []float64) []float64 {
 
 // enumerateManifold lists the levels (v, J) of species sp in constants c:
 //
-//   - Dunham model: v from 0 while G(v) = E(v, 0) still rises; levels models:
+//   - Dunham model: v from 0 while G(v) = E(v, 0) still rises; term-values models:
 //     the vibrational levels of the record;
 //   - J from 0 while E(v, J) still rises with J (centrifugal turnover);
 //   - every level below the ceiling: D0 above the lowest level when given (ground
@@ -592,11 +592,11 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 	d0Reason := fmt.Sprintf("dissociation energy D0 = %g cm-1", d0)
 
 	var vs []int
-	lm, isLevels := c.Model.(*model.Levels)
+	lm, isLevels := c.Model.(*model.TermValues)
 	if isLevels {
 		m.levels = true
 		vs = lm.LevelsOf(sp)
-		m.vReason = fmt.Sprintf("levels model: the vibrational levels of the record (v = %s)", compressInts(vs))
+		m.vReason = fmt.Sprintf("term-values model: the vibrational levels of the record (v = %s)", compressInts(vs))
 	} else {
 		// Dunham: the top of G(v).
 		gPrev := math.Inf(-1)
@@ -663,7 +663,7 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 			if !(e > ePrev) {
 				reason = "centrifugal turnover"
 				if J == 1 {
-					// Only a levels model gets here (a Dunham sum stops at the
+					// Only a term-values model gets here (a Dunham sum stops at the
 					// first v with B_v ≤ 0): a fitted B_v that is not positive.
 					if v == vs[0] {
 						return nil, cannot("%s: the rotational spacing E(v=%d, J=1) − E(v=%d, J=0) = %.6g cm-1 of the lowest level is not positive (B_v ≤ 0): the constants describe no rotational levels", c.Model.Species()[sp], v, v, e-ePrev)
@@ -706,7 +706,7 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 }
 
 // rotConstant returns B_v of level v: Σ_k Y_k1 (v+½)^k for a Dunham model, the
-// fitted B_v of a levels model.
+// fitted B_v of a term-values model.
 func rotConstant(c *constants.Set, sp, v int) float64 {
 	switch m := c.Model.(type) {
 	case *model.Dunham:
@@ -717,7 +717,7 @@ func rotConstant(c *constants.Set, sp, v int) float64 {
 			vh *= float64(v) + 0.5
 		}
 		return b
-	case *model.Levels:
+	case *model.TermValues:
 		if i := m.Index(sp, v, "B"); i >= 0 {
 			return c.Values[i]
 		}
@@ -777,13 +777,13 @@ func (m *manifold) jSummary() string {
 	return strings.Join(parts, "; ")
 }
 
-// estimateMissing estimates the vibrational levels a levels model lacks, between
+// estimateMissing estimates the vibrational levels a term-values model lacks, between
 // and above the levels of the record: G(v) from the band origins T_v fitted to
 // ω(v+½) − ωx(v+½)² + const (ωx only with three or more levels), B_v linear in
 // (v+½), D_v the mean of the fitted D_v. A record with a single vibrational
 // level gives no estimate. Levels run up to the top of the estimated G(v), the dissociation energy
 // when given, and the population limit at tMax.
-func (m *manifold) estimateMissing(c *constants.Set, lm *model.Levels, sp int, term, eRef, eNeg, d0, tMax float64) {
+func (m *manifold) estimateMissing(c *constants.Set, lm *model.TermValues, sp int, term, eRef, eNeg, d0, tMax float64) {
 	vs := lm.LevelsOf(sp)
 	if len(vs) < 2 {
 		m.missNote = "only one vibrational level in the record: the missing levels cannot be estimated (their share of Q is not known)"

@@ -31,14 +31,14 @@ func coBands(bands [][2]int, jmax int) []linelist.Line {
 	return ls
 }
 
-// TestLevelsModelMissingLevels: a levels model of v = 0, 1, 2 (bands 1-0, 2-1)
+// TestTermValuesModelMissingLevels: a term-values model of v = 0, 1, 2 (bands 1-0, 2-1)
 // lacks v ≥ 3. The output names the missing levels, and their estimated share
 // of Q is negligible at room temperature and large at 3000 K, where the exact
 // Dunham sum (all v) shows the size of the gap: Q_levels/(1 − share) must come
 // within 1 % of the Dunham Q built from the same constants.
-func TestLevelsModelMissingLevels(t *testing.T) {
+func TestTermValuesModelMissingLevels(t *testing.T) {
 	lines := coBands([][2]int{{1, 0}, {2, 1}}, 30)
-	rec, c := levelsFit(t, hhCO, lines, []string{"B", "D"}, 0)
+	rec, c := termValuesFit(t, hhCO, lines, []string{"B", "D"}, 0)
 	temps := []float64{ReferenceTemperature, 1000, 3000}
 	res, err := Compute(Problem{Constants: c, Observed: rec.Observed}, Settings{Temperatures: temps})
 	if err != nil {
@@ -78,7 +78,7 @@ func TestLevelsModelMissingLevels(t *testing.T) {
 		}
 	}
 	// With only v = 0 nothing can be estimated, and the output says so.
-	rec1, c1 := levelsFit(t, hhCO, coBands([][2]int{{0, 0}}, 30), []string{"B", "D"}, 0)
+	rec1, c1 := termValuesFit(t, hhCO, coBands([][2]int{{0, 0}}, 30), []string{"B", "D"}, 0)
 	res1, err := Compute(Problem{Constants: c1, Observed: rec1.Observed}, Settings{Temperatures: temps})
 	if err != nil {
 		t.Fatal(err)

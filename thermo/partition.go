@@ -148,7 +148,7 @@ func (sys *System) ClosedForm(T float64) float64 {
 }
 
 // missingShare returns the estimated share of Q carried by the vibrational
-// levels a levels model lacks, M/(Q+M), computed in the log domain (estimated
+// levels a term-values model lacks, M/(Q+M), computed in the log domain (estimated
 // levels may lie below the zero). ok is false when there is no estimate.
 func (sys *System) missingShare(beta, q float64) (share float64, ok bool) {
 	if len(sys.missE) == 0 {

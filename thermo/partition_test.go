@@ -12,7 +12,7 @@ import (
 	"bandwright/units"
 )
 
-// rigidRotor fits a levels model with the single term B to the pure-rotation
+// rigidRotor fits a term-values model with the single term B to the pure-rotation
 // lines ν = 2B(J+1), J = 0…30, of label (exact positions), so that the model is
 // a rigid rotor with constant B.
 func rigidRotor(t *testing.T, label string, b float64) (*constants.Record, *constants.Set) {
@@ -22,7 +22,7 @@ func rigidRotor(t *testing.T, label string, b float64) (*constants.Record, *cons
 		lines = append(lines, linelist.Line{File: "rr", Row: j + 2, Species: label, VUp: 0, JUp: j + 1, VLo: 0, JLo: j,
 			Position: 2 * b * float64(j+1), Unc: 1e-6, Unit: linelist.Wavenumber})
 	}
-	return fitRecord(t, lines, model.KindLevels, []string{"B"})
+	return fitRecord(t, lines, model.KindTermValues, []string{"B"})
 }
 
 // TestRigidRotor: for a rigid rotor Q equals the exact sum Σ(2J+1)e^(−c₂BJ(J+1)/T)

@@ -117,7 +117,7 @@ type Row struct {
 	// ExtrapolatedShare is the share of Q from levels outside the fitted data.
 	ExtrapolatedShare float64
 	// MissingShare is the estimated share of Q of the vibrational levels a
-	// levels model lacks (nil: no estimate, or not a levels model).
+	// term-values model lacks (nil: no estimate, or not a term-values model).
 	MissingShare *float64
 }
 
@@ -320,7 +320,7 @@ func (sys *System) shareWarnings(rows []Row) []string {
 				w, wt = *r.MissingShare, r.T
 			}
 		}
-		out = append(out, fmt.Sprintf("state %s: the levels model lacks v = %s; they would carry an estimated %.3g %% of Q at %g K (per-temperature estimate in thermo.json)", sl.State, sl.MissingV, 100*w, wt))
+		out = append(out, fmt.Sprintf("state %s: the term-values model lacks v = %s; they would carry an estimated %.3g %% of Q at %g K (per-temperature estimate in thermo.json)", sl.State, sl.MissingV, 100*w, wt))
 	}
 	for i, st := range sys.states {
 		if st.TermEnergy > 0 && st.Constants == nil {

@@ -36,12 +36,12 @@ func fitCommand() *cli.Command {
 		Name:      "fit",
 		Usage:     "fit molecular constants to assigned line lists",
 		ArgsUsage: "LINES.csv...",
-		Description: "Weighted least squares (QR on the column-scaled design matrix) of a levels or Dunham model to the lines of one or more files.\n" +
+		Description: "Weighted least squares (QR on the column-scaled design matrix) of a term-values or Dunham model to the lines of one or more files.\n" +
 			"Writes constants.json, residuals.csv and fit.md into --out. σ are scaled by the fit's dimensionless standard deviation.",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
-			&cli.StringFlag{Name: "model", Value: fit.DefaultModel, Usage: "energy-level model: dunham or levels"},
-			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: levels B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,… (default: B,D or Y10,Y20,Y01,Y11,Y02)"},
+			&cli.StringFlag{Name: "model", Value: fit.DefaultModel, Usage: "energy-level model: dunham or term-values"},
+			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: term-values B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,… (default: B,D or Y10,Y20,Y01,Y11,Y02)"},
 			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…); repeatable"},
 			&cli.Float64Flag{Name: "reject", Value: fit.DefaultReject, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
 			&cli.BoolFlag{Name: "round", Usage: "sequential rounding of the constants (Watson 1977)"},

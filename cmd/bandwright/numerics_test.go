@@ -66,7 +66,7 @@ func TestNumericalFaults(t *testing.T) {
 		// Herzberg 1979, from memory) fitted with B alone: the fit exists, its s
 		// does not.
 		p := in("one.csv", "species,v_up,J_up,v_lo,J_lo,position,unc\n12C16O,0,1,0,0,3.8451,0.0001\n")
-		code, stdout, stderr := runCLI("fit", p, "--model", "levels", "--terms", "B", "--out", out("dof0"))
+		code, stdout, stderr := runCLI("fit", p, "--model", "term-values", "--terms", "B", "--out", out("dof0"))
 		if code != 0 || !strings.Contains(stdout, "s = undefined (no degrees of freedom)") || !strings.Contains(stderr, "warning: no degrees of freedom") {
 			t.Fatalf("exit %d\n%s\n%s", code, stdout, stderr)
 		}

@@ -1,12 +1,12 @@
 // Package model holds the energy-level models of bandwright: band-by-band term
-// values ("levels") and the Dunham expansion ("dunham") with mass scaling across
+// values ("term-values") and the Dunham expansion ("dunham") with mass scaling across
 // isotopologues and optional Born–Oppenheimer-breakdown terms.
 //
 // Every model is linear in its parameters: E(s, v, J) = Σ_j c_j(s, v, J)·p_j, so the
 // gradient ∂E/∂p_j = c_j is exact and cheap, and a line position
 // ν = E(upper) − E(lower) has the design row c(upper) − c(lower). All energies are
 // in cm⁻¹, measured from the model's own zero: T_v of the lowest level of each
-// isotopologue is 0 in the levels model; the Dunham model has its zero at the
+// isotopologue is 0 in the term-values model; the Dunham model has its zero at the
 // potential minimum (Y00 is not part of the model), so E(0, 0) is the zero-point
 // energy above the minimum.
 //
@@ -24,21 +24,21 @@ import (
 
 // Kind names a model family as written in constants records and on the command line.
 const (
-	KindLevels = "levels"
-	KindDunham = "dunham"
+	KindTermValues = "term-values"
+	KindDunham     = "dunham"
 )
 
 // Param is one parameter of a model: its identity (name and indices) and, when
 // it belongs to a fit, its value, 1σ and whether it was held fixed.
 type Param struct {
-	// Name is "T", "B", "D", "H", "L" (levels model), "Y{k}{l}" (Dunham) or
+	// Name is "T", "B", "D", "H", "L" (term-values model), "Y{k}{l}" (Dunham) or
 	// "BOB{k}{l}_{El}" (Dunham Born–Oppenheimer breakdown, see Dunham).
 	Name string
-	// V is the vibrational level of a levels-model parameter; -1 otherwise.
+	// V is the vibrational level of a term-values-model parameter; -1 otherwise.
 	V int
 	// K and L are the Dunham indices of a Y or BOB parameter; -1 otherwise.
 	K, L int
-	// Species is the isotopologue of a levels-model parameter, the reference
+	// Species is the isotopologue of a term-values-model parameter, the reference
 	// isotopologue of a Dunham Y_kl; empty for BOB parameters.
 	Species string
 	// Element is the element symbol of a BOB parameter; empty otherwise.
@@ -49,7 +49,7 @@ type Param struct {
 }
 
 // ID is the parameter's unique key, used in messages and in --fix:
-// "B_v1[13C16O]" (levels), "Y01" (Dunham), "BOB01_C" (breakdown).
+// "B_v1[13C16O]" (term values), "Y01" (Dunham), "BOB01_C" (breakdown).
 func (p Param) ID() string {
 	switch {
 	case p.V >= 0:
@@ -62,7 +62,7 @@ func (p Param) ID() string {
 // Model is an energy-level model. Implementations are immutable and safe for
 // concurrent use.
 type Model interface {
-	// Kind is KindLevels or KindDunham.
+	// Kind is KindTermValues or KindDunham.
 	Kind() string
 	// Species lists the isotopologue labels the model covers, reference first
 	// for Dunham models.
@@ -74,7 +74,7 @@ type Model interface {
 	// Energy returns E(species s, v, J) in cm⁻¹ for parameter vector p and, when
 	// grad is not nil, stores ∂E/∂p_j in grad[j] for every j (grad has len(p)).
 	// s indexes Species(). It returns an error-free value for any v, J ≥ 0; a
-	// levels model returns NaN for a vibrational level it has no parameters for
+	// term-values model returns NaN for a vibrational level it has no parameters for
 	// (check HasLevel first).
 	Energy(s, v, J int, p []float64, grad []float64) float64
 	// HasLevel reports whether the model can evaluate vibrational level v of

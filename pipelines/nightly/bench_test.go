@@ -14,7 +14,7 @@ import (
 )
 
 // BenchmarkNightly runs a whole nightly batch — scan, snapshot, the real
-// levels fit of each file (pipelines.Fit + constants.json, residuals.csv,
+// term-values fit of each file (pipelines.Fit + constants.json, residuals.csv,
 // fit.md), manifest, rename, ledger and history with fsync, summaries — over
 // an inbox of n files of 150 lines each with 2 workers, into a fresh archive
 // each iteration. Target (issue 5): ≥ 600 files a minute for n = 200, memory

@@ -14,6 +14,7 @@ import (
 	"strings"
 	"testing"
 
+	"bandwright/fit/model"
 	"bandwright/pipelines"
 	"bandwright/pipelines/nightly"
 	"bandwright/pipelines/outdir"
@@ -66,10 +67,10 @@ func badLineList() []byte {
 	return []byte(strings.Join(lines, "\n"))
 }
 
-// fitJob is a real chain of one stage: the levels-model fit of the snapshot,
+// fitJob is a real chain of one stage: the term-values-model fit of the snapshot,
 // written with the fit stage's own writers.
 func fitJob(ctx context.Context, in nightly.Input, work string) (*nightly.JobResult, error) {
-	oc, err := pipelines.Fit(pipelines.FitOptions{Inputs: []string{in.Path}, Model: "levels"})
+	oc, err := pipelines.Fit(pipelines.FitOptions{Inputs: []string{in.Path}, Model: model.KindTermValues})
 	if err != nil {
 		return nil, err
 	}

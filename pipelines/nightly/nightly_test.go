@@ -641,7 +641,7 @@ func TestRecordConstants(t *testing.T) {
 	for _, c := range res.Constants {
 		got[c.Label()] = c
 	}
-	// Levels model of the 1-0 band: T_v1, B_v0, B_v1, D_v0, D_v1 fitted
+	// Term-values model of the 1-0 band: T_v1, B_v0, B_v1, D_v0, D_v1 fitted
 	// (T_v0 = 0 fixed, left out). Expected from the Dunham constants above:
 	// T_1 = G(1) − G(0) = Y10 + 2·Y20, B_v = Y01 + Y11(v+½), D_v = −Y02;
 	// within 5σ.

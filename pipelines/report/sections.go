@@ -15,6 +15,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/fit/model"
 )
 
 func sprintf(format string, a ...any) string { return fmt.Sprintf(format, a...) }
@@ -57,10 +58,10 @@ func buildDocument(f *folder, o Options) *document {
 
 func modelName(kind string) string {
 	switch kind {
-	case "dunham":
+	case model.KindDunham:
 		return "Dunham expansion"
-	case "levels":
-		return "Level-by-level (term values and rotational constants per vibrational level)"
+	case model.KindTermValues:
+		return "Term values (T_v and rotational constants per vibrational level)"
 	}
 	return kind
 }

@@ -7,10 +7,10 @@ import (
 	"strings"
 )
 
-// RotTerms are the rotational terms of the levels model in their fixed order.
+// RotTerms are the rotational terms of the term-values model in their fixed order.
 var RotTerms = []string{"B", "D", "H", "L"}
 
-// Levels is the band-by-band term-value model. For isotopologue s and
+// TermValues is the band-by-band term-value model. For isotopologue s and
 // vibrational level v,
 //
 //	E(v, J) = T_v + B_v·x − D_v·x² + H_v·x³ + L_v·x⁴,   x = J(J+1)   [cm⁻¹]
@@ -18,7 +18,7 @@ var RotTerms = []string{"B", "D", "H", "L"}
 // with one set of constants per level. T_v of the lowest level of each
 // isotopologue is held at 0 (the energy zero of that isotopologue); every other
 // T_v floats. Which rotational terms exist is chosen once for all levels.
-type Levels struct {
+type TermValues struct {
 	species []string
 	params  []Param
 	terms   []string       // rotational terms present, in RotTerms order
@@ -34,11 +34,11 @@ type LevelSpec struct {
 	V       []int
 }
 
-// NewLevels builds a levels model over the given levels with the rotational
+// NewTermValues builds a term-values model over the given levels with the rotational
 // terms listed in terms (a subset of B, D, H, L; "T" is accepted and ignored,
 // T_v always exists). Parameters named in fixes but absent from terms are added
 // as fixed parameters (for example --terms B --fix D=6.1e-6).
-func NewLevels(specs []LevelSpec, terms []string, fixes []Fix) (*Levels, error) {
+func NewTermValues(specs []LevelSpec, terms []string, fixes []Fix) (*TermValues, error) {
 	if len(specs) == 0 {
 		return nil, ErrNoLevels
 	}
@@ -49,7 +49,7 @@ func NewLevels(specs []LevelSpec, terms []string, fixes []Fix) (*Levels, error) 
 			continue
 		}
 		if !contains(RotTerms, t) {
-			return nil, fmt.Errorf("model: levels model has no term %q (terms: T, B, D, H, L)", t)
+			return nil, fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L)", t)
 		}
 		want[t] = true
 	}
@@ -58,7 +58,7 @@ func NewLevels(specs []LevelSpec, terms []string, fixes []Fix) (*Levels, error) 
 			want[f.Name] = true
 		}
 	}
-	m := &Levels{base: map[[2]int]int{}}
+	m := &TermValues{base: map[[2]int]int{}}
 	for _, t := range RotTerms {
 		if want[t] {
 			m.terms = append(m.terms, t)
@@ -100,26 +100,26 @@ func NewLevels(specs []LevelSpec, terms []string, fixes []Fix) (*Levels, error) 
 	return m, nil
 }
 
-// Kind returns KindLevels.
-func (m *Levels) Kind() string { return KindLevels }
+// Kind returns KindTermValues.
+func (m *TermValues) Kind() string { return KindTermValues }
 
 // Species returns the isotopologue labels.
-func (m *Levels) Species() []string { return append([]string(nil), m.species...) }
+func (m *TermValues) Species() []string { return append([]string(nil), m.species...) }
 
 // Params returns a copy of the parameter list.
-func (m *Levels) Params() []Param { return append([]Param(nil), m.params...) }
+func (m *TermValues) Params() []Param { return append([]Param(nil), m.params...) }
 
 // Terms returns the rotational terms present (subset of B, D, H, L).
-func (m *Levels) Terms() []string { return append([]string(nil), m.terms...) }
+func (m *TermValues) Terms() []string { return append([]string(nil), m.terms...) }
 
 // HasLevel reports whether level v of species s has parameters.
-func (m *Levels) HasLevel(s, v int) bool {
+func (m *TermValues) HasLevel(s, v int) bool {
 	_, ok := m.base[[2]int{s, v}]
 	return ok
 }
 
 // LevelsOf returns the vibrational levels of species s in ascending order.
-func (m *Levels) LevelsOf(s int) []int {
+func (m *TermValues) LevelsOf(s int) []int {
 	var vs []int
 	for k := range m.base {
 		if k[0] == s {
@@ -132,7 +132,7 @@ func (m *Levels) LevelsOf(s int) []int {
 
 // Index returns the index of the parameter name ("T", "B", …) of level v of
 // species s, or -1.
-func (m *Levels) Index(s, v int, name string) int {
+func (m *TermValues) Index(s, v int, name string) int {
 	b, ok := m.base[[2]int{s, v}]
 	if !ok {
 		return -1
@@ -150,7 +150,7 @@ func (m *Levels) Index(s, v int, name string) int {
 var termSign = map[string]float64{"B": 1, "D": -1, "H": 1, "L": 1}
 
 // Energy evaluates E(v, J) of species s; see the type's doc comment.
-func (m *Levels) Energy(s, v, J int, p []float64, grad []float64) float64 {
+func (m *TermValues) Energy(s, v, J int, p []float64, grad []float64) float64 {
 	b, ok := m.base[[2]int{s, v}]
 	if grad != nil {
 		clear(grad)
@@ -177,7 +177,7 @@ func (m *Levels) Energy(s, v, J int, p []float64, grad []float64) float64 {
 // Transition evaluates ν = E(v′, J′) − E(v″, J″) of species s term by term;
 // within one level (pure rotation) T_v cancels exactly and each rotational
 // term enters once with x′^n − x″^n. See model.Transitioner.
-func (m *Levels) Transition(s, vUp, jUp, vLo, jLo int, p []float64, grad []float64) (nu, mag float64) {
+func (m *TermValues) Transition(s, vUp, jUp, vLo, jLo int, p []float64, grad []float64) (nu, mag float64) {
 	bu, okU := m.base[[2]int{s, vUp}]
 	bl, okL := m.base[[2]int{s, vLo}]
 	if grad != nil {

@@ -14,7 +14,7 @@ import (
 
 // coLevelsY is 12C16O of Huber & Herzberg (1979, from memory) truncated to
 // Y10, Y20, Y01, Y11, Y02: then T_v = G(v) − G(0), B_v = Y01 + Y11(v+½) and
-// D_v = −Y02 exactly, so the levels model describes the lines without error
+// D_v = −Y02 exactly, so the term-values model describes the lines without error
 // and the derived B_e, α_e, ω_e, ω_e x_e must equal the Dunham values
 // (common practice: B_v = B_e − α_e(v+½), G(v) = ω_e(v+½) − ω_e x_e(v+½)²).
 func coLevelsY() yset {
@@ -36,7 +36,7 @@ func TestLevelsModel(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			lines := makeLines("12C16O", "lv.csv", y, irBranches(tc.bands, 30), 1e-4, nil)
-			r := mustFit(t, lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
+			r := mustFit(t, lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
 			levels := map[int]bool{}
 			for _, b := range tc.bands {
 				levels[b[0]], levels[b[1]] = true, true
@@ -93,7 +93,7 @@ func TestLevelsModel(t *testing.T) {
 func TestLevelsPureRotationOnly(t *testing.T) {
 	y := coLevelsY()
 	lines := makeLines("12C16O", "rot.csv", y, irBranches([][2]int{{0, 0}, {1, 1}}, 20), 1e-6, nil)
-	m, err := BuildModel(lines, ModelSpec{Kind: model.KindLevels, Terms: []string{"B", "D"}})
+	m, err := BuildModel(lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}})
 	if err != nil {
 		t.Fatal(err)
 	}
