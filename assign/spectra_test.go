@@ -113,7 +113,8 @@ func TestRotationCOMHz(t *testing.T) {
 		t.Error("uncertainties should be estimated from the scatter")
 	}
 	for _, a := range res.Lines {
-		// R(0) of 12C16O near 115 271.2 MHz (CDMS/JPL catalogues; from memory).
+		// R(0) of 12C16O, the J = 1 ← 0 rotational line measured near
+		// 115 271.2 MHz by millimetre-wave spectroscopy (from memory).
 		if a.JLo == 0 && !near(a.Peak.Position, 115271.2, 0.5) {
 			t.Errorf("R(0) at %v MHz", a.Peak.Position)
 		}

@@ -24,17 +24,7 @@ func checkCovariance(ps []Param, cov [][]float64) error {
 	var sig []float64
 	for _, p := range ps {
 		if !p.Fixed {
-			n := p.Name
-			if p.V != nil {
-				n = fmt.Sprintf("%s_v%d", p.Name, *p.V)
-			}
-			if p.Species != "" && p.K == nil && p.Element == "" {
-				n += "[" + p.Species + "]"
-			}
-			if p.File != "" {
-				n += "[" + p.File + "]"
-			}
-			names = append(names, n)
+			names = append(names, p.ID())
 			sig = append(sig, p.Sigma)
 		}
 	}

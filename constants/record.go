@@ -18,6 +18,7 @@ import (
 	"encoding/json"
 	"io"
 	"math"
+	"strconv"
 )
 
 // Schema is the schema tag of constants records this version writes and reads.
@@ -64,6 +65,20 @@ type Param struct {
 	Value   float64 `json:"value"`
 	Sigma   float64 `json:"sigma"`
 	Fixed   bool    `json:"fixed"`
+}
+
+// ID is the parameter's name as --fix takes it and as every output writes
+// it: "B_v1[13C16O]" (term values), "Y01" (Dunham), "BOB01_C" (breakdown),
+// "kappa[FILE]" (calibration factor). It equals model.Param.ID of the model
+// parameter.
+func (p Param) ID() string {
+	switch {
+	case p.Name == kappa:
+		return kappa + "[" + p.File + "]"
+	case p.V != nil:
+		return p.Name + "_v" + strconv.Itoa(*p.V) + "[" + p.Species + "]"
+	}
+	return p.Name
 }
 
 // Provenance says where a record came from.
@@ -157,7 +172,8 @@ type Derived struct {
 	Note    string  `json:"note,omitempty"`
 }
 
-// Rounding records Watson's sequential rounding of a fit.
+// Rounding records the sequential rounding and refitting of a fit (Le Roy
+// 1998, with Watson's 1977 parameter sensitivity for the rounding units).
 type Rounding struct {
 	// Steps lists the parameters in the order they were rounded, with the
 	// rounding unit used.

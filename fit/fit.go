@@ -60,7 +60,8 @@ type Settings struct {
 	// Calibrate floats one multiplicative factor κ_f per input file except the
 	// first.
 	Calibrate bool
-	// Round applies Watson's sequential rounding after the fit.
+	// Round applies sequential rounding and refitting after the fit (Le Roy
+	// 1998; rounding units from Watson's parameter sensitivity, 1977).
 	Round bool
 	// RankTolerance is passed to the least-squares engine (0: its default).
 	RankTolerance float64

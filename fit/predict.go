@@ -87,10 +87,11 @@ func Predict(c *constants.Set, sp string, bands []linelist.Band, jmax int, branc
 }
 
 // WritePredictions writes predictions as CSV in the line-list column names
-// (species, v_up, J_up, v_lo, J_lo, branch, position, sigma, unit).
+// (species, v_up, J_up, v_lo, J_lo, branch, position, unc, unit), unc being
+// the 1σ of the calculated position.
 func WritePredictions(w io.Writer, ps []Prediction) error {
 	cw := csv.NewWriter(w)
-	cw.Write([]string{"species", "v_up", "J_up", "v_lo", "J_lo", "branch", "position", "sigma", "unit"})
+	cw.Write([]string{"species", "v_up", "J_up", "v_lo", "J_lo", "branch", "position", "unc", "unit"})
 	for _, p := range ps {
 		cw.Write([]string{p.Species, strconv.Itoa(p.VUp), strconv.Itoa(p.JUp), strconv.Itoa(p.VLo), strconv.Itoa(p.JLo), p.Branch,
 			strconv.FormatFloat(p.Position, 'f', 6, 64), strconv.FormatFloat(p.Sigma, 'g', 3, 64), "cm-1"})

@@ -9,8 +9,10 @@ import (
 	"bandwright/units"
 )
 
-// round applies sequential rounding (J.K.G. Watson, J. Mol. Spectrosc. 66 (1977)
-// 500): the free parameter with the largest relative uncertainty is rounded to
+// round applies sequential rounding and refitting (R. J. Le Roy, J. Mol.
+// Spectrosc. 191 (1998) 223), with the parameter sensitivity of J. K. G.
+// Watson (J. Mol. Spectrosc. 66 (1977) 500) setting each rounding unit: the
+// free parameter with the largest relative uncertainty is rounded to
 // the coarsest power of ten not larger than a tenth of its conditional standard
 // deviation σ_c = s/‖a_j‖ (its σ with every other parameter held, ‖a_j‖ the
 // norm of its weighted design column), held at the rounded value, and the

@@ -22,8 +22,9 @@ func decimals(x float64) int {
 	return 0
 }
 
-// TestSequentialRounding applies sequential rounding (J.K.G. Watson, J. Mol.
-// Spectrosc. 66 (1977) 500) to a noisy CO fit: each parameter is rounded to a
+// TestSequentialRounding applies sequential rounding and refitting (Le Roy,
+// J. Mol. Spectrosc. 191 (1998) 223; rounding units from Watson's parameter
+// sensitivity, J. Mol. Spectrosc. 66 (1977) 500) to a noisy CO fit: each parameter is rounded to a
 // power of ten between σ_c/100 and σ_c/10 of its conditional σ, the rounded
 // value has no more digits than that unit, χ² grows by less than 1 %, and the
 // σ stay those of the unrounded fit.

@@ -21,7 +21,7 @@ import (
 // csvcell.Neutralise. Rows are formatted into one reused buffer.
 func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 	bw := bufio.NewWriterSize(w, 64<<10)
-	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status", "note", "comment"}
+	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_minus_c", "o_minus_c_over_unc", "status", "note", "comment"}
 	n := csvcell.Neutralise
 	var b []byte
 	for k, h := range head {
@@ -133,19 +133,15 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 		if q.Fixed {
 			note = "fixed"
 		}
-		name := q.Name
-		if q.V >= 0 {
-			name = fmt.Sprintf("%s (v=%d)", q.Name, q.V)
-		}
-		fmt.Fprintf(&b, "| %s | %s | %s | %s |\n", name, mdEscape(sp), constants.FormatParen(q.Value, q.Sigma), note)
+		fmt.Fprintf(&b, "| %s | %s | %s | %s |\n", mdEscape(q.ID()), mdEscape(sp), constants.FormatParen(q.Value, q.Sigma), note)
 	}
 	for _, c := range r.Calib {
 		if !c.Fixed {
-			fmt.Fprintf(&b, "| κ | %s | %s | calibration factor |\n", mdEscape(c.File), constants.FormatParen(c.Kappa, c.Sigma))
+			fmt.Fprintf(&b, "| %s | %s | %s | calibration factor κ |\n", mdEscape("kappa["+c.File+"]"), mdEscape(c.File), constants.FormatParen(c.Kappa, c.Sigma))
 		}
 	}
 	if r.Rounding != nil {
-		fmt.Fprintf(&b, "\nValues rounded by sequential rounding (Watson 1977); χ² %.6g before, %.6g after rounding. σ are those of the unrounded fit.\n", r.Rounding.Chi2Before, r.Rounding.Chi2After)
+		fmt.Fprintf(&b, "\nValues rounded by sequential rounding and refitting (Le Roy 1998; rounding units from Watson's parameter sensitivity, 1977); χ² %.6g before, %.6g after rounding. σ are those of the unrounded fit.\n", r.Rounding.Chi2Before, r.Rounding.Chi2After)
 	}
 	if len(r.Derived) > 0 {
 		b.WriteString("\n## Derived constants\n\n| constant | species | value | unit | note |\n|---|---|---|---|---|\n")

@@ -56,7 +56,7 @@ func TestWriteResidualsCSV(t *testing.T) {
 	var want bytes.Buffer
 	cw := csv.NewWriter(&want)
 	n := csvcell.Neutralise
-	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status", "note", "comment"}
+	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_minus_c", "o_minus_c_over_unc", "status", "note", "comment"}
 	for _, e := range extra {
 		head = append(head, n(e))
 	}

@@ -226,12 +226,12 @@ func TestRunFitEndToEnd(t *testing.T) {
 	}
 	used := 0
 	for i, row := range rows[1:] {
-		omc, err := strconv.ParseFloat(row[col["o_c"]], 64)
+		omc, err := strconv.ParseFloat(row[col["o_minus_c"]], 64)
 		if err != nil {
-			t.Fatalf("row %d: o_c %q", i+2, row[col["o_c"]])
+			t.Fatalf("row %d: o_minus_c %q", i+2, row[col["o_minus_c"]])
 		}
 		if !scalar.EqualWithinAbsOrRel(omc, oc.Result.Lines[i].OmC, 1e-12, 1e-5) {
-			t.Errorf("row %d: o_c %g, fit %g", i+2, omc, oc.Result.Lines[i].OmC)
+			t.Errorf("row %d: o_minus_c %g, fit %g", i+2, omc, oc.Result.Lines[i].OmC)
 		}
 		if row[col["status"]] == "used" {
 			used++

@@ -44,7 +44,7 @@ func fitCommand() *cli.Command {
 			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: term-values B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,… (default: B,D or Y10,Y20,Y01,Y11,Y02)"},
 			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…); repeatable"},
 			&cli.Float64Flag{Name: "reject", Value: fit.DefaultReject, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
-			&cli.BoolFlag{Name: "round", Usage: "sequential rounding of the constants (Watson 1977)"},
+			&cli.BoolFlag{Name: "round", Usage: "sequential rounding and refitting of the constants (Le Roy 1998)"},
 			&cli.BoolFlag{Name: "bob", Usage: "Born–Oppenheimer-breakdown terms for Y10 and Y01 of each substituted element (dunham)"},
 			&cli.StringSliceFlag{Name: "bob-terms", Usage: "the Dunham terms that get breakdown terms (implies --bob)"},
 			&cli.BoolFlag{Name: "calibrate", Usage: "float a multiplicative calibration factor per file (the first file is the reference)"},

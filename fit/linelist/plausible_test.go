@@ -83,7 +83,7 @@ func TestUnitsWithoutUnitColumn(t *testing.T) {
 }
 
 // TestPureRotationInMHz: a CO pure-rotation line J=1-0 in MHz written without a unit
-// (115 271 MHz, CDMS catalogue value from memory) is refused: as cm-1 it would be
+// (115 271 MHz, its measured millimetre-wave frequency, from memory) is refused: as cm-1 it would be
 // beyond every dissociation energy; a heavy molecule's low-J line in MHz, below that
 // bound, is still refused because it implies a rotational constant no molecule has.
 func TestPureRotationInMHz(t *testing.T) {

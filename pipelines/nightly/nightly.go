@@ -112,21 +112,17 @@ type JobResult struct {
 	Inputs []FileHash
 }
 
-// Constant is one constant of a result with its 1σ uncertainty.
+// Constant is one constant of a result with its 1σ uncertainty. Name is the
+// constant as every output writes it, the way --fix takes a parameter:
+// "B_v0[12C16O]", "Y01", and "B_e[13C16O]" for a derived constant of one
+// isotopologue. Species, Name and Unit together identify a constant in the
+// history.
 type Constant struct {
 	Species string  `json:"species"`
 	Name    string  `json:"name"`
 	Value   float64 `json:"value"`
 	Sigma   float64 `json:"sigma"`
 	Unit    string  `json:"unit"`
-}
-
-// Label is the name with the species in brackets, "B_v0[12C16O]".
-func (c Constant) Label() string {
-	if c.Species == "" {
-		return c.Name
-	}
-	return c.Name + "[" + c.Species + "]"
 }
 
 // Options configure a run. The zero values of Workers, Shard/Shards, Now,

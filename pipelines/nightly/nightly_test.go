@@ -83,7 +83,7 @@ func TestFirstRunThenNothing(t *testing.T) {
 	}
 	var b0 *nightly.Constant
 	for _, c := range m.Constants {
-		if c.Name == "B_v0" && c.Species == "12C16O" {
+		if c.Name == "B_v0[12C16O]" && c.Species == "12C16O" {
 			c := c
 			b0 = &c
 		}
@@ -458,14 +458,14 @@ func TestDriftFlagged(t *testing.T) {
 	flagged := map[string]float64{}
 	for _, d := range rep.Files[0].Drift {
 		if d.N != 4 {
-			t.Errorf("%s: %d earlier results, want 4", d.Label(), d.N)
+			t.Errorf("%s: %d earlier results, want 4", d.Name, d.N)
 		}
 		if d.Flagged {
 			flagged[d.Name] = d.Z
 		}
 	}
 	// The band origin T_v1 = ν₀ moves by 1e-5·2143 ≈ 0.021 cm⁻¹.
-	if z, ok := flagged["T_v1"]; !ok || z < 5 {
+	if z, ok := flagged["T_v1[12C16O]"]; !ok || z < 5 {
 		t.Errorf("T_v1 not flagged: %v", rep.Files[0].Drift)
 	}
 	// history.csv says so, and the summary of day 2 lists it.
@@ -639,7 +639,7 @@ func TestRecordConstants(t *testing.T) {
 	}
 	got := map[string]nightly.Constant{}
 	for _, c := range res.Constants {
-		got[c.Label()] = c
+		got[c.Name] = c
 	}
 	// Term-values model of the 1-0 band: T_v1, B_v0, B_v1, D_v0, D_v1 fitted
 	// (T_v0 = 0 fixed, left out). Expected from the Dunham constants above:

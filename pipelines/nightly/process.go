@@ -323,7 +323,7 @@ func (r *runner) noteDrift(fo FileOutcome) {
 	for _, d := range fo.Drift {
 		if d.Flagged {
 			r.note("nightly: DRIFT %s: %s = %s %s is %.1f combined σ from the weighted mean %s of %d earlier results",
-				fo.Input, d.Label(), fmtF(d.Value), d.Unit, d.Z, fmtF(d.Mean), d.N)
+				fo.Input, d.Name, fmtF(d.Value), d.Unit, d.Z, fmtF(d.Mean), d.N)
 		}
 	}
 }
@@ -516,7 +516,7 @@ func finite(cs []Constant) ([]Constant, []string) {
 	var notes []string
 	for _, c := range cs {
 		if math.IsNaN(c.Value) || math.IsInf(c.Value, 0) || math.IsNaN(c.Sigma) || math.IsInf(c.Sigma, 0) || c.Sigma < 0 {
-			notes = append(notes, fmt.Sprintf("constant %s dropped from the history: value %g, σ %g", c.Label(), c.Value, c.Sigma))
+			notes = append(notes, fmt.Sprintf("constant %s dropped from the history: value %g, σ %g", c.Name, c.Value, c.Sigma))
 			continue
 		}
 		out = append(out, c)

@@ -113,7 +113,7 @@ func (r *runner) writeSummary(date string, extra *Report) (string, string, error
 			}
 			v, _ := strconv.ParseFloat(rec[5], 64)
 			s, _ := strconv.ParseFloat(rec[6], 64)
-			c := sumConst{Input: rec[1], Constant: label(rec[3], rec[4]), Value: constants.FormatParen(v, s), Unit: rec[7],
+			c := sumConst{Input: rec[1], Constant: rec[4], Value: constants.FormatParen(v, s), Unit: rec[7],
 				N: rec[8], Flagged: rec[12] != ""}
 			if z, err := strconv.ParseFloat(rec[11], 64); err == nil {
 				c.Z = strconv.FormatFloat(z, 'f', 1, 64)
@@ -165,10 +165,6 @@ func short(sha string) string {
 		return sha
 	}
 	return sha[:8]
-}
-
-func label(species, name string) string {
-	return Constant{Species: species, Name: name}.Label()
 }
 
 var summaryHTML = template.Must(template.New("summary").Parse(`<!DOCTYPE html>

@@ -268,7 +268,7 @@ func readResiduals(b []byte, name string) ([]residual, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := t.require("file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "unit", "obs", "unc", "calc", "o_c", "o_c_over_unc", "status"); err != nil {
+	if err := t.require("file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "unit", "obs", "unc", "calc", "o_minus_c", "o_minus_c_over_unc", "status"); err != nil {
 		return nil, err
 	}
 	out := make([]residual, 0, len(t.rows))
@@ -294,7 +294,7 @@ func readResiduals(b []byte, name string) ([]residual, error) {
 		for _, q := range []struct {
 			col string
 			dst *float64
-		}{{"obs", &r.obs}, {"unc", &r.unc}, {"calc", &r.calc}, {"o_c", &r.oc}, {"o_c_over_unc", &r.norm}} {
+		}{{"obs", &r.obs}, {"unc", &r.unc}, {"calc", &r.calc}, {"o_minus_c", &r.oc}, {"o_minus_c_over_unc", &r.norm}} {
 			if *q.dst, err = t.float(i, q.col); err != nil {
 				return nil, err
 			}

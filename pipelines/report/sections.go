@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
@@ -134,22 +133,6 @@ func glance(d *document, f *folder) {
 	}
 }
 
-// paramLabel names a parameter of the record for tables and axes.
-func paramLabel(p constants.Param, multi bool) string {
-	if p.Name == "kappa" {
-		b := filepath.Base(p.File)
-		return "κ " + strings.TrimSuffix(b, filepath.Ext(b))
-	}
-	l := p.Name
-	if p.V != nil {
-		l += sprintf(" v=%d", *p.V)
-	}
-	if multi && p.Species != "" {
-		l += " " + p.Species
-	}
-	return l
-}
-
 // constantsSection lists the fitted and derived constants.
 func constantsSection(d *document, f *folder) {
 	rec := f.record
@@ -170,9 +153,9 @@ func constantsSection(d *document, f *folder) {
 		if p.Fixed {
 			role = "fixed"
 		}
-		name := p.Name
+		name := p.ID()
 		if p.Name == "kappa" {
-			name, to, unit = "κ", p.File, "1"
+			to, unit = p.File, "1"
 			if p.Fixed {
 				role = "reference file (κ = 0)"
 			} else {
@@ -183,7 +166,7 @@ func constantsSection(d *document, f *folder) {
 	}
 	d.table(s, t)
 	if r := rec.Rounding; r != nil {
-		s.para("The values were rounded one after another (sequential rounding, Watson 1977); χ² %s before rounding and %s after. σ are those of the unrounded fit.", num(r.Chi2Before, 7), num(r.Chi2After, 7))
+		s.para("The values were rounded one after another (sequential rounding and refitting, Le Roy 1998, with rounding units from Watson's parameter sensitivity, 1977); χ² %s before rounding and %s after. σ are those of the unrounded fit.", num(r.Chi2Before, 7), num(r.Chi2After, 7))
 		rt := &table{Caption: "Rounding, in the order it was done.", Head: []string{"parameter", "unrounded", "rounded", "rounding unit", "conditional σ"}, Numeric: []bool{false, true, true, true, true}}
 		for _, st := range r.Steps {
 			rt.Rows = append(rt.Rows, []string{st.Param, num(st.Unrounded, 12), num(st.Rounded, 12), num(st.Unit, 3), num(st.CondSigma, 3)})
@@ -216,16 +199,9 @@ func correlations(d *document, f *folder) {
 	rec := f.record
 	s := d.section("correlations", "Parameter correlations")
 	var names []string
-	spp := map[string]bool{}
-	for _, p := range rec.Parameters {
-		if !p.Fixed && p.Species != "" {
-			spp[p.Species] = true
-		}
-	}
-	multi := len(spp) > 1
 	for _, p := range rec.Parameters {
 		if !p.Fixed {
-			names = append(names, paramLabel(p, multi))
+			names = append(names, p.ID())
 		}
 	}
 	n := len(names)
