@@ -1,0 +1,117 @@
+package fit
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"bandwright/constants"
+	"bandwright/fit/linelist"
+	"bandwright/fit/model"
+	"bandwright/units"
+)
+
+// Assembling the Result of a finished solve: parameters with σ, calibration
+// factors, per-line residuals, statistics and the significance warnings.
+
+// result assembles the Result of the current solution.
+func (w *work) result() *Result {
+	r := &Result{Model: w.p.Model, Files: w.files, Status: w.status}
+	chi2, dof := w.chi2()
+	s := 1.0
+	if dof > 0 {
+		s = math.Sqrt(chi2 / float64(dof))
+	} else {
+		w.warn = append(w.warn, "no degrees of freedom (as many lines as parameters): uncertainties are not scaled by the fit's standard deviation and the residuals cannot test the model")
+	}
+	nc := w.res.Cov.SymmetricDim()
+	r.Cov = mat.NewSymDense(nc, nil)
+	r.Cov.ScaleSym(s*s, w.res.Cov)
+	r.Params = make([]model.Param, len(w.params))
+	copy(r.Params, w.params)
+	for j := range r.Params {
+		r.Params[j].Value = w.values[j]
+		r.Params[j].Sigma = 0
+	}
+	r.Free = append([]int(nil), w.free...)
+	for c, j := range r.Free {
+		r.Params[j].Sigma = math.Sqrt(r.Cov.At(c, c))
+	}
+	kc := len(r.Free)
+	for f, file := range w.files {
+		c := Calibration{File: file, Kappa: w.kappa[f], Fixed: true}
+		if w.s.Calibrate && f > 0 {
+			c.Fixed = false
+			c.Sigma = math.Sqrt(r.Cov.At(kc, kc))
+			kc++
+		}
+		if w.s.Calibrate {
+			r.Calib = append(r.Calib, c)
+		}
+	}
+	r.Lines = make([]LineResult, len(w.p.Lines))
+	var sumCm, sumMHz float64
+	var nMHz int
+	for i, l := range w.p.Lines {
+		c := w.calc(i)
+		omc := w.obs[i] - c
+		lr := LineResult{Used: w.used[i], Reason: w.reason[i]}
+		if l.Unit == linelist.MHz {
+			lr.Calc = c * units.MHzPerWavenumber
+			lr.OmC = l.Position - lr.Calc
+		} else {
+			lr.Calc = c
+			lr.OmC = l.Position - c
+		}
+		lr.Norm = lr.OmC / l.Unc
+		r.Lines[i] = lr
+		if w.used[i] {
+			sumCm += omc * omc
+			if l.Unit == linelist.MHz {
+				sumMHz += lr.OmC * lr.OmC
+				nMHz++
+			}
+		}
+	}
+	r.Bands, r.Observed = coverage(w.p.Lines, w.used)
+	used := w.countUsed()
+	r.Stats = constants.Stats{
+		Lines: len(w.p.Lines), Used: used, Rejected: len(w.p.Lines) - used,
+		Params: nc, DOF: dof, Chi2: chi2, Sigma: s,
+		RMSCm:     math.Sqrt(sumCm / float64(max(used, 1))),
+		Condition: w.res.Condition, Iter: w.iter,
+	}
+	if dof <= 0 {
+		r.Stats.Sigma = math.NaN()
+	}
+	if nMHz > 0 {
+		r.Stats.RMSMHz = math.Sqrt(sumMHz / float64(nMHz))
+		r.Stats.LinesMHz = nMHz
+	}
+	r.Warnings = append(r.Warnings, w.warn...)
+	r.Warnings = append(r.Warnings, significanceWarnings(r)...)
+	return r
+}
+
+// significanceWarnings flags parameters with |value|/σ < 3 and pairs with
+// |correlation| > 0.999.
+func significanceWarnings(r *Result) []string {
+	var out []string
+	for _, j := range r.Free {
+		p := r.Params[j]
+		if p.Sigma > 0 && math.Abs(p.Value) < 3*p.Sigma {
+			out = append(out, fmt.Sprintf("%s = %s is less than 3σ from zero: the data barely determine it; consider removing it or fixing it at a literature value", p.ID(), constants.FormatParen(p.Value, p.Sigma)))
+		}
+	}
+	names := r.CovNames()
+	c := r.Correlation()
+	for i := 0; i < len(names); i++ {
+		for j := i + 1; j < len(names); j++ {
+			if math.Abs(c.At(i, j)) > 0.999 {
+				out = append(out, fmt.Sprintf("%s and %s are correlated at %.5f: their individual values are poorly defined", names[i], names[j], c.At(i, j)))
+			}
+		}
+	}
+	return out
+}
