@@ -15,22 +15,36 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 	for _, c := range cs {
 		byFile[c.file] = c
 	}
-	lines := rd.list.Lines
-
-	// Bands of files without a unit column whose reduced positions spread too far.
-	type bandKey struct {
-		file, species string
-		vUp, vLo      int
+	mixed := rd.checkMixedBands(byFile)
+	rd.checkWavenumbers(byFile, mixed)
+	if err := merge(cs...); err != nil {
+		return err
 	}
+	rd.warnDuplicates()
+	return nil
+}
+
+// unitBand is a band of one file, the unit in which the check of mixed units
+// compares positions.
+type unitBand struct {
+	file, species string
+	vUp, vLo      int
+}
+
+// checkMixedBands reports the bands of files without a unit column whose
+// reduced positions spread over more than MixedUnitRatio (a mix of cm⁻¹ and
+// MHz), and returns them.
+func (rd *reader) checkMixedBands(byFile map[string]*collector) map[unitBand]bool {
+	lines := rd.list.Lines
 	type extent struct {
 		min, max   float64
 		minI, maxI int
 	}
-	var order []bandKey
-	bands := map[bandKey]*extent{}
+	var order []unitBand
+	bands := map[unitBand]*extent{}
 	// Lines usually come band by band: remember the last band to spare a
 	// map lookup (string hashing) per line on the hot path of large files.
-	var lastKey bandKey
+	var lastKey unitBand
 	var last *extent
 	lastFile, lastNoUnit := "", false
 	for i := range lines {
@@ -41,7 +55,7 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 		if !lastNoUnit {
 			continue
 		}
-		k := bandKey{l.File, l.Species, l.VUp, l.VLo}
+		k := unitBand{l.File, l.Species, l.VUp, l.VLo}
 		r := reducedPosition(l)
 		e := last
 		if last == nil || k != lastKey {
@@ -61,7 +75,7 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 			e.max, e.maxI = r, i
 		}
 	}
-	mixed := map[bandKey]bool{}
+	mixed := map[unitBand]bool{}
 	for _, k := range order {
 		e := bands[k]
 		if e.max > MixedUnitRatio*e.min {
@@ -71,15 +85,20 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 			if hi.VUp == hi.VLo {
 				per = " per unit of J(J+1)"
 			}
-			byFile[k.file].add(hi.Row, "position", "%s is%s %.3g times that of row %d (%s) in the same band (%s %d-%d): the file seems to mix cm-1 and MHz; add a unit column (cm-1 or MHz) saying which each row is",
-				fmtPos(hi.Position), per, e.max/e.min, lo.Row, fmtPos(lo.Position), k.species, k.vUp, k.vLo)
+			byFile[k.file].add(hi.Row, "position", "%s is%s %.3g times that of row %d (%s) in the same band (%s %s): the file seems to mix cm-1 and MHz; add a unit column (cm-1 or MHz) saying which each row is",
+				fmtPos(hi.Position), per, e.max/e.min, lo.Row, fmtPos(lo.Position), k.species, BandLabel(k.vUp, k.vLo))
 		}
 	}
+	return mixed
+}
 
-	// Rows whose position cannot be in cm⁻¹.
-	for i := range lines {
-		l := &lines[i]
-		if l.Unit != Wavenumber || (len(mixed) > 0 && mixed[bandKey{l.File, l.Species, l.VUp, l.VLo}]) {
+// checkWavenumbers reports rows in cm⁻¹ whose position cannot be one: beyond
+// MaxWavenumber, or a pure-rotation line implying a rotational constant above
+// MaxRotationalConstant. Bands already reported as mixed are skipped.
+func (rd *reader) checkWavenumbers(byFile map[string]*collector, mixed map[unitBand]bool) {
+	for i := range rd.list.Lines {
+		l := &rd.list.Lines[i]
+		if l.Unit != Wavenumber || (len(mixed) > 0 && mixed[unitBand{l.File, l.Species, l.VUp, l.VLo}]) {
 			continue
 		}
 		hint := "is the row's unit MHz? say so in its unit column"
@@ -98,11 +117,13 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 			}
 		}
 	}
-	if err := merge(cs...); err != nil {
-		return err
-	}
+}
 
-	// Lines given twice.
+// warnDuplicates adds a warning for every line with the species, quantum
+// numbers, position and unit of an earlier one (up to MaxProblems, then a
+// count).
+func (rd *reader) warnDuplicates() {
+	lines := rd.list.Lines
 	type lineKey struct {
 		species            string
 		vUp, jUp, vLo, jLo int
@@ -136,7 +157,6 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 		rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: 0,
 			Reason: fmt.Sprintf("… and %d more duplicate lines (%d in all)", dups-MaxProblems, dups)})
 	}
-	return nil
 }
 
 // reducedPosition is the position of a line divided, for pure rotation (v_up =
