@@ -54,7 +54,7 @@ func startTOML(ref string, eq [6]float64, p perturb, others ...string) string {
 }
 
 // Huber & Herzberg (1979) equilibrium constants, as widely quoted; from
-// memory (references.md): ωe, ωexe, ωeye, Be, αe, De in cm⁻¹.
+// memory (docs/references.md): ωe, ωexe, ωeye, Be, αe, De in cm⁻¹.
 var (
 	eqCO  = [6]float64{2169.81358, 13.28831, 0.010511, 1.93128087, 0.01750441, 6.12147e-6}
 	eqHCl = [6]float64{2990.946, 52.8186, 0.2243, 10.59341, 0.30718, 5.3194e-4}

@@ -45,7 +45,7 @@ func TestSpinWeights(t *testing.T) {
 }
 
 // The partition function of CO at 296 K against the Mulholland expansion of
-// the rotational partition function (references.md) times the harmonic
+// the rotational partition function (docs/references.md) times the harmonic
 // vibrational factor 1/(1 − exp(−c₂ωe/T)): the level sum includes the
 // vibrational anharmonicity and centrifugal distortion, so agreement to 1e-3
 // relative is expected. And the strongest R line sits near

@@ -15,7 +15,7 @@ import (
 // constants, an independent line generator, and lookups into a Result.
 
 // hhConst is a row of the table of ground-state constants of Huber & Herzberg,
-// Constants of Diatomic Molecules (1979), as restated in references.md; all
+// Constants of Diatomic Molecules (1979), as restated in docs/references.md; all
 // values from memory. Energies in cm⁻¹, re in Å.
 type hhConst struct {
 	label          string
@@ -28,7 +28,7 @@ type hhConst struct {
 	raman          bool // O, Q, S branches and pure-rotation S lines instead of P and R
 }
 
-// Huber & Herzberg (1979), from memory (references.md).
+// Huber & Herzberg (1979), from memory (docs/references.md).
 var (
 	hhCO = hhConst{label: "12C16O", we: 2169.81358, wexe: 13.28831, weye: 0.010511, be: 1.93128087, ae: 0.01750441, de: 6.12147e-6, re: 1.128323, hasWeye: true,
 		bands: [][2]int{{1, 0}, {2, 1}, {3, 2}, {2, 0}}, jmax: 30}
@@ -85,7 +85,7 @@ func termEnergy(y yset, v, J int) float64 {
 }
 
 // massScaled returns Y_kl·(μ_ref/μ)^((k+2l)/2), the first-order Dunham isotope
-// relation Y_kl ∝ μ^−(k/2+l) (references.md).
+// relation Y_kl ∝ μ^−(k/2+l) (docs/references.md).
 func massScaled(y yset, muRef, mu float64) yset {
 	out := yset{}
 	for kl, c := range y {

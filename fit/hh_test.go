@@ -15,7 +15,7 @@ import (
 var hhAll = []hhConst{hhCO, hhHCl, hhN2, hhHF}
 
 // TestHuberHerzbergExact generates lines from the Huber & Herzberg (1979)
-// constants (from memory, references.md) with no noise and fits them back
+// constants (from memory, docs/references.md) with no noise and fits them back
 // with the same Dunham terms: every constant must come back to a relative
 // 1e-8.
 func TestHuberHerzbergExact(t *testing.T) {

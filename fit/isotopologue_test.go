@@ -15,7 +15,7 @@ import (
 // TestJointIsotopologues fits two isotopologues jointly. The second one's
 // lines are generated from the reference Y_kl of Huber & Herzberg (1979, from
 // memory) by the first-order Dunham isotope relation Y_kl ∝ μ^−(k/2+l)
-// (references.md); the fit must return the reference Y_kl and derive the
+// (docs/references.md); the fit must return the reference Y_kl and derive the
 // second isotopologue's Y_kl equal to the mass-scaled values.
 func TestJointIsotopologues(t *testing.T) {
 	cases := []struct {
@@ -51,7 +51,7 @@ func TestJointIsotopologues(t *testing.T) {
 }
 
 // TestBornOppenheimerBreakdown generates HCl and DCl lines whose Y01 carries
-// a known breakdown constant Δ01^H in the form of references.md,
+// a known breakdown constant Δ01^H in the form of docs/references.md,
 //
 //	Y01(s) = U01 μ_s^−1 [1 + (m_e/M_H(s)) Δ01^H],
 //

@@ -23,7 +23,7 @@ import (
 
 // coY are the Dunham coefficients Y_kl (cm⁻¹) of 12C16O X¹Σ⁺ from the constants
 // of Huber & Herzberg, Constants of Diatomic Molecules (1979), from memory
-// (references.md): Y10 = ωe, Y20 = −ωexe, Y30 = ωeye, Y01 = Be, Y11 = −αe,
+// (docs/references.md): Y10 = ωe, Y20 = −ωexe, Y30 = ωeye, Y01 = Be, Y11 = −αe,
 // Y02 = −De.
 var coY = map[[2]int]float64{
 	{1, 0}: 2169.81358, {2, 0}: -13.28831, {3, 0}: 0.010511,
@@ -32,7 +32,7 @@ var coY = map[[2]int]float64{
 
 // genSpec describes a generated line list: isotopologues whose Y_kl are
 // mass-scaled from 12C16O by the first-order Dunham relation
-// Y_kl ∝ μ^−(k/2+l) (references.md), the bands, the highest lower-state J,
+// Y_kl ∝ μ^−(k/2+l) (docs/references.md), the bands, the highest lower-state J,
 // the number of independent measurements of each line, and the noise.
 type genSpec struct {
 	extra   map[[2]int]float64 // further Y_kl of 12C16O added to coY

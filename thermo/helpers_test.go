@@ -12,7 +12,7 @@ import (
 
 // hh holds Huber–Herzberg constants of a ground state (cm⁻¹).
 // Huber & Herzberg, Constants of Diatomic Molecules (1979), as widely quoted;
-// from memory (see the project's shared references.md).
+// from memory (see docs/references.md).
 type hh struct {
 	label                         string
 	we, wexe, weye, be, alpha, de float64

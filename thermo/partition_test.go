@@ -27,7 +27,7 @@ func rigidRotor(t *testing.T, label string, b float64) (*constants.Record, *cons
 
 // TestRigidRotor: for a rigid rotor Q equals the exact sum Σ(2J+1)e^(−c₂BJ(J+1)/T)
 // (computed here independently), and above about 50 K the closed form kT/(σhcB)
-// with Mulholland's series (Mulholland 1928, references.md) meets it to 1e-6.
+// with Mulholland's series (Mulholland 1928, docs/references.md) meets it to 1e-6.
 // B = 1.93128 cm⁻¹ (CO, Huber–Herzberg Be, from memory) and, for σ = 2 with the
 // nuclear-spin weights of 14N2, B = 1.99824 cm⁻¹ (N2, same source).
 func TestRigidRotor(t *testing.T) {

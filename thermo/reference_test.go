@@ -17,7 +17,7 @@ func TestReferenceTables(t *testing.T) {
 	cases := []struct {
 		c     hh
 		s, cp float64 // reference values, J mol⁻¹ K⁻¹; cp 0: no reference
-		mNat  float64 // natural-composition molar mass, g/mol (references.md)
+		mNat  float64 // natural-composition molar mass, g/mol (docs/references.md)
 	}{
 		// S°: CODATA Key Values for Thermodynamics (Cox, Wagman & Medvedev 1989), from memory.
 		// Cp°: JANAF Thermochemical Tables (Chase, 4th ed. 1998), from memory.
@@ -35,7 +35,7 @@ func TestReferenceTables(t *testing.T) {
 				t.Fatal(err)
 			}
 			if m := res.Conventions.MolarMass; !scalar.EqualWithinAbs(m, tc.mNat, 5e-4) {
-				t.Errorf("natural molar mass %.5f g/mol, references.md gives %.4f", m, tc.mNat)
+				t.Errorf("natural molar mass %.5f g/mol, docs/references.md gives %.4f", m, tc.mNat)
 			}
 			r := res.Rows[0]
 			t.Logf("%s: S° = %.4f (ref %.3f, Δ %+.4f), Cp° = %.4f (ref %.3f), σ(S) = %.2g, σ(Cp) = %.2g, levels %d",

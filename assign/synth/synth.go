@@ -51,7 +51,7 @@ func Equilibrium(we, wexe, weye, be, ae, de float64) []Term {
 
 // Reference constants of ground electronic states, Huber & Herzberg,
 // Constants of Diatomic Molecules (1979), as widely quoted; from memory
-// (references.md).
+// (docs/references.md).
 var (
 	CO  = Equilibrium(2169.81358, 13.28831, 0.010511, 1.93128087, 0.01750441, 6.12147e-6) // 12C16O X¹Σ⁺
 	HCl = Equilibrium(2990.946, 52.8186, 0.2243, 10.59341, 0.30718, 5.3194e-4)            // 1H35Cl X¹Σ⁺

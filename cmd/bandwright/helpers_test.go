@@ -92,7 +92,7 @@ func readFile(t *testing.T, path string) string {
 }
 
 // Ground-state constants of 12C16O, Huber & Herzberg, Constants of Diatomic
-// Molecules (1979), from memory (shared references.md), as Dunham coefficients
+// Molecules (1979), from memory (docs/references.md), as Dunham coefficients
 // (Y10 = ωe, Y20 = −ωexe, Y30 = ωeye, Y01 = Be, Y11 = −αe, Y02 = −De; common
 // practice), cm-1.
 var coY = []struct {

@@ -270,7 +270,7 @@ func TestHostileText(t *testing.T) {
 	root := t.TempDir()
 	lab := filepath.Join(root, "lab", "pipelines")
 	// A card outside the pipeline's folder, reached by ../ and by an absolute path.
-	card := filepath.Join(root, "shared", "co-card.toml")
+	card := filepath.Join(root, "common", "co-card.toml")
 	writeFile(t, card, []byte(coCard))
 	evil := `<script>alert(1)</script> **bold** [x](javascript:alert(1)) | a | b | ../../../../etc/passwd`
 	pipe := filepath.Join(lab, "p.toml")
@@ -279,7 +279,7 @@ input = "lines"
 [fit]
 model = "dunham"
 [thermo]
-card = "../../shared/co-card.toml"
+card = "../../common/co-card.toml"
 temperatures = [298.15, 1000.0]
 [report]
 formats = ["html", "md"]
@@ -365,7 +365,7 @@ formats = ["html", "md"]
 	// An absolute path climbing out is as harmless, and a pipeline cannot name
 	// where the outputs go: a second run with the absolute card path writes
 	// only into its own --out.
-	abs := strings.Replace(readFile(t, pipe), `"../../shared/co-card.toml"`, fmt.Sprintf("%q", card), 1)
+	abs := strings.Replace(readFile(t, pipe), `"../../common/co-card.toml"`, fmt.Sprintf("%q", card), 1)
 	writeFile(t, pipe, []byte(abs))
 	before = snapshot(t, root)
 	out2 := filepath.Join(root, "lab", "out2")

@@ -13,7 +13,7 @@ import (
 // genLines makes an n-line list of 12C16O-like infrared lines: P and R branches of the
 // bands v -> v-1, v = 1..10, J_lo = 0..99, positions from the term values
 // E(v,J) = we(v+1/2) - wexe(v+1/2)^2 + Bv J(J+1) - De [J(J+1)]^2, Bv = Be - ae(v+1/2),
-// with the X1Sigma+ constants of references.md (Huber & Herzberg 1979, from memory).
+// with the X1Sigma+ constants of docs/references.md (Huber & Herzberg 1979, from memory).
 // Only the shape of the data matters to the benchmark.
 func genLines(n int) []byte {
 	const we, wexe, be, ae, de = 2169.81358, 13.28831, 1.93128087, 0.01750441, 6.12147e-6

@@ -32,7 +32,7 @@ func mustRead(t *testing.T, src string) *List {
 
 // TestValidation checks that every kind of bad input is refused with a message naming
 // the file, the physical row and the column. The expected texts are the format rules
-// of this package (design.md, "Files the user sees").
+// of this package (its package doc, "File format", and the README's line-list section).
 func TestValidation(t *testing.T) {
 	cases := []struct {
 		name string

@@ -94,7 +94,7 @@ func TestMHzConversion(t *testing.T) {
 		t.Fatal(err)
 	}
 	co10 := l.Lines[0] // 12C16O J = 1 <- 0 at 115271.2018 MHz (from memory)
-	// The same line from the ground-state constants of references.md (Huber & Herzberg
+	// The same line from the ground-state constants of docs/references.md (Huber & Herzberg
 	// 1979, from memory): nu = 2 B0 - 4 De, B0 = Be - alpha_e/2. The constants and the
 	// frequency are both recalled, so the check allows 1e-6 relative.
 	const be, alphaE, de = 1.93128087, 0.01750441, 6.12147e-6

@@ -51,7 +51,7 @@ func polyProblem(y []float64) Problem {
 }
 
 func TestWampler1(t *testing.T) {
-	// NIST StRD Wampler1 (from memory, restated in references.md):
+	// NIST StRD Wampler1 (from memory, restated in docs/references.md):
 	// x = 0..20, y = 1 + x + x² + x³ + x⁴ + x⁵ (integers, exact in float64);
 	// certified coefficients all 1, their standard deviations 0, residual
 	// standard deviation 0.
@@ -96,7 +96,7 @@ func checkExactPolynomial(t *testing.T, y, cert []float64, sdTol float64) {
 }
 
 func TestWampler2(t *testing.T) {
-	// NIST StRD Wampler2 (from memory, restated in references.md):
+	// NIST StRD Wampler2 (from memory, restated in docs/references.md):
 	// x = 0..20, y = 1 + 0.1x + 0.01x² + 0.001x³ + 1e-4x⁴ + 1e-5x⁵;
 	// certified coefficients 1, 0.1, 0.01, 0.001, 1e-4, 1e-5, their
 	// standard deviations 0, residual standard deviation 0.
@@ -163,7 +163,7 @@ func readLongley(t *testing.T) (*mat.Dense, []float64, []string) {
 
 func TestLongley(t *testing.T) {
 	A, y, names := readLongley(t)
-	// NIST StRD Longley certified values, from memory (references.md).
+	// NIST StRD Longley certified values, from memory (docs/references.md).
 	certX := []float64{
 		-3482258.63459582,   // intercept
 		15.0618722713733,    // GNPDEFL

@@ -92,7 +92,7 @@ func TestLevelsEnergyGradient(t *testing.T) {
 }
 
 // TestDunhamEnergyGradient checks the Dunham energy of several isotopologues with
-// breakdown terms against the form of references.md,
+// breakdown terms against the form of docs/references.md,
 //
 //	Y_kl(s) = U_kl μ_s^−(k+2l)/2 [1 + (m_e/M_A)Δ_kl^A + (m_e/M_B)Δ_kl^B],
 //

@@ -111,7 +111,7 @@ func TestParseInvalid(t *testing.T) {
 }
 
 // Reduced masses μ = mA·mB/(mA+mB) from the AME2020 atomic masses (Wang et al., Chinese
-// Phys. C 45 (2021) 030003; from memory, as in shared/references.md).
+// Phys. C 45 (2021) 030003; from memory, as in docs/references.md).
 func TestReducedMass(t *testing.T) {
 	const (
 		mH  = 1.00782503223
@@ -150,7 +150,7 @@ func TestReducedMass(t *testing.T) {
 
 // r_e from B_e: r_e = sqrt(h/(8π² c μ B_e)) with CODATA 2018 constants (gonum
 // unit/constant) and AME2020 masses must reproduce the r_e of Huber & Herzberg,
-// "Constants of Diatomic Molecules" (1979), from memory as in shared/references.md, to
+// "Constants of Diatomic Molecules" (1979), from memory as in docs/references.md, to
 // 1e-5 Å. Both table columns are rounded (r_e to 1e-5 or 1e-6 Å, i.e. up to 5e-6 Å;
 // B_e to its last printed digit), and the table used older constants and masses (a
 // change of about 1e-7 relative), so agreement to the last digit is not expected.
@@ -200,7 +200,7 @@ func TestBFromRUnit(t *testing.T) {
 
 // Natural-composition molar masses used by the thermochemical reference tables (CODATA
 // Key Values, Cox, Wagman & Medvedev 1989; JANAF, Chase 1998), from memory as in
-// shared/references.md, must come out of the table's standard atomic weights.
+// docs/references.md, must come out of the table's standard atomic weights.
 func TestNaturalMolarMass(t *testing.T) {
 	for _, c := range []struct {
 		label string

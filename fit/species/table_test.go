@@ -10,7 +10,7 @@ import (
 )
 
 // The embedded table must carry the reference masses and spins exactly as listed in
-// shared/references.md: AME2020 (Wang et al., Chinese Phys. C 45 (2021) 030003) masses and
+// docs/references.md: AME2020 (Wang et al., Chinese Phys. C 45 (2021) 030003) masses and
 // NUBASE2020 (Kondev et al., Chinese Phys. C 45 (2021) 030001) spins, from memory.
 func TestTableReferenceIsotopes(t *testing.T) {
 	for _, c := range []struct {

@@ -21,7 +21,7 @@ import (
 )
 
 // Dunham constants of 12C16O X¹Σ⁺ (cm⁻¹): Huber & Herzberg, Constants of
-// Diatomic Molecules (1979), as quoted in ../../shared references; from memory.
+// Diatomic Molecules (1979), as quoted in docs/references.md; from memory.
 const (
 	y10 = 2169.81358
 	y20 = -13.28831

@@ -21,7 +21,7 @@ import (
 // oscillator formulas. The report is what is under test, not these numbers.
 
 // coY are Dunham coefficients of 12C16O X¹Σ⁺ (cm⁻¹) from the constants of
-// Huber & Herzberg (1979) as restated in references.md, from memory:
+// Huber & Herzberg (1979) as restated in docs/references.md, from memory:
 // Y10 = ωe, Y20 = −ωexe, Y01 = Be, Y11 = −αe, Y02 = −De (common practice).
 var coY = map[[2]int]float64{
 	{1, 0}: 2169.81358, {2, 0}: -13.28831, {0, 1}: 1.93128087, {1, 1}: -0.01750441, {0, 2}: -6.12147e-6,
@@ -131,7 +131,7 @@ type thermoRow struct {
 
 // rrho returns the functions of CO at T from the rigid rotor (level sum over
 // J) and the harmonic oscillator, ideal gas at 1 bar, M = 28.0101 g/mol
-// (natural CO, references.md). Qcf is the rotational closed form of
+// (natural CO, docs/references.md). Qcf is the rotational closed form of
 // Mulholland (1928) times the same vibrational factor.
 func rrho(T float64) thermoRow {
 	c2 := float64(constant.Planck) * float64(constant.LightSpeedInVacuum) * 100 / float64(constant.Boltzmann)

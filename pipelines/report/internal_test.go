@@ -50,7 +50,7 @@ func TestNumberFormatting(t *testing.T) {
 		}
 	}
 	// Parenthetical notation from constants.FormatParen; 1.922529(3) means
-	// 1.922529 ± 0.000003 (design.md conventions).
+	// 1.922529 ± 0.000003 (the README's conventions).
 	if got := paren(1.922529, 0.000003); got != "1.922529(3)" {
 		t.Errorf("paren = %q", got)
 	}

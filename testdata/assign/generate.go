@@ -7,7 +7,7 @@
 //	go run ./testdata/assign/generate.go
 //
 // Every file is SYNTHETIC: lines from the Huber & Herzberg (1979) constants
-// (from memory, references.md) carried to other isotopologues by the Dunham
+// (from memory, docs/references.md) carried to other isotopologues by the Dunham
 // mass scaling, then spoiled with noise, missing lines and spurious peaks.
 // Each peak list has a column "truth" with the true assignment, which
 // bandwright passes through into lines.csv and unassigned.csv, so the result
