@@ -178,7 +178,7 @@ func termValuesFromRecord(sp []string, ps []Param) (*model.TermValues, error) {
 		specs = append(specs, model.LevelSpec{Species: s, V: levels[s]})
 	}
 	var ts []string
-	for _, t := range model.RotTerms {
+	for _, t := range model.RotTerms() {
 		if terms[t] {
 			ts = append(ts, t)
 		}

@@ -4,6 +4,8 @@ import (
 	"bufio"
 	"bytes"
 	"io"
+
+	"bandwright/internal/textcheck"
 )
 
 // lineFilter prepares a line-list file for encoding/csv while keeping its physical line
@@ -26,10 +28,7 @@ type lineFilter struct {
 	err      error
 }
 
-var (
-	utf8BOM   = []byte{0xEF, 0xBB, 0xBF}
-	emptyLine = []byte{'\n'}
-)
+var emptyLine = []byte{'\n'}
 
 func newLineFilter(r io.Reader) *lineFilter {
 	return &lineFilter{br: bufio.NewReaderSize(r, 64<<10)}
@@ -57,7 +56,7 @@ func (f *lineFilter) next() {
 	f.err = err
 	if !f.started {
 		f.started = true
-		chunk = bytes.TrimPrefix(chunk, utf8BOM)
+		chunk = textcheck.TrimBOM(chunk)
 	}
 	complete := len(chunk) > 0 && chunk[len(chunk)-1] == '\n'
 	if f.skipping {

@@ -7,8 +7,12 @@ import (
 	"strings"
 )
 
-// RotTerms are the rotational terms of the term-values model in their fixed order.
-var RotTerms = []string{"B", "D", "H", "L"}
+// rotTerms are the rotational terms of the term-values model in their fixed order.
+var rotTerms = []string{"B", "D", "H", "L"}
+
+// RotTerms returns the rotational terms of the term-values model in their
+// fixed order: B, D, H, L.
+func RotTerms() []string { return append([]string(nil), rotTerms...) }
 
 // TermValues is the band-by-band term-value model. For isotopologue s and
 // vibrational level v,
@@ -21,7 +25,7 @@ var RotTerms = []string{"B", "D", "H", "L"}
 type TermValues struct {
 	species []string
 	params  []Param
-	terms   []string       // rotational terms present, in RotTerms order
+	terms   []string       // rotational terms present, in rotTerms order
 	pows    []int          // power of x of each term (B 1, D 2, H 3, L 4)
 	signs   []float64      // sign of each term in E (termSign)
 	base    map[[2]int]int // (s, v) → index of T_v; terms follow in order
@@ -48,28 +52,28 @@ func NewTermValues(specs []LevelSpec, terms []string, fixes []Fix) (*TermValues,
 		if t == "T" || t == "" {
 			continue
 		}
-		if !contains(RotTerms, t) {
+		if !contains(rotTerms, t) {
 			return nil, fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L)", t)
 		}
 		want[t] = true
 	}
 	for _, f := range fixes {
-		if contains(RotTerms, f.Name) {
+		if contains(rotTerms, f.Name) {
 			want[f.Name] = true
 		}
 	}
 	m := &TermValues{base: map[[2]int]int{}}
-	for _, t := range RotTerms {
+	for _, t := range rotTerms {
 		if want[t] {
 			m.terms = append(m.terms, t)
 		}
 	}
 	for _, t := range m.terms {
-		m.pows = append(m.pows, indexOf(RotTerms, t)+1)
+		m.pows = append(m.pows, indexOf(rotTerms, t)+1)
 		m.signs = append(m.signs, termSign[t])
 	}
 	m.maxPow = len(m.terms)
-	if idx := indexOf(RotTerms, lastOf(m.terms)); idx >= 0 {
+	if idx := indexOf(rotTerms, lastOf(m.terms)); idx >= 0 {
 		m.maxPow = idx + 1
 	}
 	for si, sp := range specs {

@@ -15,11 +15,11 @@ import (
 	"unicode/utf8"
 )
 
-// BOM is the UTF-8 byte-order mark that some editors put at the start of a file.
-var BOM = []byte{0xEF, 0xBB, 0xBF}
+// bom is the UTF-8 byte-order mark that some editors put at the start of a file.
+var bom = []byte{0xEF, 0xBB, 0xBF}
 
 // TrimBOM returns b without a leading UTF-8 byte-order mark.
-func TrimBOM(b []byte) []byte { return bytes.TrimPrefix(b, BOM) }
+func TrimBOM(b []byte) []byte { return bytes.TrimPrefix(b, bom) }
 
 // InvalidUTF8 returns "" when s is valid UTF-8, and otherwise a reason naming
 // the first bad byte and its place (1-based character count), for messages such
