@@ -15,7 +15,9 @@ import (
 
 // WriteResiduals writes residuals.csv: every input line with its observed and
 // calculated position (in the line's own unit), o−c, (o−c)/unc, whether it was
-// used, its file and row, and its pass-through columns. The CSV follows RFC
+// used, its file and row, and its pass-through columns; a pass-through column
+// whose name repeats one of these gets "input_" in front (lines.csv of assign
+// carries its own o_minus_c, from assign's internal fit). The CSV follows RFC
 // 4180 as encoding/csv writes it (a field is quoted when it holds a comma, a
 // quote, a line break or starts with white space); text cells go through
 // csvcell.Neutralise. Rows are formatted into one reused buffer.
@@ -28,7 +30,7 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		b = appendSep(b, k)
 		b = csvcell.Append(b, h)
 	}
-	for _, h := range extra {
+	for _, h := range passThroughNames(extra, head) {
 		b = appendSep(b, 1)
 		b = csvcell.Append(b, n(h))
 	}
@@ -90,6 +92,26 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		}
 	}
 	return bw.Flush()
+}
+
+// passThroughNames returns the names under which the pass-through columns
+// extra are written after the columns taken: a name that repeats a taken or an
+// earlier name (ignoring case and surrounding blanks) gets "input_" in front
+// until it is unique.
+func passThroughNames(extra, taken []string) []string {
+	used := make(map[string]bool, len(taken)+len(extra))
+	for _, t := range taken {
+		used[strings.ToLower(strings.TrimSpace(t))] = true
+	}
+	out := make([]string, len(extra))
+	for i, n := range extra {
+		for used[strings.ToLower(strings.TrimSpace(n))] {
+			n = "input_" + strings.TrimSpace(n)
+		}
+		used[strings.ToLower(strings.TrimSpace(n))] = true
+		out[i] = n
+	}
+	return out
 }
 
 func appendSep(b []byte, k int) []byte {

@@ -123,3 +123,15 @@ func TestLargestResiduals(t *testing.T) {
 		}
 	}
 }
+
+// TestResidualsPassThroughNames: a pass-through column that repeats a column
+// of residuals.csv (lines.csv of assign carries its own o_minus_c) is written
+// as input_NAME, so no header name appears twice.
+func TestResidualsPassThroughNames(t *testing.T) {
+	taken := []string{"file", "o_minus_c", "status"}
+	got := passThroughNames([]string{"o_minus_c", " Status ", "truth", "input_truth", "truth"}, taken)
+	want := []string{"input_o_minus_c", "input_Status", "truth", "input_truth", "input_input_truth"}
+	if strings.Join(got, ",") != strings.Join(want, ",") {
+		t.Errorf("names %q, want %q", got, want)
+	}
+}

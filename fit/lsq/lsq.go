@@ -167,7 +167,7 @@ func Correlation(cov *mat.SymDense) *mat.SymDense {
 			case d[j] == 0 || d[k] == 0:
 				r = 0
 			default:
-				r = cov.At(j, k) / (d[j] * d[k])
+				r = cov.At(j, k) / math.Sqrt(cov.At(j, j)*cov.At(k, k))
 			}
 			c.SetSym(j, k, r)
 		}
