@@ -60,7 +60,7 @@ func newApp() *cli.App {
 }
 
 // flagsFirst moves a subcommand's flags before its positional arguments, so
-// that `bandwright fit lines.csv --model levels` works as the README writes it
+// that `bandwright fit lines.csv --model term-values` works as the README writes it
 // (the command-line library stops reading flags at the first argument).
 // Everything after "--" stays positional.
 func flagsFirst(app *cli.App, args []string) []string {

@@ -23,7 +23,7 @@ func runCommand() *cli.Command {
 		Usage:     "run the whole chain (assign for peak lists, fit, thermo, report) on input files",
 		ArgsUsage: "INPUT...",
 		Description: "With --pipeline, the stages take the options of the pipeline file. Without, the inputs are line lists and\n" +
-			"bandwright chooses the model (levels for a single band, Dunham for several vibrational levels) and adds terms\n" +
+			"bandwright chooses the model (term values for a single band, Dunham for several vibrational levels) and adds terms\n" +
 			"while the data determine them and an F-test says they are significant; it prints what it chose.",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
