@@ -102,7 +102,7 @@ func TestDerivedGradients(t *testing.T) {
 		checkDerivedSigmas(t, r)
 	})
 	t.Run("levels two levels with calibration", func(t *testing.T) {
-		y := coLevelsY()
+		y := coTermValuesY()
 		a := makeLines("12C16O", "a.csv", y, irBranches([][2]int{{1, 0}}, 30), 1e-3, rng)
 		b := makeLines("12C16O", "b.csv", y, irBranches([][2]int{{1, 0}}, 25), 1e-3, rng)
 		r := mustFit(t, append(a, b...), ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject, Calibrate: true})

@@ -171,7 +171,7 @@ func TestCalibrationFactor(t *testing.T) {
 // file — scaling all its term values by (1+κ) reproduces it — so κ is
 // undetermined and named.
 func TestCalibrationUnlinked(t *testing.T) {
-	y := coLevelsY()
+	y := coTermValuesY()
 	a := makeLines("12C16O", "ref.csv", y, irBranches([][2]int{{1, 0}}, 20), 1e-4, newRNG(1))
 	y13 := massScaled(y, reducedMass(t, "12C16O"), reducedMass(t, "13C16O"))
 	b := makeLines("13C16O", "other.csv", y13, irBranches([][2]int{{1, 0}}, 20), 1e-4, newRNG(2))

@@ -12,21 +12,21 @@ import (
 	"bandwright/internal/failure"
 )
 
-// coLevelsY is 12C16O of Huber & Herzberg (1979, from memory) truncated to
+// coTermValuesY is 12C16O of Huber & Herzberg (1979, from memory) truncated to
 // Y10, Y20, Y01, Y11, Y02: then T_v = G(v) − G(0), B_v = Y01 + Y11(v+½) and
 // D_v = −Y02 exactly, so the term-values model describes the lines without error
 // and the derived B_e, α_e, ω_e, ω_e x_e must equal the Dunham values
 // (common practice: B_v = B_e − α_e(v+½), G(v) = ω_e(v+½) − ω_e x_e(v+½)²).
-func coLevelsY() yset {
+func coTermValuesY() yset {
 	y := hhCO.dunham()
 	delete(y, [2]int{3, 0})
 	return y
 }
 
-// TestLevelsModel fits term values per level and checks T, B, D, the band
+// TestTermValuesModel fits term values per level and checks T, B, D, the band
 // origins and the derived equilibrium constants.
-func TestLevelsModel(t *testing.T) {
-	y := coLevelsY()
+func TestTermValuesModel(t *testing.T) {
+	y := coTermValuesY()
 	for _, tc := range []struct {
 		name  string
 		bands [][2]int
@@ -87,11 +87,11 @@ func TestLevelsModel(t *testing.T) {
 	}
 }
 
-// TestLevelsPureRotationOnly: pure-rotation lines within v = 0 and within v = 1
+// TestTermValuesPureRotationOnly: pure-rotation lines within v = 0 and within v = 1
 // never connect the two levels, so T_v1 is undetermined; the error must name
 // it and be of kind failure.CannotCompute (exit code 2).
-func TestLevelsPureRotationOnly(t *testing.T) {
-	y := coLevelsY()
+func TestTermValuesPureRotationOnly(t *testing.T) {
+	y := coTermValuesY()
 	lines := makeLines("12C16O", "rot.csv", y, irBranches([][2]int{{0, 0}, {1, 1}}, 20), 1e-6, nil)
 	m, err := BuildModel(lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}})
 	if err != nil {

@@ -592,8 +592,8 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 	d0Reason := fmt.Sprintf("dissociation energy D0 = %g cm-1", d0)
 
 	var vs []int
-	lm, isLevels := c.Model.(*model.TermValues)
-	if isLevels {
+	lm, isTermValues := c.Model.(*model.TermValues)
+	if isTermValues {
 		m.levels = true
 		vs = lm.LevelsOf(sp)
 		m.vReason = fmt.Sprintf("term-values model: the vibrational levels of the record (v = %s)", compressInts(vs))
@@ -699,7 +699,7 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 			m.rot = append(m.rot, vibRot{v: v, g: c.Model.Energy(sp, v, 0, c.Values, nil), b: rotConstant(c, sp, v)})
 		}
 	}
-	if isLevels {
+	if isTermValues {
 		m.estimateMissing(c, lm, sp, term, eRef, eNeg, d0, tMax)
 	}
 	return m, nil

@@ -62,9 +62,9 @@ func checkGradient(t *testing.T, m Model, p, step []float64, vs []int, jmax int)
 	}
 }
 
-// TestLevelsEnergyGradient checks E = T_v + B_v x − D_v x² + H_v x³ + L_v x⁴ and its
+// TestTermValuesEnergyGradient checks E = T_v + B_v x − D_v x² + H_v x³ + L_v x⁴ and its
 // gradient against diff/fd for two isotopologues with different levels.
-func TestLevelsEnergyGradient(t *testing.T) {
+func TestTermValuesEnergyGradient(t *testing.T) {
 	m, err := NewTermValues([]LevelSpec{{"12C16O", []int{0, 1, 2}}, {"13C16O", []int{1, 3}}}, []string{"B", "D", "H", "L"}, nil)
 	if err != nil {
 		t.Fatal(err)
