@@ -69,12 +69,9 @@ func RunAssign(o AssignOptions) (*AssignOutcome, error) {
 		return nil, err
 	}
 	defer d.Abort()
-	for _, in := range []string{o.Peaks, o.Start, o.Constants} {
-		if in != "" {
-			d.Protect(in)
-		}
-	}
-	if err := WriteAssignOutputs(d, oc, o); err != nil {
+	d.Protect(o.Peaks)
+	d.Protect(o.startFiles()...)
+	if err := WriteAssignOutputs(d, oc, constants.ConstantsFile, o.reportInfo()); err != nil {
 		return nil, err
 	}
 	if err := d.Commit(); err != nil {
@@ -84,24 +81,44 @@ func RunAssign(o AssignOptions) (*AssignOutcome, error) {
 	return oc, nil
 }
 
-// WriteAssignOutputs writes the assignment stage's files into d.
-func WriteAssignOutputs(d *outdir.Dir, oc *AssignOutcome, o AssignOptions) error {
+// WriteAssignOutputs writes the assignment stage's files into d: lines.csv,
+// unassigned.csv, assign.md (recording info) and the constants record of the
+// stage's internal fit as constantsFile (constants.ConstantsFile for `bandwright
+// assign`, AssignConstantsFile inside a chain, whose constants.json is the
+// fit stage's).
+func WriteAssignOutputs(d *outdir.Dir, oc *AssignOutcome, constantsFile string, info assign.ReportInfo) error {
 	if err := d.Write(constants.LinesFile, func(w io.Writer) error { return assign.WriteLines(w, oc.Result) }); err != nil {
 		return err
 	}
 	if err := d.Write(constants.UnassignedFile, func(w io.Writer) error { return assign.WriteUnassigned(w, oc.Result) }); err != nil {
 		return err
 	}
-	if err := d.Write(constants.ConstantsFile, oc.Record.Write); err != nil {
+	if err := d.Write(constantsFile, oc.Record.Write); err != nil {
 		return err
 	}
+	return d.Write(constants.AssignReportFile, func(w io.Writer) error { return assign.WriteReport(w, oc.Result, info) })
+}
+
+// startFiles returns the file that gives the starting constants (Start or
+// Constants), none when neither is set.
+func (o AssignOptions) startFiles() []string {
+	var fs []string
+	for _, in := range []string{o.Start, o.Constants} {
+		if in != "" {
+			fs = append(fs, in)
+		}
+	}
+	return fs
+}
+
+// reportInfo is what assign.md records of the run: the peak list, the file
+// of the starting constants and the program version.
+func (o AssignOptions) reportInfo() assign.ReportInfo {
 	start := o.Start
 	if start == "" {
 		start = o.Constants
 	}
-	return d.Write(constants.AssignReportFile, func(w io.Writer) error {
-		return assign.WriteReport(w, oc.Result, assign.ReportInfo{Peaks: o.Peaks, Start: start, Version: Version})
-	})
+	return assign.ReportInfo{Peaks: o.Peaks, Start: start, Version: Version}
 }
 
 // Assign reads the inputs and assigns without writing anything.

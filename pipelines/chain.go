@@ -4,11 +4,12 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
-	"bandwright/assign"
 	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
@@ -76,159 +77,194 @@ func RunChain(o ChainOptions) (*ChainOutcome, error) {
 
 // chainInto runs the chain and writes its files into d (not committed).
 func chainInto(d *outdir.Dir, o ChainOptions) (*ChainOutcome, error) {
+	c, err := newChainRun(d, o)
+	if err != nil {
+		return nil, err
+	}
+	for _, step := range []func() error{c.assign, c.fit, c.thermo, c.report} {
+		if err := step(); err != nil {
+			return nil, err
+		}
+	}
+	return c.oc, nil
+}
+
+// chainRun is one run of a chain: its options, the output folder under
+// construction and what the stages have produced so far. Each stage is one
+// method, run in the order assign, fit, thermo, report.
+type chainRun struct {
+	d     *outdir.Dir
+	o     ChainOptions
+	p     *Pipeline
+	auto  bool     // no pipeline file: the model is chosen automatically
+	names []string // the inputs as provenance and reports name them
+	// lineFiles are the line lists the fit reads: the inputs, or the
+	// assignment stage's lines.csv in the temporary folder.
+	lineFiles []string
+	oc        *ChainOutcome
+}
+
+// newChainRun checks the inputs and settles the pipeline (the automatic one
+// when o.Pipeline is nil).
+func newChainRun(d *outdir.Dir, o ChainOptions) (*chainRun, error) {
 	if len(o.Inputs) == 0 {
 		return nil, failure.Errorf(failure.BadInput, "run: no input files given")
 	}
 	if len(o.Names) != 0 && len(o.Names) != len(o.Inputs) {
 		return nil, errors.New("pipelines: run: names and inputs differ in number")
 	}
-	p := o.Pipeline
-	auto := p == nil
-	if auto {
-		p = &Pipeline{Input: InputLines}
+	c := &chainRun{d: d, o: o, p: o.Pipeline, names: o.Names, lineFiles: o.Inputs}
+	if c.p == nil {
+		c.auto = true
+		c.p = &Pipeline{Input: InputLines}
 	}
-	oc := &ChainOutcome{Pipeline: p}
-	if p.Path != "" {
-		d.Protect(p.Path)
+	if c.p.Path != "" {
+		d.Protect(c.p.Path)
 	}
-	names := o.Names
-	if len(names) == 0 {
-		names = o.Inputs
+	if len(c.names) == 0 {
+		c.names = o.Inputs
 	}
-	lineFiles := o.Inputs
-	if p.Input == InputPeaks {
-		if len(o.Inputs) != 1 {
-			return nil, failure.Errorf(failure.BadInput, "run: input = \"peaks\" takes one peak list at a time (%d given)", len(o.Inputs))
-		}
-		ao, err := p.assignOptions(o.Inputs[0])
-		if err != nil {
-			return nil, err
-		}
-		for _, in := range []string{ao.Start, ao.Constants} {
-			if in != "" {
-				d.Protect(in)
-			}
-		}
-		a, err := Assign(ao)
-		if err != nil {
-			return nil, err
-		}
-		oc.Assign = a
-		if err := d.Write(constants.LinesFile, func(w io.Writer) error { return assign.WriteLines(w, a.Result) }); err != nil {
-			return nil, err
-		}
-		if err := d.Write(constants.UnassignedFile, func(w io.Writer) error { return assign.WriteUnassigned(w, a.Result) }); err != nil {
-			return nil, err
-		}
-		if err := d.Write(constants.AssignConstantsFile, a.Record.Write); err != nil {
-			return nil, err
-		}
-		start := ao.Start
-		if start == "" {
-			start = ao.Constants
-		}
-		if err := d.Write(constants.AssignReportFile, func(w io.Writer) error {
-			return assign.WriteReport(w, a.Result, assign.ReportInfo{Peaks: names[0], Start: start, Version: Version})
-		}); err != nil {
-			return nil, err
-		}
-		lineFiles = []string{d.TempPath(constants.LinesFile)}
-	}
+	c.oc = &ChainOutcome{Pipeline: c.p}
+	return c, nil
+}
 
-	fo := p.FitOptions(lineFiles, "")
-	if p.Input == InputPeaks {
+// assign runs the assignment stage on a peak list (input = "peaks") and
+// points the fit at the lines.csv it wrote; line lists go to the fit as they are.
+func (c *chainRun) assign() error {
+	if c.p.Input != InputPeaks {
+		return nil
+	}
+	if len(c.o.Inputs) != 1 {
+		return failure.Errorf(failure.BadInput, "run: input = \"peaks\" takes one peak list at a time (%d given)", len(c.o.Inputs))
+	}
+	ao, err := c.p.assignOptions(c.o.Inputs[0])
+	if err != nil {
+		return err
+	}
+	c.d.Protect(ao.startFiles()...)
+	a, err := Assign(ao)
+	if err != nil {
+		return err
+	}
+	c.oc.Assign = a
+	info := ao.reportInfo()
+	info.Peaks = c.names[0]
+	if err := WriteAssignOutputs(c.d, a, constants.AssignConstantsFile, info); err != nil {
+		return err
+	}
+	c.lineFiles = []string{c.d.TempPath(constants.LinesFile)}
+	return nil
+}
+
+// fit runs the fit stage on the line files, choosing the model first when
+// the pipeline leaves it open, and writes the fit's files.
+func (c *chainRun) fit() error {
+	fo := c.p.FitOptions(c.lineFiles, "")
+	if c.p.Input == InputPeaks {
 		fo.Names = []string{constants.LinesFile}
 	} else {
-		fo.Names = names
+		fo.Names = c.names
 	}
-	if auto || p.Fit == nil || (p.Fit.Model == "" && len(p.Fit.Terms) == 0) {
-		list, err := linelist.ReadFiles(lineFiles...)
-		if err != nil {
-			return nil, err
-		}
-		ch, err := ChooseModel(list.Lines, fit.Settings{Reject: fo.Reject})
-		if err != nil {
-			return nil, err
-		}
-		fo.Model, fo.Terms = ch.Model, ch.Terms
-		oc.Chosen = append(oc.Chosen, fmt.Sprintf("model chosen automatically: %s with terms %s", ch.Model, strings.Join(ch.Terms, ",")))
-		for _, l := range ch.Log {
-			oc.Chosen = append(oc.Chosen, "  "+l)
+	if c.modelOpen() {
+		if err := c.chooseModel(&fo); err != nil {
+			return err
 		}
 	}
 	f, err := Fit(fo)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	if p.Input == InputPeaks {
-		// The fit read the assigned lines from the temporary folder; record
-		// the peak list it came from.
-		h, err := HashFile(o.Inputs[0])
-		if err != nil {
-			return nil, err
+	if c.p.Input == InputPeaks {
+		if err := c.recordPeakList(f.Record); err != nil {
+			return err
 		}
-		f.Record.Provenance.Inputs = append(f.Record.Provenance.Inputs, constants.Input{Path: names[0], SHA256: h})
-		f.Record.Provenance.Options["assigned_by"] = "bandwright assign: lines.csv in this folder, from the peak list " + names[0]
 	}
-	if len(oc.Chosen) > 0 {
-		f.Record.Provenance.Options["automatic_choice"] = oc.Chosen
+	if len(c.oc.Chosen) > 0 {
+		f.Record.Provenance.Options["automatic_choice"] = c.oc.Chosen
 	}
-	oc.Fit = f
-	if err := WriteFitOutputs(d, f); err != nil {
-		return nil, err
-	}
+	c.oc.Fit = f
+	return WriteFitOutputs(c.d, f)
+}
 
-	to, err := p.thermoOptions(d.TempPath(constants.ConstantsFile))
+// modelOpen reports whether the pipeline leaves the model to be chosen
+// automatically (no pipeline file, or a [fit] section without model and terms).
+func (c *chainRun) modelOpen() bool {
+	f := c.p.Fit
+	return c.auto || f == nil || (f.Model == "" && len(f.Terms) == 0)
+}
+
+// chooseModel chooses the model and terms of fo from the lines (see
+// ChooseModel) and records the choice and its reasons in the outcome.
+func (c *chainRun) chooseModel(fo *FitOptions) error {
+	list, err := linelist.ReadFiles(c.lineFiles...)
 	if err != nil {
-		return nil, err
+		return err
+	}
+	ch, err := ChooseModel(list.Lines, fit.Settings{Reject: fo.Reject})
+	if err != nil {
+		return err
+	}
+	fo.Model, fo.Terms = ch.Model, ch.Terms
+	c.oc.Chosen = append(c.oc.Chosen, fmt.Sprintf("model chosen automatically: %s with terms %s", ch.Model, strings.Join(ch.Terms, ",")))
+	for _, l := range ch.Log {
+		c.oc.Chosen = append(c.oc.Chosen, "  "+l)
+	}
+	return nil
+}
+
+// recordPeakList adds the peak list to the provenance of a fit that read the
+// assigned lines from the temporary folder.
+func (c *chainRun) recordPeakList(rec *constants.Record) error {
+	h, err := HashFile(c.o.Inputs[0])
+	if err != nil {
+		return err
+	}
+	rec.Provenance.Inputs = append(rec.Provenance.Inputs, constants.Input{Path: c.names[0], SHA256: h})
+	rec.Provenance.Options["assigned_by"] = "bandwright assign: lines.csv in this folder, from the peak list " + c.names[0]
+	return nil
+}
+
+// thermo runs the thermo stage on the fit's constants.json and writes its files.
+func (c *chainRun) thermo() error {
+	to, err := c.p.thermoOptions(c.d.TempPath(constants.ConstantsFile))
+	if err != nil {
+		return err
 	}
 	t, err := Thermo(to)
 	if err != nil {
-		return nil, fmt.Errorf("thermo stage: %w", err)
+		return fmt.Errorf("thermo stage: %w", err)
 	}
 	if len(t.Provenance.Inputs) > 0 {
 		t.Provenance.Inputs[0].Path = constants.ConstantsFile + " (this folder)"
 	}
-	oc.Thermo = t
-	d.Protect(t.Inputs...) // the card and the records it names
-	if err := WriteThermoOutputs(d, t); err != nil {
-		return nil, err
-	}
-
-	formats := []string{"html", "md"}
-	if p.Report != nil && len(p.Report.Formats) > 0 {
-		formats = p.Report.Formats
-	}
-	notes := append([]string(nil), oc.Chosen...)
-	if p.Path != "" {
-		notes = append([]string{fmt.Sprintf("pipeline file %s (sha256 %s)", filepath.Base(p.Path), p.Hash)}, notes...)
-	}
-	files, err := report.Build(d.TempPath(""), report.Options{Formats: formats, Version: Version, Notes: notes, Title: p.Name})
-	if err != nil {
-		return nil, err
-	}
-	for _, name := range sortedKeys(files) {
-		b := files[name]
-		if err := d.Write(name, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
-			return nil, err
-		}
-		oc.Reports = append(oc.Reports, name)
-	}
-	return oc, nil
+	c.oc.Thermo = t
+	c.d.Protect(t.Inputs...) // the card and the records it names
+	return WriteThermoOutputs(c.d, t)
 }
 
-func sortedKeys(m map[string][]byte) []string {
-	var ks []string
-	for k := range m {
-		ks = append(ks, k)
+// report builds the reports from the files the stages wrote and adds them
+// (figures first, then the documents, in name order).
+func (c *chainRun) report() error {
+	formats := []string{"html", "md"}
+	if c.p.Report != nil && len(c.p.Report.Formats) > 0 {
+		formats = c.p.Report.Formats
 	}
-	// report files: figures first, then the documents
-	for i := 1; i < len(ks); i++ {
-		for j := i; j > 0 && ks[j] < ks[j-1]; j-- {
-			ks[j], ks[j-1] = ks[j-1], ks[j]
+	notes := append([]string(nil), c.oc.Chosen...)
+	if c.p.Path != "" {
+		notes = append([]string{fmt.Sprintf("pipeline file %s (sha256 %s)", filepath.Base(c.p.Path), c.p.Hash)}, notes...)
+	}
+	files, err := report.Build(c.d.TempPath(""), report.Options{Formats: formats, Version: Version, Notes: notes, Title: c.p.Name})
+	if err != nil {
+		return err
+	}
+	for _, name := range slices.Sorted(maps.Keys(files)) {
+		b := files[name]
+		if err := c.d.Write(name, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
+			return err
 		}
+		c.oc.Reports = append(c.oc.Reports, name)
 	}
-	return ks
+	return nil
 }
 
 // assignOptions returns the assign options of the pipeline for a peak list.
