@@ -170,9 +170,32 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	return &p, nil
 }
 
+// keyAt returns "file:line" of a key of a table of the pipeline file (table
+// "": the top level; key "": the table's header), for messages.
+type keyAt func(table, key string) string
+
+// check checks the values of a decoded pipeline file section by section, as
+// the command line checks its flags, and fills in the default input kind.
 func (p *Pipeline) check(name string, b []byte) error {
-	// at is "name:line" of key in table ("" top level).
 	at := func(table, key string) string { return textcheck.At(name, textcheck.KeyLine(b, table, -1, key)) }
+	if err := p.checkInput(at); err != nil {
+		return err
+	}
+	if err := p.Assign.check(at); err != nil {
+		return err
+	}
+	if err := p.Fit.check(at); err != nil {
+		return err
+	}
+	if err := p.Thermo.check(at); err != nil {
+		return err
+	}
+	return p.Report.check(at)
+}
+
+// checkInput checks the top-level keys: name and input, and that a pipeline
+// on peak lists has an [assign] section with one source of starting constants.
+func (p *Pipeline) checkInput(at keyAt) error {
 	for _, s := range []struct{ table, key, v string }{
 		{"", "name", p.Name}, {"", "input", p.Input},
 	} {
@@ -192,58 +215,83 @@ func (p *Pipeline) check(name string, b []byte) error {
 			return fmt.Errorf("pipelines: %s: input = \"peaks\" needs an [assign] section (start or constants, bands)", at("", "input"))
 		}
 		if (p.Assign.Start == "") == (p.Assign.Constants == "") {
-			return fmt.Errorf("pipelines: %s: assign: give exactly one of start and constants", textcheck.At(name, textcheck.KeyLine(b, "assign", -1, "")))
+			return fmt.Errorf("pipelines: %s: assign: give exactly one of start and constants", at("assign", ""))
 		}
 	}
-	if a := p.Assign; a != nil {
-		if T := a.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
-			return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, DefaultAssignTemp)
-		}
-		if !(a.Tolerance >= 0) || math.IsInf(a.Tolerance, 0) {
-			return fmt.Errorf("pipelines: %s: assign.tolerance: %v must be a finite number > 0 (0: the default)", at("assign", "tolerance"), a.Tolerance)
+	return nil
+}
+
+// check checks the [assign] section (nil: absent).
+func (a *AssignSection) check(at keyAt) error {
+	if a == nil {
+		return nil
+	}
+	if T := a.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
+		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, DefaultAssignTemp)
+	}
+	if !(a.Tolerance >= 0) || math.IsInf(a.Tolerance, 0) {
+		return fmt.Errorf("pipelines: %s: assign.tolerance: %v must be a finite number > 0 (0: the default)", at("assign", "tolerance"), a.Tolerance)
+	}
+	return nil
+}
+
+// check checks the [fit] section (nil: absent).
+func (f *FitSection) check(at keyAt) error {
+	if f == nil {
+		return nil
+	}
+	if r := f.Reject; r != nil && (!(*r >= 0) || math.IsInf(*r, 0)) {
+		return fmt.Errorf("pipelines: %s: fit.reject: must be a finite number ≥ 0 (0 turns rejection off), got %v", at("fit", "reject"), *r)
+	}
+	switch f.Model {
+	case "", model.KindTermValues, model.KindDunham:
+	default:
+		return fmt.Errorf("pipelines: %s: fit.model: %q; use \"term-values\" or \"dunham\"", at("fit", "model"), f.Model)
+	}
+	return nil
+}
+
+// check checks the [thermo] section (nil: absent): the temperatures against
+// the thermo limits, at most one of temperatures and range, the NASA-7 ranges.
+func (t *ThermoSection) check(at keyAt) error {
+	if t == nil {
+		return nil
+	}
+	if t.MC < 0 {
+		return fmt.Errorf("pipelines: %s: thermo.mc: %d; give the number of Monte Carlo draws (0: off)", at("thermo", "mc"), t.MC)
+	}
+	for i, x := range t.Temperatures {
+		if err := checkTemperature(x); err != nil {
+			return fmt.Errorf("pipelines: %s: thermo.temperatures: entry %d: %w", at("thermo", "temperatures"), i+1, err)
 		}
 	}
-	if p.Fit != nil {
-		if r := p.Fit.Reject; r != nil && (!(*r >= 0) || math.IsInf(*r, 0)) {
-			return fmt.Errorf("pipelines: %s: fit.reject: must be a finite number ≥ 0 (0 turns rejection off), got %v", at("fit", "reject"), *r)
+	if t.Range != "" {
+		if len(t.Temperatures) > 0 {
+			return fmt.Errorf("pipelines: %s: thermo: give either temperatures or range, not both", at("thermo", "range"))
 		}
-		switch p.Fit.Model {
-		case "", model.KindTermValues, model.KindDunham:
-		default:
-			return fmt.Errorf("pipelines: %s: fit.model: %q; use \"term-values\" or \"dunham\"", at("fit", "model"), p.Fit.Model)
+		if _, err := ParseRange(t.Range); err != nil {
+			return fmt.Errorf("pipelines: %s: thermo.range: %w", at("thermo", "range"), err)
 		}
 	}
-	if t := p.Thermo; t != nil {
-		if t.MC < 0 {
-			return fmt.Errorf("pipelines: %s: thermo.mc: %d; give the number of Monte Carlo draws (0: off)", at("thermo", "mc"), t.MC)
-		}
-		for i, x := range t.Temperatures {
-			if err := checkTemperature(x); err != nil {
-				return fmt.Errorf("pipelines: %s: thermo.temperatures: entry %d: %w", at("thermo", "temperatures"), i+1, err)
-			}
-		}
-		if t.Range != "" {
-			if len(t.Temperatures) > 0 {
-				return fmt.Errorf("pipelines: %s: thermo: give either temperatures or range, not both", at("thermo", "range"))
-			}
-			if _, err := ParseRange(t.Range); err != nil {
-				return fmt.Errorf("pipelines: %s: thermo.range: %w", at("thermo", "range"), err)
-			}
-		}
-		if t.NASALimits != "" {
-			if _, _, err := ParseNASALimits(t.NASALimits); err != nil {
-				return fmt.Errorf("pipelines: %s: thermo.nasa_limits: %w", at("thermo", "nasa_limits"), err)
-			}
-		}
-		if t.NASABreakpoint < 0 || t.NASABreakpoint != t.NASABreakpoint {
-			return fmt.Errorf("pipelines: %s: thermo.nasa_breakpoint: must be a temperature in K", at("thermo", "nasa_breakpoint"))
+	if t.NASALimits != "" {
+		if _, _, err := ParseNASALimits(t.NASALimits); err != nil {
+			return fmt.Errorf("pipelines: %s: thermo.nasa_limits: %w", at("thermo", "nasa_limits"), err)
 		}
 	}
-	if p.Report != nil {
-		for _, f := range p.Report.Formats {
-			if f != "html" && f != "md" {
-				return fmt.Errorf("pipelines: %s: report.formats: %q; use \"html\" and/or \"md\"", at("report", "formats"), f)
-			}
+	if t.NASABreakpoint < 0 || t.NASABreakpoint != t.NASABreakpoint {
+		return fmt.Errorf("pipelines: %s: thermo.nasa_breakpoint: must be a temperature in K", at("thermo", "nasa_breakpoint"))
+	}
+	return nil
+}
+
+// check checks the [report] section (nil: absent).
+func (r *ReportSection) check(at keyAt) error {
+	if r == nil {
+		return nil
+	}
+	for _, f := range r.Formats {
+		if f != "html" && f != "md" {
+			return fmt.Errorf("pipelines: %s: report.formats: %q; use \"html\" and/or \"md\"", at("report", "formats"), f)
 		}
 	}
 	return nil
