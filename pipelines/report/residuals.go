@@ -138,90 +138,25 @@ func lineRow(r residual) []string {
 	}
 }
 
-// bandFigure draws the residuals of one band against J″.
+// bandFigure draws the residuals of one band against J″: one series per
+// branch, rejected lines as crosses (see addRejected), a zero line and
+// dashed guides at ±3σ (±3 on the normalised scale).
 func bandFigure(f *folder, k bandKey, idx []int) *figure {
 	name := sprintf("report-residuals-%s-%d-%d.svg", fileSafe(k.species), k.vUp, k.vLo)
 	fig := &figure{Name: name, Alt: "residuals of " + bandName(k) + " against J″"}
-	rs := f.residuals
-	// Plain o−c when every line has the same uncertainty and unit.
-	sameUnc := true
-	u0, unit0 := math.NaN(), ""
-	nUsed, nRej := 0, 0
-	for n, i := range idx {
-		r := rs[i]
-		if r.used {
-			nUsed++
-		} else {
-			nRej++
-		}
-		if n == 0 {
-			u0, unit0 = r.unc, r.unit
-			continue
-		}
-		if !finite(r.unc) || math.Abs(r.unc-u0) > 1e-9*math.Abs(u0) || r.unit != unit0 {
-			sameUnc = false
-		}
-	}
-	if !finite(u0) || !(u0 > 0) {
-		sameUnc = false
-	}
-	yOf := func(r residual) float64 { return r.norm }
-	guide, yLabel := 3.0, "(o − c)/σ"
-	if sameUnc {
-		yOf = func(r residual) float64 { return r.oc }
-		guide = 3 * u0
-		un := unit0
-		if un == "" {
-			un = "cm-1"
-		}
-		yLabel = "o − c / " + unitName(un)
-	}
-	byBranch := map[string]*xyCollector{}
-	var rej xyCollector
-	for _, i := range idx {
-		r := rs[i]
-		if !r.used {
-			rej.add(float64(r.jLo), yOf(r))
-			continue
-		}
-		b := strings.ToUpper(r.branch)
-		if _, ok := branchStyles[b]; !ok {
-			b = "?"
-		}
-		if byBranch[b] == nil {
-			byBranch[b] = &xyCollector{}
-		}
-		byBranch[b].add(float64(r.jLo), yOf(r))
-	}
-	var all plotter.XYs
-	yMax := 0.0
-	for _, c := range byBranch {
-		all = append(all, c.xy...)
-		for _, p := range c.xy {
-			yMax = math.Max(yMax, math.Abs(p.Y))
-		}
-	}
-	all = append(all, rej.xy...)
-	counts := sprintf("%d lines used, %d rejected", nUsed, nRej)
-	fig.Caption = sprintf("Residuals of %s against J″ (%s).", bandName(k), counts)
+	sc := newBandScale(f.residuals, idx)
+	pts := collectBand(f.residuals, idx, sc)
+	all := pts.all()
+	fig.Caption = sprintf("Residuals of %s against J″ (%d lines used, %d rejected).", bandName(k), pts.nUsed, pts.nRejected)
 	if !distinctX(all) {
 		fig.Missing = sprintf("Not plotted: %s has %d line(s) with a finite residual at a single J″; a plot needs at least two.", bandName(k), len(all))
 		return fig
 	}
-	if nUsed == 0 {
-		for _, p := range rej.xy {
-			yMax = math.Max(yMax, math.Abs(p.Y))
-		}
-	}
-	yLim := 1.3 * math.Max(yMax, guide)
+	yLim := 1.3 * math.Max(pts.yMax(), sc.guide())
 	if !(yLim > 0) {
 		yLim = 1
 	}
-	title := sprintf("%s   v′=%d ← v″=%d", k.species, k.vUp, k.vLo)
-	if k.vUp == k.vLo {
-		title = sprintf("%s   pure rotation, v=%d", k.species, k.vUp)
-	}
-	p := newPlot(title, "J″ (lower level)", yLabel)
+	p := newPlot(bandTitle(k), "J″ (lower level)", sc.label())
 	xMin, xMax := math.Inf(1), math.Inf(-1)
 	for _, q := range all {
 		xMin, xMax = math.Min(xMin, q.X), math.Max(xMax, q.X)
@@ -234,40 +169,19 @@ func bandFigure(f *folder, k bandKey, idx []int) *figure {
 		return fig
 	}
 	p.Add(zero)
-	up, err1 := hline(guide, p.X.Min, p.X.Max, guideGrey, true, 1)
-	dn, err2 := hline(-guide, p.X.Min, p.X.Max, guideGrey, true, 1)
+	up, err1 := hline(sc.guide(), p.X.Min, p.X.Max, guideGrey, true, 1)
+	dn, err2 := hline(-sc.guide(), p.X.Min, p.X.Max, guideGrey, true, 1)
 	if err1 != nil || err2 != nil {
 		fig.Missing = "Not plotted: the ±3σ guides could not be drawn."
 		return fig
 	}
 	p.Add(up, dn)
-	guideLabel := "±3σ"
-	if !sameUnc {
-		guideLabel = "±3"
+	p.Legend.Add(sc.guideLabel(), up)
+	if err := pts.addBranches(p); err != nil {
+		fig.Missing = "Not plotted: " + err.Error()
+		return fig
 	}
-	p.Legend.Add(guideLabel, up)
-	for _, b := range []string{"P", "Q", "R", "O", "S", "?"} {
-		c := byBranch[b]
-		if c == nil || len(c.xy) == 0 {
-			continue
-		}
-		st, ok := branchStyles[b]
-		if !ok {
-			st = seriesStyle{okBlack, draw.RingGlyph{}}
-		}
-		sc, err := scatter(c.xy, st, 2.4)
-		if err != nil {
-			fig.Missing = "Not plotted: " + err.Error()
-			return fig
-		}
-		p.Add(sc)
-		lbl := b + " branch"
-		if b == "?" {
-			lbl = "branch not given"
-		}
-		p.Legend.Add(lbl, sc)
-	}
-	if err := addRejected(p, rej.xy, yLim); err != nil {
+	if err := addRejected(p, pts.rejected.xy, yLim); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
@@ -277,10 +191,159 @@ func bandFigure(f *folder, k bandKey, idx []int) *figure {
 		return fig
 	}
 	fig.SVG = svg
-	if sameUnc {
-		fig.Caption += sprintf(" Guides at ±3σ, σ = %s %s.", num(u0, 4), unitName(orDefault(unit0, "cm-1")))
+	if sc.plain {
+		fig.Caption += sprintf(" Guides at ±3σ, σ = %s %s.", num(sc.sigma, 4), unitName(sc.unit))
 	}
 	return fig
+}
+
+// bandTitle is the title of a band's residual figure.
+func bandTitle(k bandKey) string {
+	if k.vUp == k.vLo {
+		return sprintf("%s   pure rotation, v=%d", k.species, k.vUp)
+	}
+	return sprintf("%s   v′=%d ← v″=%d", k.species, k.vUp, k.vLo)
+}
+
+// bandScale is the vertical axis of a band's residual figure: plain o − c
+// when every line of the band has the same finite, positive σ (to 1 part in
+// 10⁹) and the same unit; o − c divided by each line's σ otherwise.
+type bandScale struct {
+	plain bool
+	sigma float64 // the common σ (plain only)
+	unit  string  // the common unit, "" for cm-1 (plain only)
+}
+
+func newBandScale(rs []residual, idx []int) bandScale {
+	sc := bandScale{plain: true, sigma: math.NaN()}
+	for n, i := range idx {
+		r := rs[i]
+		if n == 0 {
+			sc.sigma, sc.unit = r.unc, r.unit
+			continue
+		}
+		if !finite(r.unc) || math.Abs(r.unc-sc.sigma) > 1e-9*math.Abs(sc.sigma) || r.unit != sc.unit {
+			sc.plain = false
+		}
+	}
+	if !finite(sc.sigma) || !(sc.sigma > 0) {
+		sc.plain = false
+	}
+	return sc
+}
+
+// y is the plotted value of a line.
+func (sc bandScale) y(r residual) float64 {
+	if sc.plain {
+		return r.oc
+	}
+	return r.norm
+}
+
+// guide is the height of the guides: 3σ, or 3 on the normalised scale.
+func (sc bandScale) guide() float64 {
+	if sc.plain {
+		return 3 * sc.sigma
+	}
+	return 3
+}
+
+func (sc bandScale) label() string {
+	if sc.plain {
+		return "o − c / " + unitName(sc.unit)
+	}
+	return "(o − c)/σ"
+}
+
+func (sc bandScale) guideLabel() string {
+	if sc.plain {
+		return "±3σ"
+	}
+	return "±3"
+}
+
+// bandPoints are the finite points of a band's figure, used lines by branch
+// letter ("?" for none or an unknown one), with the counts of all its lines.
+type bandPoints struct {
+	byBranch         map[string]*xyCollector
+	rejected         xyCollector
+	nUsed, nRejected int
+}
+
+// branchOrder is the order of the branch series in a figure's legend.
+var branchOrder = []string{"P", "Q", "R", "O", "S", "?"}
+
+func collectBand(rs []residual, idx []int, sc bandScale) *bandPoints {
+	pts := &bandPoints{byBranch: map[string]*xyCollector{}}
+	for _, i := range idx {
+		r := rs[i]
+		if !r.used {
+			pts.nRejected++
+			pts.rejected.add(float64(r.jLo), sc.y(r))
+			continue
+		}
+		pts.nUsed++
+		b := strings.ToUpper(r.branch)
+		if _, ok := branchStyles[b]; !ok {
+			b = "?"
+		}
+		if pts.byBranch[b] == nil {
+			pts.byBranch[b] = &xyCollector{}
+		}
+		pts.byBranch[b].add(float64(r.jLo), sc.y(r))
+	}
+	return pts
+}
+
+// all returns every point, used then rejected.
+func (pts *bandPoints) all() plotter.XYs {
+	var all plotter.XYs
+	for _, c := range pts.byBranch {
+		all = append(all, c.xy...)
+	}
+	return append(all, pts.rejected.xy...)
+}
+
+// yMax is the largest |y| of the used lines, or of the rejected ones when no
+// line was used: the rejected lines beyond it go to the edge of the plot.
+func (pts *bandPoints) yMax() float64 {
+	yMax := 0.0
+	for _, c := range pts.byBranch {
+		for _, p := range c.xy {
+			yMax = math.Max(yMax, math.Abs(p.Y))
+		}
+	}
+	if pts.nUsed == 0 {
+		for _, p := range pts.rejected.xy {
+			yMax = math.Max(yMax, math.Abs(p.Y))
+		}
+	}
+	return yMax
+}
+
+// addBranches adds the used lines to p, one series and legend entry per branch.
+func (pts *bandPoints) addBranches(p *plot.Plot) error {
+	for _, b := range branchOrder {
+		c := pts.byBranch[b]
+		if c == nil || len(c.xy) == 0 {
+			continue
+		}
+		st, ok := branchStyles[b]
+		if !ok {
+			st = seriesStyle{okBlack, draw.RingGlyph{}}
+		}
+		sc, err := scatter(c.xy, st, 2.4)
+		if err != nil {
+			return err
+		}
+		p.Add(sc)
+		lbl := b + " branch"
+		if b == "?" {
+			lbl = "branch not given"
+		}
+		p.Legend.Add(lbl, sc)
+	}
+	return nil
 }
 
 func orDefault(s, def string) string {
