@@ -2,11 +2,6 @@ package report
 
 import (
 	"html/template"
-	"math"
-	"strconv"
-	"strings"
-
-	"bandwright/constants"
 )
 
 // The report is assembled once as a neutral document (sections of
@@ -142,43 +137,4 @@ func (d *document) figure(s *section, f *figure) {
 
 func (s *section) file(name, content string) {
 	s.Blocks = append(s.Blocks, block{Kind: kindFile, File: &embedded{Name: name, Content: content}})
-}
-
-// Number formatting. Nothing non-finite is ever printed: NaN and ±Inf become
-// a dash.
-
-const dash = "—"
-
-func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
-
-// num formats x with prec significant digits (%g style).
-func num(x float64, prec int) string {
-	if !finite(x) {
-		return dash
-	}
-	return strconv.FormatFloat(x, 'g', prec, 64)
-}
-
-// fixed formats x with dec decimals.
-func fixed(x float64, dec int) string {
-	if !finite(x) {
-		return dash
-	}
-	s := strconv.FormatFloat(x, 'f', dec, 64)
-	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
-		s = s[1:]
-	}
-	return s
-}
-
-// paren formats value(σ) in the parenthetical notation (constants.FormatParen);
-// a value without a finite positive σ is written alone.
-func paren(v, s float64) string {
-	if !finite(v) {
-		return dash
-	}
-	if !finite(s) || s <= 0 {
-		return strconv.FormatFloat(v, 'g', 10, 64)
-	}
-	return constants.FormatParen(v, s)
 }

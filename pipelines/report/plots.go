@@ -293,93 +293,6 @@ func (logTicks) Ticks(lo, hi float64) []plot.Tick {
 	return out
 }
 
-// corrHeat draws a correlation matrix as coloured cells, row 0 at the top,
-// with the value written in each cell when the matrix is small, and a colour
-// key to the right of the matrix.
-type corrHeat struct {
-	r      [][]float64
-	labels bool
-	style  text.Style
-}
-
-// diverging maps ρ ∈ [−1, 1] to Okabe–Ito blue (−1) through white (0) to
-// vermillion (+1), linear in sRGB.
-func diverging(rho float64) color.Color {
-	if !finite(rho) {
-		return color.RGBA{0xbb, 0xbb, 0xbb, 0xff}
-	}
-	rho = math.Max(-1, math.Min(1, rho))
-	end := okVermillion
-	if rho < 0 {
-		end, rho = okBlue, -rho
-	}
-	mix := func(a uint8) uint8 { return uint8(math.Round(255 + (float64(a)-255)*rho)) }
-	return color.RGBA{mix(end.R), mix(end.G), mix(end.B), 0xff}
-}
-
-// luminance is the relative luminance of an sRGB colour (WCAG 2.1 formula).
-func luminance(c color.Color) float64 {
-	r, g, b, _ := c.RGBA()
-	lin := func(v uint32) float64 {
-		x := float64(v) / 65535
-		if x <= 0.04045 {
-			return x / 12.92
-		}
-		return math.Pow((x+0.055)/1.055, 2.4)
-	}
-	return 0.2126*lin(r) + 0.7152*lin(g) + 0.0722*lin(b)
-}
-
-func (h *corrHeat) Plot(c draw.Canvas, p *plot.Plot) {
-	trX, trY := p.Transforms(&c)
-	n := len(h.r)
-	rect := func(x0, x1, y0, y1 float64) []vg.Point {
-		return []vg.Point{{X: trX(x0), Y: trY(y0)}, {X: trX(x1), Y: trY(y0)}, {X: trX(x1), Y: trY(y1)}, {X: trX(x0), Y: trY(y1)}}
-	}
-	for i := range n {
-		for j := range n {
-			v := h.r[i][j]
-			y := float64(n - 1 - i)
-			col := diverging(v)
-			c.FillPolygon(col, rect(float64(j)-0.5, float64(j)+0.5, y-0.5, y+0.5))
-			if h.labels && finite(v) {
-				st := h.style
-				st.Color = okBlack
-				if luminance(col) < 0.3 {
-					st.Color = color.White
-				}
-				c.FillText(st, vg.Point{X: trX(float64(j)), Y: trY(y)}, fixed(v, 2))
-			}
-		}
-	}
-	// Colour key: ρ from −1 (bottom) to +1 (top).
-	x0, x1 := float64(n)-0.5+0.35, float64(n)-0.5+0.75
-	const strips = 40
-	lo, hi := -0.5, float64(n)-0.5
-	for k := range strips {
-		// Strips overlap a little so that no seam shows between them.
-		y0 := lo + (hi-lo)*float64(k)/strips
-		y1 := math.Min(hi, lo+(hi-lo)*(float64(k+1)+0.3)/strips)
-		rho := -1 + 2*(float64(k)+0.5)/strips
-		c.FillPolygon(diverging(rho), rect(x0, x1, y0, y1))
-	}
-	st := h.style
-	st.Color = okBlack
-	st.XAlign = draw.XLeft
-	for _, m := range []struct {
-		rho float64
-		s   string
-	}{{-1, "−1"}, {0, "0"}, {1, "+1"}} {
-		y := lo + (hi-lo)*(m.rho+1)/2
-		c.FillText(st, vg.Point{X: trX(x1) + 3, Y: trY(y)}, m.s)
-	}
-}
-
-func (h *corrHeat) DataRange() (xmin, xmax, ymin, ymax float64) {
-	n := float64(len(h.r))
-	return -0.5, n + 0.9, -0.5, n - 0.5
-}
-
 // fillBand returns a filled polygon between lo(x) and hi(x).
 func fillBand(x, lo, hi []float64, clr color.Color) (*plotter.Polygon, error) {
 	var ring plotter.XYs
@@ -426,11 +339,48 @@ func fileSafe(s string) string {
 	return out
 }
 
-// cellStyle is the text style of the values written in correlation cells.
-func cellStyle(p *plot.Plot, n int) text.Style {
-	size := vg.Length(9)
-	if n > 8 {
-		size = 7.5
+// addRejected draws rejected lines as crosses, or as triangles on the edge of
+// the range when they lie beyond ±yLim.
+func addRejected(p *plot.Plot, xy plotter.XYs, yLim float64) error {
+	var in, above, below plotter.XYs
+	for _, q := range xy {
+		switch {
+		case q.Y > yLim:
+			above = append(above, plotter.XY{X: q.X, Y: yLim * 0.96})
+		case q.Y < -yLim:
+			below = append(below, plotter.XY{X: q.X, Y: -yLim * 0.96})
+		default:
+			in = append(in, q)
+		}
 	}
-	return text.Style{Color: okBlack, Font: font.From(sansFont, size), XAlign: draw.XCenter, YAlign: draw.YCenter, Handler: p.TextHandler}
+	if len(in) > 0 {
+		sc, err := scatter(in, seriesStyle{okVermillion, draw.CrossGlyph{}}, 3)
+		if err != nil {
+			return err
+		}
+		sc.GlyphStyle.Radius = 3
+		p.Add(sc)
+		p.Legend.Add("rejected", sc)
+	}
+	if len(above)+len(below) > 0 {
+		var first *plotter.Scatter
+		for _, set := range []struct {
+			xy plotter.XYs
+			up bool
+		}{{above, true}, {below, false}} {
+			if len(set.xy) == 0 {
+				continue
+			}
+			sc, err := scatter(set.xy, seriesStyle{okVermillion, arrowGlyph{up: set.up}}, 3)
+			if err != nil {
+				return err
+			}
+			p.Add(sc)
+			if first == nil {
+				first = sc
+			}
+		}
+		p.Legend.Add(sprintf("rejected, off scale (%d)", len(above)+len(below)), first)
+	}
+	return nil
 }

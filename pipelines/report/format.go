@@ -1,0 +1,73 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"bandwright/constants"
+)
+
+// Number formatting. Nothing non-finite is ever printed: NaN and ±Inf become
+// a dash.
+
+const dash = "—"
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// num formats x with prec significant digits (%g style).
+func num(x float64, prec int) string {
+	if !finite(x) {
+		return dash
+	}
+	return strconv.FormatFloat(x, 'g', prec, 64)
+}
+
+// fixed formats x with dec decimals.
+func fixed(x float64, dec int) string {
+	if !finite(x) {
+		return dash
+	}
+	s := strconv.FormatFloat(x, 'f', dec, 64)
+	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
+		s = s[1:]
+	}
+	return s
+}
+
+// paren formats value(σ) in the parenthetical notation (constants.FormatParen);
+// a value without a finite positive σ is written alone.
+func paren(v, s float64) string {
+	if !finite(v) {
+		return dash
+	}
+	if !finite(s) || s <= 0 {
+		return strconv.FormatFloat(v, 'g', 10, 64)
+	}
+	return constants.FormatParen(v, s)
+}
+
+// Text helpers.
+
+// orDefault returns s, or def when s is empty.
+func orDefault(s, def string) string {
+	if s == "" {
+		return def
+	}
+	return s
+}
+
+func sprintf(format string, a ...any) string { return fmt.Sprintf(format, a...) }
+
+// unitName writes a unit of the files for reading: cm-1 as cm⁻¹ (also for
+// "", the unit of line lists that give none), angstrom as Å.
+func unitName(u string) string {
+	switch u {
+	case "":
+		return "cm⁻¹"
+	case "angstrom":
+		return "Å"
+	}
+	return strings.ReplaceAll(u, "cm-1", "cm⁻¹")
+}

@@ -1,0 +1,105 @@
+package report
+
+import (
+	"encoding/json"
+	"sort"
+	"strconv"
+	"time"
+)
+
+// conventions states the conventions behind every number of the report.
+func conventions(d *document, f *folder) {
+	rec := f.record
+	s := d.section("conventions", "Conventions")
+	items := []string{
+		"Line positions, constants and residuals in cm⁻¹ unless a line list gives MHz; 1 cm⁻¹ = 29 979.2458 MHz exactly.",
+		"Uncertainties are 1σ. Parenthetical notation: 1.922529(3) means 1.922529 ± 0.000003; 6.1215(12)e-06 means (6.1215 ± 0.0012)×10⁻⁶.",
+		"Covariance and σ of the constants: " + rec.CovarianceConvention + ".",
+		"o − c is observed minus calculated, in each line's own unit; (o − c)/σ divides by the line's stated uncertainty.",
+		"Quantum numbers: v′, J′ of the upper level, v″, J″ of the lower; branches O, P, Q, R, S for ΔJ = J′ − J″ = −2 … +2.",
+	}
+	if f.thermo != nil {
+		items = append(items, "Thermodynamic functions: ideal gas, per mole; the shaded bands of their figures are ±2σ.")
+	}
+	items = append(items, "Colours: "+paletteName+"; every series also has its own glyph or dash pattern.", "Times are UTC.")
+	s.list(items)
+	if f.thermo != nil {
+		if len(f.thermo.comments) > 0 {
+			s.para("thermo.csv states:")
+			s.list(f.thermo.comments)
+		} else {
+			s.para("thermo.csv states no conventions in comment lines; read them from the thermo stage's other files before using its numbers.")
+		}
+	}
+}
+
+// cautions holds the safety notes and the limits of the numbers.
+func cautions(d *document, f *folder) {
+	s := d.section("cautions", "Cautions")
+	items := []string{
+		"Gas cells: many diatomic gases measured this way are toxic, corrosive or both (carbon monoxide, hydrogen halides, nitric oxide, halogens). Fill, vent and leak-test cells following your laboratory's safety rules, with ventilation and gas detection where they call for it.",
+		"Thermodynamic data used for safety or process design: verify them against evaluated reference data first, and defer to local codes and licensed engineering practice. The σ here carry only the statistical uncertainty of the fit, not errors of the model or of the calibration.",
+		"Extrapolation: the constants describe the levels the lines reach (listed under At a glance). Predicted lines, partition functions and thermodynamic functions that rest on higher levels are extrapolations, more so the higher the temperature.",
+	}
+	if n := len(f.record.Warnings); n > 0 {
+		items = append(items, sprintf("The fit gave %d warning(s), listed under At a glance; read them before using the constants.", n))
+	}
+	s.list(items)
+}
+
+// provenance lists the inputs, the options and the files of the folder.
+func provenance(d *document, f *folder, o Options) {
+	rec := f.record
+	pv := rec.Provenance
+	s := d.section("provenance", "Provenance")
+	if len(pv.Inputs) > 0 {
+		t := &table{Caption: "Line lists the fit read, with their SHA-256.", Head: []string{"input", "SHA-256"}, Wrap: []bool{true, true}}
+		for _, in := range pv.Inputs {
+			t.Rows = append(t.Rows, []string{in.Path, in.SHA256})
+		}
+		d.table(s, t)
+	}
+	s.para("constants.json was written by bandwright %s at %s (schema %s).", orDefault(pv.Version, "(version not recorded)"), orDefault(pv.Created, "(time not recorded)"), rec.Schema)
+	if len(pv.Options) > 0 {
+		var keys []string
+		for k := range pv.Options {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		t := &table{Caption: "Options of the fit.", Head: []string{"option", "value"}, Wrap: []bool{false, true}}
+		for _, k := range keys {
+			t.Rows = append(t.Rows, []string{k, optionValue(pv.Options[k])})
+		}
+		d.table(s, t)
+	}
+	t := &table{Caption: "Files of this folder the report was built from.", Head: []string{"stage", "file", "bytes", "SHA-256"}, Numeric: []bool{false, false, true, false}, Wrap: []bool{false, false, false, true}}
+	for _, fi := range f.files {
+		t.Rows = append(t.Rows, []string{fi.stage, fi.name, strconv.FormatInt(fi.size, 10), fi.sha256})
+	}
+	d.table(s, t)
+	if len(o.Notes) > 0 {
+		s.para("Run notes:")
+		s.list(o.Notes)
+	}
+	ver := o.Version
+	if ver == "" {
+		ver = "(version not given)"
+	}
+	s.para("This report was built by bandwright %s at %s.", ver, o.Now().UTC().Format(time.RFC3339))
+}
+
+func optionValue(v any) string {
+	switch x := v.(type) {
+	case string:
+		return x
+	case nil:
+		return dash
+	case float64:
+		return num(x, 10)
+	}
+	b, err := json.Marshal(v)
+	if err != nil {
+		return sprintf("%v", v)
+	}
+	return string(b)
+}
