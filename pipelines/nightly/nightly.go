@@ -71,10 +71,7 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"runtime"
-	"strconv"
-	"strings"
 	"sync"
 	"time"
 
@@ -241,38 +238,6 @@ func (e *LockError) Error() string {
 // Unwrap returns ErrLocked.
 func (e *LockError) Unwrap() error { return ErrLocked }
 
-// ParseShard reads "K/N" (1-based K, 1 ≤ K ≤ N).
-func ParseShard(s string) (k, n int, err error) {
-	bad := fmt.Errorf("nightly: --shard %q: want K/N with 1 ≤ K ≤ N, for example 2/8", s)
-	a, b, ok := strings.Cut(strings.TrimSpace(s), "/")
-	if !ok {
-		return 0, 0, bad
-	}
-	k, err1 := strconv.Atoi(strings.TrimSpace(a))
-	n, err2 := strconv.Atoi(strings.TrimSpace(b))
-	if err1 != nil || err2 != nil || n < 1 || k < 1 || k > n {
-		return 0, 0, bad
-	}
-	return k, n, nil
-}
-
-// ShardOf returns the shard (1..n) of a content hash: 1 + (the first 64 bits
-// of the SHA-256, big-endian) mod n. It depends on the content only, so every
-// machine computes the same partition.
-func ShardOf(sha256hex string, n int) int {
-	if n <= 1 {
-		return 1
-	}
-	if len(sha256hex) < 16 {
-		return 1
-	}
-	v, err := strconv.ParseUint(sha256hex[:16], 16, 64)
-	if err != nil {
-		return 1
-	}
-	return 1 + int(v%uint64(n))
-}
-
 func (o *Options) normalise() error {
 	if o.Inbox == "" {
 		return errors.New("nightly: no inbox folder given (--inbox)")
@@ -383,57 +348,4 @@ type runner struct {
 
 func (r *runner) note(format string, args ...any) {
 	r.prog.note(fmt.Sprintf(format, args...))
-}
-
-// realDir resolves a folder's absolute path with symbolic links evaluated.
-func realDir(p, what string) (string, error) {
-	abs, err := filepath.Abs(p)
-	if err != nil {
-		return "", fmt.Errorf("nightly: %s %s: %w", what, p, err)
-	}
-	real, err := filepath.EvalSymlinks(abs)
-	if err != nil {
-		return "", fmt.Errorf("nightly: %s %s: %w", what, p, err)
-	}
-	st, err := os.Stat(real)
-	if err != nil {
-		return "", fmt.Errorf("nightly: %s %s: %w", what, p, err)
-	}
-	if !st.IsDir() {
-		return "", fmt.Errorf("nightly: %s %s is not a folder", what, p)
-	}
-	return real, nil
-}
-
-// resolve returns the absolute path of p with the links of its longest
-// existing prefix evaluated (p itself need not exist).
-func resolve(p string) (string, error) {
-	abs, err := filepath.Abs(p)
-	if err != nil {
-		return "", err
-	}
-	rest := ""
-	for cur := abs; ; {
-		if real, err := filepath.EvalSymlinks(cur); err == nil {
-			return filepath.Join(real, rest), nil
-		}
-		parent := filepath.Dir(cur)
-		if parent == cur {
-			return abs, nil
-		}
-		rest = filepath.Join(filepath.Base(cur), rest)
-		cur = parent
-	}
-}
-
-// within reports whether p is root or inside it (both absolute and clean).
-func within(root, p string) bool {
-	if p == root {
-		return true
-	}
-	rel, err := filepath.Rel(root, p)
-	if err != nil {
-		return false
-	}
-	return rel != ".." && !strings.HasPrefix(rel, ".."+string(filepath.Separator)) && !filepath.IsAbs(rel)
 }
