@@ -172,8 +172,24 @@ func TestRunFitEndToEnd(t *testing.T) {
 		}
 	}
 
-	// constants.json: reads back, holds the constants the lines were made
-	// from (within 4σ) and the input's SHA-256.
+	rec := checkFitRecord(t, out, in, n)
+	checkFitResiduals(t, out, in, n, oc, rec)
+	checkFitSummary(t, out, oc)
+
+	// A second run into the same folder replaces the files.
+	if _, err := RunFit(FitOptions{Inputs: []string{in}, Model: "dunham", Terms: smallTerms, Reject: 3, Round: true, Out: out}); err != nil {
+		t.Fatal(err)
+	}
+	if b, _ := os.ReadFile(filepath.Join(out, constants.ConstantsFile)); !bytes.Contains(b, []byte(`"rounding"`)) {
+		t.Error("second run did not replace constants.json")
+	}
+}
+
+// checkFitRecord checks the constants.json that a fit of the n lines of the
+// line list in wrote into out: it reads back, holds the constants the lines
+// were made from (within 4σ) and the input's SHA-256.
+func checkFitRecord(t *testing.T, out, in string, n int) *constants.Record {
+	t.Helper()
 	f, err := os.Open(filepath.Join(out, constants.ConstantsFile))
 	if err != nil {
 		t.Fatal(err)
@@ -206,8 +222,13 @@ func TestRunFitEndToEnd(t *testing.T) {
 	if rec.CovarianceConvention != constants.CovarianceConvention {
 		t.Errorf("covariance convention %q", rec.CovarianceConvention)
 	}
+	return rec
+}
 
-	// residuals.csv: one row per line, o−c equal to the fit's, used lines as counted.
+// checkFitResiduals checks residuals.csv in out: one row per line of in
+// (n lines), o−c equal to the fit's, used lines as the record counts them.
+func checkFitResiduals(t *testing.T, out, in string, n int, oc *FitOutcome, rec *constants.Record) {
+	t.Helper()
 	rf, err := os.Open(filepath.Join(out, constants.ResidualsFile))
 	if err != nil {
 		t.Fatal(err)
@@ -243,8 +264,12 @@ func TestRunFitEndToEnd(t *testing.T) {
 	if used != rec.Stats.Used {
 		t.Errorf("residuals.csv marks %d lines used, the record %d", used, rec.Stats.Used)
 	}
+}
 
-	// fit.md names the constants in parenthetical notation and the convention.
+// checkFitSummary checks that fit.md in out names the constants in
+// parenthetical notation and the covariance convention.
+func checkFitSummary(t *testing.T, out string, oc *FitOutcome) {
+	t.Helper()
 	md, err := os.ReadFile(filepath.Join(out, constants.FitReportFile))
 	if err != nil {
 		t.Fatal(err)
@@ -259,14 +284,6 @@ func TestRunFitEndToEnd(t *testing.T) {
 		if !strings.Contains(string(md), want) {
 			t.Errorf("fit.md does not contain %q", want)
 		}
-	}
-
-	// A second run into the same folder replaces the files.
-	if _, err := RunFit(FitOptions{Inputs: []string{in}, Model: "dunham", Terms: smallTerms, Reject: 3, Round: true, Out: out}); err != nil {
-		t.Fatal(err)
-	}
-	if b, _ := os.ReadFile(filepath.Join(out, constants.ConstantsFile)); !bytes.Contains(b, []byte(`"rounding"`)) {
-		t.Error("second run did not replace constants.json")
 	}
 }
 
