@@ -269,7 +269,6 @@ type band struct {
 	lock     Lock
 	locked   bool
 	jcore    int // highest J″ of the lock lines
-	note     string
 	// intensity scale ln(I_obs/I_pred) = g + h·E″ per group
 	g, h [2]float64
 	hasG [2]bool

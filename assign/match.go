@@ -264,8 +264,7 @@ func solveSparse(n int, edges []edge, edgesOf [][]int, unmatched func(int) float
 	for i := range parent {
 		parent[i] = i
 	}
-	var find func(int) int
-	find = func(x int) int {
+	find := func(x int) int {
 		for parent[x] != x {
 			parent[x] = parent[parent[x]]
 			x = parent[x]

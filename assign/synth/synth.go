@@ -241,8 +241,8 @@ func Generate(s Spec) ([]Peak, error) {
 	}
 	rng := rand.New(rand.NewPCG(s.Seed, 0x5eed))
 	type raw struct {
-		pos, unc, in float64
-		truth        []Line
+		pos, in float64
+		truth   []Line
 	}
 	var rs []raw
 	for _, l := range lines {
