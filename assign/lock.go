@@ -375,9 +375,10 @@ func (r *run) lockBand(b *band, taken []bool, globalScale float64, narrow bool) 
 		}
 		a, d, e = x[0], x[1], x[2]
 		L.RMS = srob
+		// Stop once the windows would shrink by less than a tenth: the
+		// matches just used were gathered with windows this close to final.
 		next := math.Min(1, math.Max(0.05, math.Max(5*srob, 4*r.uMed)/wmin))
 		if it > 0 && next >= shrink*0.9 {
-			shrink = math.Min(shrink, next)
 			break
 		}
 		shrink = math.Min(shrink, next)
