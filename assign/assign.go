@@ -16,7 +16,8 @@ type Problem struct {
 	// Bands are looked for in every species of Start.
 	Bands    []linelist.Band
 	Spectrum Spectrum
-	// Temperature of the sample in K, for predicted intensities.
+	// Temperature of the sample in K, for predicted intensities; 0 means
+	// 296 K.
 	Temperature float64
 }
 

@@ -100,29 +100,56 @@ type band struct {
 
 func (b *band) label() string { return fmt.Sprintf("%s %d-%d", b.sp.sp.Label, b.vu, b.vl) }
 
+// newRun checks the problem and the settings and sets up the run: the peaks
+// sorted by wavenumber with their uncertainties, and the predicted lines of
+// every band of every species.
 func newRun(p Problem, s Settings) (*run, error) {
-	if p.Peaks == nil || len(p.Peaks.Peaks) == 0 {
-		return nil, errors.New("assign: no peaks")
-	}
-	if p.Start == nil || len(p.Start.Species) == 0 {
-		return nil, errors.New("assign: no species to look for")
-	}
-	if len(p.Bands) == 0 {
-		return nil, errors.New("assign: no bands given (e.g. 1-0,2-1)")
-	}
-	if p.Temperature == 0 {
-		p.Temperature = 296
-	}
-	if !(p.Temperature > 0) || math.IsInf(p.Temperature, 0) {
-		return nil, fmt.Errorf("assign: temperature must be > 0 K, got %g", p.Temperature)
-	}
-	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.DefaultUnc < 0 || math.IsNaN(s.DefaultUnc) {
-		return nil, errors.New("assign: tolerance and default uncertainty must be ≥ 0")
+	if err := checkProblem(&p, s); err != nil {
+		return nil, err
 	}
 	r := &run{p: p, s: s, speciesScale: map[string]float64{}, assigned: map[Transition]int{}, bans: map[banKey]string{}, dropped: map[int]droppedInfo{}, sFit: 1, sigI: 0.3}
+	r.setPeaks()
+	r.setUncertainties()
+	if err := r.setBands(); err != nil {
+		return nil, err
+	}
+	r.scaleGuess = r.guessScale()
+	return r, nil
+}
 
-	// Peaks, sorted by wavenumber.
-	pk := p.Peaks.Peaks
+// defaultTemperature is the sample temperature (K) of a problem that gives
+// none: room temperature, the reference temperature of the common
+// line-intensity databases.
+const defaultTemperature = 296
+
+// checkProblem refuses a problem or settings an assignment cannot start from,
+// and fills in the default temperature.
+func checkProblem(p *Problem, s Settings) error {
+	if p.Peaks == nil || len(p.Peaks.Peaks) == 0 {
+		return errors.New("assign: no peaks")
+	}
+	if p.Start == nil || len(p.Start.Species) == 0 {
+		return errors.New("assign: no species to look for")
+	}
+	if len(p.Bands) == 0 {
+		return errors.New("assign: no bands given (e.g. 1-0,2-1)")
+	}
+	if p.Temperature == 0 {
+		p.Temperature = defaultTemperature
+	}
+	if !(p.Temperature > 0) || math.IsInf(p.Temperature, 0) {
+		return fmt.Errorf("assign: temperature must be > 0 K, got %g", p.Temperature)
+	}
+	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.DefaultUnc < 0 || math.IsNaN(s.DefaultUnc) {
+		return errors.New("assign: tolerance and default uncertainty must be ≥ 0")
+	}
+	return nil
+}
+
+// setPeaks sorts the peaks by wavenumber and sets their positions (cm⁻¹), ln
+// intensities and the spectral range.
+func (r *run) setPeaks() {
+	pk := r.p.Peaks.Peaks
 	idx := make([]int, len(pk))
 	for i := range idx {
 		idx[i] = i
@@ -130,19 +157,35 @@ func newRun(p Problem, s Settings) (*run, error) {
 	sort.SliceStable(idx, func(a, b int) bool { return pk[idx[a]].Wavenumber() < pk[idx[b]].Wavenumber() })
 	r.peakOf = idx
 	n := len(pk)
-	r.pos, r.unc, r.lnI, r.uSource = make([]float64, n), make([]float64, n), make([]float64, n), make([]string, n)
-	var given []float64
+	r.pos, r.lnI = make([]float64, n), make([]float64, n)
 	for k, i := range idx {
 		r.pos[k] = pk[i].Wavenumber()
-		if pk[i].Unc > 0 {
-			given = append(given, pk[i].UncWavenumber())
-		}
 		r.lnI[k] = math.NaN()
 		if pk[i].Intensity > 0 {
 			r.lnI[k] = math.Log(pk[i].Intensity)
 		}
 	}
-	def := s.DefaultUnc
+	r.lo, r.hi = r.pos[0], r.pos[n-1]
+}
+
+// placeholderUnc is the 1σ (cm⁻¹) the peaks carry while no uncertainty is
+// known at all: with every peak alike it only sets the unit of the internal
+// fit's weights, and the final result replaces it by the fit's scatter.
+const placeholderUnc = 1e-3
+
+// setUncertainties gives every peak its 1σ in cm⁻¹ and says where it came
+// from: the peak list; else Settings.DefaultUnc; else the median of the
+// uncertainties the peak list gives; else a placeholder, to be replaced by
+// the scatter of the internal fit (uncEst).
+func (r *run) setUncertainties() {
+	pk := r.p.Peaks.Peaks
+	var given []float64
+	for _, i := range r.peakOf {
+		if pk[i].Unc > 0 {
+			given = append(given, pk[i].UncWavenumber())
+		}
+	}
+	def := r.s.DefaultUnc
 	src := "default"
 	if def == 0 && len(given) > 0 {
 		def = median(append([]float64(nil), given...))
@@ -151,10 +194,12 @@ func newRun(p Problem, s Settings) (*run, error) {
 	if def == 0 {
 		// No uncertainty anywhere: unit weights, estimated from the scatter.
 		r.uncEst = true
-		def = 1e-3
+		def = placeholderUnc
 		src = "fit scatter"
 	}
-	for k, i := range idx {
+	n := len(pk)
+	r.unc, r.uSource = make([]float64, n), make([]string, n)
+	for k, i := range r.peakOf {
 		if pk[i].Unc > 0 {
 			r.unc[k] = pk[i].UncWavenumber()
 			r.uSource[k] = "peak list"
@@ -163,19 +208,22 @@ func newRun(p Problem, s Settings) (*run, error) {
 			r.uSource[k] = src
 		}
 	}
-	r.lo, r.hi = r.pos[0], r.pos[n-1]
 	if !r.uncEst {
 		r.uMed = median(append([]float64(nil), r.unc...))
 	}
+}
 
-	// Species and bands.
+// setBands sets up the intensity model of every species and predicts every
+// band of it from the starting constants.
+func (r *run) setBands() error {
+	p := r.p
 	for _, sp := range p.Start.Species {
 		if sp.Iso.Homonuclear() && p.Spectrum != Raman {
-			return nil, fmt.Errorf("assign: %s is homonuclear: it has no electric-dipole %s spectrum; use --spectrum raman", sp.Label, map[Spectrum]string{Infrared: "infrared", Rotation: "rotational"}[p.Spectrum])
+			return fmt.Errorf("assign: %s is homonuclear: it has no electric-dipole %s spectrum; use --spectrum raman", sp.Label, map[Spectrum]string{Infrared: "infrared", Rotation: "rotational"}[p.Spectrum])
 		}
 		im, err := NewIntensityModel(p.Spectrum, p.Temperature, sp)
 		if err != nil {
-			return nil, err
+			return err
 		}
 		r.species = append(r.species, &spState{sp: sp, im: im})
 	}
@@ -183,19 +231,18 @@ func newRun(p Problem, s Settings) (*run, error) {
 	for _, spst := range r.species {
 		for _, bs := range p.Bands {
 			if seen[bs] && spst == r.species[0] {
-				return nil, fmt.Errorf("assign: band %d-%d is given twice", bs.VUp, bs.VLo)
+				return fmt.Errorf("assign: band %d-%d is given twice", bs.VUp, bs.VLo)
 			}
 			seen[bs] = true
 			b, err := r.newBand(spst, bs)
 			if err != nil {
-				return nil, err
+				return err
 			}
 			b.id = len(r.bands)
 			r.bands = append(r.bands, b)
 		}
 	}
-	r.scaleGuess = r.guessScale()
-	return r, nil
+	return nil
 }
 
 // guessScale compares the strongest peaks with the strongest predicted lines
