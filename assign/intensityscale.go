@@ -41,7 +41,7 @@ func (r *run) updateIntensityScales() {
 				for i, p := range keep {
 					res[i] = math.Abs(p.y - g0 - h0*p.e)
 				}
-				mad := 1.4826 * median(append([]float64(nil), res...))
+				mad := madToSigma * median(append([]float64(nil), res...))
 				if pass == 2 || mad == 0 {
 					break
 				}
@@ -63,7 +63,7 @@ func (r *run) updateIntensityScales() {
 		}
 	}
 	if len(allRes) >= 8 {
-		r.sigI = math.Max(0.1, 1.4826*median(allRes))
+		r.sigI = math.Max(0.1, madToSigma*median(allRes))
 	}
 }
 

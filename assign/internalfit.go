@@ -179,7 +179,7 @@ func (r *run) doFit() (bool, error) {
 		// The scale of the stated uncertainties, robust against a minority of
 		// bad lines: 1.4826 × the median |o−c|/unc (never below 1 when the
 		// peaks give uncertainties).
-		srob := 1.4826 * median(norms)
+		srob := madToSigma * median(norms)
 		switch {
 		case r.uncEst && srob > 0:
 			r.sFit = srob

@@ -358,7 +358,7 @@ func (r *run) lockBand(b *band, taken []bool, globalScale float64, narrow bool) 
 			for i, m := range ms {
 				res[i] = math.Abs(m.r - x[0] - x[1]*m.line.dx - x[2]*m.line.sx)
 			}
-			srob = 1.4826 * median(append([]float64(nil), res...))
+			srob = madToSigma * median(append([]float64(nil), res...))
 			var in []lockMatch
 			for i, m := range ms {
 				if res[i] <= 4*math.Max(srob, r.unc[m.peak]) {
@@ -499,26 +499,4 @@ func (r *run) nearestFree(t, w float64, taken []bool, used []int, gen int) int {
 		}
 	}
 	return best
-}
-
-func sq(x float64) float64 { return x * x }
-
-func abs(i int) int {
-	if i < 0 {
-		return -i
-	}
-	return i
-}
-
-// median returns the median of xs (NaN when empty); xs is reordered.
-func median(xs []float64) float64 {
-	n := len(xs)
-	if n == 0 {
-		return math.NaN()
-	}
-	sort.Float64s(xs)
-	if n%2 == 1 {
-		return xs[n/2]
-	}
-	return (xs[n/2-1] + xs[n/2]) / 2
 }
