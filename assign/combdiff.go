@@ -57,6 +57,31 @@ type cdDiffKey struct {
 // were dropped.
 func (r *run) checkCombinationDifferences() int {
 	T := r.s.cdThreshold()
+	pairs := r.cdPairs()
+	r.checkAgainstFit(pairs, T)
+	checkAcrossBands(pairs, T)
+	tl := r.tallyCombinationDifferences(pairs)
+	r.cdLine = map[Transition][2]int{}
+	var drop []Transition
+	for t, x := range tl {
+		r.cdLine[t] = [2]int{x.pass + x.fail, x.pass}
+		if (x.fail > 0 && x.pass == 0) || x.blamed >= 2 {
+			drop = append(drop, t)
+		}
+	}
+	sortTransitions(drop)
+	for _, t := range drop {
+		k := r.assigned[t]
+		x := tl[t]
+		r.drop(t, k, "breaks the combination differences: "+strings.Join(x.why, "; ")+passNote(x.pass))
+	}
+	return len(drop)
+}
+
+// cdPairs forms every combination difference of the current assignment:
+// every two lines that share a level and whose other levels lie in one
+// vibrational level, in a fixed order (species, v, J of the shared level).
+func (r *run) cdPairs() []*cdPair {
 	byLevel := map[cdLevelKey][]Transition{}
 	for t := range r.assigned {
 		byLevel[cdLevelKey{t.Species, t.VUp, t.JUp, true}] = append(byLevel[cdLevelKey{t.Species, t.VUp, t.JUp, true}], t)
@@ -88,49 +113,61 @@ func (r *run) checkCombinationDifferences() int {
 		sortTransitions(ts)
 		for i := 0; i < len(ts); i++ {
 			for j := i + 1; j < len(ts); j++ {
-				a, b := ts[i], ts[j]
-				p := &cdPair{a: a, b: b, sp: lk.sp}
-				var ja, jb int
-				if lk.upper {
-					// ν_a − ν_b = E(v″_b, J″_b) − E(v″_a, J″_a)
-					if a.VLo != b.VLo {
-						continue
-					}
-					p.shared, p.v, ja, jb = 0, a.VLo, a.JLo, b.JLo
-				} else {
-					// ν_a − ν_b = E(v′_a, J′_a) − E(v′_b, J′_b)
-					if a.VUp != b.VUp {
-						continue
-					}
-					p.shared, p.v, ja, jb = 1, a.VUp, a.JUp, b.JUp
+				if p := r.cdPair(lk, ts[i], ts[j]); p != nil {
+					pairs = append(pairs, p)
 				}
-				if ja == jb {
-					continue
-				}
-				na, nb := r.pos[r.assigned[a]], r.pos[r.assigned[b]]
-				diff := na - nb // upper shared: E(jb) − E(ja); lower shared: E(ja) − E(jb)
-				if lk.upper {
-					diff = -diff
-				}
-				// diff = E(v, ja) − E(v, jb) now, in both cases.
-				if ja > jb {
-					p.jhi, p.jlo, p.d = ja, jb, diff
-				} else {
-					p.jhi, p.jlo, p.d = jb, ja, -diff
-				}
-				p.ka, p.kb = r.assigned[a], r.assigned[b]
-				ua, ub := r.unc[p.ka]*r.sFit, r.unc[p.kb]*r.sFit
-				p.sig = math.Sqrt(ua*ua + ub*ub)
-				p.band, _ = r.bandOf(a)
-				if bb, _ := r.bandOf(b); bb != p.band {
-					p.band = nil
-				}
-				pairs = append(pairs, p)
 			}
 		}
 	}
+	return pairs
+}
 
-	// Against the fit.
+// cdPair forms the combination difference of lines a and b, which share the
+// level lk, or returns nil when their other levels are not two rotational
+// levels of one vibrational level.
+func (r *run) cdPair(lk cdLevelKey, a, b Transition) *cdPair {
+	p := &cdPair{a: a, b: b, sp: lk.sp}
+	var ja, jb int
+	if lk.upper {
+		// ν_a − ν_b = E(v″_b, J″_b) − E(v″_a, J″_a)
+		if a.VLo != b.VLo {
+			return nil
+		}
+		p.shared, p.v, ja, jb = 0, a.VLo, a.JLo, b.JLo
+	} else {
+		// ν_a − ν_b = E(v′_a, J′_a) − E(v′_b, J′_b)
+		if a.VUp != b.VUp {
+			return nil
+		}
+		p.shared, p.v, ja, jb = 1, a.VUp, a.JUp, b.JUp
+	}
+	if ja == jb {
+		return nil
+	}
+	na, nb := r.pos[r.assigned[a]], r.pos[r.assigned[b]]
+	diff := na - nb // upper shared: E(jb) − E(ja); lower shared: E(ja) − E(jb)
+	if lk.upper {
+		diff = -diff
+	}
+	// diff = E(v, ja) − E(v, jb) now, in both cases.
+	if ja > jb {
+		p.jhi, p.jlo, p.d = ja, jb, diff
+	} else {
+		p.jhi, p.jlo, p.d = jb, ja, -diff
+	}
+	p.ka, p.kb = r.assigned[a], r.assigned[b]
+	ua, ub := r.unc[p.ka]*r.sFit, r.unc[p.kb]*r.sFit
+	p.sig = math.Sqrt(ua*ua + ub*ub)
+	p.band, _ = r.bandOf(a)
+	if bb, _ := r.bandOf(b); bb != p.band {
+		p.band = nil
+	}
+	return p
+}
+
+// checkAgainstFit compares every difference with the internal fit's value of
+// the same level difference and fails it beyond T σ.
+func (r *run) checkAgainstFit(pairs []*cdPair, T float64) {
 	for _, p := range pairs {
 		if !r.fp.has(p.sp, p.v, p.v) {
 			continue
@@ -143,7 +180,11 @@ func (r *run) checkCombinationDifferences() int {
 			p.why = fmt.Sprintf("%s − %s deviates from the fit by %.1fσ", p.a.short(), p.b.short(), math.Abs(p.dev))
 		}
 	}
-	// Across bands: the same level difference measured by other bands.
+}
+
+// checkAcrossBands compares every difference with the weighted mean of the
+// same level difference measured by other bands and fails it beyond T σ.
+func checkAcrossBands(pairs []*cdPair, T float64) {
 	byDiff := map[cdDiffKey][]*cdPair{}
 	for _, p := range pairs {
 		k := cdDiffKey{p.sp, p.v, p.jlo, p.jhi}
@@ -180,16 +221,23 @@ func (r *run) checkCombinationDifferences() int {
 			}
 		}
 	}
+}
 
-	// Per line and per band.
-	type tally struct {
-		pass, fail, blamed int
-		why                []string
-	}
-	tl := map[Transition]*tally{}
-	get := func(t Transition) *tally {
+// cdTally counts the combination differences of one line: passed, failed,
+// and failed with this line the likelier culprit (the larger |o−c|/unc of
+// the two in the internal fit), with the reasons of the failures.
+type cdTally struct {
+	pass, fail, blamed int
+	why                []string
+}
+
+// tallyCombinationDifferences counts the differences per line and per band
+// (r.cdBand, with the rms of their deviations from the fit).
+func (r *run) tallyCombinationDifferences(pairs []*cdPair) map[Transition]*cdTally {
+	tl := map[Transition]*cdTally{}
+	get := func(t Transition) *cdTally {
 		if tl[t] == nil {
-			tl[t] = &tally{}
+			tl[t] = &cdTally{}
 		}
 		return tl[t]
 	}
@@ -197,34 +245,12 @@ func (r *run) checkCombinationDifferences() int {
 	for i, l := range r.fitProb.Lines {
 		normOf[Transition{l.Species, l.VUp, l.JUp, l.VLo, l.JLo}] = math.Abs(r.fit.Lines[i].Norm)
 	}
-	nrm := func(t Transition) float64 { return normOf[t] }
 	r.cdBand = map[*band]*CDStats{}
 	devs := map[*band][]float64{}
 	for _, p := range pairs {
 		ta, tb := get(p.a), get(p.b)
 		if p.band != nil {
-			st := r.cdBand[p.band]
-			if st == nil {
-				st = &CDStats{}
-				r.cdBand[p.band] = st
-			}
-			if p.shared == 0 {
-				st.Lower++
-				if p.failed {
-					st.LowerFailed++
-				}
-			} else {
-				st.Upper++
-				if p.failed {
-					st.UpperFailed++
-				}
-			}
-			if p.crossN > 0 {
-				st.Cross++
-				if p.crossBad {
-					st.CrossFailed++
-				}
-			}
+			r.countBandDifference(p)
 			devs[p.band] = append(devs[p.band], p.dev)
 		}
 		if !p.failed {
@@ -236,7 +262,7 @@ func (r *run) checkCombinationDifferences() int {
 		tb.fail++
 		ta.why = append(ta.why, p.why)
 		tb.why = append(tb.why, p.why)
-		if nrm(p.a) >= nrm(p.b) {
+		if normOf[p.a] >= normOf[p.b] {
 			ta.blamed++
 		} else {
 			tb.blamed++
@@ -249,21 +275,33 @@ func (r *run) checkCombinationDifferences() int {
 		}
 		r.cdBand[b].RMS = math.Sqrt(s / float64(len(ds)))
 	}
-	r.cdLine = map[Transition][2]int{}
-	var drop []Transition
-	for t, x := range tl {
-		r.cdLine[t] = [2]int{x.pass + x.fail, x.pass}
-		if (x.fail > 0 && x.pass == 0) || x.blamed >= 2 {
-			drop = append(drop, t)
+	return tl
+}
+
+// countBandDifference adds difference p to the statistics of its band.
+func (r *run) countBandDifference(p *cdPair) {
+	st := r.cdBand[p.band]
+	if st == nil {
+		st = &CDStats{}
+		r.cdBand[p.band] = st
+	}
+	if p.shared == 0 {
+		st.Lower++
+		if p.failed {
+			st.LowerFailed++
+		}
+	} else {
+		st.Upper++
+		if p.failed {
+			st.UpperFailed++
 		}
 	}
-	sortTransitions(drop)
-	for _, t := range drop {
-		k := r.assigned[t]
-		x := tl[t]
-		r.drop(t, k, "breaks the combination differences: "+strings.Join(x.why, "; ")+passNote(x.pass))
+	if p.crossN > 0 {
+		st.Cross++
+		if p.crossBad {
+			st.CrossFailed++
+		}
 	}
-	return len(drop)
 }
 
 func passNote(pass int) string {
