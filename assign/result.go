@@ -6,24 +6,52 @@ import (
 	"strconv"
 
 	"bandwright/fit"
+	"bandwright/fit/linelist"
 )
 
-// result assembles the Result of the finished run.
+// result assembles the Result of the finished run: the final fit, the
+// assigned lines, the bands, the peaks left over and the warnings.
 func (r *run) result() (*Result, error) {
 	res := &Result{Settings: r.s, Problem: r.p, Iterations: r.iter, UncEstimated: r.uncEst, IntensityScatter: math.NaN()}
 	if r.p.Peaks.HasIntensity {
 		res.IntensityScatter = r.sigI
 	}
+	lines, ts, err := r.finalFit(res)
+	if err != nil {
+		return nil, err
+	}
+	byBand := r.bandResults()
+	r.addAssignments(res, lines, ts, byBand)
+	r.addLeftovers(res, byBand)
+	for _, b := range r.bands {
+		res.Bands = append(res.Bands, *byBand[b])
+	}
+	for _, w := range r.p.Peaks.Warnings {
+		res.Warnings = append(res.Warnings, w.String())
+	}
+	res.Warnings = append(res.Warnings, r.warnings...)
+	for _, w := range res.Fit.Warnings {
+		res.Warnings = append(res.Warnings, "internal fit: "+w)
+	}
+	return res, nil
+}
+
+// finalFit fits the final assignment without rejection, into res.Fit and
+// res.FitProblem, and makes it the run's predictor; it returns the lines fitted
+// and their transitions. When no peak had an uncertainty (unit weights), the
+// lines' unc is first set to the rms of the residuals of the last fit,
+// rounded to two significant digits.
+func (r *run) finalFit(res *Result) ([]linelist.Line, []Transition, error) {
 	lines, ts := r.fitLines()
 	if r.uncEst {
-		// Unit weights: the lines' unc is the rms of the residuals, rounded to
-		// two significant digits, and the fit is repeated with it.
+		// The last fit weighted every line by the placeholder unc, so its
+		// dimensionless σ is the rms scatter in units of that unc.
 		rms := r.fit.Stats.RMSCm
 		if r.fit.Stats.DOF > 0 {
-			rms = r.fit.Stats.Sigma * 1e-3
+			rms = r.fit.Stats.Sigma * placeholderUnc
 		}
 		if !(rms > 0) {
-			rms = 1e-3
+			rms = placeholderUnc
 		}
 		rms = roundSig(rms, 2)
 		for k := range r.unc {
@@ -33,24 +61,21 @@ func (r *run) result() (*Result, error) {
 	}
 	m, err := r.fitModel(lines, r.finalFixes())
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	prob := fit.Problem{Lines: lines, Model: m}
 	fr, err := fit.Fit(prob, fit.Settings{})
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	res.Fit, res.FitProblem = fr, prob
-	fp := newFitPredictor(fr)
-	r.fp = fp
+	r.fp = newFitPredictor(fr)
+	return lines, ts, nil
+}
 
-	// Predictions of the last matching, by transition.
-	predIdx := map[Transition]int{}
-	if r.last != nil {
-		for i, p := range r.last.preds {
-			predIdx[p.t] = i
-		}
-	}
+// bandResults starts the report of every band: its lock, intensity scale
+// and combination-difference statistics.
+func (r *run) bandResults() map[*band]*BandResult {
 	byBand := map[*band]*BandResult{}
 	for _, b := range r.bands {
 		br := &BandResult{Species: b.sp.sp.Label, VUp: b.vu, VLo: b.vl, Lock: b.lock, Locked: b.locked, Branches: map[string][2]int{}, Intensity: math.NaN(), MaxPredict: b.pmax}
@@ -62,11 +87,26 @@ func (r *run) result() (*Result, error) {
 		if st := r.cdBand[b]; st != nil {
 			br.CD = *st
 		}
-		if b.locked && !fp.has(b.sp.sp.Label, b.vu, b.vl) {
+		if b.locked && !r.fp.has(b.sp.sp.Label, b.vu, b.vl) {
 			br.Note = "locked, but every line was dropped later"
 		}
 		byBand[b] = br
 	}
+	return byBand
+}
+
+// addAssignments adds the assigned lines (fitted as lines, transitions ts)
+// to res, with their calculated positions, confidence and checks, and counts
+// them into their bands' reports with the bands' rms.
+func (r *run) addAssignments(res *Result, lines []linelist.Line, ts []Transition, byBand map[*band]*BandResult) {
+	// Predictions of the last matching, by transition.
+	predIdx := map[Transition]int{}
+	if r.last != nil {
+		for i, p := range r.last.preds {
+			predIdx[p.t] = i
+		}
+	}
+	fp, fr := r.fp, res.Fit
 	sumsq := map[*band][2]float64{}
 	for i, t := range ts {
 		k := r.assigned[t]
@@ -83,46 +123,37 @@ func (r *run) result() (*Result, error) {
 		}
 		a.Confidence = r.confidence(t, k, b, predIdx, &a)
 		res.Lines = append(res.Lines, a)
-		if b != nil {
-			st := byBand[b]
-			st.Lines++
-			l := t.Branch()
-			jr, ok := st.Branches[l]
-			if !ok {
-				jr = [2]int{t.JLo, t.JLo}
-			}
-			jr[0], jr[1] = min(jr[0], t.JLo), max(jr[1], t.JLo)
-			st.Branches[l] = jr
-			d := r.pos[k] - calc
-			s := sumsq[b]
-			s[0] += d * d
-			s[1] += sq(fr.Lines[i].Norm)
-			sumsq[b] = s
+		if b == nil {
+			continue
 		}
+		st := byBand[b]
+		st.Lines++
+		l := t.Branch()
+		jr, ok := st.Branches[l]
+		if !ok {
+			jr = [2]int{t.JLo, t.JLo}
+		}
+		jr[0], jr[1] = min(jr[0], t.JLo), max(jr[1], t.JLo)
+		st.Branches[l] = jr
+		d := r.pos[k] - calc
+		s := sumsq[b]
+		s[0] += d * d
+		s[1] += sq(fr.Lines[i].Norm)
+		sumsq[b] = s
 	}
 	for b, s := range sumsq {
 		st := byBand[b]
 		st.RMS = math.Sqrt(s[0] / float64(st.Lines))
 		st.RMSNorm = math.Sqrt(s[1] / float64(st.Lines))
 	}
+}
 
-	// Leftover peaks, with the nearest prediction of a locked band.
-	var all []Prediction
-	for _, b := range r.bands {
-		if !b.locked || !fp.has(b.sp.sp.Label, b.vu, b.vl) {
-			continue
-		}
-		for _, br := range b.branches {
-			for j := br.jmin; j <= br.jmax; j++ {
-				nu, sig := fp.line(b.sp.sp.Label, b.vu, j+br.dJ, b.vl, j)
-				if nu < r.lo-2*b.bbar || nu > r.hi+2*b.bbar {
-					continue
-				}
-				all = append(all, Prediction{Transition: Transition{b.sp.sp.Label, b.vu, j + br.dJ, b.vl, j}, Position: nu, Sigma: sig, Intensity: br.inten[j] / r.maxIntensity()})
-			}
-		}
-	}
-	sort.Slice(all, func(i, j int) bool { return all[i].Position < all[j].Position })
+// addLeftovers adds the peaks without an assignment to res, in peak-list
+// order, each with the nearest prediction of a locked band and, for a peak
+// whose assignment was dropped, the transition and the reason (also listed
+// under its band).
+func (r *run) addLeftovers(res *Result, byBand map[*band]*BandResult) {
+	all := r.lockedPredictions()
 	taken := map[int]bool{}
 	for _, k := range r.assigned {
 		taken[k] = true
@@ -148,17 +179,29 @@ func (r *run) result() (*Result, error) {
 		res.Unassigned = append(res.Unassigned, lo)
 	}
 	sort.SliceStable(res.Unassigned, func(i, j int) bool { return res.Unassigned[i].Peak.Index < res.Unassigned[j].Peak.Index })
+}
+
+// lockedPredictions predicts, from the final fit, every line of the locked
+// bands within a line spacing of the peaks' range, sorted by position.
+func (r *run) lockedPredictions() []Prediction {
+	fp := r.fp
+	var all []Prediction
 	for _, b := range r.bands {
-		res.Bands = append(res.Bands, *byBand[b])
+		if !b.locked || !fp.has(b.sp.sp.Label, b.vu, b.vl) {
+			continue
+		}
+		for _, br := range b.branches {
+			for j := br.jmin; j <= br.jmax; j++ {
+				nu, sig := fp.line(b.sp.sp.Label, b.vu, j+br.dJ, b.vl, j)
+				if nu < r.lo-2*b.bbar || nu > r.hi+2*b.bbar {
+					continue
+				}
+				all = append(all, Prediction{Transition: Transition{b.sp.sp.Label, b.vu, j + br.dJ, b.vl, j}, Position: nu, Sigma: sig, Intensity: br.inten[j] / r.maxIntensity()})
+			}
+		}
 	}
-	for _, w := range r.p.Peaks.Warnings {
-		res.Warnings = append(res.Warnings, w.String())
-	}
-	res.Warnings = append(res.Warnings, r.warnings...)
-	for _, w := range fr.Warnings {
-		res.Warnings = append(res.Warnings, "internal fit: "+w)
-	}
-	return res, nil
+	sort.Slice(all, func(i, j int) bool { return all[i].Position < all[j].Position })
+	return all
 }
 
 // finalFixes lists the rotational terms the last fit had to hold.
