@@ -112,7 +112,9 @@ func (r *run) speciesState(label string) *spState {
 }
 
 // doFit fits the current assignment. Lines the fit rejects are dropped and
-// banned; it reports whether any were.
+// banned; it reports whether any were. The centrifugal terms the fit cannot
+// determine, or that come out below significantSigmas σ, are held at their
+// starting values and the fit repeated.
 func (r *run) doFit() (bool, error) {
 	extraFix := map[string]bool{}
 	for attempt := 0; ; attempt++ {
@@ -128,67 +130,93 @@ func (r *run) doFit() (bool, error) {
 		res, err := fit.Fit(prob, fit.Settings{Reject: r.s.sigmas()})
 		if err != nil {
 			var ue *fit.UndeterminedError
-			if errors.As(err, &ue) && attempt < 4 {
-				added := false
-				for _, g := range ue.Groups {
-					for _, id := range g {
-						if (strings.HasPrefix(id, "D_") || strings.HasPrefix(id, "H_") || strings.HasPrefix(id, "L_")) && !extraFix[id] {
-							extraFix[id] = true
-							added = true
-						}
-					}
-				}
-				if added {
-					continue
-				}
+			if errors.As(err, &ue) && attempt < 4 && holdUndeterminedTerms(ue, extraFix) {
+				continue
 			}
 			if ce := (*fit.CannotFitError)(nil); errors.As(err, &ce) || errors.As(err, &ue) {
 				return false, fmt.Errorf("assign: the internal fit of the %d assigned lines failed: %w", len(lines), err)
 			}
 			return false, fmt.Errorf("assign: internal fit: %w", err)
 		}
-		// Hold centrifugal terms the data do not determine to 3σ at their
-		// starting values (a spectroscopist floats a term only when it is
-		// significant), and fit again.
-		pruned := false
-		for _, j := range res.Free {
-			q := res.Params[j]
-			if (q.Name == "H" || q.Name == "L" || q.Name == "D") && q.Sigma > 0 && math.Abs(q.Value) < 3*q.Sigma && !extraFix[q.ID()] {
-				extraFix[q.ID()] = true
-				pruned = true
-			}
-		}
-		if pruned && attempt < 8 {
+		if holdInsignificantTerms(res, extraFix) && attempt < 8 {
 			continue
 		}
-		rejected := false
-		var norms []float64
-		for i, lr := range res.Lines {
-			if !lr.Used {
-				t := ts[i]
-				k := r.assigned[t]
-				reason := fmt.Sprintf("rejected by the internal fit: |o−c|/unc = %.1f > %.1f s (s = %.2f)", math.Abs(lr.Norm), r.s.sigmas(), res.Stats.Sigma)
-				r.drop(t, k, reason)
-				rejected = true
-				continue
-			}
-			norms = append(norms, math.Abs(lr.Norm))
-		}
+		rejected, norms := r.dropRejected(res, ts)
 		r.fit, r.fitProb = res, prob
 		r.fp = newFitPredictor(res)
-		// The scale of the stated uncertainties, robust against a minority of
-		// bad lines: 1.4826 × the median |o−c|/unc (never below 1 when the
-		// peaks give uncertainties).
-		srob := madToSigma * median(norms)
-		switch {
-		case r.uncEst && srob > 0:
-			r.sFit = srob
-		case srob > 1:
-			r.sFit = srob
-		default:
-			r.sFit = 1
-		}
+		r.setFitScale(norms)
 		return rejected, nil
+	}
+}
+
+// significantSigmas: a centrifugal term floats only when its value exceeds
+// this many σ, as a spectroscopist floats a term only when it is significant.
+const significantSigmas = 3
+
+// isCentrifugal reports whether a level term is a centrifugal-distortion
+// term (D, H, L), which the internal fit may hold.
+func isCentrifugal(name string) bool { return name == "D" || name == "H" || name == "L" }
+
+// holdUndeterminedTerms adds to extraFix the centrifugal terms of the groups
+// the fit could not determine, and reports whether there were any.
+func holdUndeterminedTerms(ue *fit.UndeterminedError, extraFix map[string]bool) bool {
+	added := false
+	for _, g := range ue.Groups {
+		for _, id := range g {
+			if (strings.HasPrefix(id, "D_") || strings.HasPrefix(id, "H_") || strings.HasPrefix(id, "L_")) && !extraFix[id] {
+				extraFix[id] = true
+				added = true
+			}
+		}
+	}
+	return added
+}
+
+// holdInsignificantTerms adds to extraFix the fitted centrifugal terms below
+// significantSigmas σ, and reports whether there were any.
+func holdInsignificantTerms(res *fit.Result, extraFix map[string]bool) bool {
+	pruned := false
+	for _, j := range res.Free {
+		q := res.Params[j]
+		if isCentrifugal(q.Name) && q.Sigma > 0 && math.Abs(q.Value) < significantSigmas*q.Sigma && !extraFix[q.ID()] {
+			extraFix[q.ID()] = true
+			pruned = true
+		}
+	}
+	return pruned
+}
+
+// dropRejected drops the lines (transitions ts) the fit rejected, and
+// returns whether there were any and the |o−c|/unc of the others.
+func (r *run) dropRejected(res *fit.Result, ts []Transition) (bool, []float64) {
+	rejected := false
+	var norms []float64
+	for i, lr := range res.Lines {
+		if !lr.Used {
+			t := ts[i]
+			k := r.assigned[t]
+			reason := fmt.Sprintf("rejected by the internal fit: |o−c|/unc = %.1f > %.1f s (s = %.2f)", math.Abs(lr.Norm), r.s.sigmas(), res.Stats.Sigma)
+			r.drop(t, k, reason)
+			rejected = true
+			continue
+		}
+		norms = append(norms, math.Abs(lr.Norm))
+	}
+	return rejected, norms
+}
+
+// setFitScale sets the scale of the stated uncertainties, robust against a
+// minority of bad lines: madToSigma × the median |o−c|/unc of the lines used
+// (norms), never below 1 when the peaks give uncertainties.
+func (r *run) setFitScale(norms []float64) {
+	srob := madToSigma * median(norms)
+	switch {
+	case r.uncEst && srob > 0:
+		r.sFit = srob
+	case srob > 1:
+		r.sFit = srob
+	default:
+		r.sFit = 1
 	}
 }
 
