@@ -27,16 +27,7 @@ func (r *run) lockAll() error {
 			if err := r.refreshPrediction(b); err != nil {
 				return err
 			}
-			taken := make([]bool, len(r.pos))
-			for _, k := range r.assigned {
-				taken[k] = true
-			}
-			L, ms := r.lockBand(b, taken, globalScale, true)
-			if !L.OK && b.lockPos != nil {
-				if L2, ms2 := r.lockBand(b, taken, globalScale, false); L2.OK || L2.Score > L.Score {
-					L, ms = L2, ms2
-				}
-			}
+			L, ms := r.tryLock(b, globalScale)
 			b.tries++
 			if !L.OK {
 				if b.tries == 1 || L.Score >= b.lock.Score || b.lockPos != nil {
@@ -46,25 +37,7 @@ func (r *run) lockAll() error {
 			}
 			b.lock = L
 			b.locked, anyLocked, progress = true, true, true
-			var ells []float64
-			for _, m := range ms {
-				t := Transition{Species: b.sp.sp.Label, VUp: b.vu, JUp: m.line.jlo + m.line.br.dJ, VLo: b.vl, JLo: m.line.jlo}
-				r.assigned[t] = m.peak
-				b.jcore = max(b.jcore, m.line.jlo)
-				m.line.br.jhi = max(m.line.br.jhi, m.line.jlo)
-				if m.line.group == 0 && !math.IsNaN(r.lnI[m.peak]) {
-					ells = append(ells, r.lnI[m.peak]-m.line.lnP)
-				}
-			}
-			if len(ells) > 0 && abs(b.vu-b.vl) <= 1 {
-				g := median(ells)
-				if math.IsNaN(globalScale) {
-					globalScale = g
-				}
-				if _, ok := r.speciesScale[b.sp.sp.Label]; !ok {
-					r.speciesScale[b.sp.sp.Label] = g
-				}
-			}
+			r.takeLockLines(b, ms, &globalScale)
 			r.updateIntensityScales()
 			if err := r.loop(); err != nil {
 				return err
@@ -87,6 +60,48 @@ func (r *run) lockAll() error {
 		}
 	}
 	return nil
+}
+
+// tryLock runs the lock search of band b against the peaks no band has
+// taken: narrowed to the σ of a fitted prediction first, when there is one,
+// and if that fails, with the full search.
+func (r *run) tryLock(b *band, globalScale float64) (Lock, []lockMatch) {
+	taken := make([]bool, len(r.pos))
+	for _, k := range r.assigned {
+		taken[k] = true
+	}
+	L, ms := r.lockBand(b, taken, globalScale, true)
+	if !L.OK && b.lockPos != nil {
+		if L2, ms2 := r.lockBand(b, taken, globalScale, false); L2.OK || L2.Score > L.Score {
+			L, ms = L2, ms2
+		}
+	}
+	return L, ms
+}
+
+// takeLockLines assigns the lock lines ms of band b and takes the median
+// ln(I_obs/I_pred) of a fundamental or hot band as the intensity scale of its
+// species and, when none is set, as the scale of the whole spectrum.
+func (r *run) takeLockLines(b *band, ms []lockMatch, globalScale *float64) {
+	var ells []float64
+	for _, m := range ms {
+		t := Transition{Species: b.sp.sp.Label, VUp: b.vu, JUp: m.line.jlo + m.line.br.dJ, VLo: b.vl, JLo: m.line.jlo}
+		r.assigned[t] = m.peak
+		b.jcore = max(b.jcore, m.line.jlo)
+		m.line.br.jhi = max(m.line.br.jhi, m.line.jlo)
+		if m.line.group == 0 && !math.IsNaN(r.lnI[m.peak]) {
+			ells = append(ells, r.lnI[m.peak]-m.line.lnP)
+		}
+	}
+	if len(ells) > 0 && abs(b.vu-b.vl) <= 1 {
+		g := median(ells)
+		if math.IsNaN(*globalScale) {
+			*globalScale = g
+		}
+		if _, ok := r.speciesScale[b.sp.sp.Label]; !ok {
+			r.speciesScale[b.sp.sp.Label] = g
+		}
+	}
 }
 
 // loop runs fit → predict → match until the assignment is stable, then the
