@@ -119,102 +119,155 @@ func Lines(s Spec) ([]Line, error) {
 	if err != nil {
 		return nil, err
 	}
-	var dJs []int
 	var out []Line
 	for _, sp := range s.Species {
 		iso, err := species.Parse(sp.Label)
 		if err != nil {
 			return nil, err
 		}
-		ratio := ref.ReducedMass() / iso.ReducedMass()
-		E := func(v, J int) float64 {
-			x := float64(J) * float64(J+1)
-			e := 0.0
-			for _, t := range s.Terms {
-				e += t.Y * math.Pow(ratio, float64(t.K+2*t.L)/2) * math.Pow(float64(v)+0.5, float64(t.K)) * math.Pow(x, float64(t.L))
-			}
-			return e
-		}
-		gns := func(J int) float64 {
-			if !iso.Homonuclear() {
-				return 1
-			}
-			I := iso.A.Spin()
-			sym, anti := (2*I+1)*(I+1), (2*I+1)*I
-			if (J%2 == 0) == iso.A.IsBoson() {
-				return sym
-			}
-			return anti
-		}
-		// Partition function over the levels the expansion describes (the
-		// energy must grow with v and with J).
-		q := 0.0
-		for v := 0; v < 30; v++ {
-			if v > 0 && E(v, 0) <= E(v-1, 0) {
-				break
-			}
-			for J := 0; J < 400; J++ {
-				if J > 0 && E(v, J) <= E(v, J-1) {
-					break
-				}
-				q += gns(J) * float64(2*J+1) * math.Exp(-units.SecondRadiation*(E(v, J)-E(0, 0))/s.Temperature)
-			}
-		}
+		E := energy(s.Terms, ref.ReducedMass()/iso.ReducedMass())
+		gns := spinWeight(iso)
+		q := partitionFunction(E, gns, s.Temperature)
 		for _, b := range s.Bands {
-			vu, vl := b[0], b[1]
-			switch s.Spectrum {
-			case "ir":
-				dJs = []int{-1, 1}
-			case "rotation":
-				dJs = []int{1}
-			case "raman":
-				dJs = []int{-2, 0, 2}
-				if vu == vl {
-					dJs = []int{2}
-				}
-			default:
-				return nil, fmt.Errorf("synth: spectrum %q", s.Spectrum)
+			dJs, err := branches(s.Spectrum, b[0], b[1])
+			if err != nil {
+				return nil, err
 			}
 			for _, dJ := range dJs {
-				for J := 0; J < 300; J++ {
-					if (J > 0 && E(vl, J) <= E(vl, J-1)) || (J+dJ > 0 && E(vu, J+dJ) <= E(vu, J+dJ-1)) {
-						break
-					}
-					ju := J + dJ
-					if ju < 0 || (dJ == 0 && J == 0) {
-						continue
-					}
-					Jf := float64(J)
-					var hl float64
-					switch {
-					case s.Spectrum != "raman" && dJ == 1:
-						hl = Jf + 1
-					case s.Spectrum != "raman" && dJ == -1:
-						hl = Jf
-					case dJ == 2:
-						hl = (2*Jf + 1) * 3 * (Jf + 1) * (Jf + 2) / (2 * (2*Jf + 1) * (2*Jf + 3))
-					case dJ == -2:
-						hl = (2*Jf + 1) * 3 * Jf * (Jf - 1) / (2 * (2*Jf + 1) * (2*Jf - 1))
-					case dJ == 0:
-						// isotropic part dominates the vibrational Raman Q branch
-						hl = (2*Jf + 1) * (1 + 0.2*Jf*(Jf+1)/((2*Jf-1)*(2*Jf+3)))
-					}
-					nu := E(vu, ju) - E(vl, J)
-					if nu <= 0 || hl <= 0 {
-						continue
-					}
-					in := sp.Abundance * gns(J) * hl * math.Exp(-units.SecondRadiation*(E(vl, J)-E(0, 0))/s.Temperature) / q
-					if vu-vl == 1 {
-						in *= float64(vu)
-					}
-					if s.Spectrum != "raman" {
-						in *= nu * (1 - math.Exp(-units.SecondRadiation*nu/s.Temperature))
-					}
-					out = append(out, Line{Species: iso.Label, VUp: vu, JUp: ju, VLo: vl, JLo: J, Position: nu, Intensity: in})
-				}
+				out = append(out, branchLines(s, iso.Label, sp.Abundance, b[0], b[1], dJ, E, gns, q)...)
 			}
 		}
 	}
+	return keepDetected(s, out), nil
+}
+
+// energy returns E(v, J) in cm⁻¹ of an isotopologue whose reduced mass is
+// that of the reference over ratio: the reference's Dunham terms scaled by
+// ratio^((k+2l)/2).
+func energy(terms []Term, ratio float64) func(v, J int) float64 {
+	return func(v, J int) float64 {
+		x := float64(J) * float64(J+1)
+		e := 0.0
+		for _, t := range terms {
+			e += t.Y * math.Pow(ratio, float64(t.K+2*t.L)/2) * math.Pow(float64(v)+0.5, float64(t.K)) * math.Pow(x, float64(t.L))
+		}
+		return e
+	}
+}
+
+// spinWeight returns the nuclear-spin weight of rotational level J: 1 for a
+// heteronuclear molecule; for a homonuclear one of nuclear spin I,
+// (2I+1)(I+1) for the levels symmetric in the exchange of the nuclei (even J
+// for bosons, odd J for fermions, in a ¹Σg⁺ state) and (2I+1)I for the others.
+// It is coded here independently of package assign's rule, as a check.
+func spinWeight(iso species.Isotopologue) func(J int) float64 {
+	return func(J int) float64 {
+		if !iso.Homonuclear() {
+			return 1
+		}
+		I := iso.A.Spin()
+		sym, anti := (2*I+1)*(I+1), (2*I+1)*I
+		if (J%2 == 0) == iso.A.IsBoson() {
+			return sym
+		}
+		return anti
+	}
+}
+
+// partitionFunction sums g_ns(J)·(2J+1)·exp(−c₂(E(v,J) − E(0,0))/T) over the
+// levels the expansion describes (the energy must grow with v and with J).
+func partitionFunction(E func(v, J int) float64, gns func(int) float64, T float64) float64 {
+	q := 0.0
+	for v := 0; v < 30; v++ {
+		if v > 0 && E(v, 0) <= E(v-1, 0) {
+			break
+		}
+		for J := 0; J < 400; J++ {
+			if J > 0 && E(v, J) <= E(v, J-1) {
+				break
+			}
+			q += gns(J) * float64(2*J+1) * math.Exp(-units.SecondRadiation*(E(v, J)-E(0, 0))/T)
+		}
+	}
+	return q
+}
+
+// branches returns the ΔJ of the branches of band v′-v″ in a spectrum.
+func branches(spectrum string, vu, vl int) ([]int, error) {
+	switch spectrum {
+	case "ir":
+		return []int{-1, 1}, nil
+	case "rotation":
+		return []int{1}, nil
+	case "raman":
+		if vu == vl {
+			return []int{2}, nil
+		}
+		return []int{-2, 0, 2}, nil
+	}
+	return nil, fmt.Errorf("synth: spectrum %q", spectrum)
+}
+
+// lineStrength returns the rotational line-strength factor of the line with
+// lower level J and ΔJ = dJ: Hönl–London J+1 (R) and J (P) for infrared and
+// rotational spectra; Placzek–Teller factors for the Raman O and S
+// branches; for the Raman Q branch 2J+1 with a small anisotropic part (the
+// isotropic part dominates the vibrational Q branch).
+func lineStrength(spectrum string, dJ, J int) float64 {
+	Jf := float64(J)
+	switch {
+	case spectrum != "raman" && dJ == 1:
+		return Jf + 1
+	case spectrum != "raman" && dJ == -1:
+		return Jf
+	case dJ == 2:
+		return (2*Jf + 1) * 3 * (Jf + 1) * (Jf + 2) / (2 * (2*Jf + 1) * (2*Jf + 3))
+	case dJ == -2:
+		return (2*Jf + 1) * 3 * Jf * (Jf - 1) / (2 * (2*Jf + 1) * (2*Jf - 1))
+	case dJ == 0:
+		return (2*Jf + 1) * (1 + 0.2*Jf*(Jf+1)/((2*Jf-1)*(2*Jf+3)))
+	}
+	return 0
+}
+
+// branchLines returns the lines of branch dJ of band vu-vl of one
+// isotopologue (label, abundance, energies E, spin weights gns, partition
+// function q), up to where the expansion stops describing the levels. The
+// intensity is the Boltzmann population of the lower level times the line
+// strength, the spin weight and the abundance, times v′ for a Δv = 1 band,
+// and for absorption (not Raman) times ν(1 − exp(−c₂ν/T)); not yet
+// normalised.
+func branchLines(s Spec, label string, abundance float64, vu, vl, dJ int, E func(v, J int) float64, gns func(int) float64, q float64) []Line {
+	var out []Line
+	for J := 0; J < 300; J++ {
+		if (J > 0 && E(vl, J) <= E(vl, J-1)) || (J+dJ > 0 && E(vu, J+dJ) <= E(vu, J+dJ-1)) {
+			break
+		}
+		ju := J + dJ
+		if ju < 0 || (dJ == 0 && J == 0) {
+			continue
+		}
+		hl := lineStrength(s.Spectrum, dJ, J)
+		nu := E(vu, ju) - E(vl, J)
+		if nu <= 0 || hl <= 0 {
+			continue
+		}
+		in := abundance * gns(J) * hl * math.Exp(-units.SecondRadiation*(E(vl, J)-E(0, 0))/s.Temperature) / q
+		if vu-vl == 1 {
+			in *= float64(vu)
+		}
+		if s.Spectrum != "raman" {
+			in *= nu * (1 - math.Exp(-units.SecondRadiation*nu/s.Temperature))
+		}
+		out = append(out, Line{Species: label, VUp: vu, JUp: ju, VLo: vl, JLo: J, Position: nu, Intensity: in})
+	}
+	return out
+}
+
+// keepDetected normalises the intensities to the strongest line and keeps,
+// sorted by position, the lines at or above the spec's threshold and inside
+// its range.
+func keepDetected(s Spec, out []Line) []Line {
 	top := 0.0
 	for _, l := range out {
 		top = math.Max(top, l.Intensity)
@@ -227,7 +280,7 @@ func Lines(s Spec) ([]Line, error) {
 		}
 	}
 	sort.Slice(kept, func(i, j int) bool { return kept[i].Position < kept[j].Position })
-	return kept, nil
+	return kept
 }
 
 // Generate makes the peak list of a spec, sorted by position.
