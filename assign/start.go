@@ -112,16 +112,46 @@ func ReadStartFile(path string) (*Start, error) {
 // row and key.
 func ReadStart(r io.Reader, name string) (*Start, error) {
 	c := &problems{file: name}
+	f, loc, ok := decodeStart(r, c)
+	if !ok {
+		return nil, c.err()
+	}
+	var gs []givenSpecies
+	seen := map[string]int{}
+	for i, e := range f.Species {
+		if g, ok := checkStartEntry(c, loc, i, e, seen); ok {
+			gs = append(gs, g)
+		}
+	}
+	if err := c.err(); err != nil {
+		return nil, err
+	}
+	st := &Start{File: name}
+	for _, g := range gs {
+		if sp, ok := startSpecies(c, g, gs); ok {
+			st.Species = append(st.Species, sp)
+		}
+	}
+	if err := c.err(); err != nil {
+		return nil, err
+	}
+	return st, nil
+}
+
+// decodeStart reads and decodes a start file, reporting to c a read error,
+// a file too large, TOML errors, unknown keys and a file without a
+// [[species]] table; it reports false when any was found.
+func decodeStart(r io.Reader, c *problems) (startFile, *keyLocator, bool) {
+	var f startFile
 	data, err := io.ReadAll(io.LimitReader(r, maxStartBytes+1))
 	if err != nil {
 		c.addErr(0, "", "read error: "+err.Error(), err)
-		return nil, c.err()
+		return f, nil, false
 	}
 	if len(data) > maxStartBytes {
 		c.add(0, "", "larger than %d MB; not a start file", maxStartBytes>>20)
-		return nil, c.err()
+		return f, nil, false
 	}
-	var f startFile
 	md, err := toml.Decode(string(data), &f)
 	if err != nil {
 		var pe toml.ParseError
@@ -134,7 +164,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 		} else {
 			c.addErr(0, "", tomlReason(err), err)
 		}
-		return nil, c.err()
+		return f, nil, false
 	}
 	loc := newKeyLocator(data)
 	for _, k := range md.Undecoded() {
@@ -155,121 +185,119 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 	if len(f.Species) == 0 && len(c.e.Problems) == 0 {
 		c.add(0, "species", "no [[species]] table: name at least one isotopologue with its constants")
 	}
-	if err := c.err(); err != nil {
-		return nil, err
-	}
+	return f, loc, len(c.e.Problems) == 0 && c.e.Omitted == 0
+}
 
-	type given struct {
-		iso  species.Isotopologue
-		e    startEntry
-		row  int
-		full bool
-	}
-	var gs []given
-	seen := map[string]int{}
-	for i, e := range f.Species {
-		row := loc.table(i)
-		at := func(key string) int {
-			if r := loc.find(i, key); r > 0 {
-				return r
-			}
-			return row
+// givenSpecies is one checked [[species]] table: its isotopologue, entry and
+// line, and whether it gives constants of its own.
+type givenSpecies struct {
+	iso  species.Isotopologue
+	e    startEntry
+	row  int
+	full bool
+}
+
+// checkStartEntry checks the i-th [[species]] table: its name (an
+// isotopologue not listed before, recorded in seen), finite values, positive
+// ωe, Be and abundance, De ≥ 0, and for a table with constants the required
+// ones. Problems go to c; it reports false when the table cannot be used.
+func checkStartEntry(c *problems, loc *keyLocator, i int, e startEntry, seen map[string]int) (givenSpecies, bool) {
+	row := loc.table(i)
+	at := func(key string) int {
+		if r := loc.find(i, key); r > 0 {
+			return r
 		}
-		if e.Name == nil {
-			c.add(row, fmt.Sprintf("species[%d].name", i+1), "missing: give the isotopologue, e.g. name = \"12C16O\"")
+		return row
+	}
+	if e.Name == nil {
+		c.add(row, fmt.Sprintf("species[%d].name", i+1), "missing: give the isotopologue, e.g. name = \"12C16O\"")
+		return givenSpecies{}, false
+	}
+	iso, err := species.Parse(*e.Name)
+	if err != nil {
+		c.addErr(at("name"), fmt.Sprintf("species[%d].name", i+1), strings.TrimPrefix(err.Error(), "species: "), err)
+		return givenSpecies{}, false
+	}
+	if j, dup := seen[iso.Label]; dup {
+		c.add(at("name"), fmt.Sprintf("species[%d].name", i+1), "%s is listed twice (also as species %d)", iso.Label, j+1)
+		return givenSpecies{}, false
+	}
+	seen[iso.Label] = i
+	vals := map[string]*float64{"omega_e": e.OmegaE, "omega_e_x_e": e.OmegaExe, "omega_e_y_e": e.OmegaEye, "B_e": e.Be,
+		"alpha_e": e.AlphaE, "gamma_e": e.GammaE, "D_e": e.De, "beta_e": e.BetaE, "abundance": e.Abundance}
+	nConst := 0
+	for _, k := range startKeys[1:] {
+		v := vals[k]
+		if v == nil {
 			continue
 		}
-		iso, err := species.Parse(*e.Name)
-		if err != nil {
-			c.addErr(at("name"), fmt.Sprintf("species[%d].name", i+1), strings.TrimPrefix(err.Error(), "species: "), err)
-			continue
+		if k != "abundance" {
+			nConst++
 		}
-		if j, dup := seen[iso.Label]; dup {
-			c.add(at("name"), fmt.Sprintf("species[%d].name", i+1), "%s is listed twice (also as species %d)", iso.Label, j+1)
-			continue
+		if math.IsNaN(*v) || math.IsInf(*v, 0) {
+			c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be a finite number")
 		}
-		seen[iso.Label] = i
-		vals := map[string]*float64{"omega_e": e.OmegaE, "omega_e_x_e": e.OmegaExe, "omega_e_y_e": e.OmegaEye, "B_e": e.Be,
-			"alpha_e": e.AlphaE, "gamma_e": e.GammaE, "D_e": e.De, "beta_e": e.BetaE, "abundance": e.Abundance}
-		nConst := 0
-		for _, k := range startKeys[1:] {
-			v := vals[k]
-			if v == nil {
-				continue
-			}
-			if k != "abundance" {
-				nConst++
-			}
-			if math.IsNaN(*v) || math.IsInf(*v, 0) {
-				c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be a finite number")
-			}
-		}
-		for _, k := range []string{"omega_e", "B_e", "abundance"} {
-			if v := vals[k]; v != nil && !(*v > 0) {
-				c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be > 0, got %g", *v)
-			}
-		}
-		if v := vals["D_e"]; v != nil && *v < 0 {
-			c.add(at("D_e"), iso.Label+".D_e", "must be ≥ 0 (De > 0 for a bound state), got %g", *v)
-		}
-		full := nConst > 0
-		if full {
-			var miss []string
-			for _, k := range requiredConstants {
-				if vals[k] == nil {
-					miss = append(miss, k)
-				}
-			}
-			if len(miss) > 0 {
-				c.add(row, iso.Label, "missing %s (a species with constants needs %s; leave out all constants to scale them from another isotopologue)",
-					strings.Join(miss, ", "), strings.Join(requiredConstants, ", "))
-			}
-		}
-		gs = append(gs, given{iso: iso, e: e, row: row, full: full})
 	}
-	if err := c.err(); err != nil {
-		return nil, err
-	}
-	st := &Start{File: name}
-	for _, g := range gs {
-		sp := StartSpecies{Label: g.iso.Label, Iso: g.iso}
-		if g.e.Abundance != nil {
-			sp.Abundance = *g.e.Abundance
-		} else {
-			sp.Abundance = NaturalAbundance(g.iso)
+	for _, k := range []string{"omega_e", "B_e", "abundance"} {
+		if v := vals[k]; v != nil && !(*v > 0) {
+			c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be > 0, got %g", *v)
 		}
-		var ref *given
-		if g.full {
-			ref = &g
-		} else {
-			for k := range gs {
-				if gs[k].full && sameMolecule(gs[k].iso, g.iso) {
-					ref = &gs[k]
-					break
-				}
+	}
+	if v := vals["D_e"]; v != nil && *v < 0 {
+		c.add(at("D_e"), iso.Label+".D_e", "must be ≥ 0 (De > 0 for a bound state), got %g", *v)
+	}
+	full := nConst > 0
+	if full {
+		var miss []string
+		for _, k := range requiredConstants {
+			if vals[k] == nil {
+				miss = append(miss, k)
 			}
-			if ref == nil {
-				c.add(g.row, g.iso.Label, "no constants, and no isotopologue of the same molecule with constants to scale them from")
-				continue
+		}
+		if len(miss) > 0 {
+			c.add(row, iso.Label, "missing %s (a species with constants needs %s; leave out all constants to scale them from another isotopologue)",
+				strings.Join(miss, ", "), strings.Join(requiredConstants, ", "))
+		}
+	}
+	return givenSpecies{iso: iso, e: e, row: row, full: full}, true
+}
+
+// startSpecies builds the species of table g: its own constants, or those of
+// the first table of gs of the same molecule with constants, mass-scaled.
+// Problems go to c; it reports false when the species cannot be built.
+func startSpecies(c *problems, g givenSpecies, gs []givenSpecies) (StartSpecies, bool) {
+	sp := StartSpecies{Label: g.iso.Label, Iso: g.iso}
+	if g.e.Abundance != nil {
+		sp.Abundance = *g.e.Abundance
+	} else {
+		sp.Abundance = NaturalAbundance(g.iso)
+	}
+	ref := &g
+	if !g.full {
+		ref = nil
+		for k := range gs {
+			if gs[k].full && sameMolecule(gs[k].iso, g.iso) {
+				ref = &gs[k]
+				break
 			}
-			sp.ScaledFrom = ref.iso.Label
 		}
-		cs, idx, err := dunhamStart(ref.iso, g.iso, ref.e)
-		if err != nil {
-			c.addErr(g.row, g.iso.Label, err.Error(), err)
-			continue
+		if ref == nil {
+			c.add(g.row, g.iso.Label, "no constants, and no isotopologue of the same molecule with constants to scale them from")
+			return sp, false
 		}
-		sp.Constants, sp.Index = cs, idx
-		if sp.Abundance == 0 {
-			c.add(g.row, g.iso.Label+".abundance", "the isotope table gives this isotopologue no natural abundance; give abundance = …")
-			continue
-		}
-		st.Species = append(st.Species, sp)
+		sp.ScaledFrom = ref.iso.Label
 	}
-	if err := c.err(); err != nil {
-		return nil, err
+	cs, idx, err := dunhamStart(ref.iso, g.iso, ref.e)
+	if err != nil {
+		c.addErr(g.row, g.iso.Label, err.Error(), err)
+		return sp, false
 	}
-	return st, nil
+	sp.Constants, sp.Index = cs, idx
+	if sp.Abundance == 0 {
+		c.add(g.row, g.iso.Label+".abundance", "the isotope table gives this isotopologue no natural abundance; give abundance = …")
+		return sp, false
+	}
+	return sp, true
 }
 
 func tomlReason(err error) string {
