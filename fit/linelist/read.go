@@ -11,8 +11,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/gocarina/gocsv"
-
 	"bandwright/fit/species"
 	"bandwright/internal/textcheck"
 )
@@ -78,10 +76,6 @@ type headerRow struct {
 	Comment  string `csv:"comment"`
 }
 
-func (h headerRow) cells() [nColumns]string {
-	return [nColumns]string{h.Species, h.VUp, h.JUp, h.VLo, h.JLo, h.Position, h.Unc, h.Unit, h.Branch, h.Comment}
-}
-
 // headerKey is the form in which column names are compared: zero-width characters
 // (U+200B, U+200C, U+200D, U+FEFF) removed, surrounding white space trimmed, lower case.
 func headerKey(s string) string {
@@ -119,52 +113,15 @@ func (s *Rows) ReadAll() ([][]string, error) {
 	return r, nil
 }
 
-// mapHeader finds the column index of each standard column from the header keys, using
-// gocsv's header-to-struct mapping: it decodes the header followed by a row holding
-// each column's own index into a headerRow, whose fields then name their column. Keys
-// must be distinct apart from empty ones (the caller blanks duplicates). Absent columns
-// get -1. So that gocsv's package-wide switches (FailIfUnmatchedStructTags,
-// FailIfDoubleHeaderNames), which another package may set, change nothing here, every
-// tag is given a column (absent ones the index -1) and empty keys are made unique.
-//
-// The data rows themselves are not decoded by gocsv: its reflection costs more than 1 µs
-// per row (measured on this 2-core machine: 100,000 rows into string fields in 103-185 ms
-// through gocsv.Unmarshaller, see BenchmarkGocsvRows, and 145-157 ms through
-// gocsv.UnmarshalDecoderToChan, against 25-33 ms for encoding/csv alone), which would be
-// most of a read, so rows are taken from encoding/csv by the indices found here.
+// mapHeader finds the column index of each standard column from the header keys
+// (see IndexColumns); absent columns get -1.
 func mapHeader(keys []string) ([nColumns]int, error) {
 	var idx [nColumns]int
-	names := make([]string, 0, len(keys)+int(nColumns))
-	pos := make([]string, 0, len(keys)+int(nColumns))
-	present := make(map[string]bool, len(keys))
-	for i, k := range keys {
-		present[k] = true
-		if k == "" {
-			k = "\x00" + strconv.Itoa(i)
-		}
-		names = append(names, k)
-		pos = append(pos, strconv.Itoa(i))
-	}
-	for _, n := range columnNames {
-		if tag := strings.ToLower(n); !present[tag] {
-			names = append(names, tag)
-			pos = append(pos, "-1")
-		}
-	}
-	var out []headerRow
-	if err := gocsv.UnmarshalCSV(&Rows{Rows: [][]string{names, pos}}, &out); err != nil {
+	cols, err := IndexColumns[headerRow](keys)
+	if err != nil {
 		return idx, err
 	}
-	if len(out) != 1 {
-		return idx, fmt.Errorf("gocsv decoded %d rows from a header and one row", len(out))
-	}
-	for c, v := range out[0].cells() {
-		i, err := strconv.Atoi(v)
-		if err != nil || i < -1 || i >= len(keys) {
-			return idx, fmt.Errorf("gocsv mapped column %s to %q", columnNames[c], v)
-		}
-		idx[c] = i
-	}
+	copy(idx[:], cols)
 	return idx, nil
 }
 
@@ -296,24 +253,12 @@ func (rd *reader) read(r io.Reader, c *collector) {
 		}
 	}()
 	hint := sizeHint(r)
-	cr := csv.NewReader(newLineFilter(r))
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
 	f := &file{rd: rd, c: c}
-
-	header, err := cr.Read()
-	if err == io.EOF {
-		c.add(0, "", "no lines: the file is empty")
+	t := readHeader(r, c, "no lines: the file is empty")
+	if t == nil || !f.header(t) {
 		return
 	}
-	if err != nil {
-		f.readError(err)
-		return
-	}
-	hline, _ := cr.FieldPos(0)
-	if !f.header(header, hline) {
-		return
-	}
+	cr, hline := t.CSV, t.Line
 
 	rows, lastErrLine := 0, -1
 	bodyStart := cr.InputOffset()
@@ -328,14 +273,14 @@ func (rd *reader) read(r io.Reader, c *collector) {
 		if err != nil {
 			var pe *csv.ParseError
 			if !errors.As(err, &pe) {
-				f.readError(err)
+				c.readError(err)
 				return
 			}
 			if pe.Line == lastErrLine { // no progress: do not loop
 				return
 			}
 			lastErrLine = pe.Line
-			f.readError(err)
+			c.readError(err)
 			rows++
 			continue
 		}
@@ -404,45 +349,13 @@ func (rd *reader) reserve(rows int, size, start, now int64) {
 	rd.list.Lines = grown
 }
 
-// readError reports an error of encoding/csv or of the underlying reader.
-func (f *file) readError(err error) {
-	var pe *csv.ParseError
-	if errors.As(err, &pe) {
-		f.c.addErr(pe.Line, "", fmt.Sprintf("malformed CSV at character %d: %v", pe.Column, pe.Err), err)
-		return
-	}
-	f.c.addErr(0, "", "read error: "+err.Error(), err)
-}
-
-// header maps the header record; it returns false when rows cannot be read.
-func (f *file) header(h []string, line int) bool {
+// header maps the header t onto the standard columns; it returns false when rows
+// cannot be read.
+func (f *file) header(t *Table) bool {
 	c := f.c
+	h, keys, line := t.Header, t.Keys, t.Line
 	f.nFields = len(h)
-	keys := make([]string, len(h))
-	first := make(map[string]int, len(h))
-	f.names = make([]string, len(h))
-	bad := false
-	for i, name := range h {
-		if why := textcheck.InvalidUTF8(name); why != "" {
-			c.add(line, fmt.Sprintf("column %d", i+1), "name is %s", why)
-			bad = true
-			continue
-		}
-		f.names[i] = strings.TrimSpace(name)
-		k := headerKey(name)
-		switch prev, dup := first[k]; {
-		case k == "":
-			c.add(line, "", "column %d has no name", i+1)
-		case dup:
-			c.add(line, strings.TrimSpace(name), "duplicate column name (columns %d and %d; names are matched ignoring case)", prev+1, i+1)
-		default:
-			first[k] = i
-			keys[i] = k
-		}
-	}
-	if bad {
-		return false
-	}
+	f.names = t.Names
 	col, err := mapHeader(keys)
 	if err != nil {
 		c.addErr(line, "", "cannot map the header: "+err.Error(), err)
@@ -452,27 +365,14 @@ func (f *file) header(h []string, line int) bool {
 	if col[colUnit] < 0 {
 		f.rd.noUnitCol[c.file] = true
 	}
-	missing := 0
+	var missing []string
 	for cl := column(0); cl < nRequired; cl++ {
 		if col[cl] < 0 {
-			missing++
+			missing = append(missing, columnNames[cl])
 		}
 	}
-	if missing > 0 {
-		joined := strings.Join(h, ",")
-		switch {
-		case strings.Contains(joined, ";"):
-			c.add(line, "", "looks like semicolon-separated; bandwright reads comma-separated with a dot decimal separator")
-			return false
-		case strings.Contains(joined, "\t"):
-			c.add(line, "", "looks like tab-separated; bandwright reads comma-separated with a dot decimal separator")
-			return false
-		}
-		for cl := column(0); cl < nRequired; cl++ {
-			if col[cl] < 0 {
-				c.add(line, columnNames[cl], "required column missing")
-			}
-		}
+	if t.reportMissing(c, missing) {
+		return false
 	}
 	claimed := make([]bool, len(h))
 	for _, i := range col {
