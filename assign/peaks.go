@@ -11,8 +11,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/gocarina/gocsv"
-
 	"bandwright/fit/linelist"
 	"bandwright/internal/textcheck"
 	"bandwright/units"
@@ -92,38 +90,19 @@ func (e *InputError) Error() string {
 // the like.
 func (e *InputError) Unwrap() []error { return linelist.Causes(e.Problems) }
 
-// problems collects the problems of one file.
-type problems struct {
-	file string
-	e    InputError
-}
-
-func (c *problems) add(row int, field, format string, a ...any) {
-	if len(c.e.Problems) >= linelist.MaxProblems {
-		c.e.Omitted++
-		return
-	}
-	c.e.Problems = append(c.e.Problems, linelist.Problem{File: c.file, Row: row, Field: field, Reason: fmt.Sprintf(format, a...)})
-}
-
-func (c *problems) addErr(row int, field, reason string, err error) {
-	if len(c.e.Problems) >= linelist.MaxProblems {
-		c.e.Omitted++
-		return
-	}
-	c.e.Problems = append(c.e.Problems, linelist.Problem{File: c.file, Row: row, Field: field, Reason: reason, Err: err})
-}
-
-func (c *problems) err() error {
-	if len(c.e.Problems) == 0 && c.e.Omitted == 0 {
+// inputError returns the problems c collected as an *InputError, nil when
+// there are none.
+func inputError(c *linelist.Collector) error {
+	probs, omitted := c.Problems()
+	if len(probs) == 0 && omitted == 0 {
 		return nil
 	}
-	e := c.e
-	return &e
+	return &InputError{Problems: probs, Omitted: omitted}
 }
 
-// peakHeader maps the header keys of a peak list onto its standard columns
-// through gocsv (the same mapping, case-insensitive, as the line-list reader).
+// peakHeader names the standard columns of a peak list for
+// linelist.IndexColumns (the same mapping, case-insensitive, as the line-list
+// reader's); the pc constants index them.
 type peakHeader struct {
 	Position  string `csv:"position"`
 	Unc       string `csv:"unc"`
@@ -136,87 +115,7 @@ const (
 	pcUnc
 	pcIntensity
 	pcUnit
-	pcN
 )
-
-var peakColumns = [pcN]string{"position", "unc", "intensity", "unit"}
-
-// mapPeakHeader returns the column index of each standard column (-1 when
-// absent) from distinct lower-case keys (empty keys are ignored).
-func mapPeakHeader(keys []string) ([pcN]int, error) {
-	var idx [pcN]int
-	for i := range idx {
-		idx[i] = -1
-	}
-	pos := make([]string, len(keys))
-	for i := range keys {
-		pos[i] = strconv.Itoa(i)
-	}
-	var out []peakHeader
-	if err := gocsv.UnmarshalCSV(&linelist.Rows{Rows: [][]string{keys, pos}}, &out); err != nil {
-		return idx, err
-	}
-	if len(out) != 1 {
-		return idx, fmt.Errorf("gocsv decoded %d rows from a header and one row", len(out))
-	}
-	for c, v := range [pcN]string{out[0].Position, out[0].Unc, out[0].Intensity, out[0].Unit} {
-		if v == "" {
-			continue
-		}
-		i, err := strconv.Atoi(v)
-		if err != nil || i < 0 || i >= len(keys) {
-			return idx, fmt.Errorf("gocsv mapped column %s to %q", peakColumns[c], v)
-		}
-		idx[c] = i
-	}
-	return idx, nil
-}
-
-// headerKey is the form in which column names are compared: zero-width
-// characters removed, blanks trimmed, lower case.
-func headerKey(s string) string {
-	s = strings.Map(func(r rune) rune {
-		switch r {
-		case '\u200B', '\u200C', '\u200D', '\uFEFF':
-			return -1
-		}
-		return r
-	}, s)
-	return strings.ToLower(strings.TrimSpace(s))
-}
-
-// filterComments prepares a CSV file for encoding/csv while keeping its
-// physical line numbering: a leading UTF-8 byte-order mark is dropped and
-// every comment line (first non-blank character '#') or blank line outside a
-// quoted field becomes an empty line, which encoding/csv skips. Whether a line
-// starts inside a quoted field is tracked by the parity of '"' characters
-// (RFC 4180 doubles an escaped quote).
-func filterComments(data []byte) []byte {
-	data = bytes.TrimPrefix(data, []byte{0xEF, 0xBB, 0xBF})
-	out := make([]byte, 0, len(data))
-	inQuote := false
-	for len(data) > 0 {
-		line := data
-		if i := bytes.IndexByte(data, '\n'); i >= 0 {
-			line = data[:i+1]
-		}
-		data = data[len(line):]
-		if !inQuote {
-			t := bytes.TrimLeft(line, " \t\r\n\v\f")
-			if len(t) == 0 || t[0] == '#' {
-				if line[len(line)-1] == '\n' {
-					out = append(out, '\n')
-				}
-				continue
-			}
-		}
-		if bytes.Count(line, []byte{'"'})%2 == 1 {
-			inQuote = !inQuote
-		}
-		out = append(out, line...)
-	}
-	return out
-}
 
 // maxPeakBytes bounds the size of a peak list read into memory (a picked
 // peak list of a million peaks is about 40 MB).
@@ -257,184 +156,196 @@ func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
 // Problems are returned as one *InputError, each naming the file, row and
 // field.
 func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, error) {
-	c := &problems{file: name}
+	c := linelist.NewCollector(name)
 	data, err := io.ReadAll(io.LimitReader(r, maxPeakBytes+1))
 	if err != nil {
-		c.addErr(0, "", "read error: "+err.Error(), err)
-		return nil, c.err()
+		c.AddErr(0, "", "read error: "+err.Error(), err)
+		return nil, inputError(c)
 	}
 	if len(data) > maxPeakBytes {
-		c.add(0, "", "file larger than %d MB; split it", maxPeakBytes>>20)
-		return nil, c.err()
+		c.Add(0, "", "file larger than %d MB; split it", maxPeakBytes>>20)
+		return nil, inputError(c)
 	}
-	cr := csv.NewReader(bytes.NewReader(filterComments(data)))
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
-	header, err := cr.Read()
-	if err == io.EOF {
-		c.add(0, "", "no peaks: the file is empty")
-		return nil, c.err()
+	t := linelist.ReadHeader(bytes.NewReader(data), c, "no peaks: the file is empty")
+	if t == nil {
+		return nil, inputError(c)
 	}
+	pr := &peakReader{c: c, t: t, pl: &PeakList{File: name}, defaultUnit: defaultUnit}
+	if !pr.columns() {
+		return nil, inputError(c)
+	}
+	pr.rows()
+	if err := inputError(c); err != nil {
+		return nil, err
+	}
+	if len(pr.pl.Peaks) == 0 {
+		c.Add(t.Line, "", "no peaks: the file has a header only")
+		return nil, inputError(c)
+	}
+	pr.pl.warnDuplicates()
+	return pr.pl, nil
+}
+
+// peakReader holds the state of reading one peak list.
+type peakReader struct {
+	c           *linelist.Collector
+	t           *linelist.Table
+	pl          *PeakList
+	defaultUnit linelist.Unit
+	col         []int // column of each standard column (pcPosition …), −1 when absent
+	extraCols   []int // columns passed through
+	// sign is the sign of the intensities read so far (0: none yet), given
+	// first at signRow.
+	sign, signRow int
+}
+
+// columns maps the header onto the standard columns and the pass-through
+// ones; it reports false when rows cannot be read: a problem with the
+// header, or no position column.
+func (pr *peakReader) columns() bool {
+	c, t := pr.c, pr.t
+	col, err := linelist.IndexColumns[peakHeader](t.Keys)
 	if err != nil {
-		csvProblem(c, err)
-		return nil, c.err()
+		c.AddErr(t.Line, "", "cannot map the header: "+err.Error(), err)
+		return false
 	}
-	hline, _ := cr.FieldPos(0)
-	header = append([]string(nil), header...) // the reader reuses its record slice
-	pl := &PeakList{File: name}
-	nFields := len(header)
-	keys := make([]string, nFields)
-	first := map[string]int{}
-	for i, h := range header {
-		if why := textcheck.InvalidUTF8(h); why != "" {
-			c.add(hline, fmt.Sprintf("column %d", i+1), "name is %s", why)
-			continue
-		}
-		k := headerKey(h)
-		switch prev, dup := first[k]; {
-		case k == "":
-			c.add(hline, "", "column %d has no name", i+1)
-		case dup:
-			c.add(hline, strings.TrimSpace(h), "duplicate column name (columns %d and %d; names are matched ignoring case)", prev+1, i+1)
-		default:
-			first[k] = i
-			keys[i] = k
-		}
-	}
-	col, err := mapPeakHeader(keys)
-	if err != nil {
-		c.addErr(hline, "", "cannot map the header: "+err.Error(), err)
-		return nil, c.err()
-	}
-	if len(c.e.Problems) > 0 {
-		return nil, c.err()
+	if c.Count() > 0 {
+		return false
 	}
 	if col[pcPosition] < 0 {
-		joined := strings.Join(header, ",")
-		switch {
-		case strings.Contains(joined, ";"):
-			c.add(hline, "", "looks like semicolon-separated; bandwright reads comma-separated with a dot decimal separator")
-		case strings.Contains(joined, "\t"):
-			c.add(hline, "", "looks like tab-separated; bandwright reads comma-separated with a dot decimal separator")
-		default:
-			c.add(hline, "position", "required column missing")
-		}
-		return nil, c.err()
+		t.ReportMissing(c, "position")
+		return false
 	}
-	claimed := make([]bool, nFields)
+	pr.col = col
+	claimed := make([]bool, len(t.Keys))
 	for _, i := range col {
 		if i >= 0 {
 			claimed[i] = true
 		}
 	}
-	var extraCols []int
-	for i, k := range keys {
+	for i, k := range t.Keys {
 		if !claimed[i] && k != "" {
-			extraCols = append(extraCols, i)
-			pl.Extra = append(pl.Extra, strings.TrimSpace(header[i]))
+			pr.extraCols = append(pr.extraCols, i)
+			pr.pl.Extra = append(pr.pl.Extra, t.Names[i])
 		}
 	}
-	if len(c.e.Problems) > 0 {
-		return nil, c.err()
-	}
+	return true
+}
 
-	sign, signRow := 0, 0
+// rows reads the data rows into pr.pl, reporting every problem, until the
+// end, an error of the underlying reader, or MaxProblems problems.
+func (pr *peakReader) rows() {
+	c, cr := pr.c, pr.t.CSV
+	nFields := len(pr.t.Keys)
 	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
-			break
+			return
 		}
 		if err != nil {
 			var pe *csv.ParseError
-			csvProblem(c, err)
-			if !errors.As(err, &pe) || len(c.e.Problems) >= linelist.MaxProblems {
-				break
+			c.ReadError(err)
+			if !errors.As(err, &pe) || c.Full() {
+				return
 			}
 			continue
 		}
 		row, _ := cr.FieldPos(0)
 		if len(rec) != nFields {
-			c.add(row, "", "row has %d fields, header has %d (quote text that contains commas; numbers take a dot as decimal separator)", len(rec), nFields)
+			c.Add(row, "", "row has %d fields, header has %d (quote text that contains commas; numbers take a dot as decimal separator)", len(rec), nFields)
 			continue
 		}
-		n0 := len(c.e.Problems) + c.e.Omitted
-		for i, cell := range rec {
-			if why := textcheck.InvalidUTF8(cell); why != "" {
-				name := strings.TrimSpace(header[i])
-				if name == "" {
-					name = fmt.Sprintf("column %d", i+1)
-				}
-				c.add(row, name, "%s", why)
-			}
-		}
-		if len(c.e.Problems)+c.e.Omitted != n0 {
-			continue
-		}
-		p := Peak{Index: len(pl.Peaks) + 1, Row: row, Unit: defaultUnit}
-		p.Position, p.Text = number(c, rec[col[pcPosition]], "position", row, true)
-		if p.Text != "" && !(p.Position > 0) && len(c.e.Problems)+c.e.Omitted == n0 {
-			c.add(row, "position", "must be > 0, got %s", p.Text)
-		}
-		if i := col[pcUnc]; i >= 0 {
-			p.Unc, p.UncText = number(c, rec[i], "unc", row, false)
-			if p.UncText != "" && !(p.Unc > 0) && len(c.e.Problems)+c.e.Omitted == n0 {
-				c.add(row, "unc", "must be > 0, got %s", p.UncText)
-			}
-		}
-		if i := col[pcIntensity]; i >= 0 {
-			n1 := len(c.e.Problems) + c.e.Omitted
-			x, t := number(c, rec[i], "intensity", row, false)
-			if t != "" && len(c.e.Problems)+c.e.Omitted == n1 {
-				s := 1
-				if x < 0 {
-					s = -1
-				}
-				switch {
-				case x == 0:
-					c.add(row, "intensity", "must not be zero (leave the cell empty when unknown)")
-				case sign == 0:
-					sign, signRow = s, row
-				case s != sign:
-					c.add(row, "intensity", "%s has the opposite sign of the intensities above (row %d); give all intensities with one sign", t, signRow)
-				}
-				p.Intensity, p.IntensityText = math.Abs(x), t
-				pl.HasIntensity = true
-			}
-		}
-		if i := col[pcUnit]; i >= 0 {
-			if t := strings.TrimSpace(rec[i]); t != "" {
-				u, err := linelist.ParseUnit(t)
-				if err != nil {
-					c.add(row, "unit", "unknown unit %q: use cm-1 or MHz", t)
-				}
-				p.Unit = u
-			}
-		}
-		if len(extraCols) > 0 {
-			p.Extra = make([]string, len(extraCols))
-			for k, i := range extraCols {
-				p.Extra[k] = strings.ReplaceAll(rec[i], "\r", "")
-			}
-		}
-		if p.Unit == linelist.Wavenumber && p.Position >= linelist.MaxWavenumber && len(c.e.Problems)+c.e.Omitted == n0 {
-			hint := "is the row's unit MHz? say so in its unit column"
-			if col[pcUnit] < 0 {
-				hint = "if the peaks are in MHz, add a unit column (cm-1 or MHz) or give --unit MHz"
-			}
-			c.add(row, "position", "%s cm-1 is beyond the dissociation energy of every diatomic molecule (no transition within one electronic state reaches %g cm-1); %s",
-				p.Text, linelist.MaxWavenumber, hint)
-		}
-		if len(c.e.Problems)+c.e.Omitted == n0 {
-			pl.Peaks = append(pl.Peaks, p)
+		if p, ok := pr.peak(rec, row); ok {
+			pr.pl.Peaks = append(pr.pl.Peaks, p)
 		}
 	}
-	if err := c.err(); err != nil {
-		return nil, err
+}
+
+// peak checks and converts one data row; it reports false when the row has
+// a problem.
+func (pr *peakReader) peak(rec []string, row int) (Peak, bool) {
+	c := pr.c
+	n0 := c.Count()
+	for i, cell := range rec {
+		if why := textcheck.InvalidUTF8(cell); why != "" {
+			name := pr.t.Names[i]
+			if name == "" {
+				name = fmt.Sprintf("column %d", i+1)
+			}
+			c.Add(row, name, "%s", why)
+		}
 	}
-	if len(pl.Peaks) == 0 {
-		c.add(hline, "", "no peaks: the file has a header only")
-		return nil, c.err()
+	if c.Count() != n0 {
+		return Peak{}, false
 	}
+	p := Peak{Index: len(pr.pl.Peaks) + 1, Row: row, Unit: pr.defaultUnit}
+	p.Position, p.Text = number(c, rec[pr.col[pcPosition]], "position", row, true)
+	if p.Text != "" && !(p.Position > 0) && c.Count() == n0 {
+		c.Add(row, "position", "must be > 0, got %s", p.Text)
+	}
+	if i := pr.col[pcUnc]; i >= 0 {
+		p.Unc, p.UncText = number(c, rec[i], "unc", row, false)
+		if p.UncText != "" && !(p.Unc > 0) && c.Count() == n0 {
+			c.Add(row, "unc", "must be > 0, got %s", p.UncText)
+		}
+	}
+	if i := pr.col[pcIntensity]; i >= 0 {
+		pr.intensity(&p, rec[i], row)
+	}
+	if i := pr.col[pcUnit]; i >= 0 {
+		if t := strings.TrimSpace(rec[i]); t != "" {
+			u, err := linelist.ParseUnit(t)
+			if err != nil {
+				c.Add(row, "unit", "unknown unit %q: use cm-1 or MHz", t)
+			}
+			p.Unit = u
+		}
+	}
+	if len(pr.extraCols) > 0 {
+		p.Extra = make([]string, len(pr.extraCols))
+		for k, i := range pr.extraCols {
+			p.Extra[k] = strings.ReplaceAll(rec[i], "\r", "")
+		}
+	}
+	if p.Unit == linelist.Wavenumber && p.Position >= linelist.MaxWavenumber && c.Count() == n0 {
+		hint := "is the row's unit MHz? say so in its unit column"
+		if pr.col[pcUnit] < 0 {
+			hint = "if the peaks are in MHz, add a unit column (cm-1 or MHz) or give --unit MHz"
+		}
+		c.Add(row, "position", "%s cm-1 is beyond the dissociation energy of every diatomic molecule (no transition within one electronic state reaches %g cm-1); %s",
+			p.Text, linelist.MaxWavenumber, hint)
+	}
+	return p, c.Count() == n0
+}
+
+// intensity reads the intensity cell of peak p: any non-zero number, all of
+// one sign in a file; its magnitude is kept.
+func (pr *peakReader) intensity(p *Peak, cell string, row int) {
+	c := pr.c
+	n1 := c.Count()
+	x, t := number(c, cell, "intensity", row, false)
+	if t == "" || c.Count() != n1 {
+		return
+	}
+	s := 1
+	if x < 0 {
+		s = -1
+	}
+	switch {
+	case x == 0:
+		c.Add(row, "intensity", "must not be zero (leave the cell empty when unknown)")
+	case pr.sign == 0:
+		pr.sign, pr.signRow = s, row
+	case s != pr.sign:
+		c.Add(row, "intensity", "%s has the opposite sign of the intensities above (row %d); give all intensities with one sign", t, pr.signRow)
+	}
+	p.Intensity, p.IntensityText = math.Abs(x), t
+	pr.pl.HasIntensity = true
+}
+
+// warnDuplicates warns of every peak that repeats the position and unit of
+// an earlier one.
+func (pl *PeakList) warnDuplicates() {
 	type peakKey struct {
 		pos  uint64
 		unit linelist.Unit
@@ -443,31 +354,21 @@ func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, 
 	for i, p := range pl.Peaks {
 		k := peakKey{math.Float64bits(p.Position), p.Unit}
 		if j, dup := seen[k]; dup {
-			pl.Warnings = append(pl.Warnings, linelist.Problem{File: name, Row: p.Row, Field: "position",
+			pl.Warnings = append(pl.Warnings, linelist.Problem{File: pl.File, Row: p.Row, Field: "position",
 				Reason: fmt.Sprintf("duplicate peak: the same position as row %d; both copies take part in the assignment (delete one if it was pasted twice)", pl.Peaks[j].Row)})
 			continue
 		}
 		seen[k] = i
 	}
-	return pl, nil
-}
-
-func csvProblem(c *problems, err error) {
-	var pe *csv.ParseError
-	if errors.As(err, &pe) {
-		c.addErr(pe.Line, "", fmt.Sprintf("malformed CSV at character %d: %v", pe.Column, pe.Err), err)
-		return
-	}
-	c.addErr(0, "", "read error: "+err.Error(), err)
 }
 
 // number parses a numeric cell. An empty cell is a problem when required and
 // returns ("", 0) otherwise. The trimmed text is returned for non-empty cells.
-func number(c *problems, cell, field string, row int, required bool) (float64, string) {
+func number(c *linelist.Collector, cell, field string, row int, required bool) (float64, string) {
 	t := strings.TrimSpace(cell)
 	if t == "" {
 		if required {
-			c.add(row, field, "missing value")
+			c.Add(row, field, "missing value")
 		}
 		return 0, ""
 	}
@@ -475,16 +376,16 @@ func number(c *problems, cell, field string, row int, required bool) (float64, s
 	if err != nil {
 		switch {
 		case errors.Is(err, strconv.ErrRange):
-			c.add(row, field, "%s is out of the range of a 64-bit float", t)
+			c.Add(row, field, "%s is out of the range of a 64-bit float", t)
 		case strings.Contains(t, ","):
-			c.add(row, field, "not a number: %q (decimal comma? bandwright reads comma-separated with a dot decimal separator)", t)
+			c.Add(row, field, "not a number: %q (decimal comma? bandwright reads comma-separated with a dot decimal separator)", t)
 		default:
-			c.add(row, field, "not a number: %q", t)
+			c.Add(row, field, "not a number: %q", t)
 		}
 		return 0, t
 	}
 	if math.IsNaN(x) || math.IsInf(x, 0) {
-		c.add(row, field, "must be a finite number, got %s", t)
+		c.Add(row, field, "must be a finite number, got %s", t)
 		return 0, t
 	}
 	return x, t

@@ -111,10 +111,10 @@ func ReadStartFile(path string) (*Start, error) {
 // or non-finite values and unknown isotopologues are errors naming the file,
 // row and key.
 func ReadStart(r io.Reader, name string) (*Start, error) {
-	c := &problems{file: name}
+	c := linelist.NewCollector(name)
 	f, loc, ok := decodeStart(r, c)
 	if !ok {
-		return nil, c.err()
+		return nil, inputError(c)
 	}
 	var gs []givenSpecies
 	seen := map[string]int{}
@@ -123,7 +123,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 			gs = append(gs, g)
 		}
 	}
-	if err := c.err(); err != nil {
+	if err := inputError(c); err != nil {
 		return nil, err
 	}
 	st := &Start{File: name}
@@ -132,7 +132,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 			st.Species = append(st.Species, sp)
 		}
 	}
-	if err := c.err(); err != nil {
+	if err := inputError(c); err != nil {
 		return nil, err
 	}
 	return st, nil
@@ -141,15 +141,15 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 // decodeStart reads and decodes a start file, reporting to c a read error,
 // a file too large, TOML errors, unknown keys and a file without a
 // [[species]] table; it reports false when any was found.
-func decodeStart(r io.Reader, c *problems) (startFile, *keyLocator, bool) {
+func decodeStart(r io.Reader, c *linelist.Collector) (startFile, *keyLocator, bool) {
 	var f startFile
 	data, err := io.ReadAll(io.LimitReader(r, maxStartBytes+1))
 	if err != nil {
-		c.addErr(0, "", "read error: "+err.Error(), err)
+		c.AddErr(0, "", "read error: "+err.Error(), err)
 		return f, nil, false
 	}
 	if len(data) > maxStartBytes {
-		c.add(0, "", "larger than %d MB; not a start file", maxStartBytes>>20)
+		c.Add(0, "", "larger than %d MB; not a start file", maxStartBytes>>20)
 		return f, nil, false
 	}
 	md, err := toml.Decode(string(data), &f)
@@ -160,9 +160,9 @@ func decodeStart(r io.Reader, c *problems) (startFile, *keyLocator, bool) {
 			if pe.LastKey != "" {
 				field = pe.LastKey
 			}
-			c.addErr(pe.Position.Line, field, pe.Message+textcheck.DecimalCommaHint(data, pe.Position.Line), err)
+			c.AddErr(pe.Position.Line, field, pe.Message+textcheck.DecimalCommaHint(data, pe.Position.Line), err)
 		} else {
-			c.addErr(0, "", tomlReason(err), err)
+			c.AddErr(0, "", tomlReason(err), err)
 		}
 		return f, nil, false
 	}
@@ -180,12 +180,12 @@ func decodeStart(r io.Reader, c *problems) (startFile, *keyLocator, bool) {
 		} else {
 			row = loc.find(-2, k[0])
 		}
-		c.add(row, field, "unknown key (a [[species]] table takes %s)", strings.Join(startKeys, ", "))
+		c.Add(row, field, "unknown key (a [[species]] table takes %s)", strings.Join(startKeys, ", "))
 	}
-	if len(f.Species) == 0 && len(c.e.Problems) == 0 {
-		c.add(0, "species", "no [[species]] table: name at least one isotopologue with its constants")
+	if len(f.Species) == 0 && c.Count() == 0 {
+		c.Add(0, "species", "no [[species]] table: name at least one isotopologue with its constants")
 	}
-	return f, loc, len(c.e.Problems) == 0 && c.e.Omitted == 0
+	return f, loc, c.Count() == 0
 }
 
 // givenSpecies is one checked [[species]] table: its isotopologue, entry and
@@ -201,7 +201,7 @@ type givenSpecies struct {
 // isotopologue not listed before, recorded in seen), finite values, positive
 // ωe, Be and abundance, De ≥ 0, and for a table with constants the required
 // ones. Problems go to c; it reports false when the table cannot be used.
-func checkStartEntry(c *problems, loc *keyLocator, i int, e startEntry, seen map[string]int) (givenSpecies, bool) {
+func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry, seen map[string]int) (givenSpecies, bool) {
 	row := loc.table(i)
 	at := func(key string) int {
 		if r := loc.find(i, key); r > 0 {
@@ -210,16 +210,16 @@ func checkStartEntry(c *problems, loc *keyLocator, i int, e startEntry, seen map
 		return row
 	}
 	if e.Name == nil {
-		c.add(row, fmt.Sprintf("species[%d].name", i+1), "missing: give the isotopologue, e.g. name = \"12C16O\"")
+		c.Add(row, fmt.Sprintf("species[%d].name", i+1), "missing: give the isotopologue, e.g. name = \"12C16O\"")
 		return givenSpecies{}, false
 	}
 	iso, err := species.Parse(*e.Name)
 	if err != nil {
-		c.addErr(at("name"), fmt.Sprintf("species[%d].name", i+1), strings.TrimPrefix(err.Error(), "species: "), err)
+		c.AddErr(at("name"), fmt.Sprintf("species[%d].name", i+1), strings.TrimPrefix(err.Error(), "species: "), err)
 		return givenSpecies{}, false
 	}
 	if j, dup := seen[iso.Label]; dup {
-		c.add(at("name"), fmt.Sprintf("species[%d].name", i+1), "%s is listed twice (also as species %d)", iso.Label, j+1)
+		c.Add(at("name"), fmt.Sprintf("species[%d].name", i+1), "%s is listed twice (also as species %d)", iso.Label, j+1)
 		return givenSpecies{}, false
 	}
 	seen[iso.Label] = i
@@ -235,16 +235,16 @@ func checkStartEntry(c *problems, loc *keyLocator, i int, e startEntry, seen map
 			nConst++
 		}
 		if math.IsNaN(*v) || math.IsInf(*v, 0) {
-			c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be a finite number")
+			c.Add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be a finite number")
 		}
 	}
 	for _, k := range []string{"omega_e", "B_e", "abundance"} {
 		if v := vals[k]; v != nil && !(*v > 0) {
-			c.add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be > 0, got %g", *v)
+			c.Add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be > 0, got %g", *v)
 		}
 	}
 	if v := vals["D_e"]; v != nil && *v < 0 {
-		c.add(at("D_e"), iso.Label+".D_e", "must be ≥ 0 (De > 0 for a bound state), got %g", *v)
+		c.Add(at("D_e"), iso.Label+".D_e", "must be ≥ 0 (De > 0 for a bound state), got %g", *v)
 	}
 	full := nConst > 0
 	if full {
@@ -255,7 +255,7 @@ func checkStartEntry(c *problems, loc *keyLocator, i int, e startEntry, seen map
 			}
 		}
 		if len(miss) > 0 {
-			c.add(row, iso.Label, "missing %s (a species with constants needs %s; leave out all constants to scale them from another isotopologue)",
+			c.Add(row, iso.Label, "missing %s (a species with constants needs %s; leave out all constants to scale them from another isotopologue)",
 				strings.Join(miss, ", "), strings.Join(requiredConstants, ", "))
 		}
 	}
@@ -265,7 +265,7 @@ func checkStartEntry(c *problems, loc *keyLocator, i int, e startEntry, seen map
 // startSpecies builds the species of table g: its own constants, or those of
 // the first table of gs of the same molecule with constants, mass-scaled.
 // Problems go to c; it reports false when the species cannot be built.
-func startSpecies(c *problems, g givenSpecies, gs []givenSpecies) (StartSpecies, bool) {
+func startSpecies(c *linelist.Collector, g givenSpecies, gs []givenSpecies) (StartSpecies, bool) {
 	sp := StartSpecies{Label: g.iso.Label, Iso: g.iso}
 	if g.e.Abundance != nil {
 		sp.Abundance = *g.e.Abundance
@@ -282,19 +282,19 @@ func startSpecies(c *problems, g givenSpecies, gs []givenSpecies) (StartSpecies,
 			}
 		}
 		if ref == nil {
-			c.add(g.row, g.iso.Label, "no constants, and no isotopologue of the same molecule with constants to scale them from")
+			c.Add(g.row, g.iso.Label, "no constants, and no isotopologue of the same molecule with constants to scale them from")
 			return sp, false
 		}
 		sp.ScaledFrom = ref.iso.Label
 	}
 	cs, idx, err := dunhamStart(ref.iso, g.iso, ref.e)
 	if err != nil {
-		c.addErr(g.row, g.iso.Label, err.Error(), err)
+		c.AddErr(g.row, g.iso.Label, err.Error(), err)
 		return sp, false
 	}
 	sp.Constants, sp.Index = cs, idx
 	if sp.Abundance == 0 {
-		c.add(g.row, g.iso.Label+".abundance", "the isotope table gives this isotopologue no natural abundance; give abundance = …")
+		c.Add(g.row, g.iso.Label+".abundance", "the isotope table gives this isotopologue no natural abundance; give abundance = …")
 		return sp, false
 	}
 	return sp, true
