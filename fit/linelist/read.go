@@ -92,8 +92,7 @@ func headerKey(s string) string {
 }
 
 // Rows serves fixed rows to gocsv (it implements gocsv.CSVReader): the header
-// mapping of this reader and of the peak-list reader of package assign feed gocsv a
-// header and one row of column indices through it.
+// mapping (IndexColumns) feeds gocsv a header and one row of column indices through it.
 type Rows struct{ Rows [][]string }
 
 // Read returns the next row, io.EOF after the last.
