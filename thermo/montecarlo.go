@@ -4,14 +4,12 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distmv"
 
+	"bandwright/internal/parallel"
 	"bandwright/units"
 )
 
@@ -192,9 +190,6 @@ func (sys *System) MonteCarlo(temps []float64, n int, seed uint64, workers int) 
 		}
 		return out, nil
 	}
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
 	smp := sys.newSampler()
 	p := sys.p
 	xs := make([]float64, n*p) // the draws, x − x̂
@@ -257,7 +252,7 @@ func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, wo
 	p := sys.p
 	// Nominal factors w e^(−βE) of each temperature, up to its cut.
 	bs := make([][]float64, len(temps))
-	parallelFor(len(temps), workers, func(k int) {
+	parallel.For(len(temps), workers, func(k int) {
 		beta := units.SecondRadiation / temps[k]
 		nk := sys.cut(beta)
 		b := make([]float64, nk)
@@ -267,56 +262,57 @@ func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, wo
 		bs[k] = b
 	})
 	nChunks := (n + mcChunk - 1) / mcChunk
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < min(workers, nChunks); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			delta := make([]float64, mcChunk*N)
-			var buf *evalBuf
-			var eDraw []float64
-			x := make([]float64, p)
-			acc := newMoments(0)
-			for {
-				c := int(next.Add(1)) - 1
-				if c >= nChunks {
-					return
-				}
-				d0, d1 := c*mcChunk, min(n, (c+1)*mcChunk)
-				for d := d0; d < d1; d++ {
-					dl := delta[(d-d0)*N : (d-d0+1)*N]
-					dx := xs[d*p : (d+1)*p]
-					if linear {
-						clear(dl)
-						for k, v := range dx {
-							floats.AddScaled(dl, v, sys.g[k*N:(k+1)*N])
-						}
-						continue
-					}
-					if buf == nil {
-						buf = sys.newEvalBuf()
-					}
-					for k := range x {
-						x[k] = sys.x0[k] + dx[k]
-					}
-					eDraw = sys.energiesAt(x, buf, eDraw)
-					for i := range dl {
-						dl[i] = eDraw[i] - sys.e[i]
-					}
-				}
-				for k, T := range temps {
-					beta := units.SecondRadiation / T
-					b := bs[k]
-					for d := d0; d < d1; d++ {
-						sys.accumulateShifted(b, delta[(d-d0)*N:(d-d0)*N+len(b)], beta, acc)
-						emit(d, k, acc)
-					}
-				}
-			}
-		}()
+	newScratch := func() *mcScratch {
+		return &mcScratch{delta: make([]float64, mcChunk*N), x: make([]float64, p), acc: newMoments(0)}
 	}
-	wg.Wait()
+	parallel.ForScratch(nChunks, workers, newScratch, func(s *mcScratch, c int) {
+		d0, d1 := c*mcChunk, min(n, (c+1)*mcChunk)
+		for d := d0; d < d1; d++ {
+			sys.drawShifts(s, xs[d*p:(d+1)*p], s.delta[(d-d0)*N:(d-d0+1)*N], linear)
+		}
+		for k, T := range temps {
+			beta := units.SecondRadiation / T
+			b := bs[k]
+			for d := d0; d < d1; d++ {
+				sys.accumulateShifted(b, s.delta[(d-d0)*N:(d-d0)*N+len(b)], beta, s.acc)
+				emit(d, k, s.acc)
+			}
+		}
+	})
+}
+
+// mcScratch is the scratch space of one Monte Carlo worker: the energy
+// shifts of a chunk of draws, and what a fresh evaluation of the models needs.
+type mcScratch struct {
+	delta []float64 // δ_i of the draws of a chunk, mcChunk·len(sys.e)
+	x     []float64 // drawn parameters
+	buf   *evalBuf  // made on first use (nonlinear models only)
+	eDraw []float64
+	acc   *moments
+}
+
+// drawShifts writes into dl the shifts δ_i = E_i(x̂ + dx) − E_i(x̂) of the
+// levels of the sum: from the gradients when the models are linear in their
+// parameters, else from a fresh evaluation of the models.
+func (sys *System) drawShifts(s *mcScratch, dx, dl []float64, linear bool) {
+	N := len(sys.e)
+	if linear {
+		clear(dl)
+		for k, v := range dx {
+			floats.AddScaled(dl, v, sys.g[k*N:(k+1)*N])
+		}
+		return
+	}
+	if s.buf == nil {
+		s.buf = sys.newEvalBuf()
+	}
+	for k := range s.x {
+		s.x[k] = sys.x0[k] + dx[k]
+	}
+	s.eDraw = sys.energiesAt(s.x, s.buf, s.eDraw)
+	for i := range dl {
+		dl[i] = s.eDraw[i] - sys.e[i]
+	}
 }
 
 // accumulateShifted forms a0, a1, a2 for the energies E_i + δ_i from the
@@ -365,24 +361,4 @@ func (sys *System) linearCheck(dx []float64) bool {
 		}
 	}
 	return true
-}
-
-// parallelFor calls f(i) for i in [0, n) on up to workers goroutines.
-func parallelFor(n, workers int, f func(i int)) {
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < max(1, min(workers, n)); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				i := int(next.Add(1)) - 1
-				if i >= n {
-					return
-				}
-				f(i)
-			}
-		}()
-	}
-	wg.Wait()
 }

@@ -2,17 +2,16 @@ package thermo
 
 import (
 	"math"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
+	"bandwright/internal/parallel"
 	"bandwright/units"
 )
 
 // Table computes the rows at the temperatures with linearly propagated σ,
-// σ_f = √(∇fᵀ C ∇f), in parallel over temperatures (results do not depend on
-// the number of workers).
+// σ_f = √(∇fᵀ C ∇f), in parallel over temperatures on up to workers
+// goroutines (0: GOMAXPROCS; results do not depend on the number of workers).
 func (sys *System) Table(temps []float64, workers int) []Row {
 	acc := newMoments(sys.p)
 	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
@@ -22,40 +21,31 @@ func (sys *System) Table(temps []float64, workers int) []Row {
 	h298, dh298 := f298.HmH0, d298.HmH0
 
 	rows := make([]Row, len(temps))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < max(1, min(workers, len(temps))); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			acc := newMoments(sys.p)
-			d := newGradients(sys.p)
-			for {
-				i := int(next.Add(1)) - 1
-				if i >= len(temps) {
-					return
-				}
-				T := temps[i]
-				beta := units.SecondRadiation / T
-				sys.accumulate(beta, acc, true)
-				f := sys.functions(T, acc, h298)
-				sys.gradients(T, acc, f, dh298, d)
-				r := Row{T: T, F: f}
-				r.Sigma = Functions{
-					Q: sys.sigma(d.Q), Cp: sys.sigma(d.Cp), S: sys.sigma(d.S),
-					HmH0: sys.sigma(d.HmH0), HmH298: sys.sigma(d.HmH298), Gef: sys.sigma(d.Gef),
-				}
-				r.QClosed = sys.ClosedForm(T)
-				r.QClosedError = r.QClosed/f.Q - 1
-				r.ExtrapolatedShare = acc.ext / acc.a0
-				if sh, ok := sys.missingShare(beta, f.Q); ok {
-					r.MissingShare = &sh
-				}
-				rows[i] = r
-			}
-		}()
+	type scratch struct {
+		acc *moments
+		d   *Gradients
 	}
-	wg.Wait()
+	newScratch := func() scratch { return scratch{newMoments(sys.p), newGradients(sys.p)} }
+	parallel.ForScratch(len(temps), workers, newScratch, func(s scratch, i int) {
+		acc, d := s.acc, s.d
+		T := temps[i]
+		beta := units.SecondRadiation / T
+		sys.accumulate(beta, acc, true)
+		f := sys.functions(T, acc, h298)
+		sys.gradients(T, acc, f, dh298, d)
+		r := Row{T: T, F: f}
+		r.Sigma = Functions{
+			Q: sys.sigma(d.Q), Cp: sys.sigma(d.Cp), S: sys.sigma(d.S),
+			HmH0: sys.sigma(d.HmH0), HmH298: sys.sigma(d.HmH298), Gef: sys.sigma(d.Gef),
+		}
+		r.QClosed = sys.ClosedForm(T)
+		r.QClosedError = r.QClosed/f.Q - 1
+		r.ExtrapolatedShare = acc.ext / acc.a0
+		if sh, ok := sys.missingShare(beta, f.Q); ok {
+			r.MissingShare = &sh
+		}
+		rows[i] = r
+	})
 	return rows
 }
 
@@ -65,24 +55,10 @@ func (sys *System) nominal(temps []float64, workers int) []Functions {
 	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, false)
 	h298 := hmh0(ReferenceTemperature, acc.a1/acc.a0)
 	out := make([]Functions, len(temps))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < max(1, min(workers, len(temps))); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			acc := newMoments(0)
-			for {
-				i := int(next.Add(1)) - 1
-				if i >= len(temps) {
-					return
-				}
-				sys.accumulate(units.SecondRadiation/temps[i], acc, false)
-				out[i] = sys.functions(temps[i], acc, h298)
-			}
-		}()
-	}
-	wg.Wait()
+	parallel.ForScratch(len(temps), workers, func() *moments { return newMoments(0) }, func(acc *moments, i int) {
+		sys.accumulate(units.SecondRadiation/temps[i], acc, false)
+		out[i] = sys.functions(temps[i], acc, h298)
+	})
 	return out
 }
 

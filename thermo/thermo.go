@@ -3,7 +3,6 @@ package thermo
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"sort"
 	"strings"
 
@@ -67,13 +66,6 @@ func (s Settings) pressure() float64 {
 		return PressureBar
 	}
 	return s.Pressure
-}
-
-func (s Settings) workers() int {
-	if s.Workers > 0 {
-		return s.Workers
-	}
-	return runtime.GOMAXPROCS(0)
 }
 
 // Check reports the first bad setting.
@@ -179,9 +171,9 @@ func Compute(p Problem, s Settings) (*Result, error) {
 	res.Warnings = append(res.Warnings, sys.warnings...)
 	res.Conventions = sys.conventions(s)
 
-	res.Rows = sys.Table(s.Temperatures, s.workers())
+	res.Rows = sys.Table(s.Temperatures, s.Workers)
 	if s.MonteCarlo > 0 {
-		mc, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.workers())
+		mc, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.Workers)
 		if err != nil {
 			return nil, err
 		}
@@ -200,7 +192,7 @@ func Compute(p Problem, s Settings) (*Result, error) {
 	// NASA-7 on its own grid.
 	lo, hi := nasa.grid()
 	grid := append(append([]float64(nil), lo...), hi[1:]...)
-	fs := sys.nominal(grid, s.workers())
+	fs := sys.nominal(grid, s.Workers)
 	n7, err := FitNASA7(grid, fs, nasa)
 	if err != nil {
 		return nil, err
