@@ -147,20 +147,23 @@ func ramanQWeight(jlo int) float64 {
 }
 
 // SpinWeight returns the nuclear-spin statistical weight of rotational level
-// J of isotopologue iso in its ground electronic state, taken to be ¹Σg⁺ for
-// homonuclear molecules: for identical nuclei of spin I the symmetric spin
-// functions, (2I+1)(I+1), go with even J for bosons and with odd J for
-// fermions, the antisymmetric ones, (2I+1)I, with the others (common
-// practice). Heteronuclear molecules return (2I_A+1)(2I_B+1) for every J,
-// which cancels in relative intensities of one isotopologue.
+// J of isotopologue iso in its ground electronic state, taken to be ¹Σ⁺ (¹Σg⁺
+// for homonuclear molecules): the even-J or odd-J weight of
+// species.Isotopologue.NuclearSpinWeights, which counts every nuclear-spin
+// state. For identical nuclei of spin I the symmetric spin functions,
+// (2I+1)(I+1), go with even J for bosons and with odd J for fermions, the
+// antisymmetric ones, (2I+1)I, with the others (common practice).
+// Heteronuclear molecules return (2I_A+1)(2I_B+1) for every J, which cancels
+// in relative intensities of one isotopologue.
 func SpinWeight(iso species.Isotopologue, J int) float64 {
-	sym, anti, ok := iso.SpinExchangeStates()
-	if !ok {
-		return float64(iso.NuclearSpinStates())
+	// The symmetry is complete, so the rule cannot refuse it.
+	even, odd, _ := iso.NuclearSpinWeights(0, groundSigma)
+	if J%2 == 0 {
+		return even
 	}
-	even := J%2 == 0
-	if iso.A.IsBoson() == even {
-		return float64(sym)
-	}
-	return float64(anti)
+	return odd
 }
+
+// groundSigma is the symmetry SpinWeight assumes: Σg⁺ (the g applies only to
+// homonuclear molecules, whose closed-shell ground states are ¹Σg⁺).
+var groundSigma = species.StateSymmetry{Parity: 'g', Reflection: '+'}

@@ -50,7 +50,7 @@ type CardState struct {
 	TermEnergy   float64 // cm⁻¹
 	Multiplicity int     // 2S+1
 	Lambda       int     // |Λ|
-	Symmetry     Symmetry
+	Symmetry     species.StateSymmetry
 	Constants    string // path as written in the card (relative to the card); empty: shifted ground state
 }
 
@@ -202,7 +202,7 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 			return nil, fail("lambda", "%d must be within 0…10", s.Lambda)
 		}
 		if rs.Symmetry != nil {
-			y, err := ParseSymmetry(strings.TrimSpace(*rs.Symmetry))
+			y, err := species.ParseStateSymmetry(strings.TrimSpace(*rs.Symmetry))
 			if err != nil {
 				return nil, fail("symmetry", "%v", err)
 			}
@@ -259,23 +259,9 @@ func (c *Card) Check(iso species.Isotopologue) error {
 		return fmt.Errorf("thermo: %s: species: the card is for %s, the constants are used for %s", c.Name, c.Species, iso.Label)
 	}
 	for i, s := range c.States {
-		if err := checkStateSymmetry(iso, s.Lambda, s.Symmetry); err != nil {
+		if err := iso.CheckStateSymmetry(s.Lambda, s.Symmetry); err != nil {
 			return fmt.Errorf("thermo: %s: state %d (%s): symmetry: %w", c.Name, i+1, s.Label, err)
 		}
-	}
-	return nil
-}
-
-func checkStateSymmetry(iso species.Isotopologue, lambda int, y Symmetry) error {
-	switch {
-	case iso.Homonuclear() && y.Parity == 0 && lambda == 0:
-		return fmt.Errorf("%s is homonuclear: give g+, g-, u+ or u- for a Σ state (%q given)", iso.Label, y.String())
-	case iso.Homonuclear() && y.Parity == 0:
-		return fmt.Errorf("%s is homonuclear: give g or u (%q given)", iso.Label, y.String())
-	case iso.Homonuclear() && lambda == 0 && y.Reflection == 0:
-		return fmt.Errorf("%s is homonuclear: a Σ state needs its ± symmetry too: g+, g-, u+ or u- (%q given)", iso.Label, y.String())
-	case !iso.SameElement() && y.Parity != 0:
-		return fmt.Errorf("%s has two different nuclei and no g/u symmetry (%q given)", iso.Label, y.String())
 	}
 	return nil
 }

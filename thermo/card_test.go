@@ -5,6 +5,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/fit/species"
 )
 
 const o2Card = `
@@ -34,10 +36,10 @@ func TestReadCard(t *testing.T) {
 		t.Fatalf("card %+v", c)
 	}
 	x, a := c.States[0], c.States[1]
-	if x.Label != "X" || x.Multiplicity != 3 || x.Lambda != 0 || x.Symmetry != (Symmetry{'g', '-'}) || x.Constants != "" {
+	if x.Label != "X" || x.Multiplicity != 3 || x.Lambda != 0 || x.Symmetry != (species.StateSymmetry{Parity: 'g', Reflection: '-'}) || x.Constants != "" {
 		t.Errorf("X: %+v", x)
 	}
-	if a.Label != "a" || !scalar.EqualWithinAbs(a.TermEnergy, 7918.1, 0) || a.Lambda != 2 || a.Symmetry != (Symmetry{Parity: 'g'}) || a.Constants != "a-state.json" {
+	if a.Label != "a" || !scalar.EqualWithinAbs(a.TermEnergy, 7918.1, 0) || a.Lambda != 2 || a.Symmetry != (species.StateSymmetry{Parity: 'g'}) || a.Constants != "a-state.json" {
 		t.Errorf("a: %+v", a)
 	}
 	if err := c.Check(mustParse(t, "16O16O")); err != nil {

@@ -38,7 +38,7 @@ type State struct {
 	TermEnergy   float64
 	Multiplicity int // 2S+1
 	Lambda       int // |Λ|
-	Symmetry     Symmetry
+	Symmetry     species.StateSymmetry
 	// Constants of the state. Nil for the ground state (TermEnergy 0, which
 	// takes Problem.Constants) and for a state that is the ground-state
 	// manifold shifted by TermEnergy.
@@ -214,7 +214,7 @@ func cannot(format string, a ...any) error {
 
 // defaultStates returns the state list used without a card.
 func defaultStates(iso species.Isotopologue) []State {
-	s := State{Label: "X", Multiplicity: 1, Symmetry: Symmetry{Reflection: '+'}}
+	s := State{Label: "X", Multiplicity: 1, Symmetry: species.StateSymmetry{Reflection: '+'}}
 	if iso.Homonuclear() {
 		s.Symmetry.Parity = 'g'
 	}
@@ -271,7 +271,7 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 		if st.Multiplicity < 1 || st.Lambda < 0 {
 			return nil, fmt.Errorf("thermo: state %s: spin multiplicity must be ≥ 1 and Λ ≥ 0", st.Label)
 		}
-		if err := checkStateSymmetry(iso, st.Lambda, st.Symmetry); err != nil {
+		if err := iso.CheckStateSymmetry(st.Lambda, st.Symmetry); err != nil {
 			return nil, fmt.Errorf("thermo: state %s: symmetry: %w", st.Label, err)
 		}
 	}

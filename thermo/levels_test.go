@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 
 	"bandwright/fit/linelist"
+	"bandwright/fit/species"
 	"bandwright/internal/failure"
 	"bandwright/units"
 )
@@ -140,7 +141,7 @@ func TestExcitedStates(t *testing.T) {
 	const te = 2000.0
 	for _, own := range []bool{false, true} {
 		q := p
-		a := State{Label: "a", TermEnergy: te, Multiplicity: 3, Symmetry: Symmetry{Reflection: '+'}}
+		a := State{Label: "a", TermEnergy: te, Multiplicity: 3, Symmetry: species.StateSymmetry{Reflection: '+'}}
 		if own {
 			a.Constants = cCopy
 			a.Observed = rec.Observed

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/fit/species"
 	"bandwright/units"
 )
 
@@ -76,9 +77,9 @@ func TestGradientsAgainstFiniteDifferences(t *testing.T) {
 	recN, cN := fitHH(t, hhN2, 0.002, 6)
 	_, cA := fitHH(t, hhN2, 0.004, 7)
 	states := []State{
-		{Label: "X", Multiplicity: 1, Symmetry: Symmetry{'g', '+'}},
-		{Label: "A", TermEnergy: 3000, Multiplicity: 3, Symmetry: Symmetry{'u', '+'}, Constants: cA},
-		{Label: "B", TermEnergy: 5000, Multiplicity: 3, Lambda: 1, Symmetry: Symmetry{Parity: 'g'}},
+		{Label: "X", Multiplicity: 1, Symmetry: species.StateSymmetry{Parity: 'g', Reflection: '+'}},
+		{Label: "A", TermEnergy: 3000, Multiplicity: 3, Symmetry: species.StateSymmetry{Parity: 'u', Reflection: '+'}, Constants: cA},
+		{Label: "B", TermEnergy: 5000, Multiplicity: 3, Lambda: 1, Symmetry: species.StateSymmetry{Parity: 'g'}},
 	}
 	res, err = Compute(Problem{Constants: cN, Observed: recN.Observed, States: states}, Settings{Temperatures: []float64{1000}})
 	if err != nil {
@@ -193,7 +194,7 @@ func TestSamplerCovariance(t *testing.T) {
 
 func ExampleNuclearSpinWeights() {
 	iso, _ := parseForExample("16O16O")
-	y, _ := ParseSymmetry("g-")
+	y, _ := species.ParseStateSymmetry("g-")
 	even, odd, _ := NuclearSpinWeights(iso, 0, y, SpinLineIntensity)
 	fmt.Println(even, odd)
 	// Output: 0 1
