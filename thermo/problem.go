@@ -1,0 +1,52 @@
+package thermo
+
+import (
+	"bandwright/constants"
+	"bandwright/fit/species"
+)
+
+// State is one electronic state of the level sum.
+type State struct {
+	Label string
+	// TermEnergy is the energy of the state's model zero above the ground
+	// state's model zero, cm⁻¹ (T_e between potential minima for Dunham models).
+	TermEnergy   float64
+	Multiplicity int // 2S+1
+	Lambda       int // |Λ|
+	Symmetry     species.StateSymmetry
+	// Constants of the state. Nil for the ground state (TermEnergy 0, which
+	// takes Problem.Constants) and for a state that is the ground-state
+	// manifold shifted by TermEnergy.
+	Constants *constants.Set
+	// Observed lists the levels of the state's fitted data (extrapolation check).
+	Observed []constants.LevelRange
+	// Source names the state's constants record in messages.
+	Source string
+}
+
+// Problem is what the thermo stage works on: the fitted constants of the ground
+// state, the electronic states and the dissociation energy. It holds no settings.
+type Problem struct {
+	// Species is the isotopologue label; empty: the first species of the record.
+	Species string
+	// Constants of the ground electronic state (a fit record turned back into a model).
+	Constants *constants.Set
+	// Observed lists the levels reached by the fitted data (constants.Record.Observed).
+	Observed []constants.LevelRange
+	// Source names the constants record in messages and outputs.
+	Source string
+	// States lists the electronic states; nil means one ¹Σ⁺ state (¹Σg⁺ for a
+	// homonuclear molecule). Exactly one state has TermEnergy 0.
+	States []State
+	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when unknown.
+	DissociationEnergy float64
+}
+
+// defaultStates returns the state list used without a card.
+func defaultStates(iso species.Isotopologue) []State {
+	s := State{Label: "X", Multiplicity: 1, Symmetry: species.StateSymmetry{Reflection: '+'}}
+	if iso.Homonuclear() {
+		s.Symmetry.Parity = 'g'
+	}
+	return []State{s}
+}
