@@ -26,21 +26,86 @@ const (
 	maxJ      = 100_000
 )
 
-// enumerate builds the level sum for the temperatures up to tMax.
+// enumerate builds the level sum for the temperatures up to tMax. The steps,
+// in order, are the methods of levelSum: check the species, the dissociation
+// energy and the states; combine the fitted parameters of every constants
+// record into one vector with its covariance; weigh each state (electronic
+// degeneracy and nuclear-spin weights); fix a provisional energy zero and the
+// population limit; enumerate the levels of every constants record
+// (enumerateManifold); collect the weighted levels of every state, sorted by
+// energy; store them with their gradients relative to the lowest level; add
+// the estimated missing levels; summarise each state; describe the zero.
 func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
-	if p.Constants == nil {
-		return nil, errors.New("thermo: no constants")
-	}
-	label := p.Species
-	if label == "" {
-		label = p.Constants.Model.Species()[0]
-	}
-	iso, err := species.Parse(label)
+	b, err := newLevelSum(p, s, tMax)
 	if err != nil {
-		return nil, fmt.Errorf("thermo: %w", err)
+		return nil, err
 	}
-	if model.SpeciesIndex(p.Constants.Model, iso.Label) < 0 {
-		return nil, fmt.Errorf("thermo: %s: species %s is not in the record (it has %s)", nameOr(p.Source, "constants"), iso.Label, strings.Join(p.Constants.Model.Species(), ", "))
+	if err := b.combineParameters(); err != nil {
+		return nil, err
+	}
+	if err := b.weighStates(); err != nil {
+		return nil, err
+	}
+	b.provisionalZero()
+	if err := b.enumerateManifolds(); err != nil {
+		return nil, err
+	}
+	if err := b.collectLevels(); err != nil {
+		return nil, err
+	}
+	b.storeLevels()
+	b.addMissingLevels()
+	b.summarise()
+	b.describeZero()
+	return b.sys, nil
+}
+
+// levelSum builds a System in the steps of enumerate; each step reads what
+// the earlier ones left in it.
+type levelSum struct {
+	p    Problem
+	tMax float64
+	sys  *System
+	// ground is the index of the ground state (term energy 0) in sys.states.
+	ground int
+	// stateBlock is the parameter block (index in sys.blocks) of each state.
+	stateBlock []int
+	// weights of each state.
+	weights []stateWeights
+	// gsp is the isotopologue's index in the ground-state record, vLow the
+	// record's lowest vibrational level.
+	gsp, vLow int
+	// eRef is the provisional zero: the model energy of the lowest weighted
+	// level of the ground state, cm⁻¹. Levels more than eNeg above it are left
+	// out (population below e⁻⁵⁰ at tMax), cm⁻¹.
+	eRef, eNeg float64
+	// levels are the weighted levels of every state, sorted by energy.
+	levels []sumLevel
+}
+
+// stateWeights are the electronic degeneracy g_e and the nuclear-spin weights
+// of the even-N and odd-N levels of one state.
+type stateWeights struct {
+	ge        float64
+	even, odd float64
+}
+
+// sumLevel is one level of the sum before it is stored: absolute energy e
+// (state term + model energy, cm⁻¹), weight w, state st and index idx in the
+// state's manifold.
+type sumLevel struct {
+	e   float64
+	w   float64
+	st  int
+	idx int
+}
+
+// newLevelSum checks the problem's species, dissociation energy and states
+// (nil: the default ¹Σ⁺ state) and finds the ground state.
+func newLevelSum(p Problem, s Settings, tMax float64) (*levelSum, error) {
+	iso, err := problemSpecies(p)
+	if err != nil {
+		return nil, err
 	}
 	if p.DissociationEnergy < 0 || math.IsNaN(p.DissociationEnergy) || math.IsInf(p.DissociationEnergy, 0) {
 		return nil, fmt.Errorf("thermo: dissociation energy %v must be finite and > 0 (0: not given)", p.DissociationEnergy)
@@ -49,183 +114,238 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 	if len(states) == 0 {
 		states = defaultStates(iso)
 	}
+	ground, err := groundState(iso, states)
+	if err != nil {
+		return nil, err
+	}
 	sys := &System{iso: iso, states: states, spin: s.nuclearSpin(), tMax: tMax}
+	return &levelSum{p: p, tMax: tMax, sys: sys, ground: ground}, nil
+}
+
+// problemSpecies returns the isotopologue of the sum: Problem.Species, or the
+// first species of the record; it must be in the record.
+func problemSpecies(p Problem) (species.Isotopologue, error) {
+	if p.Constants == nil {
+		return species.Isotopologue{}, errors.New("thermo: no constants")
+	}
+	label := p.Species
+	if label == "" {
+		label = p.Constants.Model.Species()[0]
+	}
+	iso, err := species.Parse(label)
+	if err != nil {
+		return species.Isotopologue{}, fmt.Errorf("thermo: %w", err)
+	}
+	if model.SpeciesIndex(p.Constants.Model, iso.Label) < 0 {
+		return species.Isotopologue{}, fmt.Errorf("thermo: %s: species %s is not in the record (it has %s)", nameOr(p.Source, "constants"), iso.Label, strings.Join(p.Constants.Model.Species(), ", "))
+	}
+	return iso, nil
+}
+
+// groundState checks the states (energies, quantum numbers, symmetry) and
+// returns the index of the one ground state, the state with term energy 0,
+// which takes the constants of the problem.
+func groundState(iso species.Isotopologue, states []State) (int, error) {
 	ground := -1
 	for i, st := range states {
 		if st.TermEnergy == 0 {
 			if ground >= 0 {
-				return nil, fmt.Errorf("thermo: states %s and %s both have term energy 0; exactly one is the ground state", states[ground].Label, st.Label)
+				return 0, fmt.Errorf("thermo: states %s and %s both have term energy 0; exactly one is the ground state", states[ground].Label, st.Label)
 			}
 			ground = i
 			if st.Constants != nil {
-				return nil, fmt.Errorf("thermo: state %s: the ground state takes the constants of the record given to thermo", st.Label)
+				return 0, fmt.Errorf("thermo: state %s: the ground state takes the constants of the record given to thermo", st.Label)
 			}
 		}
 		if !(st.TermEnergy >= 0) || math.IsInf(st.TermEnergy, 0) {
-			return nil, fmt.Errorf("thermo: state %s: term energy %v must be finite and ≥ 0", st.Label, st.TermEnergy)
+			return 0, fmt.Errorf("thermo: state %s: term energy %v must be finite and ≥ 0", st.Label, st.TermEnergy)
 		}
 		if st.Multiplicity < 1 || st.Lambda < 0 {
-			return nil, fmt.Errorf("thermo: state %s: spin multiplicity must be ≥ 1 and Λ ≥ 0", st.Label)
+			return 0, fmt.Errorf("thermo: state %s: spin multiplicity must be ≥ 1 and Λ ≥ 0", st.Label)
 		}
 		if err := iso.CheckStateSymmetry(st.Lambda, st.Symmetry); err != nil {
-			return nil, fmt.Errorf("thermo: state %s: symmetry: %w", st.Label, err)
+			return 0, fmt.Errorf("thermo: state %s: symmetry: %w", st.Label, err)
 		}
 	}
 	if ground < 0 {
-		return nil, errors.New("thermo: no state has term energy 0 (the ground state)")
+		return 0, errors.New("thermo: no state has term energy 0 (the ground state)")
 	}
+	return ground, nil
+}
 
-	// Parameter blocks: the ground record, then each state with its own record.
-	sys.blocks = []block{{c: p.Constants}}
-	stateBlock := make([]int, len(states))
-	for i, st := range states {
-		stateBlock[i] = 0
-		if st.Constants != nil {
-			if model.SpeciesIndex(st.Constants.Model, iso.Label) < 0 {
-				return nil, fmt.Errorf("thermo: state %s: %s: species %s is not in that record (it has %s)", st.Label, nameOr(st.Source, "constants"), iso.Label, strings.Join(st.Constants.Model.Species(), ", "))
-			}
-			off := 0
-			for _, b := range sys.blocks {
-				off += len(b.c.Free)
-			}
-			sys.blocks = append(sys.blocks, block{c: st.Constants, offset: off, label: st.Label})
-			stateBlock[i] = len(sys.blocks) - 1
+// combineParameters makes the parameter blocks (the ground record, then each
+// state with its own record) and the combined fitted-parameter vector x̂, its
+// names and its block-diagonal covariance, which must be positive
+// semi-definite.
+func (b *levelSum) combineParameters() error {
+	sys := b.sys
+	sys.blocks = []block{{c: b.p.Constants}}
+	b.stateBlock = make([]int, len(sys.states))
+	off := len(b.p.Constants.Free)
+	for i, st := range sys.states {
+		if st.Constants == nil {
+			continue
 		}
+		if model.SpeciesIndex(st.Constants.Model, sys.iso.Label) < 0 {
+			return fmt.Errorf("thermo: state %s: %s: species %s is not in that record (it has %s)", st.Label, nameOr(st.Source, "constants"), sys.iso.Label, strings.Join(st.Constants.Model.Species(), ", "))
+		}
+		sys.blocks = append(sys.blocks, block{c: st.Constants, offset: off, label: st.Label})
+		b.stateBlock[i] = len(sys.blocks) - 1
+		off += len(st.Constants.Free)
 	}
-	for _, b := range sys.blocks {
-		sys.p += len(b.c.Free)
-		for _, j := range b.c.Free {
-			n := b.c.Params[j].ID()
-			if b.label != "" {
-				n += "@" + b.label
+	for _, bl := range sys.blocks {
+		sys.p += len(bl.c.Free)
+		for _, j := range bl.c.Free {
+			n := bl.c.Params[j].ID()
+			if bl.label != "" {
+				n += "@" + bl.label
 			}
 			sys.names = append(sys.names, n)
 		}
-		sys.x0 = append(sys.x0, b.c.FreeValues()...)
+		sys.x0 = append(sys.x0, bl.c.FreeValues()...)
 	}
 	sys.cov = mat.NewSymDense(max(sys.p, 1), nil)
-	for _, b := range sys.blocks {
-		n := len(b.c.Free)
+	for _, bl := range sys.blocks {
+		n := len(bl.c.Free)
 		for i := 0; i < n; i++ {
 			for j := i; j < n; j++ {
-				sys.cov.SetSym(b.offset+i, b.offset+j, b.c.Cov.At(i, j))
+				sys.cov.SetSym(bl.offset+i, bl.offset+j, bl.c.Cov.At(i, j))
 			}
 		}
 	}
-	if err := checkPSD(sys.cov, sys.names); err != nil {
-		return nil, err
-	}
+	return checkPSD(sys.cov, sys.names)
+}
 
-	// Weights of each state.
-	type weights struct {
-		ge        float64
-		even, odd float64
-	}
-	ws := make([]weights, len(states))
-	for i, st := range states {
-		ev, od, err := NuclearSpinWeights(iso, st.Lambda, st.Symmetry, sys.spin)
+// weighStates computes g_e and the nuclear-spin weights of every state in the
+// settings' convention.
+func (b *levelSum) weighStates() error {
+	b.weights = make([]stateWeights, len(b.sys.states))
+	for i, st := range b.sys.states {
+		ev, od, err := NuclearSpinWeights(b.sys.iso, st.Lambda, st.Symmetry, b.sys.spin)
 		if err != nil {
-			return nil, fmt.Errorf("thermo: state %s: %w", st.Label, err)
+			return fmt.Errorf("thermo: state %s: %w", st.Label, err)
 		}
-		ws[i] = weights{ElectronicDegeneracy(st.Multiplicity, st.Lambda), ev, od}
+		b.weights[i] = stateWeights{ElectronicDegeneracy(st.Multiplicity, st.Lambda), ev, od}
 	}
-	weightOf := func(i, J int) float64 {
-		if J < states[i].Lambda {
-			return 0
-		}
-		gns := ws[i].even
-		if J%2 == 1 {
-			gns = ws[i].odd
-		}
-		return ws[i].ge * gns * float64(2*J+1)
-	}
+	return nil
+}
 
-	// Provisional zero: the lowest weighted level of the ground state.
-	gc := p.Constants
-	gsp := model.SpeciesIndex(gc.Model, iso.Label)
-	vLow := 0
-	if lm, ok := gc.Model.(*model.TermValues); ok {
-		vLow = lm.LevelsOf(gsp)[0]
+// weight returns g_e·g_ns(J)·(2J+1) of level J of state i; 0 below J = Λ.
+func (b *levelSum) weight(i, J int) float64 {
+	if J < b.sys.states[i].Lambda {
+		return 0
 	}
-	jLow := states[ground].Lambda
-	if weightOf(ground, jLow) == 0 {
+	w := b.weights[i]
+	gns := w.even
+	if J%2 == 1 {
+		gns = w.odd
+	}
+	return w.ge * gns * float64(2*J+1)
+}
+
+// provisionalZero sets eRef, the model energy of the lowest weighted level of
+// the ground state (lowest v of the record, J = Λ or Λ+1), and the population
+// limit eNeg = 50·T_max/c₂.
+func (b *levelSum) provisionalZero() {
+	gc := b.p.Constants
+	b.gsp = model.SpeciesIndex(gc.Model, b.sys.iso.Label)
+	b.vLow = 0
+	if lm, ok := gc.Model.(*model.TermValues); ok {
+		b.vLow = lm.LevelsOf(b.gsp)[0]
+	}
+	jLow := b.sys.states[b.ground].Lambda
+	if b.weight(b.ground, jLow) == 0 {
 		jLow++
 	}
-	eRef := gc.Model.Energy(gsp, vLow, jLow, gc.Values, nil)
-	eNeg := cutExponent * tMax / units.SecondRadiation
+	b.eRef = gc.Model.Energy(b.gsp, b.vLow, jLow, gc.Values, nil)
+	b.eNeg = cutExponent * b.tMax / units.SecondRadiation
+}
 
-	// Manifolds: the ground record, and one per state with its own record.
+// enumerateManifolds enumerates one manifold per constants record, the ground
+// record first (bounded by D0 when given), and flags its levels outside the
+// fitted data; states without a record of their own share the ground
+// manifold.
+func (b *levelSum) enumerateManifolds() error {
+	sys, p := b.sys, b.p
 	manOf := map[int]int{}
-	sys.stateMan = make([]int, len(states))
-	sys.stateTerm = make([]float64, len(states))
+	sys.stateMan = make([]int, len(sys.states))
+	sys.stateTerm = make([]float64, len(sys.states))
 	count := 0
-	for _, i := range append([]int{ground}, otherStates(len(states), ground)...) {
-		st := states[i]
-		b := stateBlock[i]
+	for _, i := range append([]int{b.ground}, otherStates(len(sys.states), b.ground)...) {
+		st := sys.states[i]
+		blk := b.stateBlock[i]
 		sys.stateTerm[i] = st.TermEnergy
-		if mi, ok := manOf[b]; ok {
+		if mi, ok := manOf[blk]; ok {
 			sys.stateMan[i] = mi
 			continue
 		}
-		c := sys.blocks[b].c
-		sp := model.SpeciesIndex(c.Model, iso.Label)
+		c := sys.blocks[blk].c
+		sp := model.SpeciesIndex(c.Model, sys.iso.Label)
 		obs := p.Observed
 		ceiling := math.Inf(1)
 		d0 := 0.0
-		if b == 0 && p.DissociationEnergy > 0 {
+		if blk == 0 && p.DissociationEnergy > 0 {
 			d0 = p.DissociationEnergy
-			ceiling = eRef + d0
+			ceiling = b.eRef + d0
 		}
-		if b != 0 {
+		if blk != 0 {
 			obs = st.Observed
 		}
-		m, err := enumerateManifold(c, sp, b, st.TermEnergy, eRef, eNeg, ceiling, d0, tMax, &count)
+		m, err := enumerateManifold(c, sp, blk, st.TermEnergy, b.eRef, b.eNeg, ceiling, d0, b.tMax, &count)
 		if err != nil {
-			return nil, err
+			return err
 		}
-		m.flagExtrapolated(obs, iso.Label)
+		m.flagExtrapolated(obs, sys.iso.Label)
 		sys.warnings = append(sys.warnings, m.warn...)
-		manOf[b] = len(sys.manifolds)
+		manOf[blk] = len(sys.manifolds)
 		sys.stateMan[i] = len(sys.manifolds)
 		sys.manifolds = append(sys.manifolds, m)
 	}
+	return nil
+}
 
-	// Levels of every state with their weights.
-	type lvl struct {
-		e   float64
-		w   float64
-		st  int
-		idx int
-	}
-	var all []lvl
+// collectLevels lists the levels of every state with non-zero weight below
+// the population limit, marks them used in their manifold, and sorts them by
+// energy. An empty sum and one above MaxLevels cannot be computed.
+func (b *levelSum) collectLevels() error {
+	sys := b.sys
+	var all []sumLevel
 	for _, m := range sys.manifolds {
 		m.used = make([]bool, len(m.e))
 	}
-	for i := range states {
+	for i := range sys.states {
 		m := sys.manifolds[sys.stateMan[i]]
 		for k := range m.e {
-			J := int(m.J[k])
-			w := weightOf(i, J)
+			w := b.weight(i, int(m.J[k]))
 			if w == 0 {
 				continue
 			}
 			e := sys.stateTerm[i] + m.e[k]
-			if e-eRef > eNeg {
+			if e-b.eRef > b.eNeg {
 				continue
 			}
-			all = append(all, lvl{e, w, i, k})
+			all = append(all, sumLevel{e, w, i, k})
 			m.used[k] = true
 		}
 	}
 	if len(all) == 0 {
-		return nil, cannot("no bound level with non-zero weight below the energy limits (check the constants and the card)")
+		return cannot("no bound level with non-zero weight below the energy limits (check the constants and the card)")
 	}
 	if len(all) > MaxLevels {
-		return nil, cannot("the level sum has %d levels, more than %d; give dissociation_energy in a species card or lower the highest temperature", len(all), MaxLevels)
+		return cannot("the level sum has %d levels, more than %d; give dissociation_energy in a species card or lower the highest temperature", len(all), MaxLevels)
 	}
 	// slices.SortStableFunc: the reflection-based sort.SliceStable took a
 	// tenth of a nightly chain's time on 11 000 levels.
-	slices.SortStableFunc(all, func(a, b lvl) int { return cmp.Compare(a.e, b.e) })
+	slices.SortStableFunc(all, func(a, b sumLevel) int { return cmp.Compare(a.e, b.e) })
+	b.levels = all
+	return nil
+}
+
+// storeLevels makes the lowest level the energy zero and stores every level's
+// energy above it, weight, state, manifold index, extrapolation flag and
+// gradient ∂(E − E_zero)/∂x (column-major over the combined parameters).
+func (b *levelSum) storeLevels() {
+	sys, all := b.sys, b.levels
 	z := all[0]
 	sys.zero = levelRef{z.st, z.idx}
 	sys.e0 = z.e
@@ -250,12 +370,17 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 			sys.g[k*n+i] = g[k] - zg[k]
 		}
 	}
+}
 
-	// Missing vibrational levels of term-values models (estimates, no gradients).
-	for i := range states {
+// addMissingLevels adds the estimated missing vibrational levels of levels
+// models (energies above the zero and weights, no gradients) and sets the
+// factors of the closed form: the symmetry number and the nuclear-spin factor.
+func (b *levelSum) addMissingLevels() {
+	sys := b.sys
+	for i := range sys.states {
 		m := sys.manifolds[sys.stateMan[i]]
 		for k := range m.missE {
-			w := weightOf(i, int(m.missJ[k]))
+			w := b.weight(i, int(m.missJ[k]))
 			if w == 0 {
 				continue
 			}
@@ -263,83 +388,11 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 			sys.missW = append(sys.missW, w)
 		}
 	}
-
-	// Closed-form factors.
-	sys.sigmaNumber = iso.SymmetryNumber()
+	sys.sigmaNumber = sys.iso.SymmetryNumber()
 	sys.spinFactor = 1
 	if sys.spin == SpinLineIntensity {
-		sys.spinFactor = float64(iso.NuclearSpinStates())
+		sys.spinFactor = float64(sys.iso.NuclearSpinStates())
 	}
-
-	// Summaries.
-	for i, st := range states {
-		m := sys.manifolds[sys.stateMan[i]]
-		sl := StateLevels{
-			State: st.Label, Term: termSymbol(st), TermEnergy: st.TermEnergy,
-			Degeneracy: ws[i].ge, SpinWeights: [2]float64{ws[i].even, ws[i].odd},
-			VMin: -1, VMax: -1, JMax: -1, JMaxV0: -1,
-			VTruncation: m.vReason, JTruncation: m.jSummary(),
-		}
-		switch {
-		case i == ground:
-			sl.Source = "fitted constants (" + nameOr(p.Source, "constants record") + ")"
-		case st.Constants != nil:
-			sl.Source = "own constants (" + nameOr(st.Source, "constants record") + ")"
-		default:
-			sl.Source = fmt.Sprintf("ground-state levels shifted by %g cm-1 (no constants of its own)", st.TermEnergy)
-		}
-		if len(m.missingV) > 0 {
-			sl.MissingV = compressInts(m.missingV)
-		}
-		sl.MissingNote = m.missNote
-		minV := math.MaxInt
-		for _, l := range all {
-			if l.st != i {
-				continue
-			}
-			v, J := int(m.v[l.idx]), int(m.J[l.idx])
-			sl.Levels++
-			minV = min(minV, v)
-			sl.VMax = max(sl.VMax, v)
-			sl.JMax = max(sl.JMax, J)
-			sl.EMax = max(sl.EMax, l.e-sys.e0)
-			if m.ext[l.idx] {
-				sl.Extrapolated++
-			}
-		}
-		if sl.Levels > 0 {
-			sl.VMin = minV
-			for _, l := range all {
-				if l.st == i && int(m.v[l.idx]) == minV {
-					sl.JMaxV0 = max(sl.JMaxV0, int(m.J[l.idx]))
-				}
-			}
-		}
-		sys.summaries = append(sys.summaries, sl)
-	}
-
-	// Zero point.
-	zm := sys.manifolds[sys.stateMan[z.st]]
-	sys.zp = &ZeroPoint{State: states[z.st].Label, V: int(zm.v[z.idx]), J: int(zm.J[z.idx])}
-	e00 := gc.Model.Energy(gsp, vLow, 0, gc.Values, nil)
-	sys.zp.LevelAboveV0J0 = sys.e0 - e00
-	if _, ok := gc.Model.(*model.Dunham); ok {
-		grad := make([]float64, len(gc.Values))
-		zpe := gc.Model.Energy(gsp, 0, 0, gc.Values, grad)
-		gf := make([]float64, len(gc.Free))
-		for k, j := range gc.Free {
-			gf[k] = grad[j]
-		}
-		sd := math.Sqrt(math.Max(0, quad(gc.Cov, gf)))
-		sys.zp.ZPE, sys.zp.ZPESigma = &zpe, &sd
-		sys.zp.Note = "zero-point energy E(v=0, J=0) of the ground state above the potential minimum (Dunham model); Q, H°(T)−H°(0) are measured from the lowest level"
-	} else {
-		sys.zp.Note = fmt.Sprintf("term-values model: energies are measured from the band origin of the lowest vibrational level in the record (v=%d); the zero-point energy above the potential minimum is not known from a term-values model", vLow)
-	}
-	if vLow > 0 {
-		sys.warnings = append(sys.warnings, fmt.Sprintf("the record's lowest vibrational level of %s is v=%d: levels below it are missing, and the energy zero is not the lowest level of the molecule", iso.Label, vLow))
-	}
-	return sys, nil
 }
 
 func otherStates(n, ground int) []int {

@@ -2,8 +2,11 @@ package thermo
 
 import (
 	"fmt"
+	"math"
 	"strconv"
 	"strings"
+
+	"bandwright/fit/model"
 )
 
 // StateLevels summarises the levels of one electronic state in the sum.
@@ -77,4 +80,93 @@ func compressInts(xs []int) string {
 	}
 	flush()
 	return strings.Join(parts, ", ")
+}
+
+// summarise makes the StateLevels of every state from its manifold and the
+// levels of the sum.
+func (b *levelSum) summarise() {
+	for i := range b.sys.states {
+		b.sys.summaries = append(b.sys.summaries, b.stateSummary(i))
+	}
+}
+
+// stateSummary summarises state i: term, weights, where its levels come from,
+// the truncations, the missing levels, and the range of its levels in the sum.
+func (b *levelSum) stateSummary(i int) StateLevels {
+	sys := b.sys
+	st := sys.states[i]
+	m := sys.manifolds[sys.stateMan[i]]
+	ws := b.weights[i]
+	sl := StateLevels{
+		State: st.Label, Term: termSymbol(st), TermEnergy: st.TermEnergy,
+		Degeneracy: ws.ge, SpinWeights: [2]float64{ws.even, ws.odd},
+		VMin: -1, VMax: -1, JMax: -1, JMaxV0: -1,
+		VTruncation: m.vReason, JTruncation: m.jSummary(),
+	}
+	switch {
+	case i == b.ground:
+		sl.Source = "fitted constants (" + nameOr(b.p.Source, "constants record") + ")"
+	case st.Constants != nil:
+		sl.Source = "own constants (" + nameOr(st.Source, "constants record") + ")"
+	default:
+		sl.Source = fmt.Sprintf("ground-state levels shifted by %g cm-1 (no constants of its own)", st.TermEnergy)
+	}
+	if len(m.missingV) > 0 {
+		sl.MissingV = compressInts(m.missingV)
+	}
+	sl.MissingNote = m.missNote
+	minV := math.MaxInt
+	for _, l := range b.levels {
+		if l.st != i {
+			continue
+		}
+		v, J := int(m.v[l.idx]), int(m.J[l.idx])
+		sl.Levels++
+		minV = min(minV, v)
+		sl.VMax = max(sl.VMax, v)
+		sl.JMax = max(sl.JMax, J)
+		sl.EMax = max(sl.EMax, l.e-sys.e0)
+		if m.ext[l.idx] {
+			sl.Extrapolated++
+		}
+	}
+	if sl.Levels > 0 {
+		sl.VMin = minV
+		for _, l := range b.levels {
+			if l.st == i && int(m.v[l.idx]) == minV {
+				sl.JMaxV0 = max(sl.JMaxV0, int(m.J[l.idx]))
+			}
+		}
+	}
+	return sl
+}
+
+// describeZero states the energy zero of the sum: the lowest level, its height
+// above (v, J=0) of the lowest vibrational level of the ground record, and for
+// a Dunham model the zero-point energy E(0, 0) above the potential minimum with
+// its 1σ, √(gᵀCg), g = ∂E(0, 0)/∂x over the ground record's fitted parameters.
+func (b *levelSum) describeZero() {
+	sys := b.sys
+	gc := b.p.Constants
+	z := b.levels[0]
+	zm := sys.manifolds[sys.stateMan[z.st]]
+	sys.zp = &ZeroPoint{State: sys.states[z.st].Label, V: int(zm.v[z.idx]), J: int(zm.J[z.idx])}
+	e00 := gc.Model.Energy(b.gsp, b.vLow, 0, gc.Values, nil)
+	sys.zp.LevelAboveV0J0 = sys.e0 - e00
+	if _, ok := gc.Model.(*model.Dunham); ok {
+		grad := make([]float64, len(gc.Values))
+		zpe := gc.Model.Energy(b.gsp, 0, 0, gc.Values, grad)
+		gf := make([]float64, len(gc.Free))
+		for k, j := range gc.Free {
+			gf[k] = grad[j]
+		}
+		sd := math.Sqrt(math.Max(0, quad(gc.Cov, gf)))
+		sys.zp.ZPE, sys.zp.ZPESigma = &zpe, &sd
+		sys.zp.Note = "zero-point energy E(v=0, J=0) of the ground state above the potential minimum (Dunham model); Q, H°(T)−H°(0) are measured from the lowest level"
+	} else {
+		sys.zp.Note = fmt.Sprintf("term-values model: energies are measured from the band origin of the lowest vibrational level in the record (v=%d); the zero-point energy above the potential minimum is not known from a term-values model", b.vLow)
+	}
+	if b.vLow > 0 {
+		sys.warnings = append(sys.warnings, fmt.Sprintf("the record's lowest vibrational level of %s is v=%d: levels below it are missing, and the energy zero is not the lowest level of the molecule", sys.iso.Label, b.vLow))
+	}
 }
