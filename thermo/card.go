@@ -88,6 +88,61 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 	if len(b) > maxCardSize {
 		return nil, fmt.Errorf("thermo: %s: larger than %d bytes; not a species card", name, maxCardSize)
 	}
+	raw, err := decodeCard(b, name)
+	if err != nil {
+		return nil, err
+	}
+	at := cardText{name: name, b: b}
+	c := &Card{Name: name}
+	if err := c.readTop(raw, at); err != nil {
+		return nil, err
+	}
+	if len(raw.State) == 0 {
+		return nil, fmt.Errorf("thermo: %s: state: no [[state]] given (the ground state at least)", name)
+	}
+	ground := -1
+	for i, rs := range raw.State {
+		s, err := readCardState(i, rs, ground, at)
+		if err != nil {
+			return nil, err
+		}
+		if s.TermEnergy == 0 {
+			ground = i
+		}
+		c.States = append(c.States, s)
+	}
+	if ground < 0 {
+		return nil, fmt.Errorf("thermo: %s: term_energy: no state has term_energy 0 (the ground state)", name)
+	}
+	return c, nil
+}
+
+// cardText is the text of a card, to find where a key is written.
+type cardText struct {
+	name string
+	b    []byte
+}
+
+// top returns "name:line" of a top-level key (name alone when the line
+// cannot be found).
+func (t cardText) top(key string) string {
+	return textcheck.At(t.name, textcheck.KeyLine(t.b, "", -1, key))
+}
+
+// state returns "name:line" of key in [[state]] number i (0-based), the line
+// of the table header when the key is not written.
+func (t cardText) state(i int, key string) string {
+	line := textcheck.KeyLine(t.b, "state", i, key)
+	if line == 0 {
+		line = textcheck.KeyLine(t.b, "state", i, "")
+	}
+	return textcheck.At(t.name, line)
+}
+
+// decodeCard decodes the TOML of a card. A syntax error names the line and
+// the key (with a hint for a decimal comma); a key the card does not know is
+// an error at the line where it is written.
+func decodeCard(b []byte, name string) (rawCard, error) {
 	var raw rawCard
 	md, err := toml.Decode(string(b), &raw)
 	if err != nil {
@@ -97,138 +152,127 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 			if pe.LastKey != "" {
 				field = pe.LastKey + ": "
 			}
-			return nil, fmt.Errorf("thermo: %s:%d: %s%s%s", name, pe.Position.Line, field, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))
+			return raw, fmt.Errorf("thermo: %s:%d: %s%s%s", name, pe.Position.Line, field, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))
 		}
-		return nil, fmt.Errorf("thermo: %s: %w", name, err)
+		return raw, fmt.Errorf("thermo: %s: %w", name, err)
 	}
-	// top and state give "name:line" of a key for messages (name alone when the
-	// line cannot be found).
-	top := func(key string) string { return textcheck.At(name, textcheck.KeyLine(b, "", -1, key)) }
-	state := func(i int, key string) string {
-		line := textcheck.KeyLine(b, "state", i, key)
-		if line == 0 {
-			line = textcheck.KeyLine(b, "state", i, "")
-		}
-		return textcheck.At(name, line)
+	und := md.Undecoded()
+	if len(und) == 0 {
+		return raw, nil
 	}
-	if und := md.Undecoded(); len(und) > 0 {
-		keys := make([]string, len(und))
-		for i, k := range und {
-			keys[i] = k.String()
+	keys := make([]string, len(und))
+	for i, k := range und {
+		keys[i] = k.String()
+	}
+	sort.Strings(keys)
+	at := cardText{name: name, b: b}
+	where := name
+	for _, k := range und {
+		if k.String() != keys[0] {
+			continue
 		}
-		sort.Strings(keys)
-		where := name
-		for _, k := range und {
-			if k.String() != keys[0] {
-				continue
-			}
-			if len(k) == 2 && k[0] == "state" {
-				for i := range raw.State {
-					if l := textcheck.KeyLine(b, "state", i, k[1]); l > 0 {
-						where = textcheck.At(name, l)
-						break
-					}
+		if len(k) == 2 && k[0] == "state" {
+			for i := range raw.State {
+				if l := textcheck.KeyLine(b, "state", i, k[1]); l > 0 {
+					where = textcheck.At(name, l)
+					break
 				}
-			} else if len(k) == 1 {
-				where = top(k[0])
 			}
+		} else if len(k) == 1 {
+			where = at.top(k[0])
 		}
-		return nil, fmt.Errorf("thermo: %s: unknown key %q (a card knows %s)", where, keys[0], cardKeys)
 	}
-	c := &Card{Name: name}
+	return raw, fmt.Errorf("thermo: %s: unknown key %q (a card knows %s)", where, keys[0], cardKeys)
+}
+
+// readTop reads and checks the top-level keys: species and dissociation_energy.
+func (c *Card) readTop(raw rawCard, at cardText) error {
 	if raw.Species != nil {
 		if why := textcheck.InvalidUTF8(*raw.Species); why != "" {
-			return nil, fmt.Errorf("thermo: %s: species: %s", top("species"), why)
+			return fmt.Errorf("thermo: %s: species: %s", at.top("species"), why)
 		}
 		iso, err := species.Parse(*raw.Species)
 		if err != nil {
-			return nil, fmt.Errorf("thermo: %s: species: %w", top("species"), err)
+			return fmt.Errorf("thermo: %s: species: %w", at.top("species"), err)
 		}
 		c.Species = iso.Label
-		c.speciesAt = top("species")
+		c.speciesAt = at.top("species")
 	}
 	if raw.DissociationEnergy != nil {
 		d := *raw.DissociationEnergy
 		if !(d > 0) || math.IsInf(d, 0) {
-			return nil, fmt.Errorf("thermo: %s: dissociation_energy: %v cm-1 must be a finite number > 0", top("dissociation_energy"), d)
+			return fmt.Errorf("thermo: %s: dissociation_energy: %v cm-1 must be a finite number > 0", at.top("dissociation_energy"), d)
 		}
 		c.DissociationEnergy = d
 	}
-	if len(raw.State) == 0 {
-		return nil, fmt.Errorf("thermo: %s: state: no [[state]] given (the ground state at least)", name)
+	return nil
+}
+
+// readCardState reads and checks [[state]] number i (0-based); ground is the
+// index of the state with term energy 0 among the earlier ones, −1 if none.
+func readCardState(i int, rs rawState, ground int, at cardText) (CardState, error) {
+	what := fmt.Sprintf("state %d", i+1)
+	var s CardState
+	if rs.Label != nil {
+		s.Label = *rs.Label
+		if why := textcheck.InvalidUTF8(s.Label); why != "" {
+			return s, fmt.Errorf("thermo: %s: %s: label: %s", at.state(i, "label"), what, why)
+		}
+		what += fmt.Sprintf(" (%s)", s.Label)
+	} else {
+		s.Label = fmt.Sprintf("state %d", i+1)
 	}
-	ground := -1
-	for i, rs := range raw.State {
-		what := fmt.Sprintf("state %d", i+1)
-		var s CardState
-		if rs.Label != nil {
-			s.Label = *rs.Label
-			if why := textcheck.InvalidUTF8(s.Label); why != "" {
-				return nil, fmt.Errorf("thermo: %s: %s: label: %s", state(i, "label"), what, why)
-			}
-			what += fmt.Sprintf(" (%s)", s.Label)
-		} else {
-			s.Label = fmt.Sprintf("state %d", i+1)
+	// fail formats the error of key of this state.
+	fail := func(key, format string, a ...any) error {
+		return fmt.Errorf("thermo: %s: %s: %s: %s", at.state(i, key), what, key, fmt.Sprintf(format, a...))
+	}
+	if rs.TermEnergy == nil {
+		return s, fail("term_energy", "missing (cm-1; 0 for the ground state)")
+	}
+	s.TermEnergy = *rs.TermEnergy
+	if !(s.TermEnergy >= 0) || math.IsInf(s.TermEnergy, 0) {
+		return s, fail("term_energy", "%v must be a finite number ≥ 0 cm-1", s.TermEnergy)
+	}
+	if s.TermEnergy == 0 && ground >= 0 {
+		return s, fail("term_energy", "0 is already the term energy of state %d; exactly one state is the ground state", ground+1)
+	}
+	if rs.SpinMultiplicity == nil {
+		return s, fail("spin_multiplicity", "missing (2S+1: 1 singlet, 2 doublet, 3 triplet, …)")
+	}
+	s.Multiplicity = *rs.SpinMultiplicity
+	if s.Multiplicity < 1 || s.Multiplicity > 20 {
+		return s, fail("spin_multiplicity", "%d must be within 1…20", s.Multiplicity)
+	}
+	if rs.Lambda == nil {
+		return s, fail("lambda", "missing (|Λ|: 0 Σ, 1 Π, 2 Δ, …)")
+	}
+	s.Lambda = *rs.Lambda
+	if s.Lambda < 0 || s.Lambda > 10 {
+		return s, fail("lambda", "%d must be within 0…10", s.Lambda)
+	}
+	if rs.Symmetry != nil {
+		y, err := species.ParseStateSymmetry(strings.TrimSpace(*rs.Symmetry))
+		if err != nil {
+			return s, fail("symmetry", "%v", err)
 		}
-		// fail formats the error of key of this state.
-		fail := func(key, format string, a ...any) error {
-			return fmt.Errorf("thermo: %s: %s: %s: %s", state(i, key), what, key, fmt.Sprintf(format, a...))
+		if s.Lambda > 0 && y.Reflection != 0 {
+			return s, fail("symmetry", "%q: a state with Λ > 0 has both ± components; give only g or u", *rs.Symmetry)
 		}
-		if rs.TermEnergy == nil {
-			return nil, fail("term_energy", "missing (cm-1; 0 for the ground state)")
+		s.Symmetry = y
+	}
+	if rs.Constants != nil {
+		s.Constants = strings.TrimSpace(*rs.Constants)
+		if s.Constants == "" {
+			return s, fail("constants", "empty path")
 		}
-		s.TermEnergy = *rs.TermEnergy
-		if !(s.TermEnergy >= 0) || math.IsInf(s.TermEnergy, 0) {
-			return nil, fail("term_energy", "%v must be a finite number ≥ 0 cm-1", s.TermEnergy)
+		if why := textcheck.InvalidUTF8(s.Constants); why != "" {
+			return s, fail("constants", "%s", why)
 		}
 		if s.TermEnergy == 0 {
-			if ground >= 0 {
-				return nil, fail("term_energy", "0 is already the term energy of state %d; exactly one state is the ground state", ground+1)
-			}
-			ground = i
+			return s, fail("constants", "the ground state (term_energy 0) takes its constants from the record given to thermo; remove this key")
 		}
-		if rs.SpinMultiplicity == nil {
-			return nil, fail("spin_multiplicity", "missing (2S+1: 1 singlet, 2 doublet, 3 triplet, …)")
-		}
-		s.Multiplicity = *rs.SpinMultiplicity
-		if s.Multiplicity < 1 || s.Multiplicity > 20 {
-			return nil, fail("spin_multiplicity", "%d must be within 1…20", s.Multiplicity)
-		}
-		if rs.Lambda == nil {
-			return nil, fail("lambda", "missing (|Λ|: 0 Σ, 1 Π, 2 Δ, …)")
-		}
-		s.Lambda = *rs.Lambda
-		if s.Lambda < 0 || s.Lambda > 10 {
-			return nil, fail("lambda", "%d must be within 0…10", s.Lambda)
-		}
-		if rs.Symmetry != nil {
-			y, err := species.ParseStateSymmetry(strings.TrimSpace(*rs.Symmetry))
-			if err != nil {
-				return nil, fail("symmetry", "%v", err)
-			}
-			if s.Lambda > 0 && y.Reflection != 0 {
-				return nil, fail("symmetry", "%q: a state with Λ > 0 has both ± components; give only g or u", *rs.Symmetry)
-			}
-			s.Symmetry = y
-		}
-		if rs.Constants != nil {
-			s.Constants = strings.TrimSpace(*rs.Constants)
-			if s.Constants == "" {
-				return nil, fail("constants", "empty path")
-			}
-			if why := textcheck.InvalidUTF8(s.Constants); why != "" {
-				return nil, fail("constants", "%s", why)
-			}
-			if s.TermEnergy == 0 {
-				return nil, fail("constants", "the ground state (term_energy 0) takes its constants from the record given to thermo; remove this key")
-			}
-		}
-		c.States = append(c.States, s)
 	}
-	if ground < 0 {
-		return nil, fmt.Errorf("thermo: %s: term_energy: no state has term_energy 0 (the ground state)", name)
-	}
-	return c, nil
+	return s, nil
 }
 
 // CheckSpecies checks that a card naming its species is used with a constants
