@@ -165,6 +165,34 @@ func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
 	if len(T) != len(f) || len(T) == 0 {
 		return nil, errors.New("thermo: NASA-7 fit: no data")
 	}
+	a, b := nasaDesign(T, f, r)
+	c, d := nasaConstraints(r)
+	y, err := solveEqualityConstrained(a, b, c, d)
+	if err != nil {
+		return nil, fmt.Errorf("thermo: NASA-7 fit: %w", err)
+	}
+	out := &NASA7{Form: NASA7Form, Method: NASA7Method, EnthalpyReference: NASA7EnthalpyReference, Breakpoint: r.Break, GridStep: r.Step}
+	limits := [2][2]float64{{r.Low, r.Break}, {r.Break, r.High}}
+	for rng := 0; rng < 2; rng++ {
+		nr := NASARange{TMin: limits[rng][0], TMax: limits[rng][1], Coefficients: unscaleNASA(y.RawVector().Data[7*rng : 7*rng+7])}
+		nr.MaxDeviation = nr.deviations(T, f)
+		out.Ranges = append(out.Ranges, nr)
+	}
+	for _, rg := range out.Ranges {
+		for _, v := range rg.Coefficients {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, cannot("NASA-7 fit gave a non-finite coefficient")
+			}
+		}
+	}
+	return out, nil
+}
+
+// nasaDesign returns the design matrix A and the data b of the NASA-7 fit in
+// the scaled coefficients y = (a′ of the low range, a′ of the high range):
+// three rows per grid temperature of each range (the breakpoint in both),
+// Cp/R, [H°(T) − H°(298.15 K)]/(RT) and S/R at τ = T/1000 K, weighted equally.
+func nasaDesign(T []float64, f []Functions, r NASARanges) (*mat.Dense, *mat.VecDense) {
 	R := units.GasConstant
 	type obs struct {
 		rng      int
@@ -197,17 +225,22 @@ func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
 		b.SetVec(3*i+1, o.h)
 		b.SetVec(3*i+2, o.s)
 	}
-	// Constraints: continuity at the breakpoint, H(298.15 K) = 0.
-	var cons [][14]float64
-	var d []float64
+	return a, b
+}
+
+// nasaConstraints returns the constraints C y = d of the NASA-7 fit, one row
+// of C per constraint: equal Cp/R, H/(RT) and S/R of the two ranges at the
+// breakpoint, and H°(298.15 K) = 0 in the range that holds 298.15 K (when
+// one does).
+func nasaConstraints(r NASARanges) (c [][14]float64, d []float64) {
 	cpb, hb, sb := nasaRows(r.Break / nasaScale)
 	for _, row := range [][7]float64{cpb, hb, sb} {
-		var c [14]float64
+		var ci [14]float64
 		for k := 0; k < 7; k++ {
-			c[k] = row[k]
-			c[7+k] = -row[k]
+			ci[k] = row[k]
+			ci[7+k] = -row[k]
 		}
-		cons = append(cons, c)
+		c = append(c, ci)
 		d = append(d, 0)
 	}
 	if ReferenceTemperature >= r.Low && ReferenceTemperature <= r.High {
@@ -216,18 +249,29 @@ func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
 			rng = 1
 		}
 		_, h298, _ := nasaRows(ReferenceTemperature / nasaScale)
-		var c [14]float64
+		var ci [14]float64
 		for k := 0; k < 7; k++ {
-			c[7*rng+k] = h298[k]
+			ci[7*rng+k] = h298[k]
 		}
-		cons = append(cons, c)
+		c = append(c, ci)
 		d = append(d, 0)
 	}
-	nc := len(cons)
-	ct := mat.NewDense(14, nc, nil)
-	for i, c := range cons {
-		for k := 0; k < 14; k++ {
-			ct.Set(k, i, c[k])
+	return c, d
+}
+
+// solveEqualityConstrained minimises ‖A y − b‖₂ subject to C y = d by the
+// null-space method: with the QR factorization Cᵀ = [Q₁ Q₂] [R; 0], the
+// particular solution y_p = Q₁ w, Rᵀ w = d (forward substitution), satisfies
+// the constraints, and y = y_p + Q₂ z with z the least-squares solution of
+// A Q₂ z = b − A y_p (Householder QR). Constraints whose R has a pivot below
+// 1e-12 are dependent and an error.
+func solveEqualityConstrained(a *mat.Dense, b *mat.VecDense, c [][14]float64, d []float64) (*mat.VecDense, error) {
+	const n = 14
+	nc := len(c)
+	ct := mat.NewDense(n, nc, nil)
+	for i, ci := range c {
+		for k := 0; k < n; k++ {
+			ct.Set(k, i, ci[k])
 		}
 	}
 	var qr mat.QR
@@ -244,19 +288,19 @@ func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
 		}
 		piv := rr.At(i, i)
 		if math.Abs(piv) < 1e-12 {
-			return nil, errors.New("thermo: NASA-7 fit: dependent constraints")
+			return nil, errors.New("dependent constraints")
 		}
 		w[i] = s / piv
 	}
-	yp := mat.NewVecDense(14, nil)
-	for k := 0; k < 14; k++ {
+	yp := mat.NewVecDense(n, nil)
+	for k := 0; k < n; k++ {
 		s := 0.0
 		for i := 0; i < nc; i++ {
 			s += q.At(k, i) * w[i]
 		}
 		yp.SetVec(k, s)
 	}
-	q2 := q.Slice(0, 14, nc, 14)
+	q2 := q.Slice(0, n, nc, n)
 	var aq2 mat.Dense
 	aq2.Mul(a, q2)
 	var rhs mat.VecDense
@@ -264,44 +308,44 @@ func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
 	rhs.SubVec(b, &rhs)
 	var z mat.VecDense
 	if err := z.SolveVec(&aq2, &rhs); err != nil {
-		return nil, fmt.Errorf("thermo: NASA-7 fit: %w", err)
+		return nil, err
 	}
 	var y mat.VecDense
 	y.MulVec(q2, &z)
 	y.AddVec(&y, yp)
+	return &y, nil
+}
 
-	out := &NASA7{Form: NASA7Form, Method: NASA7Method, EnthalpyReference: NASA7EnthalpyReference, Breakpoint: r.Break, GridStep: r.Step}
-	limits := [2][2]float64{{r.Low, r.Break}, {r.Break, r.High}}
-	for rng := 0; rng < 2; rng++ {
-		var c [7]float64
-		for k := 0; k < 5; k++ {
-			c[k] = y.AtVec(7*rng+k) / math.Pow(nasaScale, float64(k))
-		}
-		c[5] = y.AtVec(7*rng+5) * nasaScale
-		c[6] = y.AtVec(7*rng+6) - y.AtVec(7*rng)*math.Log(nasaScale)
-		nr := NASARange{TMin: limits[rng][0], TMax: limits[rng][1], Coefficients: c}
-		nr.MaxDeviation = Deviations{Cp: Deviation{Unit: "J mol-1 K-1"}, H: Deviation{Unit: "kJ mol-1"}, S: Deviation{Unit: "J mol-1 K-1"}}
-		for i, t := range T {
-			if t < nr.TMin-1e-9 || t > nr.TMax+1e-9 {
-				continue
-			}
-			upd := func(dv *Deviation, v float64) {
-				if v > dv.Value || dv.T == 0 {
-					dv.Value, dv.T = v, t
-				}
-			}
-			upd(&nr.MaxDeviation.Cp, math.Abs(nr.Cp(t)*R-f[i].Cp))
-			upd(&nr.MaxDeviation.H, math.Abs(nr.H(t)*R*t/1000-f[i].HmH298))
-			upd(&nr.MaxDeviation.S, math.Abs(nr.S(t)*R-f[i].S))
-		}
-		out.Ranges = append(out.Ranges, nr)
+// unscaleNASA turns the coefficients a′ of one range in τ = T/1000 K into the
+// published coefficients in T: a_k = a′_k/1000^(k−1) for k = 1…5,
+// a6 = 1000·a′6, a7 = a′7 − a′1 ln 1000.
+func unscaleNASA(scaled []float64) [7]float64 {
+	var c [7]float64
+	for k := 0; k < 5; k++ {
+		c[k] = scaled[k] / math.Pow(nasaScale, float64(k))
 	}
-	for _, rg := range out.Ranges {
-		for _, v := range rg.Coefficients {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, cannot("NASA-7 fit gave a non-finite coefficient")
+	c[5] = scaled[5] * nasaScale
+	c[6] = scaled[6] - scaled[0]*math.Log(nasaScale)
+	return c
+}
+
+// deviations returns the largest absolute deviations of the range's
+// polynomials from the functions f over the temperatures T inside the range.
+func (r NASARange) deviations(T []float64, f []Functions) Deviations {
+	R := units.GasConstant
+	dev := Deviations{Cp: Deviation{Unit: "J mol-1 K-1"}, H: Deviation{Unit: "kJ mol-1"}, S: Deviation{Unit: "J mol-1 K-1"}}
+	for i, t := range T {
+		if t < r.TMin-1e-9 || t > r.TMax+1e-9 {
+			continue
+		}
+		upd := func(dv *Deviation, v float64) {
+			if v > dv.Value || dv.T == 0 {
+				dv.Value, dv.T = v, t
 			}
 		}
+		upd(&dev.Cp, math.Abs(r.Cp(t)*R-f[i].Cp))
+		upd(&dev.H, math.Abs(r.H(t)*R*t/1000-f[i].HmH298))
+		upd(&dev.S, math.Abs(r.S(t)*R-f[i].S))
 	}
-	return out, nil
+	return dev
 }
