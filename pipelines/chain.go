@@ -238,7 +238,7 @@ func (c *chainRun) thermo() error {
 		t.Provenance.Inputs[0].Path = constants.ConstantsFile + " (this folder)"
 	}
 	c.oc.Thermo = t
-	c.d.Protect(t.Inputs...) // the card and the records it names
+	c.d.Protect(t.Inputs...) // the electronic-states file and the records it names
 	return WriteThermoOutputs(c.d, t)
 }
 
@@ -304,7 +304,7 @@ func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
 			ts = append(ts, strconv.FormatFloat(x, 'g', -1, 64))
 		}
 		o.Temperatures = strings.Join(ts, ",")
-		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC, o.Seed, o.Card = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC, t.Seed, t.Card
+		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC, o.Seed, o.States = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC, t.Seed, t.States
 	}
 	return o, nil
 }

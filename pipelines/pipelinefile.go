@@ -76,7 +76,7 @@ type FitSection struct {
 
 // ThermoSection holds the options of `bandwright thermo`.
 type ThermoSection struct {
-	Card         string    `toml:"card"`
+	States       string    `toml:"states"`
 	Temperatures []float64 `toml:"temperatures"`
 	Range        string    `toml:"range"`
 	Pressure     string    `toml:"pressure"`
@@ -165,7 +165,7 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 		p.Assign.Constants = rel(p.Assign.Constants)
 	}
 	if p.Thermo != nil {
-		p.Thermo.Card = rel(p.Thermo.Card)
+		p.Thermo.States = rel(p.Thermo.States)
 	}
 	return &p, nil
 }

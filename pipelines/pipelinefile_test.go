@@ -21,7 +21,7 @@ reject = 0
 [thermo]
 temperatures = [298.15, 1000.0]
 composition = "natural"
-card = "/abs/card.toml"
+states = "/abs/states.toml"
 [report]
 formats = ["html", "md"]
 `
@@ -32,8 +32,8 @@ formats = ["html", "md"]
 	if p.Assign.Start != filepath.Join("lab", "start.toml") {
 		t.Errorf("relative path not resolved against the pipeline's folder: %q", p.Assign.Start)
 	}
-	if p.Thermo.Card != "/abs/card.toml" {
-		t.Errorf("absolute path changed: %q", p.Thermo.Card)
+	if p.Thermo.States != "/abs/states.toml" {
+		t.Errorf("absolute path changed: %q", p.Thermo.States)
 	}
 	o := p.FitOptions([]string{"x.csv"}, "out")
 	if o.Reject != 0 || o.Model != "dunham" || len(o.Terms) != 5 {

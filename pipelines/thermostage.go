@@ -32,8 +32,8 @@ const maxRangeTemperatures = 1_000_000
 // ThermoOptions are the options of `bandwright thermo`.
 type ThermoOptions struct {
 	Constants string // constants.json written by fit
-	Card      string // species card (TOML), optional
-	// Species is the isotopologue; empty: the card's, else the record's first.
+	States    string // electronic-states file (TOML), optional
+	// Species is the isotopologue; empty: the electronic-states file's, else the record's first.
 	Species string
 	// Temperatures is a comma-separated list in K ("298.15,1000"); Range is
 	// "FROM:TO:STEP" in K. At most one of them; neither: 100 … 6000 K (defaultTemperatures).
@@ -53,7 +53,7 @@ type ThermoOptions struct {
 type ThermoOutcome struct {
 	Result     *thermo.Result
 	Provenance constants.Provenance
-	Inputs     []string // files read: constants, card, excited-state constants
+	Inputs     []string // files read: constants, electronic states, excited-state constants
 	Out        string
 }
 
@@ -92,7 +92,8 @@ func WriteThermoOutputs(d *outdir.Dir, oc *ThermoOutcome) error {
 	return d.Write(constants.NASA7File, func(w io.Writer) error { return r.WriteNASA7(w, oc.Provenance) })
 }
 
-// Thermo reads the constants record and the card and computes without writing.
+// Thermo reads the constants record and the electronic-states file and
+// computes without writing.
 func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	if o.Constants == "" {
 		return nil, failure.Errorf(failure.BadInput, "thermo: no constants record given")
@@ -121,26 +122,26 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	}
 	inputs := []string{o.Constants}
 	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: o.Constants, Species: o.Species}
-	var card *thermo.Card
-	if o.Card != "" {
-		if why := textcheck.NotRegular(o.Card); why != "" {
-			return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", o.Card, why)
+	var states *thermo.StatesFile
+	if o.States != "" {
+		if why := textcheck.NotRegular(o.States); why != "" {
+			return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", o.States, why)
 		}
-		f, err := os.Open(o.Card)
+		f, err := os.Open(o.States)
 		if err != nil {
 			return nil, fmt.Errorf("pipelines: %w", err)
 		}
-		card, err = thermo.ReadCard(f, o.Card)
+		states, err = thermo.ReadStates(f, o.States)
 		f.Close()
 		if err != nil {
 			return nil, err
 		}
-		inputs = append(inputs, o.Card)
+		inputs = append(inputs, o.States)
 		if p.Species == "" {
-			if err := card.CheckSpecies(o.Constants, c.Model.Species()); err != nil {
+			if err := states.CheckSpecies(o.Constants, c.Model.Species()); err != nil {
 				return nil, err
 			}
-			p.Species = card.Species
+			p.Species = states.Species
 		}
 	}
 	if p.Species == "" {
@@ -151,21 +152,21 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		return nil, failure.Errorf(failure.BadInput, "thermo: --species: %w", err)
 	}
 	p.Species = iso.Label
-	if card != nil {
-		if err := card.Check(iso); err != nil {
+	if states != nil {
+		if err := states.Check(iso); err != nil {
 			return nil, err
 		}
-		p.DissociationEnergy = card.DissociationEnergy
-		for i, cs := range card.States {
+		p.DissociationEnergy = states.DissociationEnergy
+		for i, cs := range states.States {
 			st := thermo.State{Label: cs.Label, TermEnergy: cs.TermEnergy, Multiplicity: cs.Multiplicity, Lambda: cs.Lambda, Symmetry: cs.Symmetry}
 			if cs.Constants != "" {
 				path := cs.Constants
 				if !filepath.IsAbs(path) {
-					path = filepath.Join(filepath.Dir(o.Card), path)
+					path = filepath.Join(filepath.Dir(o.States), path)
 				}
 				r2, c2, err := LoadConstants(path)
 				if err != nil {
-					return nil, fmt.Errorf("thermo: %s: state %d (%s): constants: %w", o.Card, i+1, cs.Label, err)
+					return nil, fmt.Errorf("thermo: %s: state %d (%s): constants: %w", o.States, i+1, cs.Label, err)
 				}
 				st.Constants, st.Observed, st.Source = c2, r2.Observed, path
 				inputs = append(inputs, path)
@@ -190,7 +191,7 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		"pressure_Pa": res.Conventions.StandardPressure, "composition": res.Conventions.Composition,
 		"nuclear_spin": res.Conventions.NuclearSpin, "mc": o.MC, "seed": o.Seed,
 		"nasa_breakpoint_K": res.NASA.Breakpoint, "nasa_limits_K": []float64{res.NASA.Ranges[0].TMin, res.NASA.Ranges[1].TMax},
-		"card": o.Card,
+		"states": o.States,
 	}
 	return &ThermoOutcome{Result: res, Provenance: prov, Inputs: inputs}, nil
 }

@@ -163,14 +163,14 @@ func TestRunThermo(t *testing.T) {
 	}
 }
 
-func TestRunThermoMonteCarloAndCard(t *testing.T) {
+func TestRunThermoMonteCarloAndStates(t *testing.T) {
 	dir := t.TempDir()
 	cpath := writeCOConstants(t, dir, "constants.json", 2)
-	sub := filepath.Join(dir, "cards")
+	sub := filepath.Join(dir, "states")
 	os.MkdirAll(sub, 0o755)
 	writeCOConstants(t, sub, "a-state.json", 3)
-	card := filepath.Join(sub, "co.toml")
-	os.WriteFile(card, []byte(`species = "12C16O"
+	statesFile := filepath.Join(sub, "co.toml")
+	os.WriteFile(statesFile, []byte(`species = "12C16O"
 dissociation_energy = 89460.0
 [[state]]
 label = "X"
@@ -185,7 +185,7 @@ lambda = 1
 constants = "a-state.json"
 `), 0o644)
 	out := filepath.Join(dir, "out")
-	oc, err := RunThermo(ThermoOptions{Constants: cpath, Card: card, Range: "200:6000:200", MC: 50, Seed: 5, Out: out})
+	oc, err := RunThermo(ThermoOptions{Constants: cpath, States: statesFile, Range: "200:6000:200", MC: 50, Seed: 5, Out: out})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -202,13 +202,13 @@ constants = "a-state.json"
 	}
 }
 
-// TestThermoBadInput: bad options and cards are errors that name the field
+// TestThermoBadInput: bad options and electronic-states files are errors that name the field
 // (and the file), and nothing is written.
 func TestThermoBadInput(t *testing.T) {
 	dir := t.TempDir()
 	cpath := writeCOConstants(t, dir, "constants.json", 4)
-	badCard := filepath.Join(dir, "bad.toml")
-	os.WriteFile(badCard, []byte("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\nflavour = \"x\"\n"), 0o644)
+	badStates := filepath.Join(dir, "bad.toml")
+	os.WriteFile(badStates, []byte("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\nflavour = \"x\"\n"), 0o644)
 	badSym := filepath.Join(dir, "badsym.toml")
 	os.WriteFile(badSym, []byte("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"q\"\n"), 0o644)
 	out := filepath.Join(dir, "out")
@@ -216,8 +216,8 @@ func TestThermoBadInput(t *testing.T) {
 		o    ThermoOptions
 		want []string
 	}{
-		{ThermoOptions{Card: badCard}, []string{"bad.toml", "state.flavour"}},
-		{ThermoOptions{Card: badSym}, []string{"badsym.toml", "symmetry"}},
+		{ThermoOptions{States: badStates}, []string{"bad.toml", "state.flavour"}},
+		{ThermoOptions{States: badSym}, []string{"badsym.toml", "symmetry"}},
 		{ThermoOptions{Temperatures: "300,0"}, []string{"--temperatures", "entry 2"}},
 		{ThermoOptions{Temperatures: "-5"}, []string{"--temperatures", "> 0"}},
 		{ThermoOptions{Temperatures: "300,abc"}, []string{"--temperatures", "\"abc\""}},

@@ -67,7 +67,7 @@
 //
 // Dunham model: v from 0 while G(v) = E(v, 0) still rises; J from 0 while
 // E(v, J) still rises with J (centrifugal turnover). Every level stays below the
-// dissociation energy D0 (species card) above the lowest level; without D0 it
+// dissociation energy D0 (electronic-states file) above the lowest level; without D0 it
 // stays below the top of the model's own G(v), the model's estimate of the
 // dissociation limit (levels above it are not bound in the model's own
 // picture). Term-values model: the vibrational levels of the record; the missing

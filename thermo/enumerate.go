@@ -329,10 +329,10 @@ func (b *levelSum) collectLevels() error {
 		}
 	}
 	if len(all) == 0 {
-		return cannot("no bound level with non-zero weight below the energy limits (check the constants and the card)")
+		return cannot("no bound level with non-zero weight below the energy limits (check the constants and the electronic-states file)")
 	}
 	if len(all) > MaxLevels {
-		return cannot("the level sum has %d levels, more than %d; give dissociation_energy in a species card or lower the highest temperature", len(all), MaxLevels)
+		return cannot("the level sum has %d levels, more than %d; give dissociation_energy in an electronic-states file or lower the highest temperature", len(all), MaxLevels)
 	}
 	// slices.SortStableFunc: the reflection-based sort.SliceStable took a
 	// tenth of a nightly chain's time on 11 000 levels.

@@ -167,16 +167,16 @@ func TestExcitedStates(t *testing.T) {
 	}
 }
 
-// TestOxygenCard: 16O2 X³Σg⁻ takes odd N only (spin-0 bosons) and g_e = 3; the
+// TestOxygenStates: 16O2 X³Σg⁻ takes odd N only (spin-0 bosons) and g_e = 3; the
 // energy zero is N = 1. S°(298.15 K) then comes within 0.02 J mol⁻¹ K⁻¹ of the
 // CODATA key value 205.152 J mol⁻¹ K⁻¹ (Cox, Wagman & Medvedev 1989, from
 // memory) and Cp° within 0.02 of the JANAF 29.376 J mol⁻¹ K⁻¹ (Chase 1998, from
 // memory), although the spin splitting of the N levels (about 2 cm⁻¹) is
 // neglected. Constants: Huber & Herzberg (1979), from memory.
-func TestOxygenCard(t *testing.T) {
+func TestOxygenStates(t *testing.T) {
 	hhO2 := hh{label: "16O16O", we: 1580.193, wexe: 11.981, weye: 0.04747, be: 1.44563, alpha: 0.0159305, de: 4.839e-6, homonuclear: true, vmax: 3, jmax: 31}
 	rec, c := fitHH(t, hhO2, 0.001, 14)
-	card, err := ReadCard(strings.NewReader(`
+	file, err := ReadStates(strings.NewReader(`
 species = "16O2"
 dissociation_energy = 41260.0
 [[state]]
@@ -189,11 +189,11 @@ symmetry = "g-"
 	if err != nil {
 		t.Fatal(err)
 	}
-	if err := card.Check(mustParse(t, "16O16O")); err != nil {
+	if err := file.Check(mustParse(t, "16O16O")); err != nil {
 		t.Fatal(err)
 	}
-	s := card.States[0]
-	p := Problem{Constants: c, Observed: rec.Observed, DissociationEnergy: card.DissociationEnergy,
+	s := file.States[0]
+	p := Problem{Constants: c, Observed: rec.Observed, DissociationEnergy: file.DissociationEnergy,
 		States: []State{{Label: s.Label, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry}}}
 	res, err := Compute(p, Settings{Temperatures: []float64{ReferenceTemperature}, Composition: CompositionNatural})
 	if err != nil {

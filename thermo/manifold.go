@@ -194,7 +194,7 @@ func (m *manifold) rotationalLevels(c *constants.Set, sp, v int, lowest bool, li
 		nv++
 		*count++
 		if *count > MaxLevels {
-			return cannot("the level sum has more than %d levels; give dissociation_energy in a species card or lower the highest temperature", MaxLevels)
+			return cannot("the level sum has more than %d levels; give dissociation_energy in an electronic-states file or lower the highest temperature", MaxLevels)
 		}
 	}
 	m.jReason[reason]++

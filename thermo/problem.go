@@ -42,7 +42,7 @@ type Problem struct {
 	DissociationEnergy float64
 }
 
-// defaultStates returns the state list used without a card.
+// defaultStates returns the state list used without an electronic-states file.
 func defaultStates(iso species.Isotopologue) []State {
 	s := State{Label: "X", Multiplicity: 1, Symmetry: species.StateSymmetry{Reflection: '+'}}
 	if iso.Homonuclear() {

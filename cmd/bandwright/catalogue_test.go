@@ -226,10 +226,10 @@ func TestCatalogueStartFile(t *testing.T) {
 	})
 }
 
-// coCard is a species card for 12C16O: the ground state with the dissociation
+// coStates is an electronic-states file for 12C16O: the ground state with the dissociation
 // energy D0 ≈ 89 460 cm-1 (Huber & Herzberg 1979, from memory) and the a³Π state
 // at T_e ≈ 48 687 cm-1 (same source, from memory) as the shifted ground manifold.
-const coCard = `species = "12C16O"
+const coStates = `species = "12C16O"
 dissociation_energy = 89460.0
 [[state]]
 label = "X"
@@ -243,35 +243,35 @@ spin_multiplicity = 3
 lambda = 1
 `
 
-// TestCatalogueSpeciesCard: species cards given to `bandwright thermo --card`.
-func TestCatalogueSpeciesCard(t *testing.T) {
-	base := coCard
+// TestCatalogueStatesFile: electronic-states files given to `bandwright thermo --states`.
+func TestCatalogueStatesFile(t *testing.T) {
+	base := coStates
 	set := func(key, val string) string { return strings.Replace(base, key+" = ", key+" = "+val+" # was ", 1) }
 	cases := []catCase{
-		{name: "empty file", input: nil, code: 1, want: []string{"card.toml: state: no [[state]] given"}},
+		{name: "empty file", input: nil, code: 1, want: []string{"states.toml: state: no [[state]] given"}},
 		{name: "byte-order mark", input: bom(base), code: 0},
 		{name: "CRLF line ends", input: crlf(base), code: 0},
-		{name: "decimal comma", input: []byte(strings.Replace(base, "89460.0", "89460,0", 1)), code: 1, want: []string{"card.toml:2: ", "(decimal comma?"}},
+		{name: "decimal comma", input: []byte(strings.Replace(base, "89460.0", "89460,0", 1)), code: 1, want: []string{"states.toml:2: ", "(decimal comma?"}},
 		{name: "duplicated state", input: []byte(base + "[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n"), code: 1,
-			want: []string{"card.toml:15: state 3 (X): term_energy: 0 is already the term energy of state 1"}},
-		{name: "NaN", input: []byte(set("dissociation_energy", "nan")), code: 1, want: []string{"card.toml:2: dissociation_energy: NaN cm-1 must be a finite number > 0"}},
-		{name: "Inf", input: []byte(strings.Replace(base, "48687.0", "inf", 1)), code: 1, want: []string{"card.toml:10: state 2 (a): term_energy: +Inf must be a finite number"}},
-		{name: "negative energy", input: []byte(strings.Replace(base, "48687.0", "-48687.0", 1)), code: 1, want: []string{"card.toml:10: state 2 (a): term_energy: -48687 must be a finite number ≥ 0 cm-1"}},
-		{name: "zero dissociation energy", input: []byte(set("dissociation_energy", "0.0")), code: 1, want: []string{"card.toml:2: dissociation_energy: 0 cm-1 must be a finite number > 0"}},
-		{name: "absurd lambda", input: []byte(strings.Replace(base, "lambda = 1\n", "lambda = 1000000\n", 1)), code: 1, want: []string{"card.toml:12: state 2 (a): lambda: 1000000 must be within 0…10"}},
-		{name: "absurd multiplicity", input: []byte(strings.Replace(base, "spin_multiplicity = 3", "spin_multiplicity = 0", 1)), code: 1, want: []string{"card.toml:11: state 2 (a): spin_multiplicity: 0 must be within 1…20"}},
-		{name: "unknown key", input: []byte(base + "colour = 3\n"), code: 1, want: []string{"card.toml:13: unknown key \"state.colour\""}},
-		{name: "wrong species", input: []byte(strings.Replace(base, "12C16O", "13C16O", 1)), code: 1, want: []string{"card.toml:1: species: the card is for 13C16O, but", "constants.json has 12C16O"}},
-		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 1, want: []string{"card.toml: larger than 1048576 bytes; not a species card"}},
+			want: []string{"states.toml:15: state 3 (X): term_energy: 0 is already the term energy of state 1"}},
+		{name: "NaN", input: []byte(set("dissociation_energy", "nan")), code: 1, want: []string{"states.toml:2: dissociation_energy: NaN cm-1 must be a finite number > 0"}},
+		{name: "Inf", input: []byte(strings.Replace(base, "48687.0", "inf", 1)), code: 1, want: []string{"states.toml:10: state 2 (a): term_energy: +Inf must be a finite number"}},
+		{name: "negative energy", input: []byte(strings.Replace(base, "48687.0", "-48687.0", 1)), code: 1, want: []string{"states.toml:10: state 2 (a): term_energy: -48687 must be a finite number ≥ 0 cm-1"}},
+		{name: "zero dissociation energy", input: []byte(set("dissociation_energy", "0.0")), code: 1, want: []string{"states.toml:2: dissociation_energy: 0 cm-1 must be a finite number > 0"}},
+		{name: "absurd lambda", input: []byte(strings.Replace(base, "lambda = 1\n", "lambda = 1000000\n", 1)), code: 1, want: []string{"states.toml:12: state 2 (a): lambda: 1000000 must be within 0…10"}},
+		{name: "absurd multiplicity", input: []byte(strings.Replace(base, "spin_multiplicity = 3", "spin_multiplicity = 0", 1)), code: 1, want: []string{"states.toml:11: state 2 (a): spin_multiplicity: 0 must be within 1…20"}},
+		{name: "unknown key", input: []byte(base + "colour = 3\n"), code: 1, want: []string{"states.toml:13: unknown key \"state.colour\""}},
+		{name: "wrong species", input: []byte(strings.Replace(base, "12C16O", "13C16O", 1)), code: 1, want: []string{"states.toml:1: species: the electronic-states file is for 13C16O, but", "constants.json has 12C16O"}},
+		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 1, want: []string{"states.toml: larger than 1048576 bytes; not an electronic-states file"}},
 		{name: "long comment within the limit", input: []byte(base + "# " + strings.Repeat("z", 1<<19) + "\n"), code: 0},
-		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `label = "a"`, "label = \"a\xe9\"", 1)), code: 1, want: []string{"card.toml:9: state.label: invalid UTF-8"}},
+		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `label = "a"`, "label = \"a\xe9\"", 1)), code: 1, want: []string{"states.toml:9: state.label: invalid UTF-8"}},
 		{name: "constants path outside", input: []byte(base + "constants = \"../../../no-such/a-state.json\"\n"), code: 1,
-			want: []string{"card.toml: state 2 (a): constants: ", "no-such/a-state.json", "no such file or directory"}},
+			want: []string{"states.toml: state 2 (a): constants: ", "no-such/a-state.json", "no such file or directory"}},
 	}
-	catalogue(t, "card.toml", cases, func(t *testing.T, dir string) {
+	catalogue(t, "states.toml", cases, func(t *testing.T, dir string) {
 		writeFile(t, filepath.Join(dir, "constants.json"), record(t))
 	}, func(dir, file, out string) []string {
-		return []string{"thermo", filepath.Join(dir, "constants.json"), "--card", file, "--temperatures", "298.15,1000", "--out", out}
+		return []string{"thermo", filepath.Join(dir, "constants.json"), "--states", file, "--temperatures", "298.15,1000", "--out", out}
 	})
 }
 

@@ -119,18 +119,18 @@ func TestInputsNeverOverwritten(t *testing.T) {
 	if d := diffSnapshots(before, snapshot(t, dir)); len(d) > 0 {
 		t.Errorf("changed: %v", d)
 	}
-	// A chain whose pipeline names a species card that sits in --out under
-	// the name of an output.
+	// A chain whose pipeline names an electronic-states file that sits in --out
+	// under the name of an output.
 	lines2 := filepath.Join(dir, "l.csv")
 	writeFile(t, lines2, []byte(baseLines))
-	card := filepath.Join(dir, "out2", "thermo.csv")
-	writeFile(t, card, []byte(coCard))
+	statesFile := filepath.Join(dir, "out2", "thermo.csv")
+	writeFile(t, statesFile, []byte(coStates))
 	pipe := filepath.Join(dir, "p.toml")
-	writeFile(t, pipe, []byte("input = \"lines\"\n[fit]\nmodel = \"dunham\"\n[thermo]\ncard = \"out2/thermo.csv\"\ntemperatures = [298.15]\n"))
+	writeFile(t, pipe, []byte("input = \"lines\"\n[fit]\nmodel = \"dunham\"\n[thermo]\nstates = \"out2/thermo.csv\"\ntemperatures = [298.15]\n"))
 	before = snapshot(t, dir)
 	code, _, stderr = runCLI("run", lines2, "--pipeline", pipe, "--out", filepath.Join(dir, "out2"))
 	if code != 1 || !strings.Contains(stderr, "refusing to overwrite the input file") || !strings.Contains(stderr, "thermo.csv") {
-		t.Errorf("chain over its card: exit %d: %s", code, stderr)
+		t.Errorf("chain over its electronic-states file: exit %d: %s", code, stderr)
 	}
 	if d := diffSnapshots(before, snapshot(t, dir)); len(d) > 0 {
 		t.Errorf("changed: %v", d)
@@ -269,9 +269,10 @@ func TestNightlyStopsGracefully(t *testing.T) {
 func TestHostileText(t *testing.T) {
 	root := t.TempDir()
 	lab := filepath.Join(root, "lab", "pipelines")
-	// A card outside the pipeline's folder, reached by ../ and by an absolute path.
-	card := filepath.Join(root, "common", "co-card.toml")
-	writeFile(t, card, []byte(coCard))
+	// An electronic-states file outside the pipeline's folder, reached by ../
+	// and by an absolute path.
+	statesFile := filepath.Join(root, "common", "co-states.toml")
+	writeFile(t, statesFile, []byte(coStates))
 	evil := `<script>alert(1)</script> **bold** [x](javascript:alert(1)) | a | b | ../../../../etc/passwd`
 	pipe := filepath.Join(lab, "p.toml")
 	writeFile(t, pipe, []byte(fmt.Sprintf(`name = %q
@@ -279,7 +280,7 @@ input = "lines"
 [fit]
 model = "dunham"
 [thermo]
-card = "../../common/co-card.toml"
+states = "../../common/co-states.toml"
 temperatures = [298.15, 1000.0]
 [report]
 formats = ["html", "md"]
@@ -357,20 +358,21 @@ formats = ["html", "md"]
 	if !strings.Contains(all, "\x00-0.5\x00") {
 		t.Errorf("the number -0.5 was altered")
 	}
-	// The card was read (its dissociation energy bounds the sum), not written.
+	// The electronic-states file was read (its dissociation energy bounds the
+	// sum), not written.
 	if th := readFile(t, filepath.Join(out, "thermo.csv")); !strings.Contains(th, "dissociation energy D0 = 89460 cm-1") {
-		t.Errorf("the card outside the pipeline's folder was not used")
+		t.Errorf("the electronic-states file outside the pipeline's folder was not used")
 	}
 
 	// An absolute path climbing out is as harmless, and a pipeline cannot name
-	// where the outputs go: a second run with the absolute card path writes
-	// only into its own --out.
-	abs := strings.Replace(readFile(t, pipe), `"../../common/co-card.toml"`, fmt.Sprintf("%q", card), 1)
+	// where the outputs go: a second run with the absolute path of the
+	// electronic-states file writes only into its own --out.
+	abs := strings.Replace(readFile(t, pipe), `"../../common/co-states.toml"`, fmt.Sprintf("%q", statesFile), 1)
 	writeFile(t, pipe, []byte(abs))
 	before = snapshot(t, root)
 	out2 := filepath.Join(root, "lab", "out2")
 	if code, _, stderr := runCLI("run", lines, "--pipeline", pipe, "--out", out2); code != 0 {
-		t.Fatalf("absolute card: exit %d: %s", code, stderr)
+		t.Fatalf("absolute electronic-states path: exit %d: %s", code, stderr)
 	}
 	for _, d := range diffSnapshots(before, snapshot(t, root)) {
 		if !strings.Contains(d, "lab/out2") {
@@ -379,19 +381,19 @@ formats = ["html", "md"]
 	}
 }
 
-// TestCardConstantsOnlyRead: a species card whose state takes its constants from
-// "../../x.json" reads that record and writes nothing next to it.
-func TestCardConstantsOnlyRead(t *testing.T) {
+// TestStatesConstantsOnlyRead: an electronic-states file whose state takes its
+// constants from "../../x.json" reads that record and writes nothing next to it.
+func TestStatesConstantsOnlyRead(t *testing.T) {
 	root := t.TempDir()
 	x := filepath.Join(root, "x.json")
 	writeFile(t, x, record(t))
-	card := filepath.Join(root, "a", "b", "card.toml")
-	writeFile(t, card, []byte(coCard+"constants = \"../../x.json\"\n"))
+	statesFile := filepath.Join(root, "a", "b", "states.toml")
+	writeFile(t, statesFile, []byte(coStates+"constants = \"../../x.json\"\n"))
 	rec := filepath.Join(root, "a", "b", "constants.json")
 	writeFile(t, rec, record(t))
 	before := snapshot(t, root)
 	out := filepath.Join(root, "a", "b", "out")
-	code, _, stderr := runCLI("thermo", rec, "--card", card, "--temperatures", "298.15", "--out", out)
+	code, _, stderr := runCLI("thermo", rec, "--states", statesFile, "--temperatures", "298.15", "--out", out)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
@@ -427,7 +429,7 @@ func TestNotRegularFiles(t *testing.T) {
 			{"assign", bad, "--start", start, "--bands", "0-0", "--spectrum", "rotation", "--out", out},
 			{"assign", good, "--start", bad, "--bands", "0-0", "--out", out},
 			{"thermo", bad, "--out", out},
-			{"thermo", rec, "--card", bad, "--out", out},
+			{"thermo", rec, "--states", bad, "--out", out},
 			{"predict", bad, "--out", out + ".csv"},
 			{"run", good, "--pipeline", bad, "--out", out},
 		} {

@@ -25,8 +25,8 @@ func thermoCommand() *cli.Command {
 			"Caution: " + thermo.Caution + ".",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
-			&cli.StringFlag{Name: "card", Usage: "species card (TOML): electronic states, dissociation energy"},
-			&cli.StringFlag{Name: "species", Usage: "isotopologue (default: the card's, else the first in the record)"},
+			&cli.StringFlag{Name: "states", Usage: "electronic-states file (TOML): electronic states, dissociation energy"},
+			&cli.StringFlag{Name: "species", Usage: "isotopologue (default: the electronic-states file's, else the first in the record)"},
 			&cli.StringFlag{Name: "temperatures", Usage: "comma-separated temperatures in K, e.g. 298.15,1000"},
 			&cli.StringFlag{Name: "range", Usage: "temperatures FROM:TO:STEP in K, e.g. 10:6000:1"},
 			&cli.StringFlag{Name: "pressure", Value: "1bar", Usage: "standard pressure: 1bar or 1atm"},
@@ -55,7 +55,7 @@ func thermoCommand() *cli.Command {
 				return usageExit("thermo: --nasa-limits: %v", err)
 			}
 			o := pipelines.ThermoOptions{
-				Constants: args[0], Card: c.String("card"), Species: c.String("species"),
+				Constants: args[0], States: c.String("states"), Species: c.String("species"),
 				Temperatures: c.String("temperatures"), Range: c.String("range"),
 				Pressure: c.String("pressure"), Composition: c.String("composition"), NuclearSpin: c.String("nuclear-spin"),
 				MC: c.Int("mc"), Seed: seed,

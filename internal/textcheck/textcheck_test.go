@@ -43,7 +43,7 @@ func TestDecimalCommaHint(t *testing.T) {
 }
 
 func TestKeyLine(t *testing.T) {
-	b := []byte(`# a card
+	b := []byte(`# an electronic-states file
 species = "16O16O"
 dissociation_energy = 41260.0
 [[state]]

@@ -104,7 +104,7 @@ type JobResult struct {
 	Constants []Constant
 	// Notes are remarks shown in the summary (warnings of the fit, say).
 	Notes []string
-	// Inputs lists further files the job read (species card, trial constants),
+	// Inputs lists further files the job read (electronic-states file, trial constants),
 	// recorded with their SHA-256 in the manifest.
 	Inputs []FileHash
 }

@@ -9,7 +9,7 @@ import (
 	"bandwright/fit/species"
 )
 
-const o2Card = `
+const o2States = `
 species = "16O16O"
 dissociation_energy = 41260.0     # D0 in cm-1, optional
 [[state]]
@@ -27,13 +27,13 @@ symmetry = "g"
 constants = "a-state.json"
 `
 
-func TestReadCard(t *testing.T) {
-	c, err := ReadCard(strings.NewReader(o2Card), "o2.toml")
+func TestReadStates(t *testing.T) {
+	c, err := ReadStates(strings.NewReader(o2States), "o2.toml")
 	if err != nil {
 		t.Fatal(err)
 	}
 	if c.Species != "16O16O" || !scalar.EqualWithinAbs(c.DissociationEnergy, 41260, 0) || len(c.States) != 2 {
-		t.Fatalf("card %+v", c)
+		t.Fatalf("states %+v", c)
 	}
 	x, a := c.States[0], c.States[1]
 	if x.Label != "X" || x.Multiplicity != 3 || x.Lambda != 0 || x.Symmetry != (species.StateSymmetry{Parity: 'g', Reflection: '-'}) || x.Constants != "" {
@@ -50,12 +50,13 @@ func TestReadCard(t *testing.T) {
 	}
 }
 
-// TestReadCardErrors: every bad card is an error that names the file and the field.
-func TestReadCardErrors(t *testing.T) {
+// TestReadStatesErrors: every bad electronic-states file is an error that
+// names the file and the field.
+func TestReadStatesErrors(t *testing.T) {
 	state := func(extra string) string {
 		return "[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n" + extra
 	}
-	cases := []struct{ card, field string }{
+	cases := []struct{ text, field string }{
 		{state("colour = \"blue\"\n"), "state.colour"},
 		{"speciess = \"12C16O\"\n" + state(""), "speciess"},
 		{state("symmetry = \"x+\"\n"), "symmetry"},
@@ -75,54 +76,55 @@ func TestReadCardErrors(t *testing.T) {
 		{"species = \"12C16\"\n" + state(""), "species"},
 		{"species = \"12C16O\"\n", "state"},
 		{"[[state]]\nterm_energy = 0.0\nspin_multiplicity = \"three\"\nlambda = 0\n", "spin_multiplicity"},
-		{"[[state]\n", "card.toml:2: "},
+		{"[[state]\n", "states.toml:2: "},
 	}
 	for _, tc := range cases {
-		_, err := ReadCard(strings.NewReader(tc.card), "card.toml")
+		_, err := ReadStates(strings.NewReader(tc.text), "states.toml")
 		if err == nil {
-			t.Errorf("accepted:\n%s", tc.card)
+			t.Errorf("accepted:\n%s", tc.text)
 			continue
 		}
 		msg := err.Error()
-		if !strings.HasPrefix(msg, "thermo: card.toml") || !strings.Contains(msg, tc.field) {
+		if !strings.HasPrefix(msg, "thermo: states.toml") || !strings.Contains(msg, tc.field) {
 			t.Errorf("error %q does not name the file and %q", msg, tc.field)
 		}
 	}
 	// Lines: the message names the line of the key, and a decimal comma gets a hint.
-	for _, tc := range []struct{ card, want string }{
-		{"# O2\n\n[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 3\nlambda = 11\n", "thermo: card.toml:7: state 1 (X): lambda: 11 must be within 0…10"},
-		{"[[state]]\nterm_energy = 0.0\nlambda = 0\n", "thermo: card.toml:1: state 1: spin_multiplicity: missing"},
-		{"dissociation_energy = 41260,5\n" + state(""), "card.toml:1: "},
+	for _, tc := range []struct{ text, want string }{
+		{"# O2\n\n[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 3\nlambda = 11\n", "thermo: states.toml:7: state 1 (X): lambda: 11 must be within 0…10"},
+		{"[[state]]\nterm_energy = 0.0\nlambda = 0\n", "thermo: states.toml:1: state 1: spin_multiplicity: missing"},
+		{"dissociation_energy = 41260,5\n" + state(""), "states.toml:1: "},
 		{"dissociation_energy = 41260,5\n" + state(""), "(decimal comma?"},
-		{state("") + "[[state]]\nlabel = \"a\"\nterm_energy = 7918.1\nspin_multiplicity = 1\nlambda = 2\ncolour = 1\n", "card.toml:11: unknown key \"state.colour\""},
-		{"[[state]]\nlabel = \"X\xff\"\n", "card.toml:2: state.label: invalid UTF-8"},
+		{state("") + "[[state]]\nlabel = \"a\"\nterm_energy = 7918.1\nspin_multiplicity = 1\nlambda = 2\ncolour = 1\n", "states.toml:11: unknown key \"state.colour\""},
+		{"[[state]]\nlabel = \"X\xff\"\n", "states.toml:2: state.label: invalid UTF-8"},
 	} {
-		_, err := ReadCard(strings.NewReader(tc.card), "card.toml")
+		_, err := ReadStates(strings.NewReader(tc.text), "states.toml")
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
-			t.Errorf("%q: %v, want %q", tc.card, err, tc.want)
+			t.Errorf("%q: %v, want %q", tc.text, err, tc.want)
 		}
 	}
 	// Symmetry checks against the molecule.
-	for _, tc := range []struct{ label, card string }{
+	for _, tc := range []struct{ label, text string }{
 		{"14N14N", state("")},                                                           // homonuclear: g/u and ± needed
 		{"14N14N", state("symmetry = \"g\"\n")},                                         // homonuclear Σ: ± needed
 		{"1H35Cl", state("symmetry = \"g+\"\n")},                                        // two elements: no g/u
 		{"14N14N", "[[state]]\nterm_energy = 0.0\nspin_multiplicity = 2\nlambda = 1\n"}, // homonuclear Π: g or u needed
 	} {
-		c, err := ReadCard(strings.NewReader(tc.card), "card.toml")
+		c, err := ReadStates(strings.NewReader(tc.text), "states.toml")
 		if err != nil {
 			t.Fatal(err)
 		}
-		if err := c.Check(mustParse(t, tc.label)); err == nil || !strings.Contains(err.Error(), "card.toml") || !strings.Contains(err.Error(), "symmetry") {
+		if err := c.Check(mustParse(t, tc.label)); err == nil || !strings.Contains(err.Error(), "states.toml") || !strings.Contains(err.Error(), "symmetry") {
 			t.Errorf("%s: %v", tc.label, err)
 		}
 	}
 }
 
-// FuzzReadCard: the card reader never panics, and whatever it accepts is a
-// valid card (one ground state, finite non-negative energies).
-func FuzzReadCard(f *testing.F) {
-	f.Add(o2Card)
+// FuzzReadStates: the electronic-states reader never panics, and whatever it
+// accepts is a valid electronic-states file (one ground state, finite
+// non-negative energies).
+func FuzzReadStates(f *testing.F) {
+	f.Add(o2States)
 	f.Add("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Add("species = \"14N2\"\n[[state]]\nterm_energy = 0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"g+\"\n")
 	f.Add("[[state]\n")
@@ -130,7 +132,7 @@ func FuzzReadCard(f *testing.F) {
 	f.Add("dissociation_energy = 41260,5\n[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Add("species = \"12C16O\"\n[[state]]\nlabel = \"caf\xe9\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Fuzz(func(t *testing.T, s string) {
-		c, err := ReadCard(strings.NewReader(s), "fuzz.toml")
+		c, err := ReadStates(strings.NewReader(s), "fuzz.toml")
 		if err != nil {
 			if !strings.HasPrefix(err.Error(), "thermo: fuzz.toml") {
 				t.Fatalf("error without file name: %v", err)
@@ -147,7 +149,7 @@ func FuzzReadCard(f *testing.F) {
 			}
 		}
 		if ground != 1 {
-			t.Fatalf("accepted a card with %d ground states", ground)
+			t.Fatalf("accepted a file with %d ground states", ground)
 		}
 		for _, l := range []string{"12C16O", "14N14N", "16O16O"} {
 			_ = c.Check(mustParse(t, l))

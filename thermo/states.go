@@ -14,9 +14,9 @@ import (
 	"bandwright/internal/textcheck"
 )
 
-// Card is a species card: the electronic states that enter the partition
-// function and, optionally, the dissociation energy that bounds the level sum.
-// It is read from TOML:
+// StatesFile is an electronic-states file: the electronic states that enter
+// the partition function and, optionally, the dissociation energy that bounds
+// the level sum. It is read from TOML:
 //
 //	species = "16O16O"
 //	dissociation_energy = 41260.0     # D0 in cm-1 above the lowest level, optional
@@ -33,28 +33,28 @@ import (
 // the lowest vibrational levels for term-values models). Exactly one state has
 // term_energy 0: the ground state, whose constants are the record given to the
 // thermo stage. A state without constants is the ground-state manifold shifted by
-// term_energy. Paths are relative to the card.
-type Card struct {
-	// Name is the file the card was read from (for messages).
+// term_energy. Paths are relative to the file.
+type StatesFile struct {
+	// Name is the file the states were read from (for messages).
 	Name    string
 	Species string
 	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when not given.
 	DissociationEnergy float64
-	States             []CardState
+	States             []StateEntry
 	speciesAt          string // "name:line" of the species key, for messages
 }
 
-// CardState is one electronic state of a card.
-type CardState struct {
+// StateEntry is one [[state]] of an electronic-states file.
+type StateEntry struct {
 	Label        string
 	TermEnergy   float64 // cm⁻¹
 	Multiplicity int     // 2S+1
 	Lambda       int     // |Λ|
 	Symmetry     species.StateSymmetry
-	Constants    string // path as written in the card (relative to the card); empty: shifted ground state
+	Constants    string // path as written in the file (relative to the file); empty: shifted ground state
 }
 
-type rawCard struct {
+type rawStatesFile struct {
 	Species            *string    `toml:"species"`
 	DissociationEnergy *float64   `toml:"dissociation_energy"`
 	State              []rawState `toml:"state"`
@@ -69,31 +69,32 @@ type rawState struct {
 	Constants        *string  `toml:"constants"`
 }
 
-const cardKeys = "species, dissociation_energy, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants"
+const statesKeys = "species, dissociation_energy, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants"
 
-// maxCardSize bounds the card read (a card is a few hundred bytes).
-const maxCardSize = 1 << 20
+// maxStatesSize bounds the file read (an electronic-states file is a few
+// hundred bytes).
+const maxStatesSize = 1 << 20
 
-// ReadCard reads and checks a species card. name is the file name used in
-// messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
+// ReadStates reads and checks an electronic-states file. name is the file name
+// used in messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
 // lambda of every state), non-finite or negative energies, malformed symmetry
 // labels and text that is not UTF-8 are errors naming the file, the line (where
 // the key can be found in the text) and the field; a number written with a
 // decimal comma gets a hint.
-func ReadCard(r io.Reader, name string) (*Card, error) {
-	b, err := io.ReadAll(io.LimitReader(r, maxCardSize+1))
+func ReadStates(r io.Reader, name string) (*StatesFile, error) {
+	b, err := io.ReadAll(io.LimitReader(r, maxStatesSize+1))
 	if err != nil {
 		return nil, fmt.Errorf("thermo: %s: %w", name, err)
 	}
-	if len(b) > maxCardSize {
-		return nil, fmt.Errorf("thermo: %s: larger than %d bytes; not a species card", name, maxCardSize)
+	if len(b) > maxStatesSize {
+		return nil, fmt.Errorf("thermo: %s: larger than %d bytes; not an electronic-states file", name, maxStatesSize)
 	}
-	raw, err := decodeCard(b, name)
+	raw, err := decodeStates(b, name)
 	if err != nil {
 		return nil, err
 	}
-	at := cardText{name: name, b: b}
-	c := &Card{Name: name}
+	at := statesText{name: name, b: b}
+	c := &StatesFile{Name: name}
 	if err := c.readTop(raw, at); err != nil {
 		return nil, err
 	}
@@ -102,7 +103,7 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 	}
 	ground := -1
 	for i, rs := range raw.State {
-		s, err := readCardState(i, rs, ground, at)
+		s, err := readStateEntry(i, rs, ground, at)
 		if err != nil {
 			return nil, err
 		}
@@ -117,21 +118,22 @@ func ReadCard(r io.Reader, name string) (*Card, error) {
 	return c, nil
 }
 
-// cardText is the text of a card, to find where a key is written.
-type cardText struct {
+// statesText is the text of an electronic-states file, to find where a key is
+// written.
+type statesText struct {
 	name string
 	b    []byte
 }
 
 // top returns "name:line" of a top-level key (name alone when the line
 // cannot be found).
-func (t cardText) top(key string) string {
+func (t statesText) top(key string) string {
 	return textcheck.At(t.name, textcheck.KeyLine(t.b, "", -1, key))
 }
 
 // state returns "name:line" of key in [[state]] number i (0-based), the line
 // of the table header when the key is not written.
-func (t cardText) state(i int, key string) string {
+func (t statesText) state(i int, key string) string {
 	line := textcheck.KeyLine(t.b, "state", i, key)
 	if line == 0 {
 		line = textcheck.KeyLine(t.b, "state", i, "")
@@ -139,11 +141,11 @@ func (t cardText) state(i int, key string) string {
 	return textcheck.At(t.name, line)
 }
 
-// decodeCard decodes the TOML of a card. A syntax error names the line and
-// the key (with a hint for a decimal comma); a key the card does not know is
-// an error at the line where it is written.
-func decodeCard(b []byte, name string) (rawCard, error) {
-	var raw rawCard
+// decodeStates decodes the TOML of an electronic-states file. A syntax error
+// names the line and the key (with a hint for a decimal comma); a key the file
+// does not know is an error at the line where it is written.
+func decodeStates(b []byte, name string) (rawStatesFile, error) {
+	var raw rawStatesFile
 	md, err := toml.Decode(string(b), &raw)
 	if err != nil {
 		var pe toml.ParseError
@@ -165,7 +167,7 @@ func decodeCard(b []byte, name string) (rawCard, error) {
 		keys[i] = k.String()
 	}
 	sort.Strings(keys)
-	at := cardText{name: name, b: b}
+	at := statesText{name: name, b: b}
 	where := name
 	for _, k := range und {
 		if k.String() != keys[0] {
@@ -182,11 +184,11 @@ func decodeCard(b []byte, name string) (rawCard, error) {
 			where = at.top(k[0])
 		}
 	}
-	return raw, fmt.Errorf("thermo: %s: unknown key %q (a card knows %s)", where, keys[0], cardKeys)
+	return raw, fmt.Errorf("thermo: %s: unknown key %q (an electronic-states file knows %s)", where, keys[0], statesKeys)
 }
 
 // readTop reads and checks the top-level keys: species and dissociation_energy.
-func (c *Card) readTop(raw rawCard, at cardText) error {
+func (c *StatesFile) readTop(raw rawStatesFile, at statesText) error {
 	if raw.Species != nil {
 		if why := textcheck.InvalidUTF8(*raw.Species); why != "" {
 			return fmt.Errorf("thermo: %s: species: %s", at.top("species"), why)
@@ -208,11 +210,11 @@ func (c *Card) readTop(raw rawCard, at cardText) error {
 	return nil
 }
 
-// readCardState reads and checks [[state]] number i (0-based); ground is the
+// readStateEntry reads and checks [[state]] number i (0-based); ground is the
 // index of the state with term energy 0 among the earlier ones, −1 if none.
-func readCardState(i int, rs rawState, ground int, at cardText) (CardState, error) {
+func readStateEntry(i int, rs rawState, ground int, at statesText) (StateEntry, error) {
 	what := fmt.Sprintf("state %d", i+1)
-	var s CardState
+	var s StateEntry
 	if rs.Label != nil {
 		s.Label = *rs.Label
 		if why := textcheck.InvalidUTF8(s.Label); why != "" {
@@ -275,10 +277,10 @@ func readCardState(i int, rs rawState, ground int, at cardText) (CardState, erro
 	return s, nil
 }
 
-// CheckSpecies checks that a card naming its species is used with a constants
-// record (named record in messages) that describes it: have lists the record's
-// isotopologues.
-func (c *Card) CheckSpecies(record string, have []string) error {
+// CheckSpecies checks that an electronic-states file naming its species is
+// used with a constants record (named record in messages) that describes it:
+// have lists the record's isotopologues.
+func (c *StatesFile) CheckSpecies(record string, have []string) error {
 	if c.Species == "" {
 		return nil
 	}
@@ -291,16 +293,16 @@ func (c *Card) CheckSpecies(record string, have []string) error {
 	if at == "" {
 		at = c.Name
 	}
-	return fmt.Errorf("thermo: %s: species: the card is for %s, but %s has %s (correct the card, or give the constants of %s)", at, c.Species, record, strings.Join(have, ", "), c.Species)
+	return fmt.Errorf("thermo: %s: species: the electronic-states file is for %s, but %s has %s (correct the file, or give the constants of %s)", at, c.Species, record, strings.Join(have, ", "), c.Species)
 }
 
-// Check checks the card against the isotopologue the thermo stage computes:
-// the species must match when the card names one, homonuclear molecules need
+// Check checks the file against the isotopologue the thermo stage computes:
+// the species must match when the file names one, homonuclear molecules need
 // the g/u (and for Σ states ±) symmetry of every state, and molecules of two
 // different elements have no g/u symmetry.
-func (c *Card) Check(iso species.Isotopologue) error {
+func (c *StatesFile) Check(iso species.Isotopologue) error {
 	if c.Species != "" && c.Species != iso.Label {
-		return fmt.Errorf("thermo: %s: species: the card is for %s, the constants are used for %s", c.Name, c.Species, iso.Label)
+		return fmt.Errorf("thermo: %s: species: the electronic-states file is for %s, the constants are used for %s", c.Name, c.Species, iso.Label)
 	}
 	for i, s := range c.States {
 		if err := iso.CheckStateSymmetry(s.Lambda, s.Symmetry); err != nil {
