@@ -17,7 +17,7 @@ type Problem struct {
 	Bands    []linelist.Band
 	Spectrum Spectrum
 	// Temperature of the sample in K, for predicted intensities; 0 means
-	// 296 K.
+	// DefaultTemperature.
 	Temperature float64
 }
 

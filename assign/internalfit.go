@@ -29,7 +29,7 @@ func (r *run) fitLines() ([]linelist.Line, []Transition) {
 func (r *run) lineOf(t Transition, k int) linelist.Line {
 	pk := &r.p.Peaks.Peaks[r.peakOf[k]]
 	return linelist.Line{File: r.p.Peaks.File, Row: pk.Row, Species: t.Species, VUp: t.VUp, JUp: t.JUp, VLo: t.VLo, JLo: t.JLo,
-		Position: pk.Position, Unc: fromCm(r.unc[k], pk.Unit), Unit: pk.Unit, Branch: t.Branch()}
+		Position: pk.Position, Unc: pk.Unit.FromWavenumber(r.unc[k]), Unit: pk.Unit, Branch: t.Branch()}
 }
 
 func sortTransitions(ts []Transition) {

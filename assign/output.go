@@ -132,7 +132,7 @@ func WriteUnassigned(w io.Writer, res *Result) error {
 		near, npos, dist := "", "", ""
 		if u.Nearest != nil {
 			near = u.Nearest.Label()
-			npos = strconv.FormatFloat(fromCm(u.Nearest.Position, p.Unit), 'f', 6, 64)
+			npos = strconv.FormatFloat(p.Unit.FromWavenumber(u.Nearest.Position), 'f', 6, 64)
 			dist = strconv.FormatFloat(u.Distance, 'g', 4, 64)
 		}
 		dropped := ""

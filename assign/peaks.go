@@ -13,7 +13,6 @@ import (
 
 	"bandwright/fit/linelist"
 	"bandwright/internal/textcheck"
-	"bandwright/units"
 )
 
 // Peak is one picked peak of a spectrum.
@@ -40,24 +39,10 @@ type Peak struct {
 }
 
 // Wavenumber returns the position in cm⁻¹.
-func (p Peak) Wavenumber() float64 { return toCm(p.Position, p.Unit) }
+func (p Peak) Wavenumber() float64 { return p.Unit.ToWavenumber(p.Position) }
 
 // UncWavenumber returns the uncertainty in cm⁻¹ (0 when none is given).
-func (p Peak) UncWavenumber() float64 { return toCm(p.Unc, p.Unit) }
-
-func toCm(x float64, u linelist.Unit) float64 {
-	if u == linelist.MHz {
-		return x / units.MHzPerWavenumber
-	}
-	return x
-}
-
-func fromCm(x float64, u linelist.Unit) float64 {
-	if u == linelist.MHz {
-		return x * units.MHzPerWavenumber
-	}
-	return x
-}
+func (p Peak) UncWavenumber() float64 { return p.Unit.ToWavenumber(p.Unc) }
 
 // PeakList is a peak list read from one file.
 type PeakList struct {
@@ -296,7 +281,7 @@ func (pr *peakReader) peak(rec []string, row int) (Peak, bool) {
 		if t := strings.TrimSpace(rec[i]); t != "" {
 			u, err := linelist.ParseUnit(t)
 			if err != nil {
-				c.Add(row, "unit", "unknown unit %q: use cm-1 or MHz", t)
+				c.Add(row, "unit", "unknown unit %q: use %s", t, linelist.UnitChoices)
 			}
 			p.Unit = u
 		}

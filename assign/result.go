@@ -114,7 +114,7 @@ func (r *run) addAssignments(res *Result, lines []linelist.Line, ts []Transition
 		b, bb := r.bandOf(t)
 		calc, sig := fp.line(t.Species, t.VUp, t.JUp, t.VLo, t.JLo)
 		a := Assignment{Transition: t, Peak: pk, Calc: calc, Sigma: sig,
-			ObsMinusCalc: fromCm(r.pos[k]-calc, pk.Unit), Unc: lines[i].Unc, UncSource: r.uSource[k]}
+			ObsMinusCalc: pk.Unit.FromWavenumber(r.pos[k] - calc), Unc: lines[i].Unc, UncSource: r.uSource[k]}
 		if bb != nil {
 			a.Intensity = bb.inten[t.JLo] / r.maxIntensity()
 		}
@@ -167,7 +167,7 @@ func (r *run) addLeftovers(res *Result, byBand map[*band]*BandResult) {
 		if n := nearestPrediction(all, r.pos[k]); n >= 0 {
 			p := all[n]
 			lo.Nearest = &p
-			lo.Distance = fromCm(r.pos[k]-p.Position, pk.Unit)
+			lo.Distance = pk.Unit.FromWavenumber(r.pos[k] - p.Position)
 		}
 		if d, ok := r.dropped[k]; ok {
 			t := d.t

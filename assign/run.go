@@ -117,10 +117,11 @@ func newRun(p Problem, s Settings) (*run, error) {
 	return r, nil
 }
 
-// defaultTemperature is the sample temperature (K) of a problem that gives
+// DefaultTemperature is the sample temperature (K) of a problem that gives
 // none: room temperature, the reference temperature of the common
-// line-intensity databases.
-const defaultTemperature = 296
+// line-intensity databases. The command line and the pipeline file take it
+// from here.
+const DefaultTemperature = 296.0
 
 // checkProblem refuses a problem or settings an assignment cannot start from,
 // and fills in the default temperature.
@@ -135,7 +136,7 @@ func checkProblem(p *Problem, s Settings) error {
 		return errors.New("assign: no bands given (e.g. 1-0,2-1)")
 	}
 	if p.Temperature == 0 {
-		p.Temperature = defaultTemperature
+		p.Temperature = DefaultTemperature
 	}
 	if !(p.Temperature > 0) || math.IsInf(p.Temperature, 0) {
 		return fmt.Errorf("assign: temperature must be > 0 K, got %g", p.Temperature)

@@ -10,6 +10,7 @@ import (
 	"strings"
 	"unicode/utf8"
 
+	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
@@ -106,8 +107,8 @@ func (rec *Record) check() error {
 		}
 		return fmt.Errorf(": schema: %q is an older or unknown version of the constants record; this version reads %q (fit the lines again)", rec.Schema, Schema)
 	}
-	if rec.Unit != "cm-1" {
-		return fmt.Errorf(": unit: %q; a constants record holds its constants in cm-1", rec.Unit)
+	if rec.Unit != linelist.Wavenumber.String() {
+		return fmt.Errorf(": unit: %q; a constants record holds its constants in %s", rec.Unit, linelist.Wavenumber)
 	}
 	if _, err := rec.Constants(); err != nil {
 		return fmt.Errorf(": %w", err)

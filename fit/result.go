@@ -9,7 +9,6 @@ import (
 	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
-	"bandwright/units"
 )
 
 // Assembling the Result of a finished solve: parameters with σ, calibration
@@ -57,19 +56,15 @@ func (w *work) result() *Result {
 		c := w.calc(i)
 		omc := w.obs[i] - c
 		lr := LineResult{Used: w.used[i], Reason: w.reason[i]}
-		if l.Unit == linelist.MHz {
-			lr.Calc = c * units.MHzPerWavenumber
-			lr.OmC = l.Position - lr.Calc
-		} else {
-			lr.Calc = c
-			lr.OmC = l.Position - c
-		}
+		lr.Calc = l.Unit.FromWavenumber(c)
+		lr.OmC = l.Position - lr.Calc
 		lr.Norm = lr.OmC / l.Unc
 		r.Lines[i] = lr
 		if w.used[i] {
 			sumCm += omc * omc
-			if l.Unit == linelist.MHz {
-				sumMHz += lr.OmC * lr.OmC
+			if l.Unit.IsFrequency() {
+				omcMHz := linelist.MHz.FromWavenumber(omc)
+				sumMHz += omcMHz * omcMHz
 				nMHz++
 			}
 		}

@@ -5,8 +5,6 @@ import (
 	"math"
 
 	"bandwright/constants"
-	"bandwright/fit/linelist"
-	"bandwright/units"
 )
 
 // round applies sequential rounding and refitting (R. J. Le Roy, J. Mol.
@@ -81,10 +79,7 @@ func (w *work) round(res *Result) error {
 	// The calculated positions and o−c are those of the constants reported.
 	for i, l := range w.p.Lines {
 		lr := &res.Lines[i]
-		c := w.calc(i)
-		if l.Unit == linelist.MHz {
-			c *= units.MHzPerWavenumber
-		}
+		c := l.Unit.FromWavenumber(w.calc(i))
 		lr.Calc = c
 		lr.OmC = l.Position - c
 		lr.Norm = lr.OmC / l.Unc

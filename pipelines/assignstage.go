@@ -16,12 +16,7 @@ import (
 	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
-	"bandwright/units"
 )
-
-// DefaultAssignTemp is the sample temperature (K) assign assumes for the
-// predicted intensities when none is given.
-const DefaultAssignTemp = 296.0
 
 // AssignOptions are the options of `bandwright assign`.
 type AssignOptions struct {
@@ -32,7 +27,7 @@ type AssignOptions struct {
 	Constants string
 	Bands     []linelist.Band
 	Spectrum  string // ir (default), raman, rotation
-	// Temperature in K; 0 means 296.
+	// Temperature in K; 0 means assign.DefaultTemperature.
 	Temperature float64
 	// Tolerance: "" (default from the uncertainties), or a number with an
 	// optional unit, "0.01", "0.01 cm-1", "0.3 MHz"; a bare number is in the
@@ -136,7 +131,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 	if err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
-	defUnit := linelist.Wavenumber
+	defUnit := linelist.DefaultUnit
 	if o.Unit != "" {
 		if defUnit, err = linelist.ParseUnit(o.Unit); err != nil {
 			return nil, failure.Errorf(failure.BadInput, "assign: --unit: %w", err)
@@ -144,7 +139,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 	}
 	T := o.Temperature
 	if T == 0 {
-		T = DefaultAssignTemp
+		T = assign.DefaultTemperature
 	}
 	if !(T > 0) || math.IsInf(T, 0) {
 		return nil, failure.Errorf(failure.BadInput, "assign: --temperature must be > 0 K, got %g", T)
@@ -224,12 +219,13 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 	return &AssignOutcome{Result: res, Record: rec}, nil
 }
 
-// commonUnit returns the unit shared by all peaks, cm-1 when they mix units.
+// commonUnit returns the unit shared by all peaks, the default unit (cm-1)
+// when they mix units.
 func commonUnit(pl *assign.PeakList) linelist.Unit {
 	u := pl.Peaks[0].Unit
 	for _, p := range pl.Peaks {
 		if p.Unit != u {
-			return linelist.Wavenumber
+			return linelist.DefaultUnit
 		}
 	}
 	return u
@@ -244,7 +240,7 @@ func parseQuantity(s string, u linelist.Unit, flag string) (float64, error) {
 	}
 	num, unitText := t, ""
 	lower := strings.ToLower(t)
-	for _, suf := range []string{"cm-1", "mhz"} {
+	for _, suf := range []string{"cm-1", "mhz", "ghz"} {
 		if strings.HasSuffix(lower, suf) {
 			num, unitText = strings.TrimSpace(t[:len(t)-len(suf)]), t[len(t)-len(suf):]
 			break
@@ -260,8 +256,5 @@ func parseQuantity(s string, u linelist.Unit, flag string) (float64, error) {
 	if err != nil || !(x > 0) || math.IsInf(x, 0) {
 		return 0, fmt.Errorf("assign: %s %q: want a positive number with an optional unit, e.g. 0.01 or 0.3MHz", flag, s)
 	}
-	if u == linelist.MHz {
-		x /= units.MHzPerWavenumber
-	}
-	return x, nil
+	return u.ToWavenumber(x), nil
 }

@@ -16,6 +16,7 @@ import (
 	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/pipelines/report"
+	"bandwright/thermo"
 )
 
 // ChainOptions are the options of `bandwright run`.
@@ -288,7 +289,7 @@ func (p *Pipeline) assignOptions(peaks string) (AssignOptions, error) {
 
 // thermoOptions returns the thermo options of the pipeline for a constants record.
 func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
-	o := ThermoOptions{Constants: constants}
+	o := ThermoOptions{Constants: constants, Seed: thermo.DefaultSeed}
 	if t := p.Thermo; t != nil {
 		o.Species = t.Species
 		o.NASA.Break = t.NASABreakpoint
@@ -304,7 +305,10 @@ func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
 			ts = append(ts, strconv.FormatFloat(x, 'g', -1, 64))
 		}
 		o.Temperatures = strings.Join(ts, ",")
-		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC, o.Seed, o.States = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC, t.Seed, t.States
+		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC, o.States = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC, t.States
+		if t.Seed != nil {
+			o.Seed = *t.Seed
+		}
 	}
 	return o, nil
 }

@@ -12,6 +12,7 @@ import (
 
 	"github.com/BurntSushi/toml"
 
+	"bandwright/assign"
 	"bandwright/fit"
 	"bandwright/fit/model"
 	"bandwright/internal/failure"
@@ -83,8 +84,9 @@ type ThermoSection struct {
 	Composition  string    `toml:"composition"`
 	NuclearSpin  string    `toml:"nuclear_spin"`
 	MC           int       `toml:"mc"`
-	Seed         uint64    `toml:"seed"`
-	Species      string    `toml:"species"`
+	// Seed is thermo.seed; absent: thermo.DefaultSeed, as --seed.
+	Seed    *uint64 `toml:"seed"`
+	Species string  `toml:"species"`
 	// NASABreakpoint (K) and NASALimits ("LOW:HIGH" in K) choose the NASA-7
 	// ranges, as --nasa-breakpoint and --nasa-limits do.
 	NASABreakpoint float64 `toml:"nasa_breakpoint"`
@@ -227,7 +229,7 @@ func (a *AssignSection) check(at keyAt) error {
 		return nil
 	}
 	if T := a.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
-		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, DefaultAssignTemp)
+		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, assign.DefaultTemperature)
 	}
 	if !(a.Tolerance >= 0) || math.IsInf(a.Tolerance, 0) {
 		return fmt.Errorf("pipelines: %s: assign.tolerance: %v must be a finite number > 0 (0: the default)", at("assign", "tolerance"), a.Tolerance)

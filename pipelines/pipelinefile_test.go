@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"bandwright/internal/failure"
+	"bandwright/thermo"
 )
 
 func TestParsePipeline(t *testing.T) {
@@ -83,6 +84,29 @@ formats = ["html", "md"]
 		}
 		if !strings.Contains(err.Error(), c.want) || !strings.Contains(err.Error(), "pipe.toml") {
 			t.Errorf("%q: error %q should name the file and %q", c.text, err, c.want)
+		}
+	}
+}
+
+// TestSeedDefault: a pipeline file without thermo.seed draws with the seed of
+// --seed's default, and an explicit seed (0 included) is taken as given.
+func TestSeedDefault(t *testing.T) {
+	for _, tc := range []struct {
+		text string
+		want uint64
+	}{
+		{"[thermo]\nmc = 10\n", thermo.DefaultSeed},
+		{"name = \"x\"\n", thermo.DefaultSeed},
+		{"[thermo]\nmc = 10\nseed = 0\n", 0},
+		{"[thermo]\nmc = 10\nseed = 7\n", 7},
+	} {
+		p, err := ParsePipeline([]byte(tc.text), "pipe.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		to, err := p.thermoOptions("c.json")
+		if err != nil || to.Seed != tc.want {
+			t.Errorf("%q: seed %d (%v), want %d", tc.text, to.Seed, err, tc.want)
 		}
 	}
 }

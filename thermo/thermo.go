@@ -26,6 +26,10 @@ const (
 	MaxTemperature = 100000.0
 )
 
+// DefaultSeed is the seed of the Monte Carlo draws of --seed and of the
+// pipeline file's thermo.seed when none is given.
+const DefaultSeed uint64 = 1
+
 // Settings are the switches of the thermo stage. The zero value (with
 // Temperatures given) is 1 bar, isotopologue molar mass, thermochemistry
 // nuclear-spin convention, linear propagation only, NASA-7 over 200–1000–6000 K.
@@ -38,7 +42,9 @@ type Settings struct {
 	Composition string
 	// NuclearSpin is SpinThermochemistry (default) or SpinLineIntensity.
 	NuclearSpin string
-	// MonteCarlo is the number of draws (0: no Monte Carlo); Seed seeds them.
+	// MonteCarlo is the number of draws (0: no Monte Carlo); Seed seeds them
+	// (every value, 0 included, is a seed of its own; the command line and
+	// the pipeline file use DefaultSeed when none is given).
 	MonteCarlo int
 	Seed       uint64
 	// Workers bounds the goroutines (0: GOMAXPROCS); results do not depend on it.

@@ -6,6 +6,7 @@ import (
 
 	"github.com/urfave/cli/v2"
 
+	"bandwright/assign"
 	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/pipelines"
@@ -28,7 +29,7 @@ func assignCommand() *cli.Command {
 			&cli.StringFlag{Name: "constants", Usage: "starting constants from an earlier fit (constants.json)"},
 			&cli.StringFlag{Name: "bands", Usage: "bands v′-v″ looked for in every species, comma-separated (e.g. 1-0,2-1; 0-0 for pure rotation)"},
 			&cli.StringFlag{Name: "spectrum", Value: "ir", Usage: "selection rules: ir (ΔJ = ±1), raman (ΔJ = 0, ±2), rotation (ΔJ = +1, v′ = v″)"},
-			&cli.Float64Flag{Name: "temperature", Value: pipelines.DefaultAssignTemp, Usage: "sample temperature in K, for predicted intensities"},
+			&cli.Float64Flag{Name: "temperature", Value: assign.DefaultTemperature, Usage: "sample temperature in K, for predicted intensities"},
 			&cli.StringFlag{Name: "tolerance", Usage: "largest |observed − predicted| for a candidate, e.g. 0.01 or 0.3MHz (default: 4·√(unc² + σ_pred²))"},
 			&cli.StringFlag{Name: "unc", Usage: "1σ of peaks without one, e.g. 0.001 or 0.05MHz (default: median of the given ones, else the fit's scatter)"},
 			&cli.StringFlag{Name: "unit", Value: "cm-1", Usage: "unit of peaks whose row gives none: cm-1 or MHz"},

@@ -33,7 +33,7 @@ func thermoCommand() *cli.Command {
 			&cli.StringFlag{Name: "composition", Value: thermo.CompositionIsotopologue, Usage: "translational molar mass: isotopologue, or natural (IUPAC standard atomic weights, the convention of the reference tables)"},
 			&cli.StringFlag{Name: "nuclear-spin", Value: thermo.SpinThermochemistry, Usage: "nuclear-spin convention: thermochemistry (spin degeneracy divided out) or line-intensity (full degeneracy)"},
 			&cli.IntFlag{Name: "mc", Usage: "Monte Carlo draws from the fit's covariance (0: off)"},
-			&cli.StringFlag{Name: "seed", Value: "1", Usage: "seed of the Monte Carlo draws (unsigned integer)"},
+			&cli.StringFlag{Name: "seed", Value: strconv.FormatUint(thermo.DefaultSeed, 10), Usage: "seed of the Monte Carlo draws (unsigned integer)"},
 			&cli.Float64Flag{Name: "nasa-breakpoint", Value: nasa.Break, Usage: "breakpoint of the NASA-7 ranges, K"},
 			&cli.StringFlag{Name: "nasa-limits", Value: fmt.Sprintf("%g:%g", nasa.Low, nasa.High), Usage: "lower and upper limits of the NASA-7 fit, LOW:HIGH in K"},
 			&cli.StringFlag{Name: "out", Value: "bandwright-thermo", Usage: "output folder"},

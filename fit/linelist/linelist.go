@@ -17,7 +17,7 @@
 //	J_lo      yes       rotational quantum number of the lower level
 //	position  yes       line position, > 0, in the row's unit
 //	unc       yes       1σ uncertainty of position, > 0, same unit as position
-//	unit      no        "cm-1" (default when absent or empty) or "MHz", any letter case
+//	unit      no        "cm-1" (default when absent or empty), "MHz" or "GHz", any letter case
 //	branch    no        O, P, Q, R or S; checked against ΔJ = J_up − J_lo
 //	comment   no        free text
 //
@@ -46,7 +46,7 @@
 //
 // Positions and uncertainties are kept as written, in their own unit; Line.Wavenumber
 // and Line.UncWavenumber convert to cm⁻¹ with 1 cm⁻¹ = 29 979.2458 MHz (exact, from the
-// defined speed of light).
+// defined speed of light). A position in GHz is checked and converted as one in MHz.
 //
 // # Errors
 //
@@ -70,46 +70,91 @@ import (
 	"bandwright/units"
 )
 
-// Unit is the unit of a line position and its uncertainty.
+// Unit is the unit of a line position and its uncertainty. This file is the one
+// home of the unit names bandwright reads and writes, of the default unit and of
+// the conversions to and from cm⁻¹.
 type Unit int
 
 const (
-	// Wavenumber is cm⁻¹, written "cm-1". It is the default.
+	// Wavenumber is cm⁻¹, written "cm-1". It is the default (DefaultUnit) and the
+	// internal unit of every calculation and of the constants record.
 	Wavenumber Unit = iota
 	// MHz is frequency in megahertz.
 	MHz
+	// GHz is frequency in gigahertz; accepted wherever MHz is.
+	GHz
 )
 
-// String returns the unit as written in files: "cm-1" or "MHz".
+// DefaultUnit is the unit of a position whose file or row gives none.
+const DefaultUnit = Wavenumber
+
+// UnitChoices lists the unit names for messages and help texts: "cm-1, MHz or GHz".
+const UnitChoices = "cm-1, MHz or GHz"
+
+// String returns the unit as written in files: "cm-1", "MHz" or "GHz".
 func (u Unit) String() string {
 	switch u {
 	case Wavenumber:
 		return "cm-1"
 	case MHz:
 		return "MHz"
+	case GHz:
+		return "GHz"
 	}
 	return "Unit(" + strconv.Itoa(int(u)) + ")"
 }
 
-// ParseUnit reads a unit name: "cm-1" or "MHz", in any letter case, surrounding white
-// space ignored. Anything else, the empty string included, is an error naming the value.
-func ParseUnit(s string) (Unit, error) {
-	t := strings.TrimSpace(s)
-	switch {
-	case strings.EqualFold(t, "cm-1"):
-		return Wavenumber, nil
-	case strings.EqualFold(t, "MHz"):
-		return MHz, nil
+// Pretty returns the unit as printed for people: "cm⁻¹", "MHz", "GHz".
+func (u Unit) Pretty() string {
+	if u == Wavenumber {
+		return "cm⁻¹"
 	}
-	return 0, fmt.Errorf("linelist: unknown unit %q: use cm-1 or MHz", s)
+	return u.String()
 }
 
-// toWavenumber converts x, in unit u, to cm⁻¹.
-func toWavenumber(x float64, u Unit) float64 {
-	if u == MHz {
-		return x / units.MHzPerWavenumber
+// IsFrequency reports whether the unit is a frequency (MHz or GHz).
+func (u Unit) IsFrequency() bool { return u == MHz || u == GHz }
+
+// PerWavenumber returns how many of the unit make 1 cm⁻¹: 1 for cm⁻¹,
+// 29 979.2458 for MHz and 29.979 2458 for GHz (exact, from the defined speed
+// of light).
+func (u Unit) PerWavenumber() float64 {
+	switch u {
+	case MHz:
+		return units.MHzPerWavenumber
+	case GHz:
+		return units.MHzPerWavenumber / 1e3
 	}
-	return x
+	return 1
+}
+
+// ToWavenumber converts x, in unit u, to cm⁻¹.
+func (u Unit) ToWavenumber(x float64) float64 {
+	if u == Wavenumber {
+		return x
+	}
+	return x / u.PerWavenumber()
+}
+
+// FromWavenumber converts x, in cm⁻¹, to unit u.
+func (u Unit) FromWavenumber(x float64) float64 {
+	if u == Wavenumber {
+		return x
+	}
+	return x * u.PerWavenumber()
+}
+
+// ParseUnit reads a unit name: "cm-1", "MHz" or "GHz", in any letter case,
+// surrounding white space ignored. Anything else, the empty string included, is
+// an error naming the value.
+func ParseUnit(s string) (Unit, error) {
+	t := strings.TrimSpace(s)
+	for _, u := range []Unit{Wavenumber, MHz, GHz} {
+		if strings.EqualFold(t, u.String()) {
+			return u, nil
+		}
+	}
+	return 0, fmt.Errorf("linelist: unknown unit %q: use %s", s, UnitChoices)
 }
 
 // Line is one assigned transition (v_up, J_up) ← (v_lo, J_lo) of one isotopologue.
@@ -130,11 +175,11 @@ type Line struct {
 
 // Wavenumber returns the position in cm⁻¹: Position, or Position / units.MHzPerWavenumber
 // for a line given in MHz.
-func (l Line) Wavenumber() float64 { return toWavenumber(l.Position, l.Unit) }
+func (l Line) Wavenumber() float64 { return l.Unit.ToWavenumber(l.Position) }
 
 // UncWavenumber returns the 1σ uncertainty in cm⁻¹: Unc, or Unc / units.MHzPerWavenumber for
 // a line given in MHz.
-func (l Line) UncWavenumber() float64 { return toWavenumber(l.Unc, l.Unit) }
+func (l Line) UncWavenumber() float64 { return l.Unit.ToWavenumber(l.Unc) }
 
 // DeltaJ returns ΔJ = J_up − J_lo.
 func (l Line) DeltaJ() int { return l.JUp - l.JLo }

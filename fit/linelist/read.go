@@ -435,13 +435,12 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	l.Unc = f.positive(rec, colUnc, row)
 
 	if i := f.col[colUnit]; i >= 0 {
-		switch t := strings.TrimSpace(rec[i]); {
-		case t == "" || strings.EqualFold(t, "cm-1"):
-			l.Unit = Wavenumber
-		case strings.EqualFold(t, "MHz"):
-			l.Unit = MHz
-		default:
-			c.add(row, "unit", "unknown unit %q: use cm-1 or MHz", t)
+		if t := strings.TrimSpace(rec[i]); t == "" {
+			l.Unit = DefaultUnit
+		} else if u, err := ParseUnit(t); err == nil {
+			l.Unit = u
+		} else {
+			c.add(row, "unit", "unknown unit %q: use %s", t, UnitChoices)
 		}
 	}
 

@@ -118,7 +118,7 @@ func TestUnit(t *testing.T) {
 		ok   bool
 	}{
 		{"cm-1", Wavenumber, true}, {" CM-1 ", Wavenumber, true}, {"MHz", MHz, true}, {"mhz", MHz, true},
-		{"GHz", 0, false}, {"cm^-1", 0, false}, {"1/cm", 0, false}, {"wavenumber", 0, false}, {"", 0, false},
+		{"GHz", GHz, true}, {"ghz", GHz, true}, {"THz", 0, false}, {"cm^-1", 0, false}, {"1/cm", 0, false}, {"wavenumber", 0, false}, {"", 0, false},
 	} {
 		u, err := ParseUnit(tc.in)
 		if (err == nil) != tc.ok || (tc.ok && u != tc.want) {
@@ -128,8 +128,20 @@ func TestUnit(t *testing.T) {
 			t.Errorf("ParseUnit(%q) error %v", tc.in, err)
 		}
 	}
-	if Wavenumber.String() != "cm-1" || MHz.String() != "MHz" || Unit(7).String() != "Unit(7)" {
-		t.Errorf("String: %s %s %s", Wavenumber, MHz, Unit(7))
+	if Wavenumber.String() != "cm-1" || MHz.String() != "MHz" || GHz.String() != "GHz" || Unit(7).String() != "Unit(7)" {
+		t.Errorf("String: %s %s %s %s", Wavenumber, MHz, GHz, Unit(7))
+	}
+	// 1 cm-1 = 29 979.2458 MHz exactly (defined speed of light, common practice).
+	for _, tc := range []struct {
+		u    Unit
+		want float64
+	}{{Wavenumber, 1}, {MHz, 29979.2458}, {GHz, 29.9792458}} {
+		if got := tc.u.FromWavenumber(1); !scalar.EqualWithinAbsOrRel(got, tc.want, 0, 1e-15) {
+			t.Errorf("1 cm-1 in %s = %v, want %v", tc.u, got, tc.want)
+		}
+		if got := tc.u.ToWavenumber(tc.want); !scalar.EqualWithinAbsOrRel(got, 1, 0, 1e-15) {
+			t.Errorf("%v %s = %v cm-1, want 1", tc.want, tc.u, got)
+		}
 	}
 }
 
@@ -187,5 +199,24 @@ func TestWriteErrors(t *testing.T) {
 	}
 	if err := Write(failWriter{}, one, []string{"x", "y"}); !errors.Is(err, errDisk) {
 		t.Errorf("failing writer: error %v", err)
+	}
+}
+
+// TestGHzReadAsMHz: a position in GHz is the same line as that position ×1000
+// in MHz (the 12C16O J=1-0 line, 115 271.2018 MHz, from memory).
+func TestGHzReadAsMHz(t *testing.T) {
+	src := "species,v_up,J_up,v_lo,J_lo,position,unc,unit\n" +
+		"12C16O,0,1,0,0,115271.2018,0.0005,MHz\n" +
+		"12C16O,0,1,0,0,115.2712018,0.0000005,GHz\n"
+	l, err := Read(strings.NewReader(src), "t.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, b := l.Lines[0], l.Lines[1]
+	if b.Unit != GHz {
+		t.Fatalf("unit %v, want GHz", b.Unit)
+	}
+	if !scalar.EqualWithinAbsOrRel(a.Wavenumber(), b.Wavenumber(), 0, 1e-15) || !scalar.EqualWithinAbsOrRel(a.UncWavenumber(), b.UncWavenumber(), 0, 1e-12) {
+		t.Errorf("MHz %v ± %v cm-1, GHz %v ± %v cm-1", a.Wavenumber(), a.UncWavenumber(), b.Wavenumber(), b.UncWavenumber())
 	}
 }

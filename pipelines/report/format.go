@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"bandwright/constants"
+	"bandwright/fit/linelist"
 )
 
 // Number formatting. Nothing non-finite is ever printed: NaN and ±Inf become
@@ -60,14 +61,19 @@ func orDefault(s, def string) string {
 
 func sprintf(format string, a ...any) string { return fmt.Sprintf(format, a...) }
 
-// unitName writes a unit of the files for reading: cm-1 as cm⁻¹ (also for
-// "", the unit of line lists that give none), angstrom as Å.
+// unitName writes a unit of the files for reading: the line-list units as
+// linelist.Unit.Pretty writes them ("" is the default unit, that of line
+// lists that give none), angstrom as Å, and cm-1 inside a compound unit
+// ("cm-1 u^0.5") as cm⁻¹.
 func unitName(u string) string {
-	switch u {
-	case "":
-		return "cm⁻¹"
-	case "angstrom":
+	if u == "" {
+		return linelist.DefaultUnit.Pretty()
+	}
+	if lu, err := linelist.ParseUnit(u); err == nil {
+		return lu.Pretty()
+	}
+	if u == "angstrom" {
 		return "Å"
 	}
-	return strings.ReplaceAll(u, "cm-1", "cm⁻¹")
+	return strings.ReplaceAll(u, linelist.Wavenumber.String(), linelist.Wavenumber.Pretty())
 }

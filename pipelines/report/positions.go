@@ -1,6 +1,7 @@
 package report
 
 import (
+	"bandwright/fit/linelist"
 	"math"
 	"path/filepath"
 	"sort"
@@ -16,7 +17,7 @@ func positionSection(d *document, f *folder) {
 	units := map[string][]int{}
 	var order []string
 	for i, r := range f.residuals {
-		u := orDefault(r.unit, "cm-1")
+		u := orDefault(r.unit, linelist.DefaultUnit.String())
 		if _, ok := units[u]; !ok {
 			order = append(order, u)
 		}
