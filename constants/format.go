@@ -11,7 +11,8 @@ import (
 // 1.922529(3) means 1.922529 ± 0.000003. The uncertainty is given to two
 // significant digits when its leading digit is 1 or 2 and to one otherwise
 // (common practice), and the value is rounded to the same decimal place. Very
-// large or small numbers use an exponent: 6.1215(12)e-06. A zero or non-finite
+// large (≥ 10⁸, beyond line frequencies in MHz) or small (< 10⁻³) numbers use
+// an exponent: 6.1215(12)e-06. A zero or non-finite
 // σ prints the value alone (shortest exact form).
 func FormatParen(value, sigma float64) string {
 	if math.IsNaN(value) || math.IsInf(value, 0) {
@@ -22,7 +23,7 @@ func FormatParen(value, sigma float64) string {
 	}
 	exp := 0
 	av := math.Max(math.Abs(value), sigma)
-	if av != 0 && (av >= 1e5 || av < 1e-3) {
+	if av != 0 && (av >= 1e8 || av < 1e-3) {
 		exp = int(math.Floor(math.Log10(av)))
 	}
 	scale := math.Pow(10, float64(exp))
@@ -62,4 +63,39 @@ func unsignZero(s string) string {
 		return s[1:]
 	}
 	return s
+}
+
+// FormatRounded writes a constant rounded by sequential rounding (Le Roy
+// 1998) at rounding unit unit (a power of ten in the unit the value is
+// written in): the value with every digit down to the rounding unit — the
+// digits rounding keeps beyond those σ alone would justify, needed to
+// reproduce the data — and σ in parentheses in units of that last digit:
+// FormatRounded(1.92252933, 3e-7, 1e-8) = "1.92252933(30)". Exponents are
+// used as FormatParen uses them. A unit that is not a finite positive number
+// falls back on FormatParen.
+func FormatRounded(value, sigma, unit float64) string {
+	if !(unit > 0) || math.IsInf(unit, 0) || math.IsNaN(value) || math.IsInf(value, 0) {
+		return FormatParen(value, sigma)
+	}
+	exp := 0
+	av := math.Abs(value)
+	if s := sigma; s > 0 && !math.IsInf(s, 0) {
+		av = math.Max(av, s)
+	}
+	if av != 0 && (av >= 1e8 || av < 1e-3) {
+		exp = int(math.Floor(math.Log10(av)))
+	}
+	scale := math.Pow(10, float64(exp))
+	place := int(math.Round(math.Log10(unit / scale)))
+	decimals := max(0, -place)
+	step := math.Pow(10, float64(place))
+	v := math.Round(value/scale/step) * step
+	out := unsignZero(strconv.FormatFloat(v, 'f', decimals, 64))
+	if sigma > 0 && !math.IsInf(sigma, 0) {
+		out += fmt.Sprintf("(%d)", int64(math.Round(sigma/scale/step)))
+	}
+	if exp != 0 {
+		out += "e" + fmt.Sprintf("%+03d", exp)
+	}
+	return out
 }

@@ -30,8 +30,11 @@ func TestFormatParen(t *testing.T) {
 		// σ larger than the value itself.
 		{3e-12, 1.2e-11, "0.3(12)e-11"},
 		{1e-4, 5e-4, "1(5)e-04"},
-		// Large numbers take an exponent.
-		{115271.2018, 0.0005, "1.152712018(5)e+05"},
+		// Frequencies in MHz are written out (the 12C16O J=1-0 line, from
+		// memory); numbers from 10⁸ on take an exponent.
+		{115271.2018, 0.0005, "115271.2018(5)"},
+		{6.5048e7, 12, "65048000(12)"},
+		{1.23456789e9, 40, "1.23456789(4)e+09"},
 		// σ = 0 or not finite: the value alone.
 		{1.5, 0, "1.5"},
 		{-2.25, 0, "-2.25"},
@@ -44,6 +47,27 @@ func TestFormatParen(t *testing.T) {
 	} {
 		if got := FormatParen(tc.v, tc.s); got != tc.want {
 			t.Errorf("FormatParen(%g, %g) = %q, want %q", tc.v, tc.s, got, tc.want)
+		}
+	}
+}
+
+// TestFormatRounded: a rounded constant keeps the digits down to its
+// rounding unit, with σ in units of that last digit.
+func TestFormatRounded(t *testing.T) {
+	for _, tc := range []struct {
+		v, s, unit float64
+		want       string
+	}{
+		{1.92252933, 3e-7, 1e-8, "1.92252933(30)"},
+		{57635.96822, 0.0021, 1e-4, "57635.9682(21)"},
+		{183.5049, 0.012, 1e-4, "183.5049(120)"},
+		{-6.12147e-6, 1.2e-9, 1e-11, "-6.12147(120)e-06"},
+		{1.5, 0, 0.1, "1.5"},
+		// No rounding unit: the parenthetical notation of FormatParen.
+		{1.5, 0.2, 0, "1.50(20)"},
+	} {
+		if got := FormatRounded(tc.v, tc.s, tc.unit); got != tc.want {
+			t.Errorf("FormatRounded(%g, %g, %g) = %q, want %q", tc.v, tc.s, tc.unit, got, tc.want)
 		}
 	}
 }

@@ -110,6 +110,9 @@ func (rec *Record) check() error {
 	if rec.Unit != linelist.Wavenumber.String() {
 		return fmt.Errorf(": unit: %q; a constants record holds its constants in %s", rec.Unit, linelist.Wavenumber)
 	}
+	if _, err := linelist.ParseUnit(rec.DisplayUnit); rec.DisplayUnit != "" && err != nil {
+		return fmt.Errorf(": display_unit: %q; use %s", rec.DisplayUnit, linelist.UnitChoices)
+	}
 	if _, err := rec.Constants(); err != nil {
 		return fmt.Errorf(": %w", err)
 	}

@@ -31,9 +31,13 @@ const CovarianceConvention = "scaled by the square of the dimensionless standard
 // Record is the constants record (constants.json) written by fit and read by
 // thermo, assign and predict.
 type Record struct {
-	Schema           string   `json:"schema"`
-	Model            string   `json:"model"`
-	Unit             string   `json:"unit"`
+	Schema string `json:"schema"`
+	Model  string `json:"model"`
+	Unit   string `json:"unit"`
+	// DisplayUnit is the unit the fit's outputs show constants and residuals
+	// in (--unit: cm-1, MHz or GHz, see ShowEnergy); the values of the record
+	// are always in Unit, cm⁻¹.
+	DisplayUnit      string   `json:"display_unit,omitempty"`
 	Species          []string `json:"species"`
 	ReferenceSpecies string   `json:"reference_species,omitempty"`
 	Parameters       []Param  `json:"parameters"`

@@ -59,6 +59,10 @@ type Settings struct {
 	Round bool
 	// RankTolerance is passed to the least-squares engine (0: its default).
 	RankTolerance float64
+	// Unit is the unit the outputs show constants and residuals in, and the
+	// unit in whose powers of ten sequential rounding rounds (zero value:
+	// cm⁻¹). The fit itself works in cm⁻¹ whatever it is.
+	Unit linelist.Unit
 }
 
 func (s Settings) maxRejectFraction() float64 {
@@ -130,6 +134,8 @@ type Result struct {
 	// used; Observed the levels they reach with the highest J in each.
 	Bands    []constants.Band
 	Observed []constants.LevelRange
+	// Unit is Settings.Unit: the unit the outputs show.
+	Unit linelist.Unit
 }
 
 // CovNames returns the names of the covariance rows (parameter IDs, then κ of

@@ -13,7 +13,7 @@ func intp(i int) *int { return &i }
 // NewRecord turns a fit result into a record (provenance is the caller's).
 func NewRecord(r *Result) *constants.Record {
 	rec := &constants.Record{
-		Schema: constants.Schema, Model: r.Model.Kind(), Unit: linelist.Wavenumber.String(),
+		Schema: constants.Schema, Model: r.Model.Kind(), Unit: linelist.Wavenumber.String(), DisplayUnit: r.Unit.String(),
 		Species: r.Model.Species(), Stats: r.Stats, Status: r.Status.String(),
 		Bands: r.Bands, Observed: r.Observed, Derived: r.Derived, Rounding: r.Rounding,
 		Warnings:             append([]string{}, r.Warnings...),

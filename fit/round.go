@@ -11,7 +11,9 @@ import (
 // Spectrosc. 191 (1998) 223), with the parameter sensitivity of J. K. G.
 // Watson (J. Mol. Spectrosc. 66 (1977) 500) setting each rounding unit: the
 // free parameter with the largest relative uncertainty is rounded to
-// the coarsest power of ten not larger than a tenth of its conditional standard
+// the coarsest power of ten (of Settings.Unit: cm⁻¹, or MHz, so that the
+// constants shown in MHz, kHz or Hz are short decimals) not larger than a
+// tenth of its conditional standard
 // deviation σ_c = s/‖a_j‖ (its σ with every other parameter held, ‖a_j‖ the
 // norm of its weighted design column), held at the rounded value, and the
 // remaining parameters are refitted to the same lines; repeat until every
@@ -54,11 +56,13 @@ func (w *work) round(res *Result) error {
 			return fmt.Errorf("fit: rounding: parameter %s has an empty design column", w.params[best].ID())
 		}
 		sc := s / cn
-		unit := math.Pow(10, math.Floor(math.Log10(sc/10)))
+		f := w.s.Unit.PerWavenumber()
+		shown := math.Pow(10, math.Floor(math.Log10(sc*f/10))) // in Settings.Unit
+		unit := shown / f                                      // in cm⁻¹
 		old := w.values[best]
-		w.values[best] = math.Round(old/unit) * unit
-		// Print-and-parse so the stored value is the decimal a person reads.
-		w.values[best] = parseShort(w.values[best], unit)
+		// Round in the unit shown, and print-and-parse so that the value is
+		// the decimal a person reads there.
+		w.values[best] = parseShort(math.Round(old*f/shown)*shown, shown) / f
 		w.omcOK = false
 		rd.Steps = append(rd.Steps, constants.RoundStep{Param: w.params[best].ID(), Unrounded: old, Rounded: w.values[best], Unit: unit, CondSigma: sc})
 		w.fixedIdx[best] = true

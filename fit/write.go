@@ -14,7 +14,9 @@ import (
 )
 
 // WriteResiduals writes residuals.csv: every input line with its observed and
-// calculated position (in the line's own unit), o−c, (o−c)/unc, whether it was
+// calculated position, uncertainty and o−c in the fit's display unit
+// (Settings.Unit; a line given in that unit is written exactly as read),
+// (o−c)/unc, whether it was
 // used, its file and row, and its pass-through columns; a pass-through column
 // whose name repeats one of these gets "input_" in front (lines.csv of assign
 // carries its own o_minus_c, from assign's internal fit). The CSV follows RFC
@@ -61,15 +63,19 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		b = append(b, ',')
 		b = csvcell.Append(b, branch)
 		b = append(b, ',')
-		b = append(b, l.Unit.String()...)
+		b = append(b, r.Unit.String()...)
+		conv := func(x float64) float64 { return x }
+		if l.Unit != r.Unit {
+			conv = func(x float64) float64 { return r.Unit.FromWavenumber(l.Unit.ToWavenumber(x)) }
+		}
 		b = append(b, ',')
-		b = strconv.AppendFloat(b, l.Position, 'g', -1, 64)
+		b = strconv.AppendFloat(b, conv(l.Position), 'g', -1, 64)
 		b = append(b, ',')
-		b = strconv.AppendFloat(b, l.Unc, 'g', -1, 64)
+		b = strconv.AppendFloat(b, conv(l.Unc), 'g', -1, 64)
 		b = append(b, ',')
-		b = strconv.AppendFloat(b, lr.Calc, 'g', 12, 64)
+		b = strconv.AppendFloat(b, conv(lr.Calc), 'g', 12, 64)
 		b = append(b, ',')
-		b = strconv.AppendFloat(b, lr.OmC, 'g', 6, 64)
+		b = strconv.AppendFloat(b, conv(lr.OmC), 'g', 6, 64)
 		b = append(b, ',')
 		b = strconv.AppendFloat(b, lr.Norm, 'f', 3, 64)
 		b = append(b, ',')
@@ -121,9 +127,14 @@ func appendSep(b []byte, k int) []byte {
 	return b
 }
 
-// WriteSummary writes fit.md: the constants in parenthetical notation, the
-// statistics, the warnings and the largest residuals.
+// WriteSummary writes fit.md: the constants in parenthetical notation in the
+// fit's display unit (Settings.Unit; constants.ShowEnergy chooses MHz, kHz or
+// Hz per constant), the statistics, the derived constants, the warnings and
+// the largest residuals. rec is the record of r (nil: made here).
 func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) error {
+	if rec == nil {
+		rec = NewRecord(r)
+	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "# bandwright fit — %s model\n\n", r.Model.Kind())
 	fmt.Fprintf(&b, "Species: %s", strings.Join(r.Model.Species(), ", "))
@@ -131,46 +142,10 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 		fmt.Fprintf(&b, " (reference: %s)", r.Model.Species()[0])
 	}
 	b.WriteString("\n\n")
-	b.WriteString("Units: cm⁻¹. Uncertainties are 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. ")
+	b.WriteString(unitSentence(r.Unit) + " Uncertainties are 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. ")
 	b.WriteString("σ are " + constants.CovarianceConvention + ".\n\n")
-	b.WriteString("## Statistics\n\n| quantity | value |\n|---|---|\n")
-	st := r.Stats
-	fmt.Fprintf(&b, "| lines given | %d |\n| lines used | %d |\n| lines rejected | %d |\n| parameters fitted | %d |\n| degrees of freedom | %d |\n", st.Lines, st.Used, st.Rejected, st.Params, st.DOF)
-	sText := fmt.Sprintf("%.4g", st.Sigma)
-	if math.IsNaN(st.Sigma) {
-		sText = "undefined (no degrees of freedom)"
-	}
-	fmt.Fprintf(&b, "| dimensionless standard deviation s | %s |\n| rms (cm⁻¹) | %.4g |\n", sText, st.RMSCm)
-	if st.LinesMHz > 0 {
-		fmt.Fprintf(&b, "| rms of MHz lines (MHz) | %.4g |\n", st.RMSMHz)
-	}
-	fmt.Fprintf(&b, "| condition number (scaled) | %.3g |\n| status | %s |\n\n", st.Condition, r.Status)
-	b.WriteString("## Constants\n\n| parameter | species | value | note |\n|---|---|---|---|\n")
-	for _, q := range r.Params {
-		sp := q.Species
-		if q.Element != "" {
-			sp = q.Element
-		}
-		note := ""
-		if q.Fixed {
-			note = "fixed"
-		}
-		fmt.Fprintf(&b, "| %s | %s | %s | %s |\n", mdEscape(q.ID()), mdEscape(sp), constants.FormatParen(q.Value, q.Sigma), note)
-	}
-	for _, c := range r.Calib {
-		if !c.Fixed {
-			fmt.Fprintf(&b, "| %s | %s | %s | calibration factor κ |\n", mdEscape("kappa["+c.File+"]"), mdEscape(c.File), constants.FormatParen(c.Kappa, c.Sigma))
-		}
-	}
-	if r.Rounding != nil {
-		fmt.Fprintf(&b, "\nValues rounded by sequential rounding and refitting (Le Roy 1998; rounding units from Watson's parameter sensitivity, 1977); χ² %.6g before, %.6g after rounding. σ are those of the unrounded fit.\n", r.Rounding.Chi2Before, r.Rounding.Chi2After)
-	}
-	if len(r.Derived) > 0 {
-		b.WriteString("\n## Derived constants\n\n| constant | species | value | unit | note |\n|---|---|---|---|---|\n")
-		for _, d := range r.Derived {
-			fmt.Fprintf(&b, "| %s | %s | %s | %s | %s |\n", d.Name, mdEscape(d.Species), constants.FormatParen(d.Value, d.Sigma), d.Unit, mdEscape(d.Note))
-		}
-	}
+	summaryStats(&b, r, rec)
+	summaryConstants(&b, r, rec)
 	b.WriteString("\n## Warnings\n\n")
 	if len(r.Warnings) == 0 {
 		b.WriteString("None.\n")
@@ -178,16 +153,8 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 	for _, s := range r.Warnings {
 		fmt.Fprintf(&b, "- %s\n", mdEscape(s))
 	}
-	b.WriteString("\n## Largest residuals\n\n| file:row | species | transition | o−c | (o−c)/unc | status |\n|---|---|---|---|---|---|\n")
-	for _, i := range largestResiduals(r.Lines, 15) {
-		l, lr := p.Lines[i], r.Lines[i]
-		st := "used"
-		if !lr.Used {
-			st = "rejected"
-		}
-		fmt.Fprintf(&b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, linelist.TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo), lr.OmC, l.Unit, lr.Norm, st)
-	}
-	if rec != nil && len(rec.Provenance.Inputs) > 0 {
+	summaryResiduals(&b, p, r)
+	if len(rec.Provenance.Inputs) > 0 {
 		b.WriteString("\n## Inputs\n\n")
 		for _, in := range rec.Provenance.Inputs {
 			fmt.Fprintf(&b, "- `%s` sha256 %s\n", strings.ReplaceAll(in.Path, "`", "'"), in.SHA256)
@@ -196,6 +163,77 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// unitSentence states the unit of the outputs.
+func unitSentence(u linelist.Unit) string {
+	if u.IsFrequency() {
+		return fmt.Sprintf("Units: %s for positions and residuals; each constant in the largest of %s, kHz, Hz in which it is at least 1 (its unit is beside it); 1 cm⁻¹ = 29 979.2458 MHz. The constants record keeps cm⁻¹.", u, u)
+	}
+	return "Units: cm⁻¹."
+}
+
+// summaryStats writes the statistics table of fit.md.
+func summaryStats(b *strings.Builder, r *Result, rec *constants.Record) {
+	b.WriteString("## Statistics\n\n| quantity | value |\n|---|---|\n")
+	st := r.Stats
+	fmt.Fprintf(b, "| lines given | %d |\n| lines used | %d |\n| lines rejected | %d |\n| parameters fitted | %d |\n| degrees of freedom | %d |\n", st.Lines, st.Used, st.Rejected, st.Params, st.DOF)
+	sText := fmt.Sprintf("%.4g", st.Sigma)
+	if math.IsNaN(st.Sigma) {
+		sText = "undefined (no degrees of freedom)"
+	}
+	fmt.Fprintf(b, "| dimensionless standard deviation s | %s |\n| rms (%s) | %.4g |\n", sText, r.Unit.Pretty(), rec.RMS())
+	if st.LinesMHz > 0 && st.LinesMHz < st.Used && !r.Unit.IsFrequency() {
+		fmt.Fprintf(b, "| rms of MHz and GHz lines (MHz) | %.4g |\n", st.RMSMHz)
+	}
+	fmt.Fprintf(b, "| condition number (scaled) | %.3g |\n| status | %s |\n\n", st.Condition, r.Status)
+}
+
+// summaryConstants writes the constants and derived constants of fit.md, as
+// the record shows them (constants.Record.ParamText: display unit, and the
+// digits sequential rounding kept).
+func summaryConstants(b *strings.Builder, r *Result, rec *constants.Record) {
+	b.WriteString("## Constants\n\n| parameter | species | value | unit | note |\n|---|---|---|---|---|\n")
+	for _, q := range rec.Parameters {
+		sp, note := q.Species, ""
+		switch {
+		case q.Element != "":
+			sp = q.Element
+		case q.Name == "kappa" && q.Fixed:
+			continue // the reference file
+		case q.Name == "kappa":
+			sp, note = q.File, "calibration factor κ"
+		case q.Fixed:
+			note = "fixed"
+		}
+		text, unit := rec.ParamText(q)
+		fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", mdEscape(q.ID()), mdEscape(sp), text, unit, note)
+	}
+	if r.Rounding != nil {
+		fmt.Fprintf(b, "\nValues rounded by sequential rounding and refitting (Le Roy 1998; rounding units from Watson's parameter sensitivity, 1977), written with every digit the rounding kept; χ² %.6g before, %.6g after rounding. σ are those of the unrounded fit.\n", r.Rounding.Chi2Before, r.Rounding.Chi2After)
+	}
+	if len(rec.Derived) > 0 {
+		b.WriteString("\n## Derived constants\n\n| constant | species | value | unit | note |\n|---|---|---|---|---|\n")
+		for _, d := range rec.Derived {
+			text, unit := rec.DerivedText(d)
+			fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", d.Name, mdEscape(d.Species), text, unit, mdEscape(d.Note))
+		}
+	}
+}
+
+// summaryResiduals writes the largest residuals of fit.md, o−c in the
+// display unit.
+func summaryResiduals(b *strings.Builder, p Problem, r *Result) {
+	b.WriteString("\n## Largest residuals\n\n| file:row | species | transition | o−c | (o−c)/unc | status |\n|---|---|---|---|---|---|\n")
+	for _, i := range largestResiduals(r.Lines, 15) {
+		l, lr := p.Lines[i], r.Lines[i]
+		st := "used"
+		if !lr.Used {
+			st = "rejected"
+		}
+		omc := r.Unit.FromWavenumber(l.Unit.ToWavenumber(lr.OmC))
+		fmt.Fprintf(b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, linelist.TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo), omc, r.Unit, lr.Norm, st)
+	}
 }
 
 // largestResiduals returns the indices of the k lines with the largest

@@ -13,6 +13,8 @@ import (
 	"bandwright/fit/model"
 	"bandwright/internal/csvcell"
 	"bandwright/units"
+
+	"gonum.org/v1/gonum/floats/scalar"
 )
 
 // TestWriteResidualsCSV writes residuals.csv for lines with awkward text
@@ -67,10 +69,16 @@ func TestWriteResidualsCSV(t *testing.T) {
 		if !lr.Used {
 			status = "rejected"
 		}
+		// Everything in the display unit (cm-1, Settings' zero value); the
+		// MHz line converted.
+		conv := func(x float64) float64 { return x }
+		if l.Unit == linelist.MHz {
+			conv = func(x float64) float64 { return x / units.MHzPerWavenumber }
+		}
 		rec := []string{n(l.File), strconv.Itoa(l.Row), l.Species, strconv.Itoa(l.VUp), strconv.Itoa(l.JUp), strconv.Itoa(l.VLo), strconv.Itoa(l.JLo),
-			linelist.BranchLetter(l.DeltaJ()), l.Unit.String(),
-			strconv.FormatFloat(l.Position, 'g', -1, 64), strconv.FormatFloat(l.Unc, 'g', -1, 64),
-			strconv.FormatFloat(lr.Calc, 'g', 12, 64), strconv.FormatFloat(lr.OmC, 'g', 6, 64), strconv.FormatFloat(lr.Norm, 'f', 3, 64),
+			linelist.BranchLetter(l.DeltaJ()), "cm-1",
+			strconv.FormatFloat(conv(l.Position), 'g', -1, 64), strconv.FormatFloat(conv(l.Unc), 'g', -1, 64),
+			strconv.FormatFloat(conv(lr.Calc), 'g', 12, 64), strconv.FormatFloat(conv(lr.OmC), 'g', 6, 64), strconv.FormatFloat(lr.Norm, 'f', 3, 64),
 			status, n(lr.Reason), n(l.Comment), n(l.Extra[0]), n(l.Extra[1])}
 		cw.Write(rec)
 	}
@@ -92,9 +100,29 @@ func TestWriteResidualsCSV(t *testing.T) {
 	if recs[5][16] != "'=1+2" || recs[0][18] != "'=HYPERLINK()" {
 		t.Errorf("formula cells %q, %q not neutralised", recs[5][16], recs[0][18])
 	}
-	// The MHz line's calc is in MHz.
-	if c, _ := strconv.ParseFloat(recs[6][11], 64); math.Abs(c-lines[5].Position) > 5*lines[5].Unc {
-		t.Errorf("MHz line calc %g, position %g MHz", c, lines[5].Position)
+	// The MHz line's calc is in the display unit, cm-1.
+	if c, _ := strconv.ParseFloat(recs[6][11], 64); math.Abs(c-lines[5].Wavenumber()) > 5*lines[5].UncWavenumber() {
+		t.Errorf("MHz line calc %g cm-1, position %g cm-1", c, lines[5].Wavenumber())
+	}
+	// With the display unit MHz, every row is in MHz and the MHz line is
+	// written exactly as read.
+	r.Unit = linelist.MHz
+	got.Reset()
+	if err := WriteResiduals(&got, Problem{Lines: lines, Model: m}, r, extra); err != nil {
+		t.Fatal(err)
+	}
+	recs, err = csv.NewReader(bytes.NewReader(got.Bytes())).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, rec := range recs[1:] {
+		obs, _ := strconv.ParseFloat(rec[9], 64)
+		if rec[8] != "MHz" || !scalar.EqualWithinAbsOrRel(obs, lines[i].Wavenumber()*units.MHzPerWavenumber, 0, 1e-15) {
+			t.Errorf("row %d: %s %s, want %.12g MHz", i+1, rec[9], rec[8], lines[i].Wavenumber()*units.MHzPerWavenumber)
+		}
+	}
+	if recs[6][9] != strconv.FormatFloat(lines[5].Position, 'g', -1, 64) {
+		t.Errorf("MHz line written %s, read %v", recs[6][9], lines[5].Position)
 	}
 }
 

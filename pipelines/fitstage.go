@@ -6,6 +6,7 @@ package pipelines
 
 import (
 	"io"
+	"strings"
 	"time"
 
 	"bandwright/constants"
@@ -30,7 +31,11 @@ type FitOptions struct {
 	BOBTerms  []string
 	Calibrate bool
 	Reference string
-	Out       string
+	// Unit is the unit the outputs show constants and residuals in: "cm-1",
+	// "MHz" or "GHz"; "": the unit of the lines when they all share one,
+	// else cm-1 (LinesUnit).
+	Unit string
+	Out  string
 	// Names, when set, replaces the input paths in the lines' file column,
 	// residuals and provenance (the chain fits files it keeps in a temporary
 	// folder, nightly fits private snapshots).
@@ -114,8 +119,12 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
+	unit, err := displayUnit(o.Unit, list.Lines)
+	if err != nil {
+		return nil, err
+	}
 	p := fit.Problem{Lines: list.Lines, Model: m}
-	s := fit.Settings{Reject: o.Reject, Round: o.Round, Calibrate: o.Calibrate}
+	s := fit.Settings{Reject: o.Reject, Round: o.Round, Calibrate: o.Calibrate, Unit: unit}
 	res, err := fit.Fit(p, s)
 	if err != nil {
 		return nil, err
@@ -146,10 +155,38 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	}
 	rec.Provenance.Options = map[string]any{
 		"model": kind, "terms": m.Params()[0].Name, "fix": o.Fix, "reject": rej, "round": o.Round,
-		"bob": o.BOBTerms, "calibrate": o.Calibrate, "reference": m.Species()[0],
+		"bob": o.BOBTerms, "calibrate": o.Calibrate, "reference": m.Species()[0], "unit": unit.String(),
 	}
 	rec.Provenance.Options["terms"] = termsOf(o.Terms, kind)
 	return &FitOutcome{Problem: p, Result: res, Record: rec, Extra: list.Extra}, nil
+}
+
+// displayUnit returns the unit named by flag ("cm-1", "MHz", "GHz"), or for
+// "" the unit of the lines (LinesUnit).
+func displayUnit(flag string, lines []linelist.Line) (linelist.Unit, error) {
+	if strings.TrimSpace(flag) == "" {
+		return LinesUnit(lines), nil
+	}
+	u, err := linelist.ParseUnit(flag)
+	if err != nil {
+		return 0, failure.Errorf(failure.BadInput, "--unit %q: use %s", flag, linelist.UnitChoices)
+	}
+	return u, nil
+}
+
+// LinesUnit returns the unit all lines are given in, or the default unit
+// (cm-1) when they mix units: what the outputs show when --unit is not given.
+func LinesUnit(lines []linelist.Line) linelist.Unit {
+	if len(lines) == 0 {
+		return linelist.DefaultUnit
+	}
+	u := lines[0].Unit
+	for i := range lines {
+		if lines[i].Unit != u {
+			return linelist.DefaultUnit
+		}
+	}
+	return u
 }
 
 func termsOf(t []string, kind string) []string {

@@ -14,6 +14,7 @@ import (
 
 	"bandwright/assign"
 	"bandwright/fit"
+	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
@@ -73,6 +74,7 @@ type FitSection struct {
 	BOBTerms  []string `toml:"bob_terms"`
 	Calibrate bool     `toml:"calibrate"`
 	Reference string   `toml:"reference"`
+	Unit      string   `toml:"unit"`
 }
 
 // ThermoSection holds the options of `bandwright thermo`.
@@ -250,6 +252,9 @@ func (f *FitSection) check(at keyAt) error {
 	default:
 		return fmt.Errorf("pipelines: %s: fit.model: %q; use \"term-values\" or \"dunham\"", at("fit", "model"), f.Model)
 	}
+	if _, err := linelist.ParseUnit(f.Unit); f.Unit != "" && err != nil {
+		return fmt.Errorf("pipelines: %s: fit.unit: %q; use %s", at("fit", "unit"), f.Unit, linelist.UnitChoices)
+	}
 	return nil
 }
 
@@ -304,7 +309,7 @@ func (r *ReportSection) check(at keyAt) error {
 func (p *Pipeline) FitOptions(inputs []string, out string) FitOptions {
 	o := FitOptions{Inputs: inputs, Out: out, Reject: fit.DefaultReject}
 	if f := p.Fit; f != nil {
-		o.Model, o.Terms, o.Fix, o.Round, o.Calibrate, o.Reference = f.Model, f.Terms, f.Fix, f.Round, f.Calibrate, f.Reference
+		o.Model, o.Terms, o.Fix, o.Round, o.Calibrate, o.Reference, o.Unit = f.Model, f.Terms, f.Fix, f.Round, f.Calibrate, f.Reference, f.Unit
 		o.BOBTerms = f.BOBTerms
 		if f.BOB && len(o.BOBTerms) == 0 {
 			o.BOBTerms = fit.DefaultBOBTerms()

@@ -5,14 +5,18 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
+	"strings"
 
 	"github.com/google/renameio/v2"
 
+	"bandwright/assign"
 	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
+	"bandwright/thermo"
 )
 
 // LoadConstants reads a constants record from a file.
@@ -36,34 +40,201 @@ func LoadConstants(path string) (*constants.Record, *constants.Set, error) {
 	return rec, c, nil
 }
 
-// RunPredict writes the predicted lines of the given bands to out (atomically)
-// and returns how many were written.
-func RunPredict(constants, sp string, bands []linelist.Band, jmax int, branches []string, out string) (int, error) {
-	_, c, err := LoadConstants(constants)
+// PredictOptions are the options of `bandwright predict`.
+type PredictOptions struct {
+	Constants string // constants.json
+	Species   string // "": every species of the record
+	Bands     []linelist.Band
+	JMax      int // highest lower-state J
+	// Branches are branch letters; none: those of the spectrum (assign.Spectrum.DeltaJ).
+	Branches []string
+	// Spectrum is "ir", "raman" or "rotation" (the selection rules of the
+	// branches and intensities); "": rotation for v′ = v″, infrared otherwise.
+	Spectrum string
+	// Temperature in K for relative intensities; 0: no intensity column.
+	Temperature float64
+	// Unit of the positions written: "cm-1", "MHz" or "GHz"; "": the record's
+	// display unit (that of its fit's outputs).
+	Unit string
+	Out  string
+}
+
+// PredictOutcome is what a prediction wrote.
+type PredictOutcome struct {
+	Lines    int
+	Unit     linelist.Unit
+	Warnings []string // branches the spectrum does not have, …
+}
+
+// RunPredict writes the predicted lines of the given bands to o.Out
+// (atomically): positions with σ in o.Unit, the extrapolated column and, with
+// a temperature, relative intensities.
+func RunPredict(o PredictOptions) (*PredictOutcome, error) {
+	rec, c, err := LoadConstants(o.Constants)
 	if err != nil {
-		return 0, err
+		return nil, err
+	}
+	oc := &PredictOutcome{Unit: rec.ShownIn()}
+	if o.Unit != "" {
+		if oc.Unit, err = linelist.ParseUnit(o.Unit); err != nil {
+			return nil, failure.Errorf(failure.BadInput, "--unit %q: use %s", o.Unit, linelist.UnitChoices)
+		}
+	}
+	if T := o.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
+		return nil, failure.Errorf(failure.BadInput, "--temperature %g K: give a temperature within %g…%g K", T, thermo.MinTemperature, thermo.MaxTemperature)
 	}
 	spp := c.Model.Species()
-	if sp != "" {
-		spp = []string{sp}
+	if o.Species != "" {
+		spp = []string{o.Species}
 	}
 	var all []fit.Prediction
-	for _, s := range spp {
-		ps, err := fit.Predict(c, s, bands, jmax, branches)
+	for _, sp := range spp {
+		ps, err := predictSpecies(c, sp, o, oc)
 		if err != nil {
-			return 0, failure.Wrap(failure.BadInput, err)
+			return nil, err
 		}
 		all = append(all, ps...)
 	}
-	if a, _ := filepath.Abs(out); a != "" {
-		if b, _ := filepath.Abs(constants); a == b {
-			return 0, failure.Errorf(failure.BadInput, "predict: --out %s would overwrite the constants record", out)
+	fit.MarkExtrapolated(all, rec.Observed)
+	if a, _ := filepath.Abs(o.Out); a != "" {
+		if b, _ := filepath.Abs(o.Constants); a == b {
+			return nil, failure.Errorf(failure.BadInput, "--out %s would overwrite the constants record", o.Out)
 		}
 	}
-	if err := writeFileAtomic(out, func(w io.Writer) error { return fit.WritePredictions(w, all) }); err != nil {
-		return 0, err
+	if err := writeFileAtomic(o.Out, func(w io.Writer) error { return fit.WritePredictions(w, all, oc.Unit, o.Temperature > 0) }); err != nil {
+		return nil, err
 	}
-	return len(all), nil
+	oc.Lines = len(all)
+	return oc, nil
+}
+
+// predictSpecies predicts the bands of one species: the transitions of each
+// band's branches, their positions and, with a temperature, intensities.
+func predictSpecies(c *constants.Set, sp string, o PredictOptions, oc *PredictOutcome) ([]fit.Prediction, error) {
+	var intens map[assign.Spectrum]*assign.IntensityModel
+	if o.Temperature > 0 {
+		intens = map[assign.Spectrum]*assign.IntensityModel{}
+	}
+	var out []fit.Prediction
+	for _, b := range o.Bands {
+		spec, branches, err := bandBranches(b, o.Spectrum, o.Branches, sp, oc)
+		if err != nil {
+			return nil, err
+		}
+		ts, err := fit.BandTransitions(sp, b, branches, o.JMax)
+		if err != nil {
+			return nil, failure.Wrap(failure.BadInput, err)
+		}
+		ps, err := fit.PredictTransitions(c, ts)
+		if err != nil {
+			if failure.KindOf(err) == failure.CannotCompute {
+				return nil, err
+			}
+			return nil, failure.Wrap(failure.BadInput, err)
+		}
+		if intens != nil {
+			if err := addIntensities(ps, c, sp, spec, o.Temperature, intens); err != nil {
+				return nil, err
+			}
+		}
+		out = append(out, ps...)
+	}
+	return out, nil
+}
+
+// bandBranches returns the spectrum of band b (o.Spectrum, or rotation for
+// v′ = v″ and infrared otherwise) and the branches to predict: those asked
+// for, or the spectrum's. A branch the spectrum does not have in a ¹Σ–¹Σ
+// band is still predicted, with a warning (its intensity is 0).
+func bandBranches(b linelist.Band, spectrum string, asked []string, sp string, oc *PredictOutcome) (assign.Spectrum, []string, error) {
+	spec := assign.Infrared
+	if b.VUp == b.VLo {
+		spec = assign.Rotation
+	}
+	if spectrum != "" {
+		var err error
+		if spec, err = assign.ParseSpectrum(spectrum); err != nil {
+			return 0, nil, failure.Wrap(failure.BadInput, err)
+		}
+	}
+	djs, err := spec.DeltaJ(b)
+	if err != nil {
+		return 0, nil, failure.Wrap(failure.BadInput, err)
+	}
+	if len(asked) == 0 {
+		var br []string
+		for _, dj := range djs {
+			br = append(br, linelist.BranchLetter(dj))
+		}
+		return spec, br, nil
+	}
+	for _, name := range asked {
+		dj, ok := linelist.BranchDeltaJ(name)
+		if !ok || slices.Contains(djs, dj) {
+			continue
+		}
+		oc.Warnings = append(oc.Warnings, branchWarning(b, sp, spec, name, dj, djs))
+	}
+	return spec, asked, nil
+}
+
+// branchWarning says that branch name (ΔJ = dj) is not among the branches djs
+// a ¹Σ–¹Σ band b of spectrum spec has.
+func branchWarning(b linelist.Band, sp string, spec assign.Spectrum, name string, dj int, djs []int) string {
+	var have []string
+	for _, d := range djs {
+		have = append(have, linelist.BranchLetter(d))
+	}
+	what := fmt.Sprintf("its %s lines are written as asked, with intensity 0", name)
+	switch {
+	case b.VUp == b.VLo && dj == 0:
+		what = fmt.Sprintf("no %s lines are written (within one level they have zero frequency)", name)
+	case b.VUp == b.VLo && dj < 0:
+		what = fmt.Sprintf("no %s lines are written (within one level they are the lines of ΔJ = %+d read backwards)", name, -dj)
+	}
+	dJ := "0"
+	if dj != 0 {
+		dJ = fmt.Sprintf("%+d", dj)
+	}
+	return fmt.Sprintf("band %s of %s: a ¹Σ–¹Σ band of %s spectrum has no %s branch (ΔJ = %s; it has %s); %s",
+		b, sp, spectrumName(spec), name, dJ, strings.Join(have, ", "), what)
+}
+
+// spectrumName names a spectrum with its article, for messages.
+func spectrumName(s assign.Spectrum) string {
+	switch s {
+	case assign.Raman:
+		return "a Raman"
+	case assign.Rotation:
+		return "a pure-rotation"
+	}
+	return "an infrared"
+}
+
+// addIntensities sets the relative intensities of ps at temperature T with
+// assign's intensity model (Boltzmann population, 2J+1 and Hönl–London
+// factors, nuclear-spin weights, natural abundance; one model per spectrum).
+func addIntensities(ps []fit.Prediction, c *constants.Set, sp string, spec assign.Spectrum, T float64, models map[assign.Spectrum]*assign.IntensityModel) error {
+	im := models[spec]
+	if im == nil {
+		st, err := assign.StartFromConstants(c, "", nil)
+		if err != nil {
+			return failure.Wrap(failure.BadInput, err)
+		}
+		if err := st.Select([]string{sp}); err != nil {
+			return failure.Wrap(failure.BadInput, err)
+		}
+		if im, err = assign.NewIntensityModel(spec, T, st.Species[0]); err != nil {
+			return failure.Wrap(failure.BadInput, err)
+		}
+		models[spec] = im
+	}
+	for i := range ps {
+		p := &ps[i]
+		t := assign.Transition{Species: sp, VUp: p.Up.V, JUp: p.Up.J, VLo: p.Lo.V, JLo: p.Lo.J}
+		p.Intensity = im.RelativeIntensity(t, p.Position)
+	}
+	return nil
 }
 
 // writeFileAtomic writes a single file through a temporary file renamed into

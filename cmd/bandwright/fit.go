@@ -49,6 +49,7 @@ func fitCommand() *cli.Command {
 			&cli.StringSliceFlag{Name: "bob-terms", Usage: "the Dunham terms that get breakdown terms (implies --bob)"},
 			&cli.BoolFlag{Name: "calibrate", Usage: "float a multiplicative calibration factor per file (the first file is the reference)"},
 			&cli.StringFlag{Name: "reference", Usage: "reference isotopologue of a Dunham fit (default: the first in the input)"},
+			&cli.StringFlag{Name: "unit", Usage: "unit of the constants, rms and residuals shown: cm-1, MHz or GHz (MHz: each constant in MHz, kHz or Hz; default: the lines' unit)"},
 			&cli.StringFlag{Name: "out", Value: "bandwright-fit", Usage: "output folder"},
 		},
 		Action: func(c *cli.Context) error {
@@ -65,7 +66,7 @@ func fitCommand() *cli.Command {
 			o := pipelines.FitOptions{
 				Inputs: c.Args().Slice(), Model: c.String("model"), Terms: splitList(c.StringSlice("terms")),
 				Fix: c.StringSlice("fix"), Reject: c.Float64("reject"), Round: c.Bool("round"), BOBTerms: bob,
-				Calibrate: c.Bool("calibrate"), Reference: c.String("reference"), Out: c.String("out"),
+				Calibrate: c.Bool("calibrate"), Reference: c.String("reference"), Unit: c.String("unit"), Out: c.String("out"),
 			}
 			oc, err := pipelines.RunFit(o)
 			if err != nil {
@@ -76,7 +77,7 @@ func fitCommand() *cli.Command {
 			if math.IsNaN(st.Sigma) {
 				sText = "undefined (no degrees of freedom)"
 			}
-			fmt.Fprintf(c.App.Writer, "fit: %d lines (%d used, %d rejected), %d parameters, s = %s, rms %.3g cm-1\n", st.Lines, st.Used, st.Rejected, st.Params, sText, st.RMSCm)
+			fmt.Fprintf(c.App.Writer, "fit: %d lines (%d used, %d rejected), %d parameters, s = %s, rms %.3g %s\n", st.Lines, st.Used, st.Rejected, st.Params, sText, oc.Record.RMS(), oc.Result.Unit)
 			for _, w := range oc.Result.Warnings {
 				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
 			}
@@ -88,15 +89,21 @@ func fitCommand() *cli.Command {
 
 func predictCommand() *cli.Command {
 	return &cli.Command{
-		Name:         "predict",
-		Usage:        "calculate line positions with propagated σ from a constants record",
-		ArgsUsage:    "CONSTANTS.json",
+		Name:      "predict",
+		Usage:     "calculate line positions with propagated σ from a constants record",
+		ArgsUsage: "CONSTANTS.json",
+		Description: "Writes the lines of the given bands as CSV in the line-list columns (species, v_up, J_up, v_lo, J_lo, branch, position, unc, unit),\n" +
+			"then extrapolated (yes: a level beyond those the fitted lines reach) and, with --temperature, intensity (relative to the strongest line).\n" +
+			"Positions carry as many decimals as their 1σ needs for two significant digits.",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "species", Usage: "isotopologue (default: every species in the record)"},
 			&cli.StringFlag{Name: "bands", Value: "1-0", Usage: "bands v′-v″, comma-separated (0-0: pure rotation)"},
 			&cli.IntFlag{Name: "jmax", Value: 40, Usage: "highest lower-state J"},
-			&cli.StringSliceFlag{Name: "branches", Usage: "branches O,P,Q,R,S (default P,R; R for pure rotation)"},
+			&cli.StringSliceFlag{Name: "branches", Usage: "branches O,P,Q,R,S (default: those of the spectrum — P,R infrared, R pure rotation, O,Q,S Raman)"},
+			&cli.StringFlag{Name: "spectrum", Usage: "selection rules and intensities: ir, raman or rotation (default: rotation for v′ = v″, ir otherwise)"},
+			&cli.Float64Flag{Name: "temperature", Usage: "temperature in K for relative intensities (Boltzmann, 2J+1, Hönl–London, nuclear spin); default: no intensity column"},
+			&cli.StringFlag{Name: "unit", Usage: "unit of the positions: cm-1, MHz or GHz (default: the unit of the fit's outputs)"},
 			&cli.StringFlag{Name: "out", Value: "predicted.csv", Usage: "output CSV file"},
 		},
 		Action: func(c *cli.Context) error {
@@ -110,11 +117,18 @@ func predictCommand() *cli.Command {
 			if c.Int("jmax") < 0 || c.Int("jmax") > 1000 {
 				return usageExit("predict: --jmax must be within 0…1000")
 			}
-			n, err := pipelines.RunPredict(c.Args().First(), c.String("species"), bands, c.Int("jmax"), splitList(c.StringSlice("branches")), c.String("out"))
+			oc, err := pipelines.RunPredict(pipelines.PredictOptions{
+				Constants: c.Args().First(), Species: c.String("species"), Bands: bands, JMax: c.Int("jmax"),
+				Branches: splitList(c.StringSlice("branches")), Spectrum: c.String("spectrum"),
+				Temperature: c.Float64("temperature"), Unit: c.String("unit"), Out: c.String("out"),
+			})
 			if err != nil {
 				return err
 			}
-			fmt.Fprintf(c.App.Writer, "predict: %d lines written to %s\n", n, c.String("out"))
+			for _, w := range oc.Warnings {
+				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
+			}
+			fmt.Fprintf(c.App.Writer, "predict: %d lines (%s) written to %s\n", oc.Lines, oc.Unit, c.String("out"))
 			return nil
 		},
 	}

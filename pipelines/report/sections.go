@@ -1,6 +1,7 @@
 package report
 
 import (
+	"fmt"
 	"strconv"
 	"strings"
 
@@ -73,9 +74,9 @@ func glance(d *document, f *folder) {
 		{"degrees of freedom", strconv.Itoa(st.DOF)},
 		{"χ²", num(st.Chi2, 6)},
 		{"dimensionless standard deviation s", num(st.Sigma, 4)},
-		{"rms of o−c (cm⁻¹)", num(st.RMSCm, 4)},
+		{"rms of o−c (" + rec.ShownIn().Pretty() + ")", num(rec.RMS(), 4)},
 	}
-	if st.LinesMHz > 0 {
+	if st.LinesMHz > 0 && st.LinesMHz < st.Used && !rec.ShownIn().IsFrequency() {
 		rows = append(rows, []string{"rms of o−c of the MHz lines (MHz)", num(st.RMSMHz, 4)})
 	}
 	rows = append(rows, []string{"condition number (scaled design matrix)", num(st.Condition, 3)})
@@ -127,10 +128,14 @@ func glance(d *document, f *folder) {
 func constantsSection(d *document, f *folder) {
 	rec := f.record
 	s := d.section("constants", "Constants")
-	s.para("Values in %s with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. σ and the covariance are %s.", unitName(rec.Unit), rec.CovarianceConvention)
+	units := unitName(rec.Unit)
+	if u := rec.ShownIn(); u.IsFrequency() {
+		units = fmt.Sprintf("%s, kHz or Hz (each constant in the largest in which it is at least 1; constants.json keeps %s)", u, unitName(rec.Unit))
+	}
+	s.para("Values in %s with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. σ and the covariance are %s.", units, rec.CovarianceConvention)
 	t := &table{Caption: "Fitted and fixed parameters.", Head: []string{"parameter", "level or indices", "applies to", "value (1σ)", "unit", "role"}, Numeric: []bool{false, false, false, true, false, false}}
 	for _, p := range rec.Parameters {
-		idx, to, unit, role := "", p.Species, unitName(rec.Unit), "fitted"
+		idx, to, role := "", p.Species, "fitted"
 		switch {
 		case p.V != nil:
 			idx = sprintf("v = %d", *p.V)
@@ -144,20 +149,21 @@ func constantsSection(d *document, f *folder) {
 			role = "fixed"
 		}
 		name := p.ID()
+		text, unit := rec.ParamText(p)
 		if p.Name == "kappa" {
-			to, unit = p.File, "1"
+			to = p.File
 			if p.Fixed {
 				role = "reference file (κ = 0)"
 			} else {
 				role = "calibration factor, fitted"
 			}
 		}
-		t.Rows = append(t.Rows, []string{name, idx, to, paren(p.Value, p.Sigma), unit, role})
+		t.Rows = append(t.Rows, []string{name, idx, to, text, unitName(unit), role})
 	}
 	d.table(s, t)
 	if r := rec.Rounding; r != nil {
 		s.para("The values were rounded one after another (sequential rounding and refitting, Le Roy 1998, with rounding units from Watson's parameter sensitivity, 1977); χ² %s before rounding and %s after. σ are those of the unrounded fit.", num(r.Chi2Before, 7), num(r.Chi2After, 7))
-		rt := &table{Caption: "Rounding, in the order it was done.", Head: []string{"parameter", "unrounded", "rounded", "rounding unit", "conditional σ"}, Numeric: []bool{false, true, true, true, true}}
+		rt := &table{Caption: "Rounding, in the order it was done (values of constants.json, " + unitName(rec.Unit) + ").", Head: []string{"parameter", "unrounded", "rounded", "rounding unit", "conditional σ"}, Numeric: []bool{false, true, true, true, true}}
 		for _, st := range r.Steps {
 			rt.Rows = append(rt.Rows, []string{st.Param, num(st.Unrounded, 12), num(st.Rounded, 12), num(st.Unit, 3), num(st.CondSigma, 3)})
 		}
@@ -166,7 +172,8 @@ func constantsSection(d *document, f *folder) {
 	if len(rec.Derived) > 0 {
 		dt := &table{Caption: "Derived constants, σ propagated through the full covariance (σ² = gᵀCg).", Head: []string{"constant", "species", "value (1σ)", "unit", "how"}, Numeric: []bool{false, false, true, false, false}}
 		for _, x := range rec.Derived {
-			dt.Rows = append(dt.Rows, []string{x.Name, x.Species, paren(x.Value, x.Sigma), unitName(x.Unit), x.Note})
+			text, unit := rec.DerivedText(x)
+			dt.Rows = append(dt.Rows, []string{x.Name, x.Species, text, unitName(unit), x.Note})
 		}
 		d.table(s, dt)
 	} else {
