@@ -135,6 +135,9 @@ func checkProblem(p *Problem, s Settings) error {
 	if len(p.Bands) == 0 {
 		return errors.New("assign: no bands given (e.g. 1-0,2-1)")
 	}
+	if err := p.Start.CheckBands(p.Bands); err != nil {
+		return err
+	}
 	if p.Temperature == 0 {
 		p.Temperature = DefaultTemperature
 	}

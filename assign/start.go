@@ -18,6 +18,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
 
@@ -43,6 +44,12 @@ type StartSpecies struct {
 	// own constants were given.
 	ScaledFrom string
 	Iso        species.Isotopologue
+	// lacks names the constants a start file left out that bands other than
+	// pure rotation in v = 0 need ("omega_e, alpha_e"; "the equilibrium
+	// constants" for a species given by B_0), and row the line of its
+	// [[species]] table; empty for complete constants (see CheckBands).
+	lacks string
+	row   int
 }
 
 // Start is the set of species and starting constants of an assignment.
@@ -63,18 +70,28 @@ type startEntry struct {
 	GammaE    *float64 `toml:"gamma_e"`
 	De        *float64 `toml:"D_e"`
 	BetaE     *float64 `toml:"beta_e"`
+	B0        *float64 `toml:"B_0"`
+	D0        *float64 `toml:"D_0"`
 	Abundance *float64 `toml:"abundance"`
 }
 
 type startFile struct {
+	// Unit is the unit of the constants: cm-1 (default), MHz or GHz.
+	Unit    *string      `toml:"unit"`
 	Species []startEntry `toml:"species"`
 }
 
 // startKeys are the keys of a [[species]] table, in the order messages list them.
-var startKeys = []string{"name", "omega_e", "omega_e_x_e", "omega_e_y_e", "B_e", "alpha_e", "gamma_e", "D_e", "beta_e", "abundance"}
+var startKeys = []string{"name", "omega_e", "omega_e_x_e", "omega_e_y_e", "B_e", "alpha_e", "gamma_e", "D_e", "beta_e", "B_0", "D_0", "abundance"}
 
-// requiredConstants are the keys a species with its own constants must give.
+// requiredConstants are the keys a species with its own constants must give
+// for any band other than pure rotation in v = 0, which needs only B_e or
+// B_0 (and optionally D_e or D_0).
 var requiredConstants = []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e", "D_e"}
+
+// groundKeys are the keys of the v = 0 form, B_0 and D_0, which cannot be
+// mixed with the equilibrium constants.
+var equilibriumKeys = []string{"omega_e", "omega_e_x_e", "omega_e_y_e", "B_e", "alpha_e", "gamma_e", "D_e", "beta_e"}
 
 // ReadStartFile reads a start file; see ReadStart.
 func ReadStartFile(path string) (*Start, error) {
@@ -90,7 +107,7 @@ func ReadStartFile(path string) (*Start, error) {
 }
 
 // ReadStart reads starting constants in the equilibrium notation of the trade
-// (TOML; cm⁻¹):
+// (TOML; cm⁻¹, or the unit of a top-level unit = "MHz" or "GHz"):
 //
 //	[[species]]
 //	name = "12C16O"
@@ -104,8 +121,12 @@ func ReadStartFile(path string) (*Start, error) {
 // with optional omega_e_y_e (ωeye), gamma_e (γe) and beta_e (βe). They are
 // turned into a Dunham expansion E(v, J) = Σ Y_kl (v+½)^k [J(J+1)]^l with
 // Y10 = ωe, Y20 = −ωexe, Y30 = ωeye, Y01 = Be, Y11 = −αe, Y21 = γe,
-// Y02 = −De, Y12 = −βe. A [[species]] table with a name (and optionally an
-// abundance) but no constants asks for that isotopologue too: its constants
+// Y02 = −De, Y12 = −βe. For pure rotation in v = 0 only B_e (and optionally
+// D_e) is needed, or instead B_0 and D_0, the constants of v = 0 (Y01 = B_0,
+// Y02 = −D_0, no vibrational dependence); the bands of an assignment are
+// checked against what each species gives (CheckBands). A [[species]] table
+// with a name (and optionally an abundance) but no constants asks for that
+// isotopologue too: its constants
 // follow by the Dunham mass scaling Y_kl ∝ μ^−(k+2l)/2 from the first listed
 // isotopologue of the same molecule that has constants. Unknown keys, missing
 // or non-finite values and unknown isotopologues are errors naming the file,
@@ -115,6 +136,15 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 	f, loc, ok := decodeStart(r, c)
 	if !ok {
 		return nil, inputError(c)
+	}
+	unit := linelist.Wavenumber
+	if f.Unit != nil {
+		u, err := linelist.ParseUnit(*f.Unit)
+		if err != nil {
+			c.Add(loc.find(-2, "unit"), "unit", "unknown unit %q: use %s", *f.Unit, linelist.UnitChoices)
+			return nil, inputError(c)
+		}
+		unit = u
 	}
 	var gs []givenSpecies
 	seen := map[string]int{}
@@ -128,7 +158,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 	}
 	st := &Start{File: name}
 	for _, g := range gs {
-		if sp, ok := startSpecies(c, g, gs); ok {
+		if sp, ok := startSpecies(c, g, gs, unit); ok {
 			st.Species = append(st.Species, sp)
 		}
 	}
@@ -189,12 +219,14 @@ func decodeStart(r io.Reader, c *linelist.Collector) (startFile, *keyLocator, bo
 }
 
 // givenSpecies is one checked [[species]] table: its isotopologue, entry and
-// line, and whether it gives constants of its own.
+// line, whether it gives constants of its own, and what those lack for
+// bands other than pure rotation in v = 0 (StartSpecies.lacks).
 type givenSpecies struct {
-	iso  species.Isotopologue
-	e    startEntry
-	row  int
-	full bool
+	iso   species.Isotopologue
+	e     startEntry
+	row   int
+	full  bool
+	lacks string
 }
 
 // checkStartEntry checks the i-th [[species]] table: its name (an
@@ -224,7 +256,7 @@ func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry
 	}
 	seen[iso.Label] = i
 	vals := map[string]*float64{"omega_e": e.OmegaE, "omega_e_x_e": e.OmegaExe, "omega_e_y_e": e.OmegaEye, "B_e": e.Be,
-		"alpha_e": e.AlphaE, "gamma_e": e.GammaE, "D_e": e.De, "beta_e": e.BetaE, "abundance": e.Abundance}
+		"alpha_e": e.AlphaE, "gamma_e": e.GammaE, "D_e": e.De, "beta_e": e.BetaE, "B_0": e.B0, "D_0": e.D0, "abundance": e.Abundance}
 	nConst := 0
 	for _, k := range startKeys[1:] {
 		v := vals[k]
@@ -238,35 +270,61 @@ func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry
 			c.Add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be a finite number")
 		}
 	}
-	for _, k := range []string{"omega_e", "B_e", "abundance"} {
+	for _, k := range []string{"omega_e", "B_e", "B_0", "abundance"} {
 		if v := vals[k]; v != nil && !(*v > 0) {
 			c.Add(at(k), fmt.Sprintf("%s.%s", iso.Label, k), "must be > 0, got %g", *v)
 		}
 	}
-	if v := vals["D_e"]; v != nil && *v < 0 {
-		c.Add(at("D_e"), iso.Label+".D_e", "must be ≥ 0 (De > 0 for a bound state), got %g", *v)
+	for _, k := range []string{"D_e", "D_0"} {
+		if v := vals[k]; v != nil && *v < 0 {
+			c.Add(at(k), iso.Label+"."+k, "must be ≥ 0 (D > 0 for a bound state), got %g", *v)
+		}
 	}
-	full := nConst > 0
-	if full {
-		var miss []string
-		for _, k := range requiredConstants {
-			if vals[k] == nil {
-				miss = append(miss, k)
+	g := givenSpecies{iso: iso, e: e, row: row, full: nConst > 0}
+	if g.full {
+		g.lacks = checkConstantSet(c, row, iso.Label, vals)
+	}
+	return g, true
+}
+
+// checkConstantSet checks which constants a species with constants gives: a
+// rotational constant (B_e, or B_0 of the v = 0 form, which excludes the
+// equilibrium constants), and returns what bands other than pure rotation in
+// v = 0 would still need ("" when nothing).
+func checkConstantSet(c *linelist.Collector, row int, label string, vals map[string]*float64) string {
+	if vals["B_0"] != nil || vals["D_0"] != nil {
+		var mixed []string
+		for _, k := range equilibriumKeys {
+			if vals[k] != nil {
+				mixed = append(mixed, k)
 			}
 		}
-		if len(miss) > 0 {
-			c.Add(row, iso.Label, "missing %s (a species with constants needs %s; leave out all constants to scale them from another isotopologue)",
-				strings.Join(miss, ", "), strings.Join(requiredConstants, ", "))
+		switch {
+		case len(mixed) > 0:
+			c.Add(row, label, "B_0 and D_0 give the constants of v = 0 alone; leave out %s, or give the equilibrium constants (%s) instead", strings.Join(mixed, ", "), strings.Join(requiredConstants, ", "))
+		case vals["B_0"] == nil:
+			c.Add(row, label, "D_0 without B_0: give B_0 too")
+		}
+		return "the equilibrium constants " + strings.Join(requiredConstants, ", ") + " (B_0 and D_0 describe v = 0 only)"
+	}
+	if vals["B_e"] == nil {
+		c.Add(row, label, "missing B_e (or B_0): a species with constants needs a rotational constant; leave out all constants to scale them from another isotopologue")
+		return ""
+	}
+	var miss []string
+	for _, k := range requiredConstants {
+		if vals[k] == nil {
+			miss = append(miss, k)
 		}
 	}
-	return givenSpecies{iso: iso, e: e, row: row, full: full}, true
+	return strings.Join(miss, ", ")
 }
 
 // startSpecies builds the species of table g: its own constants, or those of
 // the first table of gs of the same molecule with constants, mass-scaled.
 // Problems go to c; it reports false when the species cannot be built.
-func startSpecies(c *linelist.Collector, g givenSpecies, gs []givenSpecies) (StartSpecies, bool) {
-	sp := StartSpecies{Label: g.iso.Label, Iso: g.iso}
+func startSpecies(c *linelist.Collector, g givenSpecies, gs []givenSpecies, unit linelist.Unit) (StartSpecies, bool) {
+	sp := StartSpecies{Label: g.iso.Label, Iso: g.iso, lacks: g.lacks, row: g.row}
 	if g.e.Abundance != nil {
 		sp.Abundance = *g.e.Abundance
 	} else {
@@ -286,8 +344,9 @@ func startSpecies(c *linelist.Collector, g givenSpecies, gs []givenSpecies) (Sta
 			return sp, false
 		}
 		sp.ScaledFrom = ref.iso.Label
+		sp.lacks = ref.lacks
 	}
-	cs, idx, err := dunhamStart(ref.iso, g.iso, ref.e)
+	cs, idx, err := dunhamStart(ref.iso, g.iso, ref.e, unit)
 	if err != nil {
 		c.AddErr(g.row, g.iso.Label, err.Error(), err)
 		return sp, false
@@ -305,16 +364,19 @@ func tomlReason(err error) string {
 }
 
 // dunhamStart builds constants without covariance for target from the
-// equilibrium constants of ref (target == ref, or an isotopologue of the same
-// molecule reached by mass scaling). It returns the constants and the species
-// index of target.
-func dunhamStart(ref, target species.Isotopologue, e startEntry) (*constants.Set, int, error) {
+// equilibrium constants of ref, given in unit (target == ref, or an
+// isotopologue of the same molecule reached by mass scaling). B_0 and D_0
+// stand for Y01 and −Y02 without vibrational dependence. It returns the
+// constants and the species index of target.
+func dunhamStart(ref, target species.Isotopologue, e startEntry, unit linelist.Unit) (*constants.Set, int, error) {
 	vals := map[string]float64{}
 	set := func(name string, v *float64, sign float64) {
 		if v != nil {
-			vals[name] = sign * *v
+			vals[name] = sign * unit.ToWavenumber(*v)
 		}
 	}
+	set("Y01", e.B0, 1)
+	set("Y02", e.D0, -1)
 	set("Y10", e.OmegaE, 1)
 	set("Y20", e.OmegaExe, -1)
 	set("Y30", e.OmegaEye, 1)
@@ -414,6 +476,27 @@ func StartFromConstants(c *constants.Set, name string, extra []string) (*Start, 
 		st.Species = append(st.Species, StartSpecies{Label: iso.Label, Iso: iso, Abundance: NaturalAbundance(iso), Constants: &nc, Index: len(isos) - 1, ScaledFrom: d.Species()[0]})
 	}
 	return st, nil
+}
+
+// CheckBands refuses bands the starting constants of a species cannot
+// predict: a species given by B alone (B_e or B_0, and D) serves pure rotation
+// in v = 0 (band 0-0) only; every other band needs the equilibrium constants
+// ω_e, ω_e x_e, B_e, α_e and D_e. The error names the start file, the line of
+// the species' table and what is missing.
+func (st *Start) CheckBands(bands []linelist.Band) error {
+	for _, sp := range st.Species {
+		if sp.lacks == "" {
+			continue
+		}
+		for _, b := range bands {
+			if b.VUp == 0 && b.VLo == 0 {
+				continue
+			}
+			return failure.Errorf(failure.BadInput, "assign: %s: %s: band %s needs %s, which the start file does not give (B and D alone serve pure rotation in v = 0: --spectrum rotation --bands 0-0)",
+				textcheck.At(st.File, sp.row), sp.Label, b, sp.lacks)
+		}
+	}
+	return nil
 }
 
 // Select keeps the species named in labels (in that order), or all when

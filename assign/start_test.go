@@ -8,7 +8,9 @@ import (
 	"testing"
 
 	"bandwright/assign"
+	"bandwright/fit/linelist"
 	"bandwright/fit/species"
+	"bandwright/internal/failure"
 )
 
 const coStart = `# rough constants
@@ -68,7 +70,10 @@ func TestReadStartErrors(t *testing.T) {
 	cases := []struct{ name, in, want string }{
 		{"unknown key", strings.Replace(coStart, "D_e = 6.1e-6", "D_e = 6.1e-6\nomega_ex_e = 13", 1), "s.toml:9: species.omega_ex_e: unknown key"},
 		{"top key", "temperature = 3\n" + coStart, "s.toml:1: temperature: unknown key"},
-		{"missing", strings.Replace(coStart, "alpha_e = 0.0175\n", "", 1), "s.toml:2: 12C16O: missing alpha_e"},
+		{"no B", strings.Replace(coStart, "B_e = 1.9313\n", "", 1), "s.toml:2: 12C16O: missing B_e (or B_0)"},
+		{"B_0 with equilibrium constants", strings.Replace(coStart, "B_e = 1.9313\n", "B_0 = 1.9225\n", 1), "s.toml:2: 12C16O: B_0 and D_0 give the constants of v = 0 alone; leave out omega_e, omega_e_x_e, alpha_e, D_e"},
+		{"D_0 alone", "[[species]]\nname = \"12C16O\"\nD_0 = 6.1e-6\n", "s.toml:1: 12C16O: D_0 without B_0"},
+		{"unit", "unit = \"THz\"\n" + coStart, "s.toml:1: unit: unknown unit \"THz\": use cm-1, MHz or GHz"},
 		{"species", strings.Replace(coStart, "12C16O", "12C16X", 1), "s.toml:3: species[1].name: unknown isotopologue"},
 		{"negative B", strings.Replace(coStart, "B_e = 1.9313", "B_e = -1.9313", 1), "s.toml:6: 12C16O.B_e: must be > 0"},
 		{"syntax", "[[species]\nname=1", "s.toml:2: expected end of table array name"},
@@ -107,4 +112,33 @@ func FuzzReadStart(f *testing.F) {
 			}
 		}
 	})
+}
+
+// TestStartBandsNeedConstants: a species given by B alone serves pure
+// rotation in v = 0; any other band is refused with the start file's line and
+// the constants it lacks.
+func TestStartBandsNeedConstants(t *testing.T) {
+	pl, err := assign.ReadPeaks(strings.NewReader("position\n2143.2\n2147.1\n"), "p.csv", linelist.Wavenumber)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		start string
+		bands []linelist.Band
+		want  string
+	}{
+		{"[[species]]\nname = \"12C16O\"\nB_e = 1.93\n", []linelist.Band{{VUp: 1, VLo: 0}},
+			"assign: s.toml:1: 12C16O: band 1-0 needs omega_e, omega_e_x_e, alpha_e, D_e, which the start file does not give"},
+		{"\n[[species]]\nname = \"12C16O\"\nB_0 = 1.92\n", []linelist.Band{{VUp: 0, VLo: 0}, {VUp: 1, VLo: 1}},
+			"assign: s.toml:2: 12C16O: band 1-1 needs the equilibrium constants"},
+	} {
+		st, err := assign.ReadStart(strings.NewReader(tc.start), "s.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, err = assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: tc.bands, Spectrum: assign.Rotation}, assign.Settings{})
+		if err == nil || !strings.HasPrefix(err.Error(), tc.want) || failure.ExitCode(err) != 1 {
+			t.Errorf("got %v (exit %d), want %q (exit 1)", err, failure.ExitCode(err), tc.want)
+		}
+	}
 }
