@@ -57,9 +57,22 @@ func (e *Error) Unwrap() []error { return Causes(e.Problems) }
 // FailureKind returns failure.BadInput: the files must be fixed (exit code 1).
 func (e *Error) FailureKind() failure.Kind { return failure.BadInput }
 
+// Limits of an error message that lists problems: a person reads the first
+// few of each kind and fixes them all at once, so a file with the same
+// mistake in every row gives a short message with a count.
+const (
+	// ShownPerKind is the number of problems of one kind (same file, field
+	// and reason apart from its numbers) listed before the rest are counted.
+	ShownPerKind = 3
+	// ShownProblems caps the problems listed in one message.
+	ShownProblems = 12
+)
+
 // FormatProblems writes problems as the error message of a reader of bandwright's CSV
-// files: "PKG: " and the single problem, or "PKG: N problems" and one problem per line,
-// ending with "... and N more" when omitted problems were only counted. The peak-list
+// files: "PKG: " and the single problem, or "PKG: N problems" and one problem per
+// line — at most ShownPerKind of each kind and ShownProblems in all — followed by a
+// line per kind that was cut short ("FILE: ... and 17 more rows with the same
+// problem in position (rows 5–21)") and "... and N more" for the rest. The peak-list
 // reader of package assign shares it.
 func FormatProblems(pkg string, probs []Problem, omitted int) string {
 	if len(probs) == 1 && omitted == 0 {
@@ -67,14 +80,70 @@ func FormatProblems(pkg string, probs []Problem, omitted int) string {
 	}
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s: %d problems", pkg, len(probs)+omitted)
-	for _, p := range probs {
-		b.WriteString("\n")
-		b.WriteString(p.String())
+	type kind struct {
+		file, field, reason string
 	}
-	if omitted > 0 {
-		fmt.Fprintf(&b, "\n... and %d more", omitted)
+	type cut struct{ n, lo, hi int }
+	shown, rest := 0, omitted
+	perKind := map[kind]int{}
+	cuts := map[kind]*cut{}
+	var order []kind
+	for _, p := range probs {
+		k := kind{p.File, p.Field, stripDigits(p.Reason)}
+		if perKind[k] < ShownPerKind && shown < ShownProblems {
+			perKind[k]++
+			shown++
+			b.WriteString("\n")
+			b.WriteString(p.String())
+			continue
+		}
+		if perKind[k] < ShownPerKind {
+			rest++ // a kind the overall cap left out entirely
+			continue
+		}
+		c := cuts[k]
+		if c == nil {
+			c = &cut{lo: p.Row, hi: p.Row}
+			cuts[k] = c
+			order = append(order, k)
+		}
+		c.n++
+		c.lo, c.hi = min(c.lo, p.Row), max(c.hi, p.Row)
+	}
+	for _, k := range order {
+		c := cuts[k]
+		what := "rows"
+		if c.n == 1 {
+			what = "row"
+		}
+		field := ""
+		if k.field != "" {
+			field = " in " + k.field
+		}
+		rows := ""
+		if c.lo > 0 {
+			rows = fmt.Sprintf(" (row %d)", c.lo)
+			if c.hi > c.lo {
+				rows = fmt.Sprintf(" (rows %d–%d)", c.lo, c.hi)
+			}
+		}
+		fmt.Fprintf(&b, "\n%s: ... and %d more %s with the same problem%s%s", k.file, c.n, what, field, rows)
+	}
+	if rest > 0 {
+		fmt.Fprintf(&b, "\n... and %d more", rest)
 	}
 	return b.String()
+}
+
+// stripDigits returns s without its digits, so that two reasons that differ
+// only in the numbers they quote count as one kind.
+func stripDigits(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r >= '0' && r <= '9' {
+			return -1
+		}
+		return r
+	}, s)
 }
 
 // Causes returns the underlying causes of the problems that have one.

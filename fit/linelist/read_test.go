@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"crypto/sha256"
 	"errors"
+	"fmt"
 	"io"
 	"io/fs"
 	"os"
@@ -209,8 +210,36 @@ func TestProblemCap(t *testing.T) {
 	if !strings.HasPrefix(msg, "linelist: 60 problems\n") || !strings.HasSuffix(msg, "\n... and 10 more") {
 		t.Errorf("message head/tail wrong:\n%s", msg)
 	}
-	if !strings.Contains(msg, "t.csv:51: unc:") || strings.Contains(msg, "t.csv:52:") {
-		t.Errorf("wrong rows kept:\n%s", msg)
+	// The same mistake in every row: the first few listed, the rest counted
+	// with their rows.
+	if !strings.Contains(msg, "t.csv:4: unc:") || strings.Contains(msg, "t.csv:5: unc:") ||
+		!strings.Contains(msg, "\nt.csv: ... and 47 more rows with the same problem in unc (rows 5–51)\n") {
+		t.Errorf("wrong rows listed:\n%s", msg)
+	}
+	if n := strings.Count(msg, "\n"); n > ShownProblems+3 {
+		t.Errorf("message of %d lines:\n%s", n+1, msg)
+	}
+}
+
+// TestProblemsOfManyKinds: different mistakes are each listed (up to the
+// cap), the numbers a reason quotes do not make it a kind of its own.
+func TestProblemsOfManyKinds(t *testing.T) {
+	var probs []Problem
+	for i := 0; i < 6; i++ {
+		probs = append(probs, Problem{File: "a.csv", Row: 2 + i, Field: "unc", Reason: fmt.Sprintf("must be > 0, got -%d", i)})
+		probs = append(probs, Problem{File: "a.csv", Row: 2 + i, Field: "J_up", Reason: fmt.Sprintf("must be >= 0, got -%d", i)})
+	}
+	probs = append(probs, Problem{File: "b.csv", Field: "position", Reason: "required column missing"})
+	msg := FormatProblems("linelist", probs, 0)
+	for _, want := range []string{
+		"linelist: 13 problems\n", "a.csv:4: unc: must be > 0, got -2", "a.csv:4: J_up: must be >= 0, got -2",
+		"b.csv: position: required column missing",
+		"a.csv: ... and 3 more rows with the same problem in unc (rows 5–7)",
+		"a.csv: ... and 3 more rows with the same problem in J_up (rows 5–7)",
+	} {
+		if !strings.Contains(msg, want) {
+			t.Errorf("message lacks %q:\n%s", want, msg)
+		}
 	}
 }
 
