@@ -69,6 +69,11 @@ type Param struct {
 	Value   float64 `json:"value"`
 	Sigma   float64 `json:"sigma"`
 	Fixed   bool    `json:"fixed"`
+	// Unconnected marks a term value T_v held at 0 because no line connects
+	// level v to the lowest level of its isotopologue: its energy above that
+	// level is unknown, and the level's energies are counted from its own
+	// J = 0 (Set.Unconnected).
+	Unconnected bool `json:"unconnected,omitempty"`
 }
 
 // ID is the parameter's name as --fix takes it and as every output writes

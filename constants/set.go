@@ -22,7 +22,16 @@ type Set struct {
 	// Free indexes the fitted model parameters in Params; Cov follows it.
 	Free []int
 	Cov  *mat.SymDense
+	// unconnected holds the levels (species index, v) whose term value the
+	// fit held at 0 because no line connects them to the lowest level.
+	unconnected map[[2]int]bool
 }
+
+// Unconnected reports whether the term value of level v of species s (an
+// index of Model.Species()) was held at 0 by the fit because no line connects
+// the level to the lowest level of its isotopologue (Param.Unconnected): its
+// energies are then counted from its own zero, not from the isotopologue's.
+func (s *Set) Unconnected(sp, v int) bool { return s.unconnected[[2]int{sp, v}] }
 
 // kappa is the parameter name of a calibration factor in a record.
 const kappa = "kappa"
@@ -49,7 +58,23 @@ func (rec *Record) Constants() (*Set, error) {
 	if err != nil {
 		return nil, err
 	}
-	return newSet(m, rec.Model, modelParams, fittedModel, rec.Covariance)
+	set, err := newSet(m, rec.Model, modelParams, fittedModel, rec.Covariance)
+	if err != nil {
+		return nil, err
+	}
+	for _, p := range modelParams {
+		if !p.Unconnected {
+			continue
+		}
+		if p.Name != "T" || p.V == nil || !p.Fixed {
+			return nil, fmt.Errorf("parameters: %s: unconnected applies to a fixed term value T_v only", p.ID())
+		}
+		if set.unconnected == nil {
+			set.unconnected = map[[2]int]bool{}
+		}
+		set.unconnected[[2]int{model.SpeciesIndex(m, p.Species), *p.V}] = true
+	}
+	return set, nil
 }
 
 // splitParams returns the model parameters of the record (calibration factors

@@ -242,7 +242,7 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 				}
 			}
 		}
-		if len(vs) >= 3 && vs[0] == 0 {
+		if len(vs) >= 3 && vs[0] == 0 && !r.hasUnconnected(s) {
 			tIdx := make([]int, 0, len(vs)-1)
 			var tv []int
 			for _, v := range vs[1:] {
@@ -257,6 +257,19 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 			}
 		}
 	}
+}
+
+// hasUnconnected reports whether a term value of species s was held at 0
+// for want of a line connecting its level (Result.Unconnected): the term
+// values of s are then not all energies above its lowest level.
+func (r *Result) hasUnconnected(s int) bool {
+	sp := r.Model.Species()[s]
+	for _, j := range r.Unconnected {
+		if r.Params[j].Species == sp {
+			return true
+		}
+	}
+	return false
 }
 
 // gls fits y_i = p[idx[i]] ≈ Σ_c X_c(v_i) β_c by generalised least squares with

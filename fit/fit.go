@@ -136,6 +136,10 @@ type Result struct {
 	Observed []constants.LevelRange
 	// Unit is Settings.Unit: the unit the outputs show.
 	Unit linelist.Unit
+	// Unconnected indexes in Params the term values held at 0 because no
+	// line connects their level to the lowest level of its isotopologue
+	// (fixed, outside the covariance; the record marks them).
+	Unconnected []int
 }
 
 // CovNames returns the names of the covariance rows (parameter IDs, then κ of

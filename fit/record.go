@@ -22,8 +22,12 @@ func NewRecord(r *Result) *constants.Record {
 	if rec.Model == model.KindDunham {
 		rec.ReferenceSpecies = rec.Species[0]
 	}
-	for _, p := range r.Params {
-		rp := constants.Param{Name: p.Name, Species: p.Species, Element: p.Element, Value: p.Value, Sigma: p.Sigma, Fixed: p.Fixed}
+	unconnected := map[int]bool{}
+	for _, j := range r.Unconnected {
+		unconnected[j] = true
+	}
+	for j, p := range r.Params {
+		rp := constants.Param{Name: p.Name, Species: p.Species, Element: p.Element, Value: p.Value, Sigma: p.Sigma, Fixed: p.Fixed, Unconnected: unconnected[j]}
 		if p.V >= 0 {
 			rp.V = intp(p.V)
 		}

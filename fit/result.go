@@ -16,7 +16,7 @@ import (
 
 // result assembles the Result of the current solution.
 func (w *work) result() *Result {
-	r := &Result{Model: w.p.Model, Files: w.files, Status: w.status, Unit: w.s.Unit}
+	r := &Result{Model: w.p.Model, Files: w.files, Status: w.status, Unit: w.s.Unit, Unconnected: w.unconnected}
 	chi2, dof := w.chi2()
 	s := 1.0
 	if dof > 0 {

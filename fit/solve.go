@@ -47,6 +47,8 @@ type work struct {
 	status     Status
 	warn       []string
 	iter       int
+	// unconnected lists the term values held at 0 by holdUnconnected.
+	unconnected []int
 }
 
 func newWork(p Problem, s Settings) (*work, error) {
@@ -100,6 +102,7 @@ func newWork(p Problem, s Settings) (*work, error) {
 		}
 		return nil, errors.New("fit: " + strings.Join(bad, "\nfit: "))
 	}
+	w.holdUnconnected()
 	w.kappa = make([]float64, len(w.files))
 	if s.Calibrate {
 		if len(w.files) < 2 {

@@ -1,7 +1,6 @@
 package fit
 
 import (
-	"errors"
 	"strconv"
 	"strings"
 	"testing"
@@ -9,7 +8,6 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 
 	"bandwright/fit/model"
-	"bandwright/internal/failure"
 )
 
 // coTermValuesY is 12C16O of Huber & Herzberg (1979, from memory) truncated to
@@ -87,28 +85,59 @@ func TestTermValuesModel(t *testing.T) {
 	}
 }
 
-// TestTermValuesPureRotationOnly: pure-rotation lines within v = 0 and within v = 1
-// never connect the two levels, so T_v1 is undetermined; the error must name
-// it and be of kind failure.CannotCompute (exit code 2).
+// TestTermValuesPureRotationOnly: pure-rotation lines within v = 0 and within
+// v = 1 never connect the two levels, so T_v1 is undetermined by the data and
+// irrelevant to the rotational constants. The fit holds it at 0 with a
+// warning, leaves it out of the covariance, recovers B_v and D_v of both
+// levels (Huber & Herzberg constants through coTermValuesY), marks T_v1 in the
+// record and derives no ω_e from the arbitrary term value; with a band that
+// connects the levels it floats again.
 func TestTermValuesPureRotationOnly(t *testing.T) {
 	y := coTermValuesY()
-	lines := makeLines("12C16O", "rot.csv", y, irBranches([][2]int{{0, 0}, {1, 1}}, 20), 1e-6, nil)
-	m, err := BuildModel(lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}})
+	lines := makeLines("12C16O", "rot.csv", y, irBranches([][2]int{{0, 0}, {1, 1}, {2, 2}}, 20), 1e-6, nil)
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
+	for _, v := range []int{1, 2} {
+		tv := paramOf(t, r, model.Param{Name: "T", V: v, Species: "12C16O"}.ID())
+		if !tv.Fixed || tv.Value != 0 || tv.Sigma != 0 {
+			t.Errorf("%s = %v ± %v, fixed %v; want held at 0", tv.ID(), tv.Value, tv.Sigma, tv.Fixed)
+		}
+		wantB := y[[2]int{0, 1}] + y[[2]int{1, 1}]*(float64(v)+0.5)
+		if b := paramOf(t, r, model.Param{Name: "B", V: v, Species: "12C16O"}.ID()); !scalar.EqualWithinAbsOrRel(b.Value, wantB, 1e-12, 1e-9) {
+			t.Errorf("%s = %.12g, want %.12g", b.ID(), b.Value, wantB)
+		}
+	}
+	if len(r.Unconnected) != 2 || r.Cov.SymmetricDim() != 6 {
+		t.Errorf("unconnected %v, covariance of %d parameters; want T_v1, T_v2 out of a 6-parameter covariance (B, D of three levels)", r.Unconnected, r.Cov.SymmetricDim())
+	}
+	var warned int
+	for _, w := range r.Warnings {
+		if strings.HasPrefix(w, "T_v1[12C16O] held at 0: no line connects v=1 to v=0 of 12C16O") || strings.HasPrefix(w, "T_v2[12C16O] held at 0") {
+			warned++
+		}
+	}
+	if warned != 2 {
+		t.Errorf("warnings %q: want one for each of T_v1 and T_v2", r.Warnings)
+	}
+	for _, d := range r.Derived {
+		if d.Name == "omega_e" || strings.HasPrefix(d.Name, "nu0") {
+			t.Errorf("derived %s = %v from term values that are not energies", d.Name, d.Value)
+		}
+	}
+	c, err := NewRecord(r).Constants()
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Fit(Problem{Lines: lines, Model: m}, Settings{Reject: DefaultReject})
-	var ue *UndeterminedError
-	if !errors.As(err, &ue) {
-		t.Fatalf("err = %v, want *UndeterminedError", err)
+	if !c.Unconnected(0, 1) || !c.Unconnected(0, 2) || c.Unconnected(0, 0) {
+		t.Errorf("record: unconnected v=0 %v, v=1 %v, v=2 %v; want v=1 and v=2", c.Unconnected(0, 0), c.Unconnected(0, 1), c.Unconnected(0, 2))
 	}
-	if failure.KindOf(err) != failure.CannotCompute {
-		t.Errorf("kind %v, want failure.CannotCompute", failure.KindOf(err))
+	// A band 2-1 connects v=1 and v=2: T_v2 floats relative to T_v1, which
+	// alone is held.
+	lines = append(lines, makeLines("12C16O", "rot.csv", y, irBranches([][2]int{{2, 1}}, 20), 1e-6, nil)...)
+	r = mustFit(t, lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{Reject: DefaultReject})
+	if t2 := paramOf(t, r, "T_v2[12C16O]"); t2.Fixed || !scalar.EqualWithinAbsOrRel(t2.Value, termEnergy(y, 2, 0)-termEnergy(y, 1, 0), 1e-9, 1e-9) {
+		t.Errorf("T_v2 = %v (fixed %v), want G(2) − G(1) = %v", t2.Value, t2.Fixed, termEnergy(y, 2, 0)-termEnergy(y, 1, 0))
 	}
-	if len(ue.Groups) != 1 || len(ue.Groups[0]) != 1 || ue.Groups[0][0] != "T_v1[12C16O]" {
-		t.Errorf("undetermined groups %v, want [[T_v1[12C16O]]]", ue.Groups)
-	}
-	if !strings.Contains(err.Error(), "T_v1[12C16O]") || !strings.HasPrefix(err.Error(), "fit: ") {
-		t.Errorf("message %q", err)
+	if len(r.Unconnected) != 1 || r.Params[r.Unconnected[0]].ID() != "T_v1[12C16O]" {
+		t.Errorf("unconnected %v, want T_v1 alone", r.Unconnected)
 	}
 }

@@ -203,6 +203,8 @@ func summaryConstants(b *strings.Builder, r *Result, rec *constants.Record) {
 			continue // the reference file
 		case q.Name == "kappa":
 			sp, note = q.File, "calibration factor κ"
+		case q.Unconnected:
+			note = "held at 0: no line connects this level to the lowest"
 		case q.Fixed:
 			note = "fixed"
 		}

@@ -271,3 +271,45 @@ func TestTooManyLevels(t *testing.T) {
 	}
 	t.Log(err)
 }
+
+// TestUnconnectedLevelLeftOut: pure-rotation lines in v = 0 and v = 1 give no
+// energy of v = 1 above v = 0 (the fit holds T_v1 at 0 and marks it). The sum
+// leaves v = 1 out with a warning instead of placing it at the energy of v = 0,
+// so Q equals that of the v = 0 lines alone.
+func TestUnconnectedLevelLeftOut(t *testing.T) {
+	rotation := func(vs ...int) []linelist.Line {
+		var ls []linelist.Line
+		for _, v := range vs {
+			for jl := 0; jl <= 30; jl++ {
+				ls = append(ls, linelist.Line{File: "rot", Row: len(ls) + 2, Species: "12C16O", VUp: v, JUp: jl + 1, VLo: v, JLo: jl, Unc: 0.001, Unit: linelist.Wavenumber})
+			}
+		}
+		return ls
+	}
+	temps := []float64{ReferenceTemperature, 1000}
+	rec, c := termValuesFit(t, hhCO, rotation(0, 1), []string{"B", "D"}, 0)
+	if !c.Unconnected(0, 1) {
+		t.Fatal("the record does not mark T_v1 as held for want of a connecting line")
+	}
+	res, err := Compute(Problem{Constants: c, Observed: rec.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec0, c0 := termValuesFit(t, hhCO, rotation(0), []string{"B", "D"}, 0)
+	res0, err := Compute(Problem{Constants: c0, Observed: rec0.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, r := range res.Rows {
+		if !scalar.EqualWithinRel(r.F.Q, res0.Rows[i].F.Q, 1e-12) {
+			t.Errorf("%g K: Q %.12g, with the v = 0 lines alone %.12g", r.T, r.F.Q, res0.Rows[i].F.Q)
+		}
+	}
+	found := false
+	for _, w := range res.Warnings {
+		found = found || strings.Contains(w, "12C16O: v=1 left out of the sum: no line connects it to the lowest level")
+	}
+	if !found {
+		t.Errorf("no warning says v=1 is left out: %q", res.Warnings)
+	}
+}

@@ -31,6 +31,7 @@ type manifold struct {
 	missE      []float64
 	missJ      []int32
 	missNote   string
+	placed     []int   // term-values model: the levels whose energy is known (placedLevels)
 	ceilingAbs float64 // model energy ceiling, +Inf when none
 	warn       []string
 }
@@ -59,7 +60,8 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 	lm, isTermValues := c.Model.(*model.TermValues)
 	if isTermValues {
 		m.levels = true
-		vs = lm.LevelsOf(sp)
+		vs = m.placedLevels(c, lm, sp)
+		m.placed = vs
 		m.vReason = fmt.Sprintf("term-values model: the vibrational levels of the record (v = %s)", compressInts(vs))
 	} else {
 		var err error
@@ -77,6 +79,25 @@ func enumerateManifold(c *constants.Set, sp, blk int, term, eRef, eNeg, ceiling,
 		m.estimateMissing(c, lm, sp, term, eRef, eNeg, d0, tMax)
 	}
 	return m, nil
+}
+
+// placedLevels returns the vibrational levels of a term-values record whose
+// energy above the lowest level is known: all but those whose term value the
+// fit held at 0 for want of a line connecting them (constants.Set.Unconnected),
+// which are left out with a warning — they count as missing levels.
+func (m *manifold) placedLevels(c *constants.Set, lm *model.TermValues, sp int) []int {
+	var vs, left []int
+	for _, v := range lm.LevelsOf(sp) {
+		if c.Unconnected(sp, v) {
+			left = append(left, v)
+			continue
+		}
+		vs = append(vs, v)
+	}
+	if len(left) > 0 {
+		m.warn = append(m.warn, fmt.Sprintf("%s: v=%s left out of the sum: no line connects it to the lowest level, so its energy above it is unknown (the fit held its term value at 0)", c.Model.Species()[sp], compressInts(left)))
+	}
+	return vs
 }
 
 // energyLimits bound the levels of a manifold: a level of model energy E

@@ -11,14 +11,14 @@ import (
 )
 
 // estimateMissing estimates the vibrational levels a term-values model lacks, between
-// and above the levels of the record: G(v) from the band origins T_v fitted to
+// and above the levels of the record whose energy is known (m.placed): G(v) from the band origins T_v fitted to
 // ω(v+½) − ωx(v+½)² + const (ωx only with three or more levels), B_v linear in
 // (v+½), D_v the mean of the fitted D_v (see fitVibration). A record with a
 // single vibrational level gives no estimate. Levels run up to the top of the
 // estimated G(v), the dissociation energy when given, and the population limit
 // at tMax.
 func (m *manifold) estimateMissing(c *constants.Set, lm *model.TermValues, sp int, term, eRef, eNeg, d0, tMax float64) {
-	vs := lm.LevelsOf(sp)
+	vs := m.placed
 	if len(vs) < 2 {
 		m.missNote = "only one vibrational level in the record: the missing levels cannot be estimated (their share of Q is not known)"
 		// Still name the levels above as missing.

@@ -148,6 +148,9 @@ func constantsSection(d *document, f *folder) {
 		if p.Fixed {
 			role = "fixed"
 		}
+		if p.Unconnected {
+			role = "held at 0: no line connects this level to the lowest (its energies are counted from its own J = 0)"
+		}
 		name := p.ID()
 		text, unit := rec.ParamText(p)
 		if p.Name == "kappa" {
