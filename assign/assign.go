@@ -177,11 +177,19 @@ type Result struct {
 
 // LockError reports that no band could be locked; its kind is
 // failure.CannotCompute (exit code 2).
-type LockError struct{ Bands []BandResult }
+type LockError struct {
+	Bands []BandResult
+	// Hint says what the peaks look like when their unit seems wrong (a
+	// peak list in MHz read as cm⁻¹); empty otherwise.
+	Hint string
+}
 
 func (e *LockError) Error() string {
 	var b strings.Builder
 	b.WriteString("assign: no band could be locked onto the peaks")
+	if e.Hint != "" {
+		b.WriteString(": " + e.Hint)
+	}
 	for _, r := range e.Bands {
 		fmt.Fprintf(&b, "\n  %s: %s", r.Label(), r.Lock.Reason)
 	}

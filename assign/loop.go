@@ -52,7 +52,7 @@ func (r *run) lockAll() error {
 		for _, b := range r.bands {
 			brs = append(brs, BandResult{Species: b.sp.sp.Label, VUp: b.vu, VLo: b.vl, Lock: b.lock})
 		}
-		return &LockError{Bands: brs}
+		return &LockError{Bands: brs, Hint: r.unitHint()}
 	}
 	for _, b := range r.bands {
 		if !b.locked {

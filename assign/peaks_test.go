@@ -3,6 +3,7 @@ package assign_test
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"strings"
 	"testing"
 
@@ -131,4 +132,45 @@ func FuzzReadPeaks(f *testing.F) {
 			}
 		}
 	})
+}
+
+// TestUnitHint: peaks in GHz or MHz read as cm⁻¹ lock onto nothing; the
+// error says which unit makes them fall where the bands are predicted and
+// names --unit. Positions from B_0 of 12C16O (57 635.968 MHz) and B of
+// 79Br19F (about 0.3558 cm⁻¹), both from memory.
+func TestUnitHint(t *testing.T) {
+	for _, tc := range []struct {
+		name, start string
+		peaks       []float64
+		want        string
+	}{
+		{"CO in GHz", "[[species]]\nname = \"12C16O\"\nB_0 = 1.92\n", []float64{115.27120, 230.53800, 345.79599, 461.04077, 576.26793, 691.47308}, "the peaks look like GHz: read as GHz, 6 of 6 fall where the bands are predicted"},
+		{"BrF in MHz", "[[species]]\nname = \"79Br19F\"\nB_0 = 0.3558\n", []float64{21333.1, 42666.0, 63998.4, 85330.3}, "the peaks look like MHz"},
+	} {
+		var b strings.Builder
+		b.WriteString("position\n")
+		for _, p := range tc.peaks {
+			fmt.Fprintf(&b, "%g\n", p)
+		}
+		pl, err := assign.ReadPeaks(strings.NewReader(b.String()), "p.csv", linelist.Wavenumber)
+		if err != nil {
+			t.Fatal(err)
+		}
+		st, err := assign.ReadStart(strings.NewReader(tc.start), "s.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, err = assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []linelist.Band{{VUp: 0, VLo: 0}}, Spectrum: assign.Rotation}, assign.Settings{})
+		var le *assign.LockError
+		if !errors.As(err, &le) || !strings.Contains(err.Error(), tc.want) || !strings.Contains(err.Error(), "give --unit") {
+			t.Errorf("%s: got %v, want a lock error saying %q", tc.name, err, tc.want)
+		}
+	}
+	// Peaks in cm⁻¹ that simply do not match get no unit hint.
+	pl, _ := assign.ReadPeaks(strings.NewReader("position\n3.1\n7.0\n9.9\n13.3\n"), "p.csv", linelist.Wavenumber)
+	st, _ := assign.ReadStart(strings.NewReader("[[species]]\nname = \"12C16O\"\nB_0 = 1.92\n"), "s.toml")
+	_, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []linelist.Band{{VUp: 0, VLo: 0}}, Spectrum: assign.Rotation}, assign.Settings{})
+	if err != nil && strings.Contains(err.Error(), "look like") {
+		t.Errorf("hint for peaks in the right unit: %v", err)
+	}
 }
