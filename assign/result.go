@@ -1,12 +1,15 @@
 package assign
 
 import (
+	"fmt"
 	"math"
 	"sort"
 	"strconv"
+	"strings"
 
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/internal/textcheck"
 )
 
 // result assembles the Result of the finished run: the final fit, the
@@ -30,10 +33,41 @@ func (r *run) result() (*Result, error) {
 		res.Warnings = append(res.Warnings, w.String())
 	}
 	res.Warnings = append(res.Warnings, r.warnings...)
+	res.Warnings = append(res.Warnings, blendWarnings(r.p.Peaks.File, res.Lines)...)
 	for _, w := range res.Fit.Warnings {
 		res.Warnings = append(res.Warnings, "internal fit: "+w)
 	}
 	return res, nil
+}
+
+// maxBlendWarnings caps the blended peaks named one by one in the warnings;
+// the rest are counted (lines.csv marks every one in its blend column).
+const maxBlendWarnings = 10
+
+// blendWarnings names the peaks that lie within the tolerance of two
+// transitions: assigned to one, claimed by the other.
+func blendWarnings(file string, ls []Assignment) []string {
+	var out []string
+	n := 0
+	for _, a := range ls {
+		if len(a.Blend) == 0 {
+			continue
+		}
+		n++
+		if n > maxBlendWarnings {
+			continue
+		}
+		var others []string
+		for _, t := range a.Blend {
+			others = append(others, t.Label())
+		}
+		out = append(out, fmt.Sprintf("peak %d (%s, %s %s) fits two transitions: assigned to %s, also within the tolerance of %s (a blend; lines.csv marks it, check it before fitting)",
+			a.Peak.Index, textcheck.At(file, a.Peak.Row), a.Peak.Text, a.Peak.Unit, a.Label(), strings.Join(others, ", ")))
+	}
+	if n > maxBlendWarnings {
+		out = append(out, fmt.Sprintf("… and %d more blended peaks (blend = yes in lines.csv)", n-maxBlendWarnings))
+	}
+	return out
 }
 
 // finalFit fits the final assignment without rejection, into res.Fit and

@@ -1,6 +1,7 @@
 package assign_test
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"strings"
 	"testing"
@@ -60,9 +61,35 @@ func TestSyntheticCOSeveralSeeds(t *testing.T) {
 		for _, w := range s.wrongList {
 			t.Logf("  wrong: %s", w)
 		}
+		checkBlendWarnings(t, res)
 		// Issue 4 acceptance: ≥ 97 % of the real lines assigned, ≤ 1 % wrong.
 		if s.assignedFrac() < 0.97 || s.wrongFrac() > 0.01 {
 			t.Errorf("seed %d: assigned %.2f %% (want ≥ 97 %%), wrong %.2f %% (want ≤ 1 %%)", seed, 100*s.assignedFrac(), 100*s.wrongFrac())
 		}
 	}
+}
+
+// checkBlendWarnings: every peak that fits two transitions (a line with
+// others in its Blend) is named in a warning with both transitions, up to ten.
+func checkBlendWarnings(t *testing.T, res *assign.Result) {
+	t.Helper()
+	n := 0
+	for _, a := range res.Lines {
+		if len(a.Blend) == 0 {
+			continue
+		}
+		n++
+		if n > 10 {
+			continue
+		}
+		want := fmt.Sprintf("peak %d (", a.Peak.Index)
+		found := false
+		for _, w := range res.Warnings {
+			found = found || strings.HasPrefix(w, want) && strings.Contains(w, "assigned to "+a.Label()) && strings.Contains(w, a.Blend[0].Label())
+		}
+		if !found {
+			t.Errorf("no warning for peak %d, assigned to %s and blended with %s: %q", a.Peak.Index, a.Label(), a.Blend[0].Label(), res.Warnings)
+		}
+	}
+	t.Logf("%d blended peaks", n)
 }

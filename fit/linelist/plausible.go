@@ -120,8 +120,10 @@ func (rd *reader) checkWavenumbers(byFile map[string]*collector, mixed map[unitB
 }
 
 // warnDuplicates adds a warning for every line with the species, quantum
-// numbers, position and unit of an earlier one (up to MaxProblems, then a
-// count).
+// numbers, position and unit of an earlier one, and for every line of a file
+// whose species, position and unit repeat an earlier line's with another
+// transition — one peak assigned to two transitions (up to MaxProblems, then
+// a count).
 func (rd *reader) warnDuplicates() {
 	lines := rd.list.Lines
 	type lineKey struct {
@@ -130,33 +132,55 @@ func (rd *reader) warnDuplicates() {
 		position           uint64
 		unit               Unit
 	}
+	type peakKey struct {
+		file, species string
+		position      uint64
+		unit          Unit
+	}
 	first := make(map[lineKey]int, len(lines))
-	dups := 0
+	peak := make(map[peakKey]int, len(lines))
+	warned := 0
 	for i := range lines {
 		l := &lines[i]
-		k := lineKey{l.Species, l.VUp, l.JUp, l.VLo, l.JLo, math.Float64bits(l.Position), l.Unit}
-		j, dup := first[k]
-		if !dup {
+		pos := math.Float64bits(l.Position)
+		k := lineKey{l.Species, l.VUp, l.JUp, l.VLo, l.JLo, pos, l.Unit}
+		pk := peakKey{l.File, l.Species, pos, l.Unit}
+		var reason string
+		if j, dup := first[k]; dup {
+			reason = fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", rowOf(&lines[j], l))
+		} else if j, shared := peak[pk]; shared {
+			o := &lines[j]
+			reason = fmt.Sprintf("one peak assigned to two transitions: position %s %s is also row %d's, assigned to %s, and here to %s; a blended peak counts twice in the fit (keep one, or raise the unc of both)",
+				fmtPos(l.Position), l.Unit, o.Row, TransitionLabel(o.VUp, o.JUp, o.VLo, o.JLo), TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo))
+		}
+		if _, seen := first[k]; !seen {
 			first[k] = i
+		}
+		if _, seen := peak[pk]; !seen {
+			peak[pk] = i
+		}
+		if reason == "" {
 			continue
 		}
-		dups++
-		if dups > MaxProblems {
-			continue // counted, summarised below
+		warned++
+		if warned <= MaxProblems {
+			rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: l.Row, Reason: reason})
 		}
-		o := &lines[j]
-		where := "row " + strconv.Itoa(o.Row)
-		if o.File != l.File {
-			where = fmt.Sprintf("%s:%d", o.File, o.Row)
-		}
-		rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: l.Row,
-			Reason: fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", where)})
 	}
-	if dups > MaxProblems {
+	if warned > MaxProblems {
 		l := &lines[len(lines)-1]
 		rd.list.Warnings = append(rd.list.Warnings, Problem{File: l.File, Row: 0,
-			Reason: fmt.Sprintf("… and %d more duplicate lines (%d in all)", dups-MaxProblems, dups)})
+			Reason: fmt.Sprintf("… and %d more duplicate lines or shared peaks (%d in all)", warned-MaxProblems, warned)})
 	}
+}
+
+// rowOf names the row of line o as seen from line l: "row 12", or
+// "FILE:12" when o is in another file.
+func rowOf(o, l *Line) string {
+	if o.File != l.File {
+		return fmt.Sprintf("%s:%d", o.File, o.Row)
+	}
+	return "row " + strconv.Itoa(o.Row)
 }
 
 // reducedPosition is the position of a line divided, for pure rotation (v_up =

@@ -3,6 +3,8 @@ package linelist
 import (
 	"errors"
 	"fmt"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 
@@ -127,6 +129,44 @@ func TestDuplicateLinesWarn(t *testing.T) {
 	if w.File != "dup.csv" || w.Row != 4 || !strings.Contains(w.Reason, "row 2") || !strings.Contains(w.String(), "dup.csv:4:") {
 		t.Errorf("warning %v", w)
 	}
+}
+
+// TestSharedPeakWarns: one peak (the same position in one file) assigned to
+// two transitions reads, with a warning naming both rows and transitions;
+// the same position in two files is two measurements.
+func TestSharedPeakWarns(t *testing.T) {
+	in := "species,v_up,J_up,v_lo,J_lo,position,unc\n" +
+		"12C16O,1,1,0,0,2147.0812,0.001\n" +
+		"12C16O,2,6,1,5,2147.0812,0.001\n"
+	l, err := Read(strings.NewReader(in), "blend.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(l.Lines) != 2 || len(l.Warnings) != 1 {
+		t.Fatalf("%d lines, warnings %v", len(l.Lines), l.Warnings)
+	}
+	want := "blend.csv:3: one peak assigned to two transitions: position 2147.0812 cm-1 is also row 2's, assigned to 1-0 R(0), and here to 2-1 R(5)"
+	if !strings.HasPrefix(l.Warnings[0].String(), want) {
+		t.Errorf("warning %q, want %q", l.Warnings[0], want)
+	}
+	l, err = ReadFiles(writeTemp(t, "a.csv", in[:strings.LastIndex(in[:len(in)-1], "\n")+1]), writeTemp(t, "b.csv", "species,v_up,J_up,v_lo,J_lo,position,unc\n12C16O,2,6,1,5,2147.0812,0.001\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(l.Warnings) != 0 {
+		t.Errorf("warnings across files: %v", l.Warnings)
+	}
+}
+
+// writeTemp writes content to a file name in a temporary folder and returns
+// its path.
+func writeTemp(t *testing.T, name, content string) string {
+	t.Helper()
+	p := filepath.Join(t.TempDir(), name)
+	if err := os.WriteFile(p, []byte(content), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return p
 }
 
 // TestInvalidUTF8 names the row and the field of a cell that is not UTF-8 text
