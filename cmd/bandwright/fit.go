@@ -11,6 +11,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 	"bandwright/pipelines"
 )
 
@@ -134,6 +135,8 @@ func predictCommand() *cli.Command {
 	}
 }
 
+// onUsage refuses options the command does not know or cannot read (exit
+// code 1), naming the command.
 func onUsage(c *cli.Context, err error, isSub bool) error {
-	return cli.Exit("usage: "+err.Error()+" (see --help)", 1)
+	return &commandError{cmd: c.Command.Name, err: usageError{failure.Errorf(failure.BadInput, "usage: %v (see bandwright %s --help)", err, c.Command.Name)}}
 }

@@ -32,16 +32,80 @@ func run(args []string, stdout, stderr io.Writer) int {
 	// The library would print an exit error and end the process itself; run
 	// returns the code instead.
 	app.ExitErrHandler = func(*cli.Context, error) {}
+	if code, done := helpOrUnknown(app, args, stderr); done {
+		return code
+	}
 	err := app.Run(flagsFirst(app, args))
 	if err == nil {
 		return 0
 	}
-	fmt.Fprintln(stderr, "bandwright:", err)
+	fmt.Fprintln(stderr, userMessage(err))
 	var ec cli.ExitCoder
 	if errors.As(err, &ec) {
 		return ec.ExitCode()
 	}
 	return failure.ExitCode(err)
+}
+
+// helpOrUnknown answers the forms of help the library does not — "bandwright
+// help", "bandwright help CMD", "bandwright CMD ARGS… --help" (exit 0) — and
+// refuses an unknown command with the nearest command names (exit 1). It
+// reports whether it handled args.
+func helpOrUnknown(app *cli.App, args []string, stderr io.Writer) (int, bool) {
+	if len(args) < 2 || strings.HasPrefix(args[1], "-") {
+		return 0, false // no command, or global flags (--help, --version): the library's
+	}
+	name, rest := args[1], args[2:]
+	if name == "help" {
+		if len(rest) == 0 || rest[0] == "help" {
+			return showHelp(app, args[0])
+		}
+		name, rest = rest[0], nil
+		if app.Command(name) == nil {
+			return unknownCommand(app, name, stderr), true
+		}
+		return showHelp(app, args[0], name)
+	}
+	if app.Command(name) == nil {
+		return unknownCommand(app, name, stderr), true
+	}
+	for _, a := range rest {
+		if a == "--" {
+			break
+		}
+		switch a {
+		case "--help", "-help", "-h", "--h":
+			return showHelp(app, args[0], name)
+		}
+	}
+	return 0, false
+}
+
+// showHelp prints the help of the program, or of the command named, and
+// returns exit code 0.
+func showHelp(app *cli.App, prog string, cmd ...string) (int, bool) {
+	if err := app.Run(append(append([]string{prog}, cmd...), "--help")); err != nil {
+		fmt.Fprintln(app.ErrWriter, userMessage(err))
+		return 1, true
+	}
+	return 0, true
+}
+
+// unknownCommand says that name is no command, suggests the nearest ones and
+// lists them all; it returns exit code 1.
+func unknownCommand(app *cli.App, name string, stderr io.Writer) int {
+	var all []string
+	for _, c := range app.Commands {
+		if !c.Hidden {
+			all = append(all, c.Name)
+		}
+	}
+	msg := fmt.Sprintf("bandwright: unknown command %q", name)
+	if s := suggest(name, app.Commands); len(s) > 0 {
+		msg += "; did you mean " + strings.Join(s, " or ") + "?"
+	}
+	fmt.Fprintf(stderr, "%s (commands: %s; see bandwright help)\n", msg, strings.Join(all, ", "))
+	return failure.BadInput.ExitCode()
 }
 
 func newApp() *cli.App {
@@ -52,9 +116,9 @@ func newApp() *cli.App {
 		Description: "Exit codes: 0 success; 1 bad input or usage (the message names the file, row and field); " +
 			"2 a fit or computation that cannot be done honestly; 3 a batch in which some files failed.",
 		HideHelpCommand: true,
-		Commands:        commands(),
+		Commands:        withCommandErrors(commands()),
 		OnUsageError: func(c *cli.Context, err error, isSub bool) error {
-			return cli.Exit("usage: "+err.Error(), 1)
+			return usageError{failure.Errorf(failure.BadInput, "usage: %v (see bandwright --help)", err)}
 		},
 	}
 }
@@ -136,5 +200,5 @@ func commands() []*cli.Command {
 
 // usageExit refuses the command line as given (exit code 1).
 func usageExit(format string, a ...any) error {
-	return failure.Errorf(failure.BadInput, format, a...)
+	return usageError{failure.Errorf(failure.BadInput, format, a...)}
 }

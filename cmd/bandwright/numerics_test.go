@@ -47,7 +47,7 @@ func TestNumericalFaults(t *testing.T) {
 		// One band determines the band origin Y10 + 2Y20 + …, not Y10 and Y20 apart.
 		p := in("one-band.csv", coLineList([][2]int{{1, 0}}, 20))
 		code, _, stderr := runCLI("fit", p, "--out", out("rank"))
-		if code != 2 || !strings.Contains(stderr, "fit: the data cannot determine") || !strings.Contains(stderr, "Y10") || !strings.Contains(stderr, "Y20") {
+		if code != 2 || !strings.Contains(stderr, "bandwright fit: "+filepath.Join(dir, "one-band.csv")+": the data cannot determine") || !strings.Contains(stderr, "Y10") || !strings.Contains(stderr, "Y20") {
 			t.Errorf("exit %d: %s", code, stderr)
 		}
 		if _, err := os.Stat(out("rank")); !os.IsNotExist(err) {
