@@ -199,6 +199,7 @@ func Assign(o AssignOptions) (*AssignOutcome, error) {
 		return nil, err
 	}
 	rec := fit.NewRecord(res.Fit)
+	rec.DisplayUnit = peakUnit.String()
 	for i, in := range inputs {
 		rec.Provenance.Inputs = append(rec.Provenance.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}

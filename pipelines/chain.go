@@ -26,9 +26,18 @@ type ChainOptions struct {
 	// Names, when set, replaces Inputs in provenance and reports (nightly
 	// runs on private snapshots but records the inbox names).
 	Names []string
-	// Pipeline is the pipeline file; nil: choose automatically (line lists only).
+	// Pipeline is the pipeline file; nil: the chain `bandwright run` follows
+	// without one — for line lists the fit with its model chosen
+	// automatically, for a peak list (LooksLikePeakList) assign with the
+	// options of Assign first.
 	Pipeline *Pipeline
-	Out      string
+	// Assign holds the assign options of a run on a peak list without a
+	// pipeline file (Peaks is set from Inputs).
+	Assign *AssignOptions
+	// Unit, when set, is the unit the fit's outputs show (FitOptions.Unit),
+	// in place of the pipeline file's.
+	Unit string
+	Out  string
 }
 
 // ChainOutcome is what a chain produced.
@@ -117,7 +126,13 @@ func newChainRun(d *outdir.Dir, o ChainOptions) (*chainRun, error) {
 	c := &chainRun{d: d, o: o, p: o.Pipeline, names: o.Names, lineFiles: o.Inputs}
 	if c.p == nil {
 		c.auto = true
-		c.p = &Pipeline{Input: InputLines}
+		in, err := inputKind(o)
+		if err != nil {
+			return nil, err
+		}
+		c.p = &Pipeline{Input: in}
+	} else if o.Assign != nil {
+		return nil, failure.Errorf(failure.BadInput, "run: give the assign options either in the pipeline file or on the command line, not both")
 	}
 	if c.p.Path != "" {
 		d.Protect(c.p.Path)
@@ -129,6 +144,29 @@ func newChainRun(d *outdir.Dir, o ChainOptions) (*chainRun, error) {
 	return c, nil
 }
 
+// inputKind tells, for a run without a pipeline file, whether its inputs are
+// line lists or one peak list, and refuses a peak list without the assign
+// options it needs (and assign options for line lists), saying what to give.
+func inputKind(o ChainOptions) (string, error) {
+	var peaks []string
+	for _, in := range o.Inputs {
+		if LooksLikePeakList(in) {
+			peaks = append(peaks, in)
+		}
+	}
+	switch {
+	case len(peaks) == 0 && o.Assign != nil:
+		return "", failure.Errorf(failure.BadInput, "run: %s: a line list (it has quantum-number columns); the assign options (--start, --constants, --bands, …) apply to a peak list", o.Inputs[0])
+	case len(peaks) == 0:
+		return InputLines, nil
+	case len(o.Inputs) > 1:
+		return "", failure.Errorf(failure.BadInput, "run: %s: a peak list; give it alone (one peak list per run), or line lists only", peaks[0])
+	case o.Assign == nil || (o.Assign.Start == "" && o.Assign.Constants == "") || len(o.Assign.Bands) == 0:
+		return "", failure.Errorf(failure.BadInput, "run: %s: a peak list (a position column, no quantum numbers); to assign it, give the starting constants (--start START.toml or --constants constants.json) and the bands (--bands 1-0,2-1; --spectrum rotation --bands 0-0 for pure rotation), or a pipeline file (--pipeline FILE)", peaks[0])
+	}
+	return InputPeaks, nil
+}
+
 // assign runs the assignment stage on a peak list (input = "peaks") and
 // points the fit at the lines.csv it wrote; line lists go to the fit as they are.
 func (c *chainRun) assign() error {
@@ -138,8 +176,12 @@ func (c *chainRun) assign() error {
 	if len(c.o.Inputs) != 1 {
 		return failure.Errorf(failure.BadInput, "run: input = \"peaks\" takes one peak list at a time (%d given)", len(c.o.Inputs))
 	}
-	ao, err := c.p.assignOptions(c.o.Inputs[0])
-	if err != nil {
+	var ao AssignOptions
+	var err error
+	if c.o.Assign != nil {
+		ao = *c.o.Assign
+		ao.Peaks = c.o.Inputs[0]
+	} else if ao, err = c.p.assignOptions(c.o.Inputs[0]); err != nil {
 		return err
 	}
 	c.d.Protect(ao.startFiles()...)
@@ -161,6 +203,9 @@ func (c *chainRun) assign() error {
 // the pipeline leaves it open, and writes the fit's files.
 func (c *chainRun) fit() error {
 	fo := c.p.FitOptions(c.lineFiles, "")
+	if c.o.Unit != "" {
+		fo.Unit = c.o.Unit
+	}
 	if c.p.Input == InputPeaks {
 		fo.Names = []string{constants.LinesFile}
 	} else {

@@ -15,6 +15,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 	"bandwright/units"
 )
 
@@ -293,5 +294,57 @@ func TestFitInMHzRounded(t *testing.T) {
 	}
 	if cells := mdRow(t, md, "rms (MHz)"); !scalar.EqualWithinAbsOrRel(atofT(t, cells[1]), rec.Stats.RMSCm*units.MHzPerWavenumber, 0, 1e-3) {
 		t.Errorf("rms %s MHz, record %g cm-1", cells[1], rec.Stats.RMSCm)
+	}
+}
+
+// TestRunPeakListWithoutPipeline: `bandwright run PEAKS.csv` with the assign
+// options and no pipeline file assigns, fits and reports in one command; the
+// fit shows MHz (the unit of the peaks); without the options it says what a
+// peak list needs.
+func TestRunPeakListWithoutPipeline(t *testing.T) {
+	dir := t.TempDir()
+	peaks := filepath.Join(dir, "co-peaks.csv")
+	var b strings.Builder
+	b.WriteString("position\n")
+	for J := 0; J <= 15; J++ {
+		fmt.Fprintf(&b, "%.4f\n", coRotationMHz(J))
+	}
+	if err := os.WriteFile(peaks, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	start := filepath.Join(dir, "start.toml")
+	if err := os.WriteFile(start, []byte("unit = \"MHz\"\n[[species]]\nname = \"12C16O\"\nB_0 = 57600\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ao := &AssignOptions{Start: start, Bands: []linelist.Band{{VUp: 0, VLo: 0}}, Spectrum: "rotation", Unit: "MHz"}
+	oc, err := RunChain(ChainOptions{Inputs: []string{peaks}, Assign: ao, Out: filepath.Join(dir, "run")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if oc.Assign == nil || len(oc.Assign.Result.Lines) != 16 || oc.Fit.Record.DisplayUnit != "MHz" {
+		t.Fatalf("assigned %v, fit shown in %q", oc.Assign, oc.Fit.Record.DisplayUnit)
+	}
+	for _, p := range oc.Fit.Record.Parameters {
+		if p.ID() == "B_v0[12C16O]" && math.Abs(p.Value*units.MHzPerWavenumber-coB0) > 4*p.Sigma*units.MHzPerWavenumber+1e-4 {
+			t.Errorf("B_0 = %.5f MHz, truth %.5f MHz", p.Value*units.MHzPerWavenumber, coB0)
+		}
+	}
+	for _, tc := range []struct {
+		o    ChainOptions
+		want string
+	}{
+		{ChainOptions{Inputs: []string{peaks}}, "a peak list (a position column, no quantum numbers); to assign it, give the starting constants (--start START.toml or --constants constants.json) and the bands"},
+		{ChainOptions{Inputs: []string{peaks}, Assign: &AssignOptions{Start: start}}, "and the bands (--bands 1-0,2-1"},
+		{ChainOptions{Inputs: []string{peaks, peaks}, Assign: ao}, "give it alone"},
+		{ChainOptions{Inputs: []string{filepath.Join(dir, "run", "lines.csv")}, Assign: ao}, "a line list (it has quantum-number columns); the assign options"},
+	} {
+		tc.o.Out = filepath.Join(dir, "bad")
+		_, err := RunChain(tc.o)
+		if err == nil || !strings.Contains(err.Error(), tc.want) || failure.ExitCode(err) != 1 {
+			t.Errorf("%+v: got %v, want exit 1 and %q", tc.o, err, tc.want)
+		}
+		if _, serr := os.Stat(tc.o.Out); serr == nil {
+			t.Errorf("a failed run left %s", tc.o.Out)
+		}
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strings"
 
 	"github.com/urfave/cli/v2"
 
@@ -22,19 +23,20 @@ func runCommand() *cli.Command {
 		Name:      "run",
 		Usage:     "run the whole chain (assign for peak lists, fit, thermo, report) on input files",
 		ArgsUsage: "INPUT...",
-		Description: "With --pipeline, the stages take the options of the pipeline file. Without, the inputs are line lists and\n" +
-			"bandwright chooses the model (term values for a single band, Dunham for several vibrational levels) and adds terms\n" +
+		Description: "With --pipeline, the stages take the options of the pipeline file. Without, the inputs are line lists, or one peak list\n" +
+			"(a position column, no quantum numbers) assigned with the assign options (--start or --constants, --bands, --spectrum, …);\n" +
+			"bandwright then chooses the model (term values for a single band, Dunham for several vibrational levels) and adds terms\n" +
 			"while the data determine them and an F-test says they are significant; it prints what it chose.",
 		OnUsageError: onUsage,
-		Flags: []cli.Flag{
+		Flags: append(runAssignFlags(),
 			&cli.StringFlag{Name: "pipeline", Usage: "pipeline file (TOML)"},
 			&cli.StringFlag{Name: "out", Value: "bandwright-run", Usage: "output folder"},
-		},
+		),
 		Action: func(c *cli.Context) error {
 			if c.NArg() == 0 {
 				return usageExit("run: give one or more input files (see bandwright run --help)")
 			}
-			o := pipelines.ChainOptions{Inputs: c.Args().Slice(), Out: c.String("out")}
+			o := pipelines.ChainOptions{Inputs: c.Args().Slice(), Out: c.String("out"), Unit: c.String("unit")}
 			if f := c.String("pipeline"); f != "" {
 				p, err := pipelines.LoadPipeline(f)
 				if err != nil {
@@ -42,27 +44,66 @@ func runCommand() *cli.Command {
 				}
 				o.Pipeline = p
 			}
+			if assignGiven(c) {
+				ao, err := assignOptions(c)
+				if err != nil {
+					return err
+				}
+				o.Assign = ao
+			}
 			oc, err := pipelines.RunChain(o)
 			if err != nil {
 				return err
 			}
-			for _, s := range oc.Chosen {
-				fmt.Fprintln(c.App.Writer, s)
-			}
-			st := oc.Fit.Result.Stats
-			fmt.Fprintf(c.App.Writer, "fit: %s model, %d lines (%d used, %d rejected), s = %.3g\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma)
-			if oc.Assign != nil {
-				for _, w := range oc.Assign.Result.Warnings {
-					fmt.Fprintln(c.App.ErrWriter, "warning: assign:", w)
-				}
-			}
-			for _, w := range oc.Fit.Result.Warnings {
-				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
-			}
-			fmt.Fprintf(c.App.Writer, "report: %s\n", oc.ReportPath())
+			printChain(c, oc)
 			return nil
 		},
 	}
+}
+
+// runAssignFlags are assign's options as run takes them: --unit is also the
+// unit of the fit's outputs, and has no default of its own (a peak list
+// without units is then in cm-1, line lists show their own unit).
+func runAssignFlags() []cli.Flag {
+	fs := assignFlags()
+	for i, f := range fs {
+		if f.Names()[0] == "unit" {
+			fs[i] = &cli.StringFlag{Name: "unit", Usage: "cm-1, MHz or GHz: the unit of peaks whose row gives none (default cm-1) and of the constants, rms and residuals shown (default: the lines' unit)"}
+		}
+	}
+	return fs
+}
+
+// assignGiven reports whether any option of a peak list's assignment was given.
+func assignGiven(c *cli.Context) bool {
+	for _, n := range []string{"start", "constants", "bands", "spectrum", "temperature", "tolerance", "unc", "species"} {
+		if c.IsSet(n) {
+			return true
+		}
+	}
+	return false
+}
+
+// printChain prints what a chain chose and produced, and its warnings.
+func printChain(c *cli.Context, oc *pipelines.ChainOutcome) {
+	if a := oc.Assign; a != nil {
+		fmt.Fprintf(c.App.Writer, "assign: %d peaks assigned, %d left unassigned, %d bands\n", len(a.Result.Lines), len(a.Result.Unassigned), len(a.Result.Bands))
+	}
+	for _, s := range oc.Chosen {
+		fmt.Fprintln(c.App.Writer, s)
+	}
+	st := oc.Fit.Result.Stats
+	fmt.Fprintf(c.App.Writer, "fit: %s model, %d lines (%d used, %d rejected), s = %.3g, rms %.3g %s\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma, oc.Fit.Record.RMS(), oc.Fit.Record.ShownIn())
+	fmt.Fprintf(c.App.Writer, "thermo: %d temperatures\n", len(oc.Thermo.Result.Rows))
+	if oc.Assign != nil {
+		for _, w := range oc.Assign.Result.Warnings {
+			fmt.Fprintln(c.App.ErrWriter, "warning: assign:", w)
+		}
+	}
+	for _, w := range oc.Fit.Result.Warnings {
+		fmt.Fprintln(c.App.ErrWriter, "warning:", w)
+	}
+	fmt.Fprintf(c.App.Writer, "report: %s\n", oc.ReportPath())
 }
 
 func nightlyCommand() *cli.Command {
@@ -75,14 +116,23 @@ func nightlyCommand() *cli.Command {
 			"SIGINT/SIGTERM stop after the files in progress.",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
-			&cli.StringFlag{Name: "inbox", Required: true, Usage: "folder of new measurement files (only read)"},
-			&cli.StringFlag{Name: "archive", Required: true, Usage: "folder of results, ledger, history and summaries"},
-			&cli.StringFlag{Name: "pipeline", Required: true, Usage: "pipeline file (TOML)"},
+			&cli.StringFlag{Name: "inbox", Usage: "folder of new measurement files (only read; required)"},
+			&cli.StringFlag{Name: "archive", Usage: "folder of results, ledger, history and summaries (required)"},
+			&cli.StringFlag{Name: "pipeline", Usage: "pipeline file (TOML; required)"},
 			&cli.IntFlag{Name: "workers", Value: 2, Usage: "files processed at once"},
 			&cli.StringFlag{Name: "shard", Usage: "K/N: process only shard K of N (by content hash), for job arrays"},
 			&cli.BoolFlag{Name: "retry-failed", Usage: "run again the files that failed before"},
 		},
 		Action: func(c *cli.Context) error {
+			var missing []string
+			for _, f := range []string{"inbox", "archive", "pipeline"} {
+				if c.String(f) == "" {
+					missing = append(missing, "--"+f)
+				}
+			}
+			if len(missing) > 0 {
+				return usageExit("nightly: give %s (see bandwright nightly --help)", strings.Join(missing, ", "))
+			}
 			if c.Int("workers") < 1 {
 				return usageExit("nightly: --workers must be at least 1")
 			}

@@ -11,11 +11,15 @@ import (
 func conventions(d *document, f *folder) {
 	rec := f.record
 	s := d.section("conventions", "Conventions")
+	unit := "Line positions, constants and residuals in cm⁻¹"
+	if u := rec.ShownIn(); u.IsFrequency() {
+		unit = "Line positions and residuals in " + u.String() + "; each constant in the largest of " + u.String() + ", kHz, Hz in which it is at least 1 (constants.json keeps cm⁻¹)"
+	}
 	items := []string{
-		"Line positions, constants and residuals in cm⁻¹ unless a line list gives MHz; 1 cm⁻¹ = 29 979.2458 MHz exactly.",
+		unit + "; 1 cm⁻¹ = 29 979.2458 MHz exactly.",
 		"Uncertainties are 1σ. Parenthetical notation: 1.922529(3) means 1.922529 ± 0.000003; 6.1215(12)e-06 means (6.1215 ± 0.0012)×10⁻⁶.",
 		"Covariance and σ of the constants: " + rec.CovarianceConvention + ".",
-		"o − c is observed minus calculated, in each line's own unit; (o − c)/σ divides by the line's stated uncertainty.",
+		"o − c is observed minus calculated, in the unit of residuals.csv; (o − c)/σ divides by the line's stated uncertainty.",
 		"Quantum numbers: v′, J′ of the upper level, v″, J″ of the lower; branches O, P, Q, R, S for ΔJ = J′ − J″ = −2 … +2.",
 	}
 	if f.thermo != nil {
