@@ -16,7 +16,10 @@ type NightlyOptions struct {
 	Workers                  int
 	Shard                    string // "K/N"; empty: 1/1
 	RetryFailed              bool
-	Progress                 io.Writer
+	// Include is the glob of the files to process (nightly.Options.Include;
+	// "": every file).
+	Include  string
+	Progress io.Writer
 }
 
 // RunNightly runs the pipeline file's chain on every new file of the inbox
@@ -58,7 +61,7 @@ func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) 
 	}
 	rep, err := nightly.Run(ctx, nightly.Options{
 		Inbox: o.Inbox, Archive: o.Archive, Workers: o.Workers, Shard: k, Shards: n,
-		RetryFailed: o.RetryFailed, PipelineHash: p.Hash, Version: Version, Job: job, Progress: o.Progress,
+		RetryFailed: o.RetryFailed, Include: o.Include, PipelineHash: p.Hash, Version: Version, Job: job, Progress: o.Progress,
 	})
 	if err != nil {
 		return nil, err

@@ -122,6 +122,7 @@ func nightlyCommand() *cli.Command {
 			&cli.IntFlag{Name: "workers", Value: 2, Usage: "files processed at once"},
 			&cli.StringFlag{Name: "shard", Usage: "K/N: process only shard K of N (by content hash), for job arrays"},
 			&cli.BoolFlag{Name: "retry-failed", Usage: "run again the files that failed before"},
+			&cli.StringFlag{Name: "include", Value: nightly.DefaultInclude, Usage: "glob of the files to process, letter case ignored (others are listed as ignored in the summary; \"\": every file)"},
 		},
 		Action: func(c *cli.Context) error {
 			var missing []string
@@ -140,7 +141,7 @@ func nightlyCommand() *cli.Command {
 			defer cancel()
 			rep, err := pipelines.RunNightly(ctx, pipelines.NightlyOptions{
 				Inbox: c.String("inbox"), Archive: c.String("archive"), Pipeline: c.String("pipeline"),
-				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Progress: c.App.ErrWriter,
+				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Include: c.String("include"), Progress: c.App.ErrWriter,
 			})
 			var be *failure.BatchError
 			if err != nil && !errors.As(err, &be) {

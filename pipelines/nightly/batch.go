@@ -22,7 +22,7 @@ func (r *runner) load() error {
 
 // select_ scans the inbox and returns the files to process.
 func (r *runner) select_() ([]task, error) {
-	files, ign := scanInbox(r.inbox)
+	files, ign := scanInbox(r.inbox, r.o.Include)
 	rep := r.rep
 	rep.Ignored = ign
 	for _, g := range ign {

@@ -13,7 +13,8 @@
 // results folder. A file whose run failed is retried only when it changes, or
 // with Options.RetryFailed. Hidden files and folders (name starting with '.')
 // are ignored, so an instrument or rsync can write ".name.part" and rename it
-// when complete. Symbolic links are followed only when they resolve to a
+// when complete, and so are files whose name Options.Include does not match
+// (listed in Report.Ignored). Symbolic links are followed only when they resolve to a
 // regular file inside the inbox; links pointing outside are listed in
 // Report.Ignored and never opened.
 //
@@ -71,6 +72,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path"
 	"runtime"
 	"sync"
 	"time"
@@ -134,6 +136,11 @@ type Options struct {
 	Shard, Shards int
 	// RetryFailed runs again the files whose content failed before.
 	RetryFailed bool
+	// Include is a glob (path.Match, letter case ignored) a file's name must
+	// match to be processed — matched against its path relative to the inbox
+	// when the glob holds a '/'; other files are listed in Report.Ignored.
+	// "": every file. The command line uses DefaultInclude.
+	Include string
 	// PipelineHash is the SHA-256 of the pipeline file, Version the program
 	// version; both are recorded in every manifest.
 	PipelineHash, Version string
@@ -238,7 +245,15 @@ func (e *LockError) Error() string {
 // Unwrap returns ErrLocked.
 func (e *LockError) Unwrap() error { return ErrLocked }
 
+// DefaultInclude is the --include of `bandwright nightly`: the CSV files of
+// the inbox (line or peak lists), so that a README or an instrument's log
+// file in the inbox is listed as ignored instead of failing the night.
+const DefaultInclude = "*.csv"
+
 func (o *Options) normalise() error {
+	if _, err := path.Match(o.Include, ""); err != nil {
+		return fmt.Errorf("nightly: --include %q: not a glob pattern (%v); e.g. *.csv", o.Include, err)
+	}
 	if o.Inbox == "" {
 		return errors.New("nightly: no inbox folder given (--inbox)")
 	}

@@ -724,3 +724,58 @@ func TestNonFiniteConstantsDropped(t *testing.T) {
 	}
 	checkArchive(t, e.archive, map[string]bool{shaOf([]byte("x")): true})
 }
+
+// TestIncludeGlob: with Include "*.csv" a README and an instrument's log in
+// the inbox are not read as line lists (the night does not fail); they are
+// listed as ignored in the report and in the summary. Letter case is ignored,
+// and a glob with '/' matches the path in the inbox.
+func TestIncludeGlob(t *testing.T) {
+	e := newEnv(t)
+	in := lineList(70, 1, 20)
+	write(t, filepath.Join(e.inbox, "cell", "a.csv"), in)
+	up := lineList(71, 1, 20)
+	write(t, filepath.Join(e.inbox, "B.CSV"), up)
+	write(t, filepath.Join(e.inbox, "README.txt"), []byte("Drop the spectrometer's line lists here.\n"))
+	write(t, filepath.Join(e.inbox, "cell", "run.log"), []byte("lamp on\n"))
+	o := e.opts(fitJob)
+	o.Include = nightly.DefaultInclude
+	rep := run(t, o)
+	if rep.Succeeded != 2 || rep.Failed != 0 {
+		t.Fatalf("%s", counts(rep))
+	}
+	reasons := map[string]string{}
+	for _, g := range rep.Ignored {
+		reasons[g.Name] = g.Reason
+	}
+	for _, name := range []string{"README.txt", "cell/run.log"} {
+		if reasons[name] != "not matched by --include *.csv" {
+			t.Errorf("%s: ignored %q; ignored list %+v", name, reasons[name], rep.Ignored)
+		}
+	}
+	sums, _ := filepath.Glob(filepath.Join(e.archive, "summary-*.md"))
+	if len(sums) != 1 {
+		t.Fatalf("summaries %v", sums)
+	}
+	sum, err := os.ReadFile(sums[0])
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(sum), "README.txt") || !strings.Contains(string(sum), "not matched by --include") {
+		t.Errorf("summary does not list the ignored files:\n%s", sum)
+	}
+	checkArchive(t, e.archive, map[string]bool{shaOf(in): true, shaOf(up): true})
+
+	// A glob with a folder.
+	e2 := newEnv(t)
+	write(t, filepath.Join(e2.inbox, "cell", "a.csv"), in)
+	write(t, filepath.Join(e2.inbox, "other", "b.csv"), up)
+	o2 := e2.opts(fitJob)
+	o2.Include = "cell/*.csv"
+	if rep := run(t, o2); rep.Succeeded != 1 || len(rep.Ignored) != 1 || rep.Ignored[0].Name != "other/b.csv" {
+		t.Errorf("cell/*.csv: %s, ignored %+v", counts(rep), rep.Ignored)
+	}
+	o2.Include = "[z-"
+	if _, err := nightly.Run(context.Background(), o2); err == nil || !strings.Contains(err.Error(), "--include") {
+		t.Errorf("bad glob: %v", err)
+	}
+}

@@ -25,9 +25,10 @@ type found struct {
 }
 
 // scanInbox lists the regular files of the inbox (recursively; hidden entries
-// skipped; links followed only to regular files inside the inbox) and hashes
-// each. The inbox is only read.
-func scanInbox(inbox string) ([]found, []Ignored) {
+// skipped; links followed only to regular files inside the inbox; files
+// include does not match listed as ignored) and hashes each. The inbox is
+// only read.
+func scanInbox(inbox, include string) ([]found, []Ignored) {
 	var files []found
 	var ign []Ignored
 	_ = filepath.WalkDir(inbox, func(p string, d fs.DirEntry, err error) error {
@@ -50,6 +51,10 @@ func scanInbox(inbox string) ([]found, []Ignored) {
 			if d.IsDir() {
 				return fs.SkipDir
 			}
+			return nil
+		}
+		if !d.IsDir() && !included(include, name) {
+			ign = append(ign, Ignored{name, fmt.Sprintf("not matched by --include %s", include)})
 			return nil
 		}
 		switch t := d.Type(); {
@@ -89,6 +94,21 @@ func scanInbox(inbox string) ([]found, []Ignored) {
 		kept = append(kept, f)
 	}
 	return kept, ign
+}
+
+// included reports whether the file name (relative to the inbox, '/'
+// separators) matches the glob, ignoring letter case: its base name, or the
+// whole name when the glob holds a '/'. Every file matches "".
+func included(glob, name string) bool {
+	if glob == "" {
+		return true
+	}
+	target := path.Base(name)
+	if strings.Contains(glob, "/") {
+		target = name
+	}
+	ok, _ := path.Match(strings.ToLower(glob), strings.ToLower(target))
+	return ok
 }
 
 func errText(err error) string {
