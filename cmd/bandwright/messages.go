@@ -4,6 +4,7 @@ import (
 	"bandwright/internal/failure"
 	"errors"
 	"fmt"
+	"os"
 	"sort"
 	"strings"
 
@@ -103,11 +104,17 @@ func stripPrefixes(msg, cmd string) string {
 }
 
 // startsWithInput reports whether the first line of msg names one of the
-// input files ("lines.csv:12: …", "open lines.csv: …").
+// input files ("lines.csv:12: …", "open lines.csv: …") or begins with the
+// name of another file ("start.toml:3: …", a file the options named).
 func startsWithInput(msg string, inputs []string) bool {
 	first, _, _ := strings.Cut(msg, "\n")
 	for _, in := range inputs {
 		if in != "" && strings.Contains(first, in) {
+			return true
+		}
+	}
+	if name, _, ok := strings.Cut(first, ":"); ok && name != "" {
+		if _, err := os.Stat(name); err == nil {
 			return true
 		}
 	}

@@ -19,6 +19,11 @@ type Problem struct {
 	Field  string // column name (canonical spelling, e.g. "J_up"); empty when no column is concerned
 	Reason string
 	Err    error // underlying cause, if any (an I/O error, a species.ParseError); may be nil
+	// kind identifies the problem's kind for the summary of FormatProblems
+	// (the format of its reason); more counts the problems of the same kind
+	// found after the collector was full, in rows moreLo … moreHi.
+	kind                 string
+	more, moreLo, moreHi int
 }
 
 // String formats the problem as FILE:ROW: field: reason, leaving out ROW when it is 0
@@ -88,27 +93,37 @@ func FormatProblems(pkg string, probs []Problem, omitted int) string {
 	perKind := map[kind]int{}
 	cuts := map[kind]*cut{}
 	var order []kind
+	addCut := func(k kind, n, lo, hi int) {
+		c := cuts[k]
+		if c == nil {
+			c = &cut{lo: lo, hi: hi}
+			cuts[k] = c
+			order = append(order, k)
+		}
+		c.n += n
+		c.lo, c.hi = min(c.lo, lo), max(c.hi, hi)
+	}
 	for _, p := range probs {
-		k := kind{p.File, p.Field, stripDigits(p.Reason)}
-		if perKind[k] < ShownPerKind && shown < ShownProblems {
+		k := kind{p.File, p.Field, p.kind}
+		if k.reason == "" {
+			k.reason = stripDigits(p.Reason)
+		}
+		switch {
+		case perKind[k] < ShownPerKind && shown < ShownProblems:
 			perKind[k]++
 			shown++
 			b.WriteString("\n")
 			b.WriteString(p.String())
-			continue
-		}
-		if perKind[k] < ShownPerKind {
+		case perKind[k] < ShownPerKind:
 			rest++ // a kind the overall cap left out entirely
-			continue
+		default:
+			addCut(k, 1, p.Row, p.Row)
 		}
-		c := cuts[k]
-		if c == nil {
-			c = &cut{lo: p.Row, hi: p.Row}
-			cuts[k] = c
-			order = append(order, k)
+		if p.more > 0 && perKind[k] > 0 {
+			// Counted in omitted, but of a kind listed: summarised with it.
+			rest -= p.more
+			addCut(k, p.more, p.moreLo, p.moreHi)
 		}
-		c.n++
-		c.lo, c.hi = min(c.lo, p.Row), max(c.hi, p.Row)
 	}
 	for _, k := range order {
 		c := cuts[k]
@@ -169,21 +184,40 @@ func (c *collector) full() bool { return len(c.probs) >= MaxProblems }
 func (c *collector) any() bool { return len(c.probs) > 0 }
 
 // add records a problem; the reason is formatted only when it will be kept.
+// Once the collector is full, a problem of a kind it kept (same field and
+// format) is counted on that problem, any other in omitted.
 func (c *collector) add(row int, field string, format string, args ...any) {
 	if c.full() {
-		c.omitted++
+		c.countMore(row, field, format)
 		return
 	}
-	c.probs = append(c.probs, Problem{File: c.file, Row: row, Field: field, Reason: fmt.Sprintf(format, args...)})
+	c.probs = append(c.probs, Problem{File: c.file, Row: row, Field: field, Reason: fmt.Sprintf(format, args...), kind: format})
 }
 
 // addErr records a problem with an underlying cause.
 func (c *collector) addErr(row int, field, reason string, err error) {
 	if c.full() {
-		c.omitted++
+		c.countMore(row, field, reason)
 		return
 	}
-	c.probs = append(c.probs, Problem{File: c.file, Row: row, Field: field, Reason: reason, Err: err})
+	c.probs = append(c.probs, Problem{File: c.file, Row: row, Field: field, Reason: reason, Err: err, kind: reason})
+}
+
+// countMore counts a problem found after the collector was full in omitted
+// and, when a problem of its kind was kept, on the first such problem too.
+func (c *collector) countMore(row int, field, kind string) {
+	c.omitted++
+	for i := range c.probs {
+		p := &c.probs[i]
+		if p.Field == field && p.kind == kind {
+			if p.more == 0 {
+				p.moreLo, p.moreHi = row, row
+			}
+			p.more++
+			p.moreLo, p.moreHi = min(p.moreLo, row), max(p.moreHi, row)
+			return
+		}
+	}
 }
 
 // merge builds the error of several collectors, nil if none has a problem.
