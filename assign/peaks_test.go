@@ -174,3 +174,40 @@ func TestUnitHint(t *testing.T) {
 		t.Errorf("hint for peaks in the right unit: %v", err)
 	}
 }
+
+// TestFlatIntensitiesIgnored: a peak list whose intensity column holds the
+// same number everywhere (a program that measured none) is assigned as if it
+// had none, with a warning — compared with the predicted intensities it would
+// only count against the right pattern. Lines of 12C16O J+1←J, J = 0…24,
+// in MHz from its ground-state constants (57 635.968 MHz, 183.5 kHz; from
+// memory).
+func TestFlatIntensitiesIgnored(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("position,intensity\n")
+	for J := 0; J < 25; J++ {
+		x1, x0 := float64((J+1)*(J+2)), float64(J*(J+1))
+		fmt.Fprintf(&b, "%.4f,1\n", 57635.96828*(x1-x0)-0.1835055*(x1*x1-x0*x0))
+	}
+	pl, err := assign.ReadPeaks(strings.NewReader(b.String()), "p.csv", linelist.MHz)
+	if err != nil {
+		t.Fatal(err)
+	}
+	st, err := assign.ReadStart(strings.NewReader("unit = \"MHz\"\n[[species]]\nname = \"12C16O\"\nB_0 = 57500\n"), "s.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := assign.Assign(assign.Problem{Peaks: pl, Start: st, Bands: []linelist.Band{{VUp: 0, VLo: 0}}, Spectrum: assign.Rotation}, assign.Settings{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Lines) != 25 {
+		t.Errorf("%d lines assigned, want 25", len(res.Lines))
+	}
+	found := false
+	for _, w := range res.Warnings {
+		found = found || strings.HasPrefix(w, "every peak with an intensity has the same one (25 peaks)")
+	}
+	if !found {
+		t.Errorf("no warning about the flat intensities: %q", res.Warnings)
+	}
+}

@@ -151,7 +151,10 @@ func checkProblem(p *Problem, s Settings) error {
 }
 
 // setPeaks sorts the peaks by wavenumber and sets their positions (cm⁻¹), ln
-// intensities and the spectral range.
+// intensities and the spectral range. Intensities that are all the same (a
+// column filled with 1 by a program that measured none) carry no information
+// and are not used, with a warning: compared with the predicted ones they
+// would only count against the right pattern.
 func (r *run) setPeaks() {
 	pk := r.p.Peaks.Peaks
 	idx := make([]int, len(pk))
@@ -170,6 +173,23 @@ func (r *run) setPeaks() {
 		}
 	}
 	r.lo, r.hi = r.pos[0], r.pos[n-1]
+	given, first, same := 0, math.NaN(), true
+	for _, x := range r.lnI {
+		if math.IsNaN(x) {
+			continue
+		}
+		if given == 0 {
+			first = x
+		}
+		same = same && x == first
+		given++
+	}
+	if given >= 2 && same {
+		for k := range r.lnI {
+			r.lnI[k] = math.NaN()
+		}
+		r.warnings = append(r.warnings, fmt.Sprintf("every peak with an intensity has the same one (%d peaks): the intensities carry no information and are not used", given))
+	}
 }
 
 // placeholderUnc is the 1σ (cm⁻¹) the peaks carry while no uncertainty is
