@@ -88,6 +88,8 @@ func TestReadRecordHandEdits(t *testing.T) {
 		{"not UTF-8", bytes.Replace(good, []byte(`"model": "dunham"`), []byte("\"model\": \"dunh\xe4m\""), 1), "c.json:3:17: not UTF-8 text: byte 0xE4"},
 		{"future schema", bytes.Replace(good, []byte(Schema), []byte("bandwright.constants/2"), 1), "written by a newer bandwright"},
 		{"unit", edit(func(m map[string]any) { m["unit"] = "MHz" }), `unit: "MHz"; a constants record holds its constants in cm-1`},
+		{"display unit", edit(func(m map[string]any) { m["display_unit"] = "THz" }), `display_unit: "THz"; use cm-1, MHz or GHz`},
+		{"unconnected non-T", edit(func(m map[string]any) { param(m, 3)["unconnected"] = true }), "parameters: Y01: unconnected applies to a fixed term value T_v only"},
 		{"Dunham indices", edit(func(m map[string]any) { param(m, 3)["k"] = 5.0 }), "parameters: Y01: k = 5, l = 1 do not match the name"},
 		{"negative sigma", edit(func(m map[string]any) { param(m, 3)["sigma"] = -1e-6 }), "Y01: value and sigma must be finite"},
 		{"negative variance", edit(func(m map[string]any) {

@@ -36,6 +36,9 @@ formats = ["html", "md"]
 	if p.Thermo.States != "/abs/states.toml" {
 		t.Errorf("absolute path changed: %q", p.Thermo.States)
 	}
+	if p2, err := ParsePipeline([]byte("[fit]\nunit = \"MHz\"\n"), "pipe.toml"); err != nil || p2.FitOptions(nil, "").Unit != "MHz" {
+		t.Errorf("fit.unit not carried over: %v", err)
+	}
 	o := p.FitOptions([]string{"x.csv"}, "out")
 	if o.Reject != 0 || o.Model != "dunham" || len(o.Terms) != 5 {
 		t.Errorf("fit options not carried over: %+v", o)
@@ -53,6 +56,7 @@ formats = ["html", "md"]
 		{"input = \"spectra\"\n", "input"},
 		{"input = \"peaks\"\n", "[assign]"},
 		{"[fit]\nmodel = \"spline\"\n", "fit.model"},
+		{"[fit]\nunit = \"THz\"\n", "pipe.toml:2: fit.unit: \"THz\"; use cm-1, MHz or GHz"},
 		{"[fit]\nreject = -1\n", "fit.reject"},
 		{"[report]\nformats = [\"pdf\"]\n", "report.formats"},
 		{"[thermo]\nnasa_limits = \"200-6000\"\n", "thermo.nasa_limits"},
