@@ -136,7 +136,7 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if len(list.Warnings) > 0 {
 		ws := make([]string, 0, len(list.Warnings)+len(res.Warnings))
 		for _, w := range list.Warnings {
-			ws = append(ws, "linelist: "+w.String())
+			ws = append(ws, w.String())
 		}
 		res.Warnings = append(ws, res.Warnings...)
 	}

@@ -89,7 +89,7 @@ func TestEverydayMistakes(t *testing.T) {
 		{name: "run on a peak list with the assign options", args: []string{"run", peaks, "--start", bStart, "--bands", "0-0", "--spectrum", "rotation", "--unit", "GHz", "--out", out("run")},
 			stdout: []string{"assign: 12 peaks assigned", "fit: term-values model, 12 lines", " GHz\n", "report: "}},
 		{name: "one peak, two transitions", args: []string{"fit", blend, "--out", out("blend")},
-			stderr: []string{"warning: linelist: " + blend + ":84: one peak assigned to two transitions: position " + first[5] + " cm-1 is also row 2's, assigned to 1-0 R(0), and here to 2-1 R(5)"}},
+			stderr: []string{"warning: " + blend + ":84: one peak assigned to two transitions: position " + first[5] + " cm-1 is also row 2's, assigned to 1-0 R(0), and here to 2-1 R(5)"}},
 		{name: "a Q branch asked of an infrared band", args: []string{"predict", rec(), "--bands", "1-0", "--branches", "P,Q,R", "--jmax", "3", "--out", out("q.csv")},
 			stderr: []string{"warning: band 1-0 of 12C16O: a ¹Σ–¹Σ band of an infrared spectrum has no Q branch"}},
 		{name: "a band the record has no levels for", args: []string{"predict", rec(), "--bands", "0-0", "--species", "13C16O", "--out", out("x.csv")}, code: 1,
