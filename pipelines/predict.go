@@ -14,6 +14,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/fit/model"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/thermo"
@@ -89,7 +90,7 @@ func RunPredict(o PredictOptions) (*PredictOutcome, error) {
 	}
 	var all []fit.Prediction
 	for _, sp := range spp {
-		ps, err := predictSpecies(c, sp, o, oc)
+		ps, err := predictSpecies(c, rec, sp, o, oc)
 		if err != nil {
 			return nil, err
 		}
@@ -110,13 +111,16 @@ func RunPredict(o PredictOptions) (*PredictOutcome, error) {
 
 // predictSpecies predicts the bands of one species: the transitions of each
 // band's branches, their positions and, with a temperature, intensities.
-func predictSpecies(c *constants.Set, sp string, o PredictOptions, oc *PredictOutcome) ([]fit.Prediction, error) {
+func predictSpecies(c *constants.Set, rec *constants.Record, sp string, o PredictOptions, oc *PredictOutcome) ([]fit.Prediction, error) {
 	var intens map[assign.Spectrum]*assign.IntensityModel
 	if o.Temperature > 0 {
 		intens = map[assign.Spectrum]*assign.IntensityModel{}
 	}
 	var out []fit.Prediction
 	for _, b := range o.Bands {
+		if err := checkPlaced(c, rec, sp, b); err != nil {
+			return nil, err
+		}
 		spec, branches, err := bandBranches(b, o.Spectrum, o.Branches, sp, oc)
 		if err != nil {
 			return nil, err
@@ -140,6 +144,42 @@ func predictSpecies(c *constants.Set, sp string, o PredictOptions, oc *PredictOu
 		out = append(out, ps...)
 	}
 	return out, nil
+}
+
+// checkPlaced refuses a band between two levels of species sp whose energy
+// difference the fit did not determine: when the fit held a term value at 0
+// for want of a connecting line (constants.Set.Unconnected), the levels fall
+// into groups the observed bands (rec.Bands) connect, and a band across two
+// groups has no known origin.
+func checkPlaced(c *constants.Set, rec *constants.Record, sp string, b linelist.Band) error {
+	s := model.SpeciesIndex(c.Model, sp)
+	if s < 0 || b.VUp == b.VLo {
+		return nil
+	}
+	group := map[int]int{}
+	var find func(int) int
+	find = func(v int) int {
+		if g, ok := group[v]; ok && g != v {
+			group[v] = find(g)
+			return group[v]
+		}
+		group[v] = v
+		return v
+	}
+	held := false
+	for _, bd := range rec.Bands {
+		if bd.Species != sp {
+			continue
+		}
+		held = held || c.Unconnected(s, bd.VUp) || c.Unconnected(s, bd.VLo)
+		if bd.VUp != bd.VLo {
+			group[find(max(bd.VUp, bd.VLo))] = find(min(bd.VUp, bd.VLo))
+		}
+	}
+	if !held || find(b.VUp) == find(b.VLo) {
+		return nil
+	}
+	return failure.Errorf(failure.BadInput, "band %s of %s: the energy of v=%d above v=%d is not known (no line connected the two levels in the fit, which held a term value at 0); its lines cannot be predicted — fit a band that connects them, or fix the term value (--fix T_v%d=VALUE)", b, sp, b.VUp, b.VLo, max(b.VUp, b.VLo))
 }
 
 // bandBranches returns the spectrum of band b (o.Spectrum, or rotation for

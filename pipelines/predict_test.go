@@ -348,3 +348,36 @@ func TestRunPeakListWithoutPipeline(t *testing.T) {
 		}
 	}
 }
+
+// TestPredictAcrossUnconnectedLevels: with pure-rotation lines in v = 0 and
+// v = 1 only, the fit holds T_v1 at 0; predict gives the rotational lines of
+// either level but refuses the band 1-0, whose origin nobody measured.
+func TestPredictAcrossUnconnectedLevels(t *testing.T) {
+	dir := t.TempDir()
+	var b strings.Builder
+	b.WriteString("species,v_up,J_up,v_lo,J_lo,position,unc,unit\n")
+	for J := 0; J < 12; J++ {
+		fmt.Fprintf(&b, "12C16O,0,%d,0,%d,%.4f,0.001,MHz\n", J+1, J, coRotationMHz(J))
+		// v = 1, B smaller by α_e = 524.76 MHz (Huber & Herzberg, from memory).
+		x1, x0 := float64((J+1)*(J+2)), float64(J*(J+1))
+		fmt.Fprintf(&b, "12C16O,1,%d,1,%d,%.4f,0.001,MHz\n", J+1, J, (coB0-524.76)*(x1-x0)-coD0*(x1*x1-x0*x0))
+	}
+	lines := filepath.Join(dir, "rot.csv")
+	if err := os.WriteFile(lines, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := RunFit(FitOptions{Inputs: []string{lines}, Model: "term-values", Reject: 3, Out: filepath.Join(dir, "fit")}); err != nil {
+		t.Fatal(err)
+	}
+	rec := filepath.Join(dir, "fit", "constants.json")
+	if _, err := RunPredict(PredictOptions{Constants: rec, Bands: []linelist.Band{{VUp: 1, VLo: 1}}, JMax: 5, Out: filepath.Join(dir, "p11.csv")}); err != nil {
+		t.Errorf("band 1-1: %v", err)
+	}
+	_, err := RunPredict(PredictOptions{Constants: rec, Bands: []linelist.Band{{VUp: 1, VLo: 0}}, JMax: 5, Out: filepath.Join(dir, "p10.csv")})
+	if err == nil || !strings.Contains(err.Error(), "band 1-0 of 12C16O: the energy of v=1 above v=0 is not known") || failure.ExitCode(err) != 1 {
+		t.Errorf("band 1-0: got %v, want a refusal (exit 1)", err)
+	}
+	if _, serr := os.Stat(filepath.Join(dir, "p10.csv")); serr == nil {
+		t.Error("a refused prediction left its file")
+	}
+}
