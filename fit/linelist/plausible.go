@@ -120,46 +120,37 @@ func (rd *reader) checkWavenumbers(byFile map[string]*collector, mixed map[unitB
 }
 
 // warnDuplicates adds a warning for every line with the species, quantum
-// numbers, position and unit of an earlier one, and for every line of a file
-// whose species, position and unit repeat an earlier line's with another
-// transition — one peak assigned to two transitions (up to MaxProblems, then
-// a count).
+// numbers, position and unit of the first line at that position, and for
+// every line of a file whose species, position and unit repeat an earlier
+// line's of the file with another transition — one peak assigned to two
+// transitions (up to MaxProblems, then a count). One map, keyed by the
+// position, serves both.
 func (rd *reader) warnDuplicates() {
 	lines := rd.list.Lines
-	type lineKey struct {
-		species            string
-		vUp, jUp, vLo, jLo int
-		position           uint64
-		unit               Unit
+	type posKey struct {
+		species  string
+		position uint64
+		unit     Unit
 	}
-	type peakKey struct {
-		file, species string
-		position      uint64
-		unit          Unit
-	}
-	first := make(map[lineKey]int, len(lines))
-	peak := make(map[peakKey]int, len(lines))
+	first := make(map[posKey]int, len(lines))
 	warned := 0
 	for i := range lines {
 		l := &lines[i]
-		pos := math.Float64bits(l.Position)
-		k := lineKey{l.Species, l.VUp, l.JUp, l.VLo, l.JLo, pos, l.Unit}
-		pk := peakKey{l.File, l.Species, pos, l.Unit}
+		k := posKey{l.Species, math.Float64bits(l.Position), l.Unit}
+		j, seen := first[k]
+		if !seen {
+			first[k] = i
+			continue
+		}
+		o := &lines[j]
 		var reason string
-		if j, dup := first[k]; dup {
-			reason = fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", rowOf(&lines[j], l))
-		} else if j, shared := peak[pk]; shared {
-			o := &lines[j]
+		switch {
+		case o.VUp == l.VUp && o.JUp == l.JUp && o.VLo == l.VLo && o.JLo == l.JLo:
+			reason = fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", rowOf(o, l))
+		case o.File == l.File:
 			reason = fmt.Sprintf("one peak assigned to two transitions: position %s %s is also row %d's, assigned to %s, and here to %s; a blended peak counts twice in the fit (keep one, or raise the unc of both)",
 				fmtPos(l.Position), l.Unit, o.Row, TransitionLabel(o.VUp, o.JUp, o.VLo, o.JLo), TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo))
-		}
-		if _, seen := first[k]; !seen {
-			first[k] = i
-		}
-		if _, seen := peak[pk]; !seen {
-			peak[pk] = i
-		}
-		if reason == "" {
+		default:
 			continue
 		}
 		warned++
