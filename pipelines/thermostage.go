@@ -156,9 +156,10 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		if err := states.Check(iso); err != nil {
 			return nil, err
 		}
-		p.DissociationEnergy = states.DissociationEnergy
+		p.DissociationEnergy, p.DissociationSigma = states.DissociationEnergy, states.DissociationSigma
 		for i, cs := range states.States {
-			st := thermo.State{Label: cs.Label, TermEnergy: cs.TermEnergy, Multiplicity: cs.Multiplicity, Lambda: cs.Lambda, Symmetry: cs.Symmetry}
+			st := thermo.State{Label: cs.Label, TermEnergy: cs.TermEnergy, Multiplicity: cs.Multiplicity, Lambda: cs.Lambda, Symmetry: cs.Symmetry,
+				OmegaE: cs.OmegaE, OmegaESigma: cs.OmegaESigma, FineStructureWidth: cs.FineStructureWidth, ProductsEnergy: cs.ProductsEnergy}
 			if cs.Constants != "" {
 				path := cs.Constants
 				if !filepath.IsAbs(path) {
@@ -186,11 +187,12 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	for i, in := range inputs {
 		prov.Inputs = append(prov.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}
+	nasa := s.NASA.WithDefaults()
 	prov.Options = map[string]any{
 		"species": iso.Label, "temperatures": o.Temperatures, "range": o.Range,
 		"pressure_Pa": res.Conventions.StandardPressure, "composition": res.Conventions.Composition,
 		"nuclear_spin": res.Conventions.NuclearSpin, "mc": o.MC, "seed": o.Seed,
-		"nasa_breakpoint_K": res.NASA.Breakpoint, "nasa_limits_K": []float64{res.NASA.Ranges[0].TMin, res.NASA.Ranges[1].TMax},
+		"nasa_breakpoint_K": nasa.Break, "nasa_limits_K": []float64{nasa.Low, nasa.High},
 		"states": o.States,
 	}
 	return &ThermoOutcome{Result: res, Provenance: prov, Inputs: inputs}, nil

@@ -30,15 +30,26 @@ const (
 // in order, are the methods of levelSum: check the species, the dissociation
 // energy and the states; combine the fitted parameters of every constants
 // record into one vector with its covariance; weigh each state (electronic
-// degeneracy and nuclear-spin weights); fix a provisional energy zero and the
-// population limit; enumerate the levels of every constants record
-// (enumerateManifold); collect the weighted levels of every state, sorted by
-// energy; store them with their gradients relative to the lowest level; add
-// the estimated missing levels; summarise each state; describe the zero.
-func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
+// degeneracy and nuclear-spin weights); make the level source of every record
+// (its levels and the extrapolation of the levels it lacks); fix a
+// provisional energy zero and the population limit; settle the dissociation
+// limit (given, or estimated from the ground state's vibrational structure);
+// enumerate the levels of every record up to the highest limit any
+// alternative of the budget needs (enumerateManifold); collect the weighted
+// levels of every state, sorted by energy, split at each state's nominal
+// limit; store them with their gradients relative to the lowest level;
+// summarise each state; describe the zero.
+func enumerate(p Problem, s Settings, tMax float64, o buildOptions) (*System, error) {
 	b, err := newLevelSum(p, s, tMax)
 	if err != nil {
 		return nil, err
+	}
+	b.opts = o
+	sys := b.sys
+	sys.pressure = s.pressure()
+	sys.molarMass = sys.iso.MolarMass()
+	if s.composition() == CompositionNatural {
+		sys.molarMass = sys.iso.NaturalMolarMass()
 	}
 	if err := b.combineParameters(); err != nil {
 		return nil, err
@@ -46,7 +57,9 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 	if err := b.weighStates(); err != nil {
 		return nil, err
 	}
+	b.makeSources()
 	b.provisionalZero()
+	b.settleDissociation()
 	if err := b.enumerateManifolds(); err != nil {
 		return nil, err
 	}
@@ -54,11 +67,24 @@ func enumerate(p Problem, s Settings, tMax float64) (*System, error) {
 		return nil, err
 	}
 	b.storeLevels()
-	b.addMissingLevels()
+	b.symmetryFactors()
 	b.summarise()
 	b.describeZero()
 	return b.sys, nil
 }
+
+// buildOptions are the choices a level sum is built with: the nominal ones
+// for the table, the alternatives' for the budget.
+type buildOptions struct {
+	// choice of the extrapolation (x_e, α factor); ω_e comes from each
+	// state, shifted by omegaShift of its σ.
+	xe, alphaScale, omegaShift float64
+	// alternative: a level sum of the budget (no extra levels above the
+	// nominal dissociation limit).
+	alternative bool
+}
+
+func nominalBuild() buildOptions { return buildOptions{xe: xePriorCentre, alphaScale: 1} }
 
 // levelSum builds a System in the steps of enumerate; each step reads what
 // the earlier ones left in it.
@@ -66,6 +92,7 @@ type levelSum struct {
 	p    Problem
 	tMax float64
 	sys  *System
+	opts buildOptions
 	// ground is the index of the ground state (term energy 0) in sys.states.
 	ground int
 	// stateBlock is the parameter block (index in sys.blocks) of each state.
@@ -73,14 +100,18 @@ type levelSum struct {
 	// weights of each state.
 	weights []stateWeights
 	// gsp is the isotopologue's index in the ground-state record, vLow the
-	// record's lowest vibrational level.
+	// ground source's lowest vibrational level.
 	gsp, vLow int
 	// eRef is the provisional zero: the model energy of the lowest weighted
 	// level of the ground state, cm⁻¹. Levels more than eNeg above it are left
 	// out (population below e⁻⁵⁰ at tMax), cm⁻¹.
 	eRef, eNeg float64
-	// levels are the weighted levels of every state, sorted by energy.
-	levels []sumLevel
+	// d0 is the nominal dissociation energy above eRef, d0Max the highest of
+	// the budget's alternatives (cm⁻¹; +Inf: no limit).
+	d0, d0Max float64
+	// levels are the weighted levels of every state below its nominal limit,
+	// extra those between it and the highest alternative's, sorted by energy.
+	levels, extra []sumLevel
 }
 
 // stateWeights are the electronic degeneracy g_e and the nuclear-spin weights
@@ -117,6 +148,12 @@ func newLevelSum(p Problem, s Settings, tMax float64) (*levelSum, error) {
 	ground, err := groundState(iso, states)
 	if err != nil {
 		return nil, err
+	}
+	if err := checkClosedShell(p, iso); err != nil {
+		return nil, err
+	}
+	if p.DissociationSigma < 0 || math.IsNaN(p.DissociationSigma) || math.IsInf(p.DissociationSigma, 0) || (p.DissociationSigma > 0 && p.DissociationEnergy == 0) {
+		return nil, fmt.Errorf("thermo: dissociation energy σ %v must be finite and ≥ 0, and given with the dissociation energy", p.DissociationSigma)
 	}
 	sys := &System{iso: iso, states: states, spin: s.nuclearSpin(), tMax: tMax}
 	return &levelSum{p: p, tMax: tMax, sys: sys, ground: ground}, nil
@@ -243,26 +280,54 @@ func (b *levelSum) weight(i, J int) float64 {
 	return w.ge * gns * float64(2*J+1)
 }
 
+// makeSources makes the level source of every parameter block: the record
+// of the block for the isotopologue, with the extrapolation of the levels it
+// lacks made with the build's choices (ω_e of the block's state shifted by
+// omegaShift of its σ).
+func (b *levelSum) makeSources() {
+	sys := b.sys
+	sys.sources = make([]*levelSource, len(sys.blocks))
+	for i, st := range sys.states {
+		blk := b.stateBlock[i]
+		if sys.sources[blk] != nil || (blk == 0 && i != b.ground) {
+			continue
+		}
+		c := sys.blocks[blk].c
+		obs := b.p.Observed
+		if blk != 0 {
+			obs = st.Observed
+		}
+		ch := extChoice{xe: b.opts.xe, alphaScale: b.opts.alphaScale}
+		if st.OmegaE > 0 {
+			ch.omega = st.OmegaE + b.opts.omegaShift*st.OmegaESigma
+		}
+		sp := model.SpeciesIndex(c.Model, sys.iso.Label)
+		sys.sources[blk] = newLevelSource(c, sp, observedLevels(obs, sys.iso.Label), ch)
+	}
+}
+
 // provisionalZero sets eRef, the model energy of the lowest weighted level of
-// the ground state (lowest v of the record, J = Λ or Λ+1), and the population
+// the ground state (lowest v of its source, J = Λ or Λ+1), and the population
 // limit eNeg = 50·T_max/c₂.
 func (b *levelSum) provisionalZero() {
+	src := b.sys.sources[0]
 	gc := b.p.Constants
-	b.gsp = model.SpeciesIndex(gc.Model, b.sys.iso.Label)
+	b.gsp = src.sp
 	b.vLow = 0
-	if lm, ok := gc.Model.(*model.TermValues); ok {
-		b.vLow = lm.LevelsOf(b.gsp)[0]
+	for b.vLow < maxV && !src.has(b.vLow) {
+		b.vLow++
 	}
 	jLow := b.sys.states[b.ground].Lambda
 	if b.weight(b.ground, jLow) == 0 {
 		jLow++
 	}
-	b.eRef = gc.Model.Energy(b.gsp, b.vLow, jLow, gc.Values, nil)
+	b.eRef = src.energy(b.vLow, jLow, gc.Values, nil)
 	b.eNeg = cutExponent * b.tMax / units.SecondRadiation
 }
 
 // enumerateManifolds enumerates one manifold per constants record, the ground
-// record first (bounded by D0 when given), and flags its levels outside the
+// record first, up to the highest dissociation limit of the states that use
+// it (the budget's alternatives included), and flags its levels outside the
 // fitted data; states without a record of their own share the ground
 // manifold.
 func (b *levelSum) enumerateManifolds() error {
@@ -279,19 +344,13 @@ func (b *levelSum) enumerateManifolds() error {
 			sys.stateMan[i] = mi
 			continue
 		}
-		c := sys.blocks[blk].c
-		sp := model.SpeciesIndex(c.Model, sys.iso.Label)
 		obs := p.Observed
-		ceiling := math.Inf(1)
-		d0 := 0.0
-		if blk == 0 && p.DissociationEnergy > 0 {
-			d0 = p.DissociationEnergy
-			ceiling = b.eRef + d0
-		}
 		if blk != 0 {
 			obs = st.Observed
 		}
-		m, err := enumerateManifold(c, sp, blk, st.TermEnergy, b.eRef, b.eNeg, ceiling, d0, b.tMax, &count)
+		lim := &energyLimits{term: st.TermEnergy, eRef: b.eRef, eNeg: b.eNeg, ceiling: b.manifoldCeiling(blk),
+			ceilingReason: sys.dissociation.reason()}
+		m, err := enumerateManifold(sys.sources[blk], blk, lim, b.tMax, &count)
 		if err != nil {
 			return err
 		}
@@ -304,17 +363,34 @@ func (b *levelSum) enumerateManifolds() error {
 	return nil
 }
 
+// manifoldCeiling returns the model-energy ceiling of the manifold of block
+// blk: the highest dissociation asymptote, eRef + d0Max + products energy −
+// term energy, of the states that use it (+Inf without a limit).
+func (b *levelSum) manifoldCeiling(blk int) float64 {
+	c := math.Inf(-1)
+	for i, st := range b.sys.states {
+		if b.stateBlock[i] == blk {
+			c = math.Max(c, b.eRef+b.d0Max+st.ProductsEnergy-st.TermEnergy)
+		}
+	}
+	return c
+}
+
 // collectLevels lists the levels of every state with non-zero weight below
-// the population limit, marks them used in their manifold, and sorts them by
-// energy. An empty sum and one above MaxLevels cannot be computed.
+// the population limit, marks the nominal ones used in their manifold, and
+// sorts them by energy: those up to the state's nominal dissociation
+// asymptote (eRef + d0 + products energy) in levels, those above it (up to
+// the highest alternative's) in extra. An empty sum and one above MaxLevels
+// cannot be computed.
 func (b *levelSum) collectLevels() error {
 	sys := b.sys
-	var all []sumLevel
+	var all, extra []sumLevel
 	for _, m := range sys.manifolds {
 		m.used = make([]bool, len(m.e))
 	}
-	for i := range sys.states {
+	for i, st := range sys.states {
 		m := sys.manifolds[sys.stateMan[i]]
+		capNom := b.eRef + b.d0 + st.ProductsEnergy
 		for k := range m.e {
 			w := b.weight(i, int(m.J[k]))
 			if w == 0 {
@@ -324,6 +400,10 @@ func (b *levelSum) collectLevels() error {
 			if e-b.eRef > b.eNeg {
 				continue
 			}
+			if e > capNom {
+				extra = append(extra, sumLevel{e, w, i, k})
+				continue
+			}
 			all = append(all, sumLevel{e, w, i, k})
 			m.used[k] = true
 		}
@@ -331,19 +411,23 @@ func (b *levelSum) collectLevels() error {
 	if len(all) == 0 {
 		return cannot("no bound level with non-zero weight below the energy limits (check the constants and the electronic-states file)")
 	}
-	if len(all) > MaxLevels {
-		return cannot("the level sum has %d levels, more than %d; give dissociation_energy in an electronic-states file or lower the highest temperature", len(all), MaxLevels)
+	if len(all)+len(extra) > MaxLevels {
+		return cannot("the level sum has %d levels, more than %d; give dissociation_energy in an electronic-states file or lower the highest temperature", len(all)+len(extra), MaxLevels)
 	}
 	// slices.SortStableFunc: the reflection-based sort.SliceStable took a
 	// tenth of a nightly chain's time on 11 000 levels.
-	slices.SortStableFunc(all, func(a, b sumLevel) int { return cmp.Compare(a.e, b.e) })
-	b.levels = all
+	byEnergy := func(a, b sumLevel) int { return cmp.Compare(a.e, b.e) }
+	slices.SortStableFunc(all, byEnergy)
+	slices.SortStableFunc(extra, byEnergy)
+	b.levels, b.extra = all, extra
 	return nil
 }
 
 // storeLevels makes the lowest level the energy zero and stores every level's
 // energy above it, weight, state, manifold index, extrapolation flag and
-// gradient ∂(E − E_zero)/∂x (column-major over the combined parameters).
+// gradient ∂(E − E_zero)/∂x (column-major over the combined parameters), and
+// the extra levels (energy, weight, state) of the budget's higher
+// dissociation limits.
 func (b *levelSum) storeLevels() {
 	sys, all := b.sys, b.levels
 	z := all[0]
@@ -353,7 +437,10 @@ func (b *levelSum) storeLevels() {
 	n := len(all)
 	sys.e = make([]float64, n)
 	sys.w = make([]float64, n)
-	sys.g = make([]float64, n*sys.p)
+	if !b.opts.alternative {
+		// The budget's alternatives are evaluated without gradients.
+		sys.g = make([]float64, n*sys.p)
+	}
 	lg := make([]float64, sys.p)
 	sys.ext = make([]bool, n)
 	sys.st = make([]int16, n)
@@ -365,29 +452,31 @@ func (b *levelSum) storeLevels() {
 		sys.lv[i] = int32(l.idx)
 		m := sys.manifolds[sys.stateMan[l.st]]
 		sys.ext[i] = m.ext[l.idx]
+		if sys.g == nil {
+			continue
+		}
 		g := sys.levelGrad(l.st, l.idx, lg)
 		for k := range g {
 			sys.g[k*n+i] = g[k] - zg[k]
 		}
 	}
+	for _, l := range b.extra {
+		sys.extraE = append(sys.extraE, l.e-sys.e0)
+		sys.extraW = append(sys.extraW, l.w)
+		sys.extraSt = append(sys.extraSt, int16(l.st))
+	}
+	// The dissociation limit of each state relative to the zero: a level of
+	// state s is in the sum with D0 = d when E ≤ d + capShift[s].
+	sys.capShift = make([]float64, len(sys.states))
+	for i, st := range sys.states {
+		sys.capShift[i] = b.eRef - sys.e0 + st.ProductsEnergy
+	}
 }
 
-// addMissingLevels adds the estimated missing vibrational levels of levels
-// models (energies above the zero and weights, no gradients) and sets the
-// factors of the closed form: the symmetry number and the nuclear-spin factor.
-func (b *levelSum) addMissingLevels() {
+// symmetryFactors sets the factors of the closed form: the symmetry number
+// and the nuclear-spin factor.
+func (b *levelSum) symmetryFactors() {
 	sys := b.sys
-	for i := range sys.states {
-		m := sys.manifolds[sys.stateMan[i]]
-		for k := range m.missE {
-			w := b.weight(i, int(m.missJ[k]))
-			if w == 0 {
-				continue
-			}
-			sys.missE = append(sys.missE, sys.stateTerm[i]+m.missE[k]-sys.e0)
-			sys.missW = append(sys.missW, w)
-		}
-	}
 	sys.sigmaNumber = sys.iso.SymmetryNumber()
 	sys.spinFactor = 1
 	if sys.spin == SpinLineIntensity {

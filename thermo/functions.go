@@ -76,7 +76,8 @@ func (sys *System) functions(T float64, m *moments, h298 float64) Functions {
 
 // gradients fills d with the parameter derivatives of the functions at T from the
 // moments m (with gradients) and the derivative of H°−H°(0) at 298.15 K (dh298,
-// kJ/mol per unit parameter):
+// kJ/mol per unit parameter), for every column of m (the fitted parameters,
+// then the budget's directions):
 //
 //	∂ln Q = −β⟨g⟩,  ∂⟨E⟩ = ⟨g⟩ − β(⟨Eg⟩ − ⟨E⟩⟨g⟩),  ∂⟨E²⟩ = 2⟨Eg⟩ − β(⟨E²g⟩ − ⟨E²⟩⟨g⟩),
 //	∂Cp = Rβ²(∂⟨E²⟩ − 2⟨E⟩∂⟨E⟩),  ∂(H−H0) = Rc₂∂⟨E⟩,  ∂S = R(∂ln Q + β∂⟨E⟩).
@@ -86,7 +87,7 @@ func (sys *System) gradients(T float64, m *moments, f Functions, dh298 []float64
 	meanE := m.a1 * inv
 	meanE2 := m.a2 * inv
 	r := units.GasConstant
-	for k := 0; k < sys.p; k++ {
+	for k := range d.Q {
 		g := m.g0[k] * inv
 		eg := m.g1[k] * inv
 		e2g := m.g2[k] * inv
@@ -120,14 +121,16 @@ func (sys *System) Evaluate(x []float64, T float64) Functions {
 // FunctionsAt returns the functions at T and their analytic gradients with
 // respect to the fitted parameters at the nominal values.
 func (sys *System) FunctionsAt(T float64) (Functions, *Gradients) {
-	acc := newMoments(sys.p)
+	q := sys.p + sys.pm
+	acc := newMoments(q)
 	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
 	f298 := sys.functions(ReferenceTemperature, acc, 0)
-	d298 := newGradients(sys.p)
-	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, sys.p), d298)
+	d298 := newGradients(q)
+	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, q), d298)
 	sys.accumulate(units.SecondRadiation/T, acc, true)
 	f := sys.functions(T, acc, f298.HmH0)
-	d := newGradients(sys.p)
+	d := newGradients(q)
 	sys.gradients(T, acc, f, d298.HmH0, d)
-	return f, d
+	p := sys.p
+	return f, &Gradients{d.Q[:p], d.Cp[:p], d.S[:p], d.HmH0[:p], d.HmH298[:p], d.Gef[:p]}
 }

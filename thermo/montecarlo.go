@@ -52,7 +52,7 @@ func (sys *System) energiesAt(x []float64, buf *evalBuf, dst []float64) []float6
 			if !m.used[k] {
 				continue
 			}
-			out[k] = sys.blocks[m.block].c.Model.Energy(m.sp, int(m.v[k]), int(m.J[k]), vals, nil)
+			out[k] = m.src.energy(int(m.v[k]), int(m.J[k]), vals, nil)
 		}
 	}
 	zs := sys.zero.state

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -39,7 +40,9 @@ type NASARanges struct {
 // its defaults).
 func DefaultNASARanges() NASARanges { return NASARanges{Low: 200, Break: 1000, High: 6000, Step: 10} }
 
-func (r NASARanges) withDefaults() NASARanges {
+// WithDefaults returns r with the fields left at zero taken from
+// DefaultNASARanges.
+func (r NASARanges) WithDefaults() NASARanges {
 	d := DefaultNASARanges()
 	if r.Low == 0 {
 		r.Low = d.Low
@@ -107,6 +110,83 @@ type NASARange struct {
 	TMax         float64    `json:"T_max_K"`
 	Coefficients [7]float64 `json:"coefficients"`
 	MaxDeviation Deviations `json:"max_deviation"`
+	// The uncertainty budget of the table the polynomials were fitted to, over
+	// the range's grid: the largest σ_total of Cp, the temperature intervals
+	// (K) where σ_total(Cp) stays below CpSigmaLimit, and those where the
+	// model part of the budget exceeds the statistical part for Cp, S or H.
+	MaxCpSigmaTotal    Deviation    `json:"max_Cp_sigma_total"`
+	CpSigmaTotalBelow  [][2]float64 `json:"Cp_sigma_total_below_0.1_K"`
+	ModelDominatedOver [][2]float64 `json:"model_dominated_K"`
+}
+
+// CpSigmaLimit is the σ_total of Cp (J mol⁻¹ K⁻¹) below which nasa7.json
+// lists the temperatures of each range.
+const CpSigmaLimit = 0.1
+
+// addBudget adds the budget of the grid rows to each range.
+func (n *NASA7) addBudget(T []float64, rows []Row) {
+	for k := range n.Ranges {
+		r := &n.Ranges[k]
+		r.MaxCpSigmaTotal = Deviation{Unit: "J mol-1 K-1"}
+		var below, dominated intervals
+		for i, t := range T {
+			if t < r.TMin-1e-9 || t > r.TMax+1e-9 {
+				continue
+			}
+			row := rows[i]
+			if st := row.SigmaTotal.Cp; st > r.MaxCpSigmaTotal.Value || r.MaxCpSigmaTotal.T == 0 {
+				r.MaxCpSigmaTotal.Value, r.MaxCpSigmaTotal.T = st, t
+			}
+			below.add(t, row.SigmaTotal.Cp < CpSigmaLimit)
+			m, s := row.SigmaModel, row.Sigma
+			dominated.add(t, m.Cp > s.Cp || m.S > s.S || m.HmH298 > s.HmH298)
+		}
+		r.CpSigmaTotalBelow, r.ModelDominatedOver = below.list(), dominated.list()
+	}
+}
+
+// budgetWarnings warns for each range fitted over temperatures where the
+// model part of the budget dominates.
+func (n *NASA7) budgetWarnings() []string {
+	var out []string
+	for _, r := range n.Ranges {
+		if len(r.ModelDominatedOver) == 0 {
+			continue
+		}
+		var parts []string
+		for _, iv := range r.ModelDominatedOver {
+			parts = append(parts, fmt.Sprintf("%g–%g K", iv[0], iv[1]))
+		}
+		out = append(out, fmt.Sprintf("NASA-7 range %g–%g K was fitted over temperatures where the model part of the uncertainty exceeds the statistical part (%s): there the polynomials carry the extrapolation of the model, not the data (largest σ_total of Cp %.3g J mol-1 K-1 at %g K)",
+			r.TMin, r.TMax, strings.Join(parts, ", "), r.MaxCpSigmaTotal.Value, r.MaxCpSigmaTotal.T))
+	}
+	return out
+}
+
+// intervals collects the runs of consecutive grid temperatures where a
+// condition holds.
+type intervals struct {
+	runs [][2]float64
+	open bool
+}
+
+func (iv *intervals) add(t float64, ok bool) {
+	switch {
+	case ok && iv.open:
+		iv.runs[len(iv.runs)-1][1] = t
+	case ok:
+		iv.runs = append(iv.runs, [2]float64{t, t})
+		iv.open = true
+	default:
+		iv.open = false
+	}
+}
+
+func (iv *intervals) list() [][2]float64 {
+	if iv.runs == nil {
+		return [][2]float64{}
+	}
+	return iv.runs
 }
 
 // Deviations are the largest absolute deviations of the polynomials from the
@@ -158,7 +238,7 @@ const nasaScale = 1000.0
 // temperatures T (which must cover both ranges of r; see NASA7Method). f gives
 // Cp° and S° in J mol⁻¹ K⁻¹ and H°(T) − H°(298.15 K) in kJ mol⁻¹.
 func FitNASA7(T []float64, f []Functions, r NASARanges) (*NASA7, error) {
-	r = r.withDefaults()
+	r = r.WithDefaults()
 	if err := r.check(); err != nil {
 		return nil, err
 	}

@@ -19,7 +19,7 @@ func TestNASA7RecoversPolynomial(t *testing.T) {
 	T0 := ReferenceTemperature
 	a[5] = -T0 * (a[0] + T0*(a[1]/2+T0*(a[2]/3+T0*(a[3]/4+T0*a[4]/5))))
 	ref := NASARange{Coefficients: a}
-	r := NASARanges{}.withDefaults()
+	r := NASARanges{}.WithDefaults()
 	lo, hi := r.grid()
 	grid := append(append([]float64(nil), lo...), hi[1:]...)
 	fs := make([]Functions, len(grid))

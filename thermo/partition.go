@@ -14,8 +14,9 @@ import (
 //	a0 = Σ w e^(−βE) = Q,  a1 = Σ w E e^(−βE),  a2 = Σ w E² e^(−βE),
 //	g0 = Σ w g e^(−βE),    g1 = Σ w E g e^(−βE), g2 = Σ w E² g e^(−βE),
 //
-// E in cm⁻¹ above the zero, g = ∂E/∂x, and ext the part of a0 from levels
-// outside the fitted data. t, te, te2 are scratch (w e^(−βE) times 1, E, E²).
+// E in cm⁻¹ above the zero, g = ∂E/∂x (the fitted parameters, then the
+// budget's directions), and ext the part of a0 from levels outside the
+// fitted data. t, te, te2 are scratch (w e^(−βE) times 1, E, E²).
 type moments struct {
 	a0, a1, a2 float64
 	ext        float64
@@ -43,7 +44,8 @@ func (sys *System) accumulate(beta float64, acc *moments, grad bool) {
 	es := sys.e[:n]
 	ws := sys.w[:n]
 	ext := sys.ext[:n]
-	grad = grad && sys.p > 0
+	q := sys.p + sys.pm
+	grad = grad && q > 0
 	if grad && cap(acc.t) < n {
 		acc.t, acc.te, acc.te2 = make([]float64, len(sys.e)), make([]float64, len(sys.e)), make([]float64, len(sys.e))
 	}
@@ -77,7 +79,7 @@ func (sys *System) accumulate(beta float64, acc *moments, grad bool) {
 		return
 	}
 	N := len(sys.e)
-	for k := 0; k < sys.p; k++ {
+	for k := 0; k < q; k++ {
 		col := sys.g[k*N : k*N+n]
 		acc.g0[k] = floats.Dot(ts, col)
 		acc.g1[k] = floats.Dot(tes, col)
@@ -145,32 +147,6 @@ func (sys *System) ClosedForm(T float64) float64 {
 		}
 	}
 	return q
-}
-
-// missingShare returns the estimated share of Q carried by the vibrational
-// levels a term-values model lacks, M/(Q+M), computed in the log domain (estimated
-// levels may lie below the zero). ok is false when there is no estimate.
-func (sys *System) missingShare(beta, q float64) (share float64, ok bool) {
-	if len(sys.missE) == 0 {
-		return 0, false
-	}
-	emin := math.Inf(1)
-	for _, e := range sys.missE {
-		emin = math.Min(emin, e)
-	}
-	s := 0.0
-	for i, e := range sys.missE {
-		s += sys.missW[i] * math.Exp(-beta*(e-emin))
-	}
-	lnM := math.Log(s) - beta*emin
-	d := math.Log(q) - lnM // share = 1/(1+e^d)
-	switch {
-	case d > 700:
-		return 0, true
-	case d < -700:
-		return 1, true
-	}
-	return 1 / (1 + math.Exp(d)), true
 }
 
 // Population is the fraction of molecules in one rovibrational level (all its

@@ -22,6 +22,18 @@ type State struct {
 	Observed []constants.LevelRange
 	// Source names the state's constants record in messages.
 	Source string
+	// OmegaE and OmegaESigma are ω_e and its 1σ (cm⁻¹) from the
+	// electronic-states file, used when the state's record has a single
+	// vibrational level; 0 when not given.
+	OmegaE, OmegaESigma float64
+	// FineStructureWidth is the spread of the spin components of a level,
+	// cm⁻¹ (nil: not given; the embedded list of open-shell ground states
+	// supplies it for the ground states it knows).
+	FineStructureWidth *float64
+	// ProductsEnergy is the energy of the state's dissociation products above
+	// those of the ground state, cm⁻¹; the state's levels end at
+	// D0 + ProductsEnergy above the lowest level.
+	ProductsEnergy float64
 }
 
 // Problem is what the thermo stage works on: the fitted constants of the ground
@@ -38,8 +50,11 @@ type Problem struct {
 	// States lists the electronic states; nil means one ¹Σ⁺ state (¹Σg⁺ for a
 	// homonuclear molecule). Exactly one state has TermEnergy 0.
 	States []State
-	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when unknown.
+	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when unknown
+	// (then it is estimated, see the package doc).
 	DissociationEnergy float64
+	// DissociationSigma is the 1σ of a given D0, cm⁻¹ (0: taken as exact).
+	DissociationSigma float64
 }
 
 // defaultStates returns the state list used without an electronic-states file.

@@ -10,22 +10,26 @@ import (
 )
 
 // Table computes the rows at the temperatures with linearly propagated σ,
-// σ_f = √(∇fᵀ C ∇f), in parallel over temperatures on up to workers
-// goroutines (0: GOMAXPROCS; results do not depend on the number of workers).
+// σ_f = √(∇fᵀ C ∇f), the model part of the budget (each contribution and
+// their root-sum-square σ_model) and σ_total = √(σ² + σ_model²), in parallel
+// over temperatures on up to workers goroutines (0: GOMAXPROCS; results do
+// not depend on the number of workers).
 func (sys *System) Table(temps []float64, workers int) []Row {
-	acc := newMoments(sys.p)
+	q := sys.p + sys.pm
+	acc := newMoments(q)
 	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
 	f298 := sys.functions(ReferenceTemperature, acc, 0)
-	d298 := newGradients(sys.p)
-	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, sys.p), d298)
+	d298 := newGradients(q)
+	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, q), d298)
 	h298, dh298 := f298.HmH0, d298.HmH0
 
 	rows := make([]Row, len(temps))
 	type scratch struct {
 		acc *moments
 		d   *Gradients
+		bs  *budgetScratch
 	}
-	newScratch := func() scratch { return scratch{newMoments(sys.p), newGradients(sys.p)} }
+	newScratch := func() scratch { return scratch{newMoments(q), newGradients(q), sys.newBudgetScratch()} }
 	parallel.ForScratch(len(temps), workers, newScratch, func(s scratch, i int) {
 		acc, d := s.acc, s.d
 		T := temps[i]
@@ -38,12 +42,12 @@ func (sys *System) Table(temps []float64, workers int) []Row {
 			Q: sys.sigma(d.Q), Cp: sys.sigma(d.Cp), S: sys.sigma(d.S),
 			HmH0: sys.sigma(d.HmH0), HmH298: sys.sigma(d.HmH298), Gef: sys.sigma(d.Gef),
 		}
+		r.Model = sys.modelRow(T, acc, f, d, s.bs)
+		r.SigmaModel = rss(r.Model...)
+		r.SigmaTotal = rss(r.Sigma, r.SigmaModel)
 		r.QClosed = sys.ClosedForm(T)
 		r.QClosedError = r.QClosed/f.Q - 1
 		r.ExtrapolatedShare = acc.ext / acc.a0
-		if sh, ok := sys.missingShare(beta, f.Q); ok {
-			r.MissingShare = &sh
-		}
 		rows[i] = r
 	})
 	return rows
@@ -62,12 +66,13 @@ func (sys *System) nominal(temps []float64, workers int) []Functions {
 	return out
 }
 
-// sigma returns √(dᵀ C d) over the combined covariance.
+// sigma returns √(dᵀ C d) over the combined covariance (d[:p], the fitted
+// parameters; the budget's directions that follow are not part of it).
 func (sys *System) sigma(d []float64) float64 {
 	if sys.p == 0 {
 		return 0
 	}
-	return math.Sqrt(math.Max(0, quad(sys.cov, d)))
+	return math.Sqrt(math.Max(0, quad(sys.cov, d[:sys.p])))
 }
 
 // quad returns xᵀ C x.

@@ -20,6 +20,7 @@ import (
 //
 //	species = "16O16O"
 //	dissociation_energy = 41260.0     # D0 in cm-1 above the lowest level, optional
+//	dissociation_energy_sigma = 10.0  # its 1σ, cm-1, optional
 //	[[state]]
 //	label = "X"                       # free text
 //	term_energy = 0.0                 # cm-1
@@ -27,6 +28,10 @@ import (
 //	lambda = 0                        # |Λ|: 0 Σ, 1 Π, 2 Δ
 //	symmetry = "g-"                   # homonuclear Σ: g+, g-, u+, u-; homonuclear Λ>0: g or u
 //	constants = "excited.json"        # optional constants record of this state
+//	omega_e = 1580.2                  # ω_e, cm-1, optional: for records without vibrational levels
+//	omega_e_sigma = 0.5               # its 1σ, cm-1, optional
+//	fine_structure_width = 4.0        # spread of the spin components of a level, cm-1, optional
+//	products_energy = 0.0             # energy of the state's dissociation products above the ground state's, cm-1, optional
 //
 // term_energy is the energy of the state's model zero above the ground state's
 // model zero (T_e between potential minima for Dunham models, the separation of
@@ -34,14 +39,26 @@ import (
 // term_energy 0: the ground state, whose constants are the record given to the
 // thermo stage. A state without constants is the ground-state manifold shifted by
 // term_energy. Paths are relative to the file.
+//
+// omega_e (with omega_e_sigma) gives the vibrational frequency of a state whose
+// constants record has a single vibrational level (a pure-rotation fit): the
+// levels v ≥ 1 are then extrapolated from it (see the package doc, Uncertainty
+// budget). fine_structure_width is the spread of the 2S+1 spin components (or
+// the spin–orbit components) of one rotational level, which the models do not
+// resolve: about 2|λ| for a ³Σ state, |A| for a ²Π state; it sizes the
+// fine-structure entry of the uncertainty budget. products_energy places the
+// state's dissociation asymptote at D0 + products_energy above the lowest
+// level (default: the ground state's asymptote).
 type StatesFile struct {
 	// Name is the file the states were read from (for messages).
 	Name    string
 	Species string
 	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when not given.
 	DissociationEnergy float64
-	States             []StateEntry
-	speciesAt          string // "name:line" of the species key, for messages
+	// DissociationSigma is the 1σ of D0, cm⁻¹; 0 when not given.
+	DissociationSigma float64
+	States            []StateEntry
+	speciesAt         string // "name:line" of the species key, for messages
 }
 
 // StateEntry is one [[state]] of an electronic-states file.
@@ -52,11 +69,20 @@ type StateEntry struct {
 	Lambda       int     // |Λ|
 	Symmetry     species.StateSymmetry
 	Constants    string // path as written in the file (relative to the file); empty: shifted ground state
+	// OmegaE and OmegaESigma are ω_e and its 1σ, cm⁻¹; 0 when not given.
+	OmegaE, OmegaESigma float64
+	// FineStructureWidth is the spread of the spin components of a level,
+	// cm⁻¹; nil when not given.
+	FineStructureWidth *float64
+	// ProductsEnergy is the energy of the state's dissociation products above
+	// those of the ground state, cm⁻¹ (0: the same asymptote).
+	ProductsEnergy float64
 }
 
 type rawStatesFile struct {
 	Species            *string    `toml:"species"`
 	DissociationEnergy *float64   `toml:"dissociation_energy"`
+	DissociationSigma  *float64   `toml:"dissociation_energy_sigma"`
 	State              []rawState `toml:"state"`
 }
 
@@ -67,9 +93,13 @@ type rawState struct {
 	Lambda           *int     `toml:"lambda"`
 	Symmetry         *string  `toml:"symmetry"`
 	Constants        *string  `toml:"constants"`
+	OmegaE           *float64 `toml:"omega_e"`
+	OmegaESigma      *float64 `toml:"omega_e_sigma"`
+	FineWidth        *float64 `toml:"fine_structure_width"`
+	ProductsEnergy   *float64 `toml:"products_energy"`
 }
 
-const statesKeys = "species, dissociation_energy, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants"
+const statesKeys = "species, dissociation_energy, dissociation_energy_sigma, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants, omega_e, omega_e_sigma, fine_structure_width, products_energy"
 
 // maxStatesSize bounds the file read (an electronic-states file is a few
 // hundred bytes).
@@ -207,6 +237,16 @@ func (c *StatesFile) readTop(raw rawStatesFile, at statesText) error {
 		}
 		c.DissociationEnergy = d
 	}
+	if raw.DissociationSigma != nil {
+		d := *raw.DissociationSigma
+		if raw.DissociationEnergy == nil {
+			return fmt.Errorf("thermo: %s: dissociation_energy_sigma: given without dissociation_energy", at.top("dissociation_energy_sigma"))
+		}
+		if !(d > 0) || math.IsInf(d, 0) || d >= c.DissociationEnergy {
+			return fmt.Errorf("thermo: %s: dissociation_energy_sigma: %v cm-1 must be a finite number > 0 and below dissociation_energy", at.top("dissociation_energy_sigma"), d)
+		}
+		c.DissociationSigma = d
+	}
 	return nil
 }
 
@@ -274,7 +314,47 @@ func readStateEntry(i int, rs rawState, ground int, at statesText) (StateEntry, 
 			return s, fail("constants", "the ground state (term_energy 0) takes its constants from the record given to thermo; remove this key")
 		}
 	}
+	if err := readStateBudgetKeys(&s, rs, fail); err != nil {
+		return s, err
+	}
 	return s, nil
+}
+
+// readStateBudgetKeys reads the keys of a [[state]] that feed the uncertainty
+// budget: omega_e and omega_e_sigma (ω_e > 0, its σ ≥ 0 and below ω_e, only
+// with omega_e), fine_structure_width (≥ 0) and products_energy (≥ 0), all
+// finite, in cm⁻¹.
+func readStateBudgetKeys(s *StateEntry, rs rawState, fail func(key, format string, a ...any) error) error {
+	finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+	if rs.OmegaE != nil {
+		if w := *rs.OmegaE; !(w > 0) || !finite(w) {
+			return fail("omega_e", "%v cm-1 must be a finite number > 0", w)
+		}
+		s.OmegaE = *rs.OmegaE
+	}
+	if rs.OmegaESigma != nil {
+		if rs.OmegaE == nil {
+			return fail("omega_e_sigma", "given without omega_e")
+		}
+		if w := *rs.OmegaESigma; !(w >= 0) || !finite(w) || w >= s.OmegaE {
+			return fail("omega_e_sigma", "%v cm-1 must be a finite number ≥ 0 and below omega_e", w)
+		}
+		s.OmegaESigma = *rs.OmegaESigma
+	}
+	if rs.FineWidth != nil {
+		if w := *rs.FineWidth; !(w >= 0) || !finite(w) {
+			return fail("fine_structure_width", "%v cm-1 must be a finite number ≥ 0", w)
+		}
+		w := *rs.FineWidth
+		s.FineStructureWidth = &w
+	}
+	if rs.ProductsEnergy != nil {
+		if w := *rs.ProductsEnergy; !(w >= 0) || !finite(w) {
+			return fail("products_energy", "%v cm-1 must be a finite number ≥ 0", w)
+		}
+		s.ProductsEnergy = *rs.ProductsEnergy
+	}
+	return nil
 }
 
 // CheckSpecies checks that an electronic-states file naming its species is

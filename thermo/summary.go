@@ -11,23 +11,25 @@ import (
 
 // StateLevels summarises the levels of one electronic state in the sum.
 type StateLevels struct {
-	State        string     `json:"state"`
-	Term         string     `json:"term"`
-	TermEnergy   float64    `json:"term_energy_cm-1"`
-	Degeneracy   float64    `json:"electronic_degeneracy"`
-	SpinWeights  [2]float64 `json:"nuclear_spin_weights_even_odd"`
-	Source       string     `json:"levels_from"`
-	Levels       int        `json:"levels"`
-	VMin         int        `json:"v_min"`
-	VMax         int        `json:"v_max"`
-	JMax         int        `json:"J_max"`
-	JMaxV0       int        `json:"J_max_lowest_v"`
-	EMax         float64    `json:"highest_level_cm-1"`
-	VTruncation  string     `json:"v_truncation"`
-	JTruncation  string     `json:"J_truncation"`
-	MissingV     string     `json:"missing_v,omitempty"`
-	MissingNote  string     `json:"missing_estimate,omitempty"`
-	Extrapolated int        `json:"levels_outside_fitted_data"`
+	State       string     `json:"state"`
+	Term        string     `json:"term"`
+	TermEnergy  float64    `json:"term_energy_cm-1"`
+	Degeneracy  float64    `json:"electronic_degeneracy"`
+	SpinWeights [2]float64 `json:"nuclear_spin_weights_even_odd"`
+	Source      string     `json:"levels_from"`
+	Levels      int        `json:"levels"`
+	VMin        int        `json:"v_min"`
+	VMax        int        `json:"v_max"`
+	JMax        int        `json:"J_max"`
+	JMaxV0      int        `json:"J_max_lowest_v"`
+	EMax        float64    `json:"highest_level_cm-1"`
+	VTruncation string     `json:"v_truncation"`
+	JTruncation string     `json:"J_truncation"`
+	// ExtrapolatedV lists the vibrational levels the record lacks, and
+	// ExtrapolationNote how they were extrapolated into the sum.
+	ExtrapolatedV     string `json:"extrapolated_v,omitempty"`
+	ExtrapolationNote string `json:"extrapolation,omitempty"`
+	Extrapolated      int    `json:"levels_outside_fitted_data"`
 }
 
 // ZeroPoint states the energy zero of the sum.
@@ -111,10 +113,10 @@ func (b *levelSum) stateSummary(i int) StateLevels {
 	default:
 		sl.Source = fmt.Sprintf("ground-state levels shifted by %g cm-1 (no constants of its own)", st.TermEnergy)
 	}
-	if len(m.missingV) > 0 {
-		sl.MissingV = compressInts(m.missingV)
+	if len(m.extrapolatedV) > 0 {
+		sl.ExtrapolatedV = compressInts(m.extrapolatedV)
+		sl.ExtrapolationNote = m.src.note
 	}
-	sl.MissingNote = m.missNote
 	minV := math.MaxInt
 	for _, l := range b.levels {
 		if l.st != i {
@@ -151,7 +153,7 @@ func (b *levelSum) describeZero() {
 	z := b.levels[0]
 	zm := sys.manifolds[sys.stateMan[z.st]]
 	sys.zp = &ZeroPoint{State: sys.states[z.st].Label, V: int(zm.v[z.idx]), J: int(zm.J[z.idx])}
-	e00 := gc.Model.Energy(b.gsp, b.vLow, 0, gc.Values, nil)
+	e00 := sys.sources[0].energy(b.vLow, 0, gc.Values, nil)
 	sys.zp.LevelAboveV0J0 = sys.e0 - e00
 	if _, ok := gc.Model.(*model.Dunham); ok {
 		grad := make([]float64, len(gc.Values))
@@ -164,7 +166,7 @@ func (b *levelSum) describeZero() {
 		sys.zp.ZPE, sys.zp.ZPESigma = &zpe, &sd
 		sys.zp.Note = "zero-point energy E(v=0, J=0) of the ground state above the potential minimum (Dunham model); Q, H°(T)−H°(0) are measured from the lowest level"
 	} else {
-		sys.zp.Note = fmt.Sprintf("term-values model: energies are measured from the band origin of the lowest vibrational level in the record (v=%d); the zero-point energy above the potential minimum is not known from a term-values model", b.vLow)
+		sys.zp.Note = fmt.Sprintf("term-values model: energies are measured from the band origin of the lowest vibrational level (v=%d); the zero-point energy above the potential minimum is not known from a term-values model", b.vLow)
 	}
 	if b.vLow > 0 {
 		sys.warnings = append(sys.warnings, fmt.Sprintf("the record's lowest vibrational level of %s is v=%d: levels below it are missing, and the energy zero is not the lowest level of the molecule", sys.iso.Label, b.vLow))

@@ -43,9 +43,20 @@ type System struct {
 	zero levelRef
 	e0   float64 // absolute energy of the zero (state term + model energy)
 
-	// Estimated missing levels (term-values models), absolute energies above the zero.
-	missE []float64
-	missW []float64
+	// Level sources of the blocks, and the dissociation limit of the sum.
+	sources      []*levelSource
+	dissociation Dissociation
+	// Extra levels between each state's nominal dissociation limit and the
+	// highest of the budget's alternatives (energy above the zero, weight,
+	// state), sorted by energy; capShift[s] is added to D0 to give the limit
+	// of state s above the zero.
+	extraE   []float64
+	extraW   []float64
+	extraSt  []int16
+	capShift []float64
+	// pm directions of the budget follow the p parameters in g (see budget).
+	pm     int
+	budget *budget
 
 	// Translation.
 	molarMass float64 // g/mol used in the Sackur–Tetrode equation

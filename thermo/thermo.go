@@ -100,23 +100,27 @@ func (s Settings) Check() error {
 	if s.MonteCarlo < 0 || s.MonteCarlo == 1 || s.MonteCarlo > 1_000_000 {
 		return fmt.Errorf("thermo: Monte Carlo draws %d: give 0 (off) or 2…1000000", s.MonteCarlo)
 	}
-	return s.NASA.withDefaults().check()
+	return s.NASA.WithDefaults().check()
 }
 
-// Row is one temperature of the table. σ are 1σ from linear propagation;
-// MC holds the Monte Carlo spread when requested.
+// Row is one temperature of the table. Sigma is the statistical 1σ (linear
+// propagation of the fit's covariance); Model holds the size of each
+// contribution of the budget (in the order of Result.Budget), SigmaModel
+// their root-sum-square and SigmaTotal = √(Sigma² + SigmaModel²); MC holds the
+// Monte Carlo spread when requested.
 type Row struct {
 	T            float64
 	F            Functions
 	Sigma        Functions
+	Model        []Functions
+	SigmaModel   Functions
+	SigmaTotal   Functions
 	MC           *MCStats
 	QClosed      float64 // closed high-temperature form (see System.ClosedForm)
 	QClosedError float64 // Q_closed/Q − 1
-	// ExtrapolatedShare is the share of Q from levels outside the fitted data.
+	// ExtrapolatedShare is the share of Q from levels outside the fitted
+	// data (outside the observed v, or above the highest J observed in v).
 	ExtrapolatedShare float64
-	// MissingShare is the estimated share of Q of the vibrational levels a
-	// term-values model lacks (nil: no estimate, or not a term-values model).
-	MissingShare *float64
 }
 
 // Conventions states how the numbers of a result are defined.
@@ -140,7 +144,7 @@ type Conventions struct {
 }
 
 // Caution is printed in every output.
-const Caution = "verify against evaluated reference data before use in safety or process design"
+const Caution = "these numbers are only as good as the model behind them (σ_model states what the data leave open); for safety or process design use reviewed reference data and defer to local codes and licensed practice"
 
 // Result is the outcome of the thermo stage.
 type Result struct {
@@ -149,8 +153,16 @@ type Result struct {
 	Zero        ZeroPoint
 	Params      []string // fitted parameters in the combined order
 	Rows        []Row
-	MonteCarlo  *MCInfo
-	NASA        *NASA7
+	// Budget lists the contributions to σ_model (the order of Row.Model);
+	// Dissociation is the limit of the sum; ModelDominated names the
+	// functions whose σ_model exceeds their statistical σ.
+	Budget         []Contribution
+	Dissociation   Dissociation
+	ModelDominated []Dominance
+	MonteCarlo     *MCInfo
+	NASA           *NASA7
+	// NASAOmitted says why there is no NASA-7 fit (empty when there is one).
+	NASAOmitted string
 	Warnings    []string
 	System      *System
 }
@@ -163,74 +175,98 @@ type MCInfo struct {
 }
 
 // Compute enumerates the levels, computes the table with linearly propagated σ
-// (and Monte Carlo spread when asked), and fits the NASA-7 polynomials.
+// and the uncertainty budget (and Monte Carlo spread when asked), and fits
+// the NASA-7 polynomials.
 func Compute(p Problem, s Settings) (*Result, error) {
 	if err := s.Check(); err != nil {
 		return nil, err
 	}
-	nasa := s.NASA.withDefaults()
+	nasa := s.NASA.WithDefaults()
 	sys, err := NewSystem(p, s)
 	if err != nil {
 		return nil, err
 	}
-	res := &Result{System: sys, States: sys.summaries, Zero: *sys.zp, Params: append([]string(nil), sys.names...)}
+	th := sys.vibrationThreshold()
+	if err := th.refuseAbove(s.Temperatures); err != nil {
+		return nil, err
+	}
+	res := &Result{System: sys, States: sys.summaries, Zero: *sys.zp, Params: append([]string(nil), sys.names...),
+		Budget: sys.Contributions(), Dissociation: sys.dissociation}
 	res.Warnings = append(res.Warnings, sys.warnings...)
 	res.Conventions = sys.conventions(s)
 
 	res.Rows = sys.Table(s.Temperatures, s.Workers)
 	if s.MonteCarlo > 0 {
-		mc, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.Workers)
+		if err := res.monteCarlo(s); err != nil {
+			return nil, err
+		}
+	}
+	if nasa.High > th.T {
+		res.NASAOmitted = fmt.Sprintf("no NASA-7 fit: its range %g–%g K goes above %.4g K, where the vibrational levels are unknown (%s)", nasa.Low, nasa.High, th.T, th.why)
+		res.Warnings = append(res.Warnings, res.NASAOmitted)
+	} else {
+		lo, hi := nasa.grid()
+		grid := append(append([]float64(nil), lo...), hi[1:]...)
+		gridRows := sys.Table(grid, s.Workers)
+		fs := make([]Functions, len(gridRows))
+		for i, r := range gridRows {
+			fs[i] = r.F
+		}
+		n7, err := FitNASA7(grid, fs, nasa)
 		if err != nil {
 			return nil, err
 		}
-		for i := range res.Rows {
-			st := mc[i]
-			res.Rows[i].MC = &st
-		}
-		smp := sys.newSampler()
-		res.MonteCarlo = &MCInfo{Draws: s.MonteCarlo, Seed: s.Seed,
-			Sampler: fmt.Sprintf("multivariate normal N(x̂, C) of the %d fitted parameters (pivoted Cholesky of the correlation matrix, rank %d); draw d seeded from (seed, d) with SplitMix64 into PCG; levels of the nominal sum re-evaluated for every draw; spread = sample standard deviation", sys.p, smp.rank)}
-		if smp.rank < sys.p {
-			res.Warnings = append(res.Warnings, fmt.Sprintf("the covariance of the fit is singular (rank %d of %d): the Monte Carlo draws span its range only", smp.rank, sys.p))
-		}
+		n7.addBudget(grid, gridRows)
+		res.NASA = n7
+		res.Warnings = append(res.Warnings, n7.budgetWarnings()...)
 	}
-
-	// NASA-7 on its own grid.
-	lo, hi := nasa.grid()
-	grid := append(append([]float64(nil), lo...), hi[1:]...)
-	fs := sys.nominal(grid, s.Workers)
-	n7, err := FitNASA7(grid, fs, nasa)
-	if err != nil {
-		return nil, err
-	}
-	res.NASA = n7
-
+	res.ModelDominated = modelDominance(res.Rows)
 	res.Warnings = append(res.Warnings, sys.shareWarnings(res.Rows)...)
+	res.Warnings = append(res.Warnings, dominanceWarnings(res.ModelDominated)...)
 	if err := res.checkFinite(); err != nil {
 		return nil, err
 	}
 	return res, nil
 }
 
+// monteCarlo adds the Monte Carlo spread to the rows.
+func (res *Result) monteCarlo(s Settings) error {
+	sys := res.System
+	mc, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.Workers)
+	if err != nil {
+		return err
+	}
+	for i := range res.Rows {
+		st := mc[i]
+		res.Rows[i].MC = &st
+	}
+	smp := sys.newSampler()
+	res.MonteCarlo = &MCInfo{Draws: s.MonteCarlo, Seed: s.Seed,
+		Sampler: fmt.Sprintf("multivariate normal N(x̂, C) of the %d fitted parameters (pivoted Cholesky of the correlation matrix, rank %d); draw d seeded from (seed, d) with SplitMix64 into PCG; levels of the nominal sum re-evaluated for every draw; spread = sample standard deviation", sys.p, smp.rank)}
+	if smp.rank < sys.p {
+		res.Warnings = append(res.Warnings, fmt.Sprintf("the covariance of the fit is singular (rank %d of %d): the Monte Carlo draws span its range only", smp.rank, sys.p))
+	}
+	return nil
+}
+
 // NewSystem checks the settings and enumerates the level sum of the problem for
-// temperatures up to the highest of s.Temperatures and the NASA-7 upper limit;
-// the System then evaluates the functions at any temperature in that range.
+// temperatures up to the highest of s.Temperatures and the NASA-7 upper limit,
+// with the alternatives of its uncertainty budget; the System then evaluates
+// the functions at any temperature in that range.
 func NewSystem(p Problem, s Settings) (*System, error) {
 	if err := s.Check(); err != nil {
 		return nil, err
 	}
-	tMax := s.NASA.withDefaults().High
+	tMax := s.NASA.WithDefaults().High
 	for _, t := range s.Temperatures {
 		tMax = math.Max(tMax, t)
 	}
-	sys, err := enumerate(p, s, tMax)
+	sys, err := enumerate(p, s, tMax, nominalBuild())
 	if err != nil {
 		return nil, err
 	}
-	sys.pressure = s.pressure()
-	sys.molarMass = sys.iso.MolarMass()
-	if s.composition() == CompositionNatural {
-		sys.molarMass = sys.iso.NaturalMolarMass()
+	if err := sys.buildBudget(p, s, tMax); err != nil {
+		return nil, err
 	}
 	return sys, nil
 }
@@ -277,7 +313,9 @@ func (sys *System) conventions(s Settings) Conventions {
 	if z.ZPE != nil {
 		c.EnergyZero += fmt.Sprintf("; zero-point energy E(0,0) = %.6f(σ %.2g) cm-1 above the potential minimum", *z.ZPE, *z.ZPESigma)
 	}
-	c.Uncertainty = "linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + constants.CovarianceConvention
+	c.Uncertainty = "<f>_sigma: statistical, linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + constants.CovarianceConvention +
+		". <f>_sigma_model: what the data do not constrain (levels beyond the data, the dissociation limit, truncated series, neglected fine structure), from named alternatives recomputed against the nominal table (contributions in thermo.json); " + BudgetRule
+	c.Caution = Caution
 	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T (rigid rotor with Mulholland's series, same v as the exact sum); Q_closed_form_error = Q_closed_form/Q − 1"
 	return c
 }
@@ -305,20 +343,12 @@ func (sys *System) shareWarnings(rows []Row) []string {
 		out = append(out, msg)
 	}
 	for _, sl := range sys.summaries {
-		if sl.MissingV == "" && sl.MissingNote == "" {
-			continue
+		if sl.ExtrapolatedV != "" {
+			out = append(out, fmt.Sprintf("state %s: the record lacks v = %s; they enter the sum extrapolated (%s), and the uncertainty budget carries the spread of that extrapolation", sl.State, sl.ExtrapolatedV, sl.ExtrapolationNote))
 		}
-		if sl.MissingV == "" {
-			out = append(out, fmt.Sprintf("state %s: %s", sl.State, sl.MissingNote))
-			continue
-		}
-		w, wt := 0.0, 0.0
-		for _, r := range sorted {
-			if r.MissingShare != nil && *r.MissingShare > w {
-				w, wt = *r.MissingShare, r.T
-			}
-		}
-		out = append(out, fmt.Sprintf("state %s: the term-values model lacks v = %s; they would carry an estimated %.3g %% of Q at %g K (per-temperature estimate in thermo.json)", sl.State, sl.MissingV, 100*w, wt))
+	}
+	if d := sys.dissociation; !d.Given && !math.IsInf(d.D0, 1) {
+		out = append(out, "dissociation: "+d.Note)
 	}
 	for i, st := range sys.states {
 		if st.TermEnergy > 0 && st.Constants == nil {
@@ -351,8 +381,8 @@ func (r *Result) checkFinite() error {
 		return bad(f.Q) || bad(f.Cp) || bad(f.S) || bad(f.HmH0) || bad(f.HmH298) || bad(f.Gef)
 	}
 	for _, row := range r.Rows {
-		if badF(row.F) || badF(row.Sigma) || bad(row.QClosed) || bad(row.QClosedError) || bad(row.ExtrapolatedShare) ||
-			(row.MC != nil && (badF(row.MC.Mean) || badF(row.MC.Sigma))) || (row.MissingShare != nil && bad(*row.MissingShare)) {
+		if badF(row.F) || badF(row.Sigma) || badF(row.SigmaModel) || badF(row.SigmaTotal) || bad(row.QClosed) || bad(row.QClosedError) || bad(row.ExtrapolatedShare) ||
+			(row.MC != nil && (badF(row.MC.Mean) || badF(row.MC.Sigma))) {
 			return cannot("the table at %g K has a non-finite value", row.T)
 		}
 	}

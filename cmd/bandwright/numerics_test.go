@@ -78,8 +78,14 @@ func TestNumericalFaults(t *testing.T) {
 		if s := rec["stats"].(map[string]any)["sigma_dimensionless"]; s != nil {
 			t.Errorf("sigma_dimensionless %v, want null", s)
 		}
-		if code, _, stderr := runCLI("thermo", filepath.Join(out("dof0"), "constants.json"), "--temperatures", "298.15", "--out", out("dof0-thermo")); code != 0 {
-			t.Errorf("thermo of it: exit %d: %s", code, stderr)
+		// One vibrational level and no ω_e: the vibrational levels are unknown,
+		// so thermo refuses the temperatures where they could matter (exit 2,
+		// naming the key that would supply ω_e) and gives the ones below.
+		if code, _, stderr := runCLI("thermo", filepath.Join(out("dof0"), "constants.json"), "--temperatures", "298.15", "--out", out("dof0-thermo")); code != 2 || !strings.Contains(stderr, "omega_e") || !strings.Contains(stderr, "--states") {
+			t.Errorf("thermo of it at 298.15 K: exit %d: %s", code, stderr)
+		}
+		if code, _, stderr := runCLI("thermo", filepath.Join(out("dof0"), "constants.json"), "--temperatures", "2", "--out", out("dof0-thermo")); code != 0 {
+			t.Errorf("thermo of it at 2 K: exit %d: %s", code, stderr)
 		}
 	})
 
