@@ -179,6 +179,10 @@ type Derived struct {
 	Sigma   float64 `json:"sigma"`
 	Unit    string  `json:"unit"`
 	Note    string  `json:"note,omitempty"`
+	// Neglected is the order of magnitude of a correction the constant's
+	// definition neglects (the Dunham correction between Y10 and ω_e, Y01 and
+	// B_e), in its unit; 0 when negligible against σ or not applicable.
+	Neglected float64 `json:"neglected_correction,omitempty"`
 }
 
 // Rounding records the sequential rounding and refitting of a fit (Le Roy

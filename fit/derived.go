@@ -35,14 +35,27 @@ func (r *Result) add(out *[]constants.Derived, name, sp string, q linear, unit, 
 	*out = append(*out, constants.Derived{Name: name, Species: sp, Value: q.v, Sigma: sigmaOf(r, q.g), Unit: unit, Note: note})
 }
 
-// Derive computes the derived constants of a fit result.
+// Derive computes the derived constants of a fit result. A constant is named
+// for what it is only when the data determine it: ω_e and ω_e x_e need the
+// anharmonic term, B_e, α_e and r_e the v-dependence of B_v; otherwise the
+// measured quantity is reported under its own name.
 //
 // Dunham fits, for every isotopologue s (Y_kl(s) from the mass scaling):
-// ω_e = Y10, ω_e x_e = −Y20, ω_e y_e = Y30, B_e = Y01, α_e = −Y11, γ_e = Y21,
-// D_e = −Y02, β_e = −Y12, H_e = Y03 (cm⁻¹), r_e = √(h/(8π²cμB_e)) (Å); for the
-// reference, U_kl = Y_kl(r)·μ_r^((k+2l)/2) (cm⁻¹ u^((k+2l)/2)) and, with
-// breakdown terms, Δ_kl^X. Diagnostics: the Kratzer relation D_e ≈ 4B_e³/ω_e²
-// and the Pekeris relation α_e ≈ 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e.
+// ω_e = Y10 (with Y20 in the model; without it Y10 is the vibrational
+// spacing Delta_G), ω_e x_e = −Y20, ω_e y_e = Y30, B_e = Y01 (with Y11 in the
+// model; without it Y01 is B_avg, the rotational constant of every observed
+// level alike), α_e = −Y11, γ_e = Y21, D_e = −Y02, β_e = −Y12, H_e = Y03
+// (cm⁻¹), r_e = √(h/(8π²cμB_e)) (Å); for the reference, U_kl =
+// Y_kl(r)·μ_r^((k+2l)/2) (cm⁻¹ u^((k+2l)/2)) and, with breakdown terms,
+// Δ_kl^X. Diagnostics: the Kratzer relation D_e ≈ 4B_e³/ω_e² and the Pekeris
+// relation α_e ≈ 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e.
+//
+// ω_e = Y10, B_e = Y01 and r_e from it neglect Dunham's corrections (Dunham
+// 1932), of order |Y10 − ω_e| ~ B_e²/ω_e, |Y01 − B_e| ~ B_e³/ω_e² and
+// |Δr_e| ~ r_e B_e²/(2ω_e²) (orders of magnitude, not the corrections
+// themselves); where that order reaches a tenth of σ it is stated beside the
+// constant (Derived.Neglected and its note). The same holds for ω_e and B_e
+// from term values, which estimate Y10 and Y01.
 //
 // Term-values fits: band origins ν₀ = T_v′ − T_v″ of the bands present; with two or
 // more levels of an isotopologue, B_e and α_e (and γ_e with four or more) from
@@ -109,13 +122,21 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 				continue
 			}
 			q = scaleLin(q, d.sign)
-			vals[d.name] = q
-			r.add(out, d.name, iso.Label, q, "cm-1", "= "+d.label)
+			name, note := d.name, "= "+d.label
+			switch {
+			case d.name == "omega_e" && !has[[2]int{2, 0}]:
+				name, note = "Delta_G", "= Y10 of a model without the anharmonic term Y20: the vibrational spacing G(v+1) − G(v) of the observed levels, not ω_e"
+			case d.name == "B_e" && !has[[2]int{1, 1}]:
+				name, note = "B_avg", "= Y01 of a model without Y11: the rotational constant of every observed level alike, not B_e"
+			}
+			vals[name] = q
+			r.add(out, name, iso.Label, q, "cm-1", note)
 		}
 		if be, ok := vals["B_e"]; ok && be.v > 0 {
 			re := species.RFromB(be.v, iso.ReducedMass())
 			r.add(out, "r_e", iso.Label, linear{re, scaleG(be.g, -re/(2*be.v))}, "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
 		}
+		noteDunhamCorrections(*out, iso.Label)
 		we, okW := vals["omega_e"]
 		be, okB := vals["B_e"]
 		if okW && okB && we.v > 0 && be.v > 0 {
@@ -255,6 +276,54 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 				r.add(out, "omega_e", label, coef[0], "cm-1", "from the term values T_v by generalised least squares")
 				r.add(out, "omega_e_x_e", label, coef[1], "cm-1", "from the term values T_v by generalised least squares")
 			}
+		}
+		noteDunhamCorrections(*out, label)
+	}
+}
+
+// noteDunhamCorrections states, beside ω_e, B_e and r_e of species sp in out,
+// the order of magnitude of the Dunham correction their definitions neglect
+// (see Derive) when it reaches a tenth of σ. ω_e comes from the constants
+// (or, for the order of magnitude, the 1-0 band origin or Delta_G).
+func noteDunhamCorrections(out []constants.Derived, sp string) {
+	var omega, be float64
+	for _, d := range out {
+		if d.Species != sp {
+			continue
+		}
+		switch d.Name {
+		case "omega_e", "Delta_G", "nu0_1-0":
+			if omega == 0 || d.Name == "omega_e" {
+				omega = d.Value
+			}
+		case "B_e":
+			be = d.Value
+		}
+	}
+	if !(omega > 0) || !(be > 0) {
+		return
+	}
+	k := be / omega
+	for i := range out {
+		d := &out[i]
+		if d.Species != sp {
+			continue
+		}
+		var size float64
+		var form string
+		switch d.Name {
+		case "omega_e":
+			size, form = be*k, "Y10 − ω_e ~ B_e²/ω_e"
+		case "B_e":
+			size, form = be*k*k, "Y01 − B_e ~ B_e³/ω_e²"
+		case "r_e":
+			size, form = d.Value*k*k/2, "Δr_e ~ r_e B_e²/(2ω_e²)"
+		default:
+			continue
+		}
+		if size >= d.Sigma/10 {
+			d.Neglected = size
+			d.Note += fmt.Sprintf("; neglected Dunham correction %s ≈ %.2g %s (order of magnitude; %s σ)", form, size, d.Unit, map[bool]string{true: "larger than", false: "comparable to"}[size > d.Sigma])
 		}
 	}
 }

@@ -2,6 +2,7 @@ package fit
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/diff/fd"
@@ -212,5 +213,49 @@ func TestReFromBe(t *testing.T) {
 		if !scalar.EqualWithinRel(d.Value, re, 1e-14) || d.Sigma != 0 {
 			t.Errorf("%s: derived r_e = %g ± %g, want %g ± 0 (B_e fixed)", c.label, d.Value, d.Sigma, re)
 		}
+	}
+}
+
+// TestDerivedNamesWhatWasFitted: a constant is named for what it is only when
+// the data determine it. A Dunham model without Y20 and Y11 fitted to one band
+// reports Y10 as the vibrational spacing Delta_G and Y01 as B_avg, and no
+// ω_e, B_e, r_e or diagnostics built on them; a term-values fit of the
+// fundamental gives the band origin, B_e and α_e (two levels fix B_v's slope),
+// but no ω_e. For HCl (Huber & Herzberg 1979, from memory) the neglected
+// Dunham correction of ω_e = Y10 (order B_e²/ω_e ≈ 0.04 cm⁻¹) exceeds σ and is
+// stated; for CO B_e³/ω_e² ≈ 1.5e-6 cm⁻¹ is stated beside B_e when it reaches
+// a tenth of σ.
+func TestDerivedNamesWhatWasFitted(t *testing.T) {
+	rng := newRNG(31)
+	y := hhCO.dunham()
+	lines := makeLines("12C16O", "fund.csv", y, irBranches([][2]int{{1, 0}}, 30), 1e-3, rng)
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: []string{"Y10", "Y01", "Y02"}}, Settings{})
+	derivedOf(t, r.Derived, "Delta_G", "12C16O")
+	derivedOf(t, r.Derived, "B_avg", "12C16O")
+	for _, d := range r.Derived {
+		switch d.Name {
+		case "omega_e", "B_e", "r_e", "D_e_Kratzer", "alpha_e_Pekeris":
+			t.Errorf("harmonic one-band Dunham fit reports %s = %g", d.Name, d.Value)
+		}
+	}
+	tv := mustFit(t, lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}, Settings{})
+	derivedOf(t, tv.Derived, "nu0_1-0", "12C16O")
+	derivedOf(t, tv.Derived, "alpha_e", "12C16O")
+	for _, d := range tv.Derived {
+		if d.Name == "omega_e" || d.Name == "omega_e_x_e" {
+			t.Errorf("fundamental-only term-values fit reports %s = %g", d.Name, d.Value)
+		}
+	}
+
+	hcl := mustFit(t, makeLines("1H35Cl", "hcl.csv", hhHCl.dunham(), hhHCl.transitions(), 1e-3, rng), ModelSpec{Kind: model.KindDunham, Terms: hhHCl.dunham().terms()}, Settings{})
+	we := derivedOf(t, hcl.Derived, "omega_e", "1H35Cl")
+	want := hhHCl.be * hhHCl.be / hhHCl.we
+	t.Logf("HCl ω_e = %g(σ %.2g), neglected %.3g: %s", we.Value, we.Sigma, we.Neglected, we.Note)
+	if !scalar.EqualWithinRel(we.Neglected, want, 0.01) || we.Neglected < we.Sigma || !strings.Contains(we.Note, "neglected Dunham correction") {
+		t.Errorf("HCl ω_e: neglected correction %g (want B_e²/ω_e = %g), σ %g, note %q", we.Neglected, want, we.Sigma, we.Note)
+	}
+	re := derivedOf(t, hcl.Derived, "r_e", "1H35Cl")
+	if !(re.Neglected > 0) {
+		t.Errorf("HCl r_e: no neglected correction stated (σ %g): %q", re.Sigma, re.Note)
 	}
 }

@@ -26,9 +26,11 @@ type Choice struct {
 }
 
 // ChooseModel picks a model and its terms for lines when no pipeline file
-// says: the term-values model when every isotopologue has a single band (one pair
-// of vibrational levels), the Dunham model when several vibrational levels are
-// connected. Terms are added in order of expected size while the data
+// says: the term-values model when an isotopologue has fewer than three
+// vibrational levels (one band, or a fundamental with pure rotation), whose
+// derived constants then name what was measured (band origin, B_v) instead of
+// a Dunham Y10 that would only be called ω_e; the Dunham model when every
+// isotopologue connects three or more vibrational levels. Terms are added in order of expected size while the data
 // determine them (no undetermined parameter, |value|/σ ≥ 3) and an F-test says
 // the χ² reduction is significant: F = (χ²_old − χ²_new)/(χ²_new/dof_new) above
 // the (1 − FTestLevel) quantile of F(1, dof_new) (F(m, dof_new) with m the
@@ -52,11 +54,11 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 		levels[l.Species][l.VUp] = true
 		levels[l.Species][l.VLo] = true
 	}
-	single := true
+	few := ""
 	vib := false
 	for sp := range bands {
-		if len(bands[sp]) > 1 {
-			single = false
+		if len(levels[sp]) < 3 && (few == "" || sp < few) {
+			few = sp
 		}
 		for b := range bands[sp] {
 			if b.vu != b.vl {
@@ -66,11 +68,11 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 	}
 	c := &Choice{}
 	var start, candidates []string
-	if single {
+	if few != "" {
 		c.Model = model.KindTermValues
 		start = []string{"B"}
 		candidates = []string{"D", "H", "L"}
-		c.Log = append(c.Log, "one band per isotopologue: term-values model (term values T_v and B_v per level)")
+		c.Log = append(c.Log, fmt.Sprintf("%s has %d vibrational level(s), fewer than the three a Dunham model needs to determine ω_e and ω_e x_e: term-values model (term values T_v and B_v per level)", few, len(levels[few])))
 	} else {
 		c.Model = model.KindDunham
 		start = []string{"Y01"}
@@ -78,7 +80,7 @@ func ChooseModel(lines []linelist.Line, s fit.Settings) (*Choice, error) {
 			start = append([]string{"Y10"}, start...)
 		}
 		candidates = []string{"Y20", "Y11", "Y02", "Y30", "Y21", "Y12", "Y03", "Y40", "Y31", "Y22", "Y13", "Y04"}
-		c.Log = append(c.Log, "several vibrational levels: Dunham model")
+		c.Log = append(c.Log, "three or more vibrational levels of every isotopologue: Dunham model")
 	}
 	sel := s
 	sel.Round = false

@@ -9,6 +9,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/units"
 )
 
 // coLines simulates P and R lines of 12C16O from the Huber & Herzberg (1979)
@@ -84,5 +85,94 @@ func TestChooseModel(t *testing.T) {
 	}
 	if extra > 1 {
 		t.Errorf("several bands: %d spurious terms in %v\n%v", extra, c.Terms, c.Log)
+	}
+}
+
+// simLines returns lines of label computed from the Dunham constants y
+// (exact positions) for the transitions (v′, J′, v″, J″), in cm⁻¹ or, with
+// mhz, in MHz, with the stated uncertainty unc (in the lines' unit).
+func simLines(t testing.TB, label, file string, y map[string]float64, trans [][4]int, unc float64, mhz bool) []linelist.Line {
+	t.Helper()
+	iso, err := species.Parse(label)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fixes []model.Fix
+	for name, v := range y {
+		fixes = append(fixes, model.Fix{Name: name, V: -1, Value: v})
+	}
+	m, err := model.NewDunham([]species.Isotopologue{iso}, model.DunhamOptions{Fixes: fixes})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := model.Values(m.Params())
+	var out []linelist.Line
+	for _, tr := range trans {
+		nu := m.Energy(0, tr[0], tr[1], p, nil) - m.Energy(0, tr[2], tr[3], p, nil)
+		l := linelist.Line{File: file, Row: len(out) + 2, Species: label, VUp: tr[0], JUp: tr[1], VLo: tr[2], JLo: tr[3], Position: nu, Unc: unc, Unit: linelist.Wavenumber}
+		if mhz {
+			l.Position, l.Unit = nu*units.MHzPerWavenumber, linelist.MHz
+		}
+		out = append(out, l)
+	}
+	return out
+}
+
+// TestChooseModelNamesWhatWasMeasured: the 12C16O fundamental with
+// pure-rotation lines in MHz, and the 14N2 Raman fundamental (O, Q, S), reach
+// two vibrational levels. A Dunham model would call the band origin ω_e (the
+// issue that made this rule: 2143.27 against the molecule's 2169.81); the
+// automatic choice takes the term-values model, whose derived constants are
+// the band origin ν₀ and B_v. Constants: Huber & Herzberg (1979), from memory.
+func TestChooseModelNamesWhatWasMeasured(t *testing.T) {
+	co := map[string]float64{"Y10": 2169.81358, "Y20": -13.28831, "Y30": 0.010511, "Y01": 1.93128087, "Y11": -0.01750441, "Y02": -6.12147e-6}
+	n2 := map[string]float64{"Y10": 2358.57, "Y20": -14.324, "Y30": -0.00226, "Y01": 1.99824, "Y11": -0.017318, "Y02": -5.76e-6}
+	var coT, n2T [][4]int
+	for j := 0; j <= 30; j++ {
+		coT = append(coT, [4]int{1, j + 1, 0, j})
+		if j > 0 {
+			coT = append(coT, [4]int{1, j - 1, 0, j})
+		}
+		for _, d := range []int{-2, 0, 2} {
+			if j+d >= 0 {
+				n2T = append(n2T, [4]int{1, j + d, 0, j})
+			}
+		}
+	}
+	var mw [][4]int
+	for j := 0; j <= 5; j++ {
+		mw = append(mw, [4]int{0, j + 1, 0, j})
+	}
+	cases := map[string][]linelist.Line{
+		"12C16O fundamental + microwave": append(simLines(t, "12C16O", "ir.csv", co, coT, 1e-3, false), simLines(t, "12C16O", "mw.csv", co, mw, 0.05, true)...),
+		"14N2 Raman fundamental":         simLines(t, "14N14N", "raman.csv", n2, n2T, 1e-3, false),
+	}
+	for name, lines := range cases {
+		c, err := ChooseModel(lines, fit.Settings{Reject: fit.DefaultReject})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c.Model != model.KindTermValues {
+			t.Errorf("%s: chose %s %v\n%v", name, c.Model, c.Terms, c.Log)
+			continue
+		}
+		m, err := fit.BuildModel(lines, fit.ModelSpec{Kind: c.Model, Terms: c.Terms})
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, err := fit.Fit(fit.Problem{Lines: lines, Model: m}, fit.Settings{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		origin := false
+		for _, d := range r.Derived {
+			if d.Name == "omega_e" || d.Name == "omega_e_x_e" {
+				t.Errorf("%s: reports %s = %g", name, d.Name, d.Value)
+			}
+			origin = origin || d.Name == "nu0_1-0"
+		}
+		if !origin {
+			t.Errorf("%s: no band origin among %v", name, r.Derived)
+		}
 	}
 }
