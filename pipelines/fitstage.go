@@ -111,6 +111,9 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 			}
 		}
 	}
+	if err := fit.CheckSpinStatistics(list.Lines); err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
+	}
 	kind := o.Model
 	if kind == "" {
 		kind = fit.DefaultModel

@@ -118,6 +118,9 @@ func TestCatalogueLineList(t *testing.T) {
 		{name: "invalid UTF-8 in a species", input: []byte(replaceRow(base, 3, setField(r3, 0, "12C\xff16O"))), code: 1,
 			want: []string{"lines.csv:3: species: not UTF-8 text"}},
 		{name: "binary file", input: []byte("\x00\x01\x02PK\x03\x04\xff\xfe"), code: 1, want: []string{"lines.csv:1: "}},
+		// 16O nuclei have spin 0: a ¹Σg⁺ state of 16O2 has no odd-J levels.
+		{name: "levels a 1Sigma-g+ state of 16O2 does not have", input: []byte(strings.ReplaceAll(base, "12C16O", "16O16O")), code: 1,
+			want: []string{"lines.csv:2: 16O16O: the lines reach odd-J levels", "which a ¹Σg⁺ state of 16O16O does not have"}},
 	}
 	catalogue(t, "lines.csv", cases, nil, func(dir, file, out string) []string {
 		return []string{"fit", file, "--out", out}
