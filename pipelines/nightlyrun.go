@@ -53,10 +53,21 @@ func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) 
 		if err := d.Commit(); err != nil {
 			return nil, err
 		}
-		jr := &nightly.JobResult{Constants: nightly.RecordConstants(oc.Fit.Record)}
+		used := make([]bool, len(oc.Fit.Result.Lines))
+		for i, lr := range oc.Fit.Result.Lines {
+			used[i] = lr.Used
+		}
+		cs, offer, notes := nightlyConstants(oc.Fit.Record, oc.Fit.Problem.Lines, used, in.ReferenceDir)
+		jr := &nightly.JobResult{Constants: cs, Reference: offer}
 		st := oc.Fit.Result.Stats
 		jr.Notes = append(jr.Notes, fmt.Sprintf("%s model, %d lines (%d used, %d rejected), s = %.3g", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma))
 		jr.Notes = append(jr.Notes, oc.Fit.Result.Warnings...)
+		jr.Notes = append(jr.Notes, notes...)
+		if oc.Thermo != nil {
+			if n := dominanceNote(oc.Thermo.Result.ModelDominated); n != "" {
+				jr.Notes = append(jr.Notes, n)
+			}
+		}
 		return jr, nil
 	}
 	rep, err := nightly.Run(ctx, nightly.Options{

@@ -30,10 +30,12 @@ var LedgerHeader = []string{"input", "sha256", "status", "started", "finished", 
 
 // HistoryHeader is the header of history.csv: one row per constant of every
 // ok result, with the drift test made when it was recorded (n_before earlier
-// results with weighted mean mean_before ± sigma_mean_before; z in combined σ;
-// drift = "flagged" when |z| exceeded the threshold).
+// results of the same constant and model with weighted mean mean_before ±
+// sigma_mean_before; z in combined σ; drift = "flagged" when |z| exceeded the
+// threshold); model is the model and term set the constant belongs to (empty
+// for a constant that does not depend on the model).
 var HistoryHeader = []string{"sha256", "input", "finished", "species", "name", "value", "sigma", "unit",
-	"n_before", "mean_before", "sigma_mean_before", "z", "drift"}
+	"n_before", "mean_before", "sigma_mean_before", "z", "drift", "model"}
 
 // archive is an open archive folder.
 type archive struct {
@@ -69,8 +71,25 @@ type aggregate struct {
 }
 
 type historyState struct {
-	agg  map[string]*aggregate // species, name, unit → sums over earlier results
+	agg  map[string]*aggregate // species, name, unit, model → sums over earlier results
 	shas map[string]bool       // contents that have history rows
+	// Results (content hashes) with model-keyed constants of each species,
+	// and of each species and model: how often a model was chosen.
+	bySpecies      map[string]map[string]bool
+	bySpeciesModel map[string]map[string]bool
+}
+
+// modelShare returns how many earlier results of species used model, and
+// how many had model-keyed constants at all.
+func (h *historyState) modelShare(species, model string) (mine, all int) {
+	return len(h.bySpeciesModel[species+"\x00"+model]), len(h.bySpecies[species])
+}
+
+func addSHA(m map[string]map[string]bool, k, sha string) {
+	if m[k] == nil {
+		m[k] = map[string]bool{}
+	}
+	m[k][sha] = true
 }
 
 func openArchive(real, shown string) (*archive, error) {
@@ -83,7 +102,8 @@ func openArchive(real, shown string) (*archive, error) {
 	a.claims = filepath.Join(real, workDir, claimsDir)
 	a.lk = flock.New(filepath.Join(real, ledgerLock), a.perm)
 	a.ledger = ledgerState{bySHA: map[string]*shaState{}, okOut: map[string]string{}}
-	a.history = historyState{agg: map[string]*aggregate{}, shas: map[string]bool{}}
+	a.history = historyState{agg: map[string]*aggregate{}, shas: map[string]bool{},
+		bySpecies: map[string]map[string]bool{}, bySpeciesModel: map[string]map[string]bool{}}
 	return a, nil
 }
 
@@ -170,12 +190,16 @@ func (a *archive) ledgerRow(rec []string) {
 func (a *archive) historyRow(rec []string) {
 	sha := rec[0]
 	a.history.shas[sha] = true
+	if rec[13] != "" {
+		addSHA(a.history.bySpecies, rec[3], sha)
+		addSHA(a.history.bySpeciesModel, rec[3]+"\x00"+rec[13], sha)
+	}
 	v, err1 := strconv.ParseFloat(rec[5], 64)
 	s, err2 := strconv.ParseFloat(rec[6], 64)
 	if err1 != nil || err2 != nil || !usable(v, s) {
 		return
 	}
-	k := key(rec[3], rec[4], rec[7])
+	k := key(rec[3], rec[4], rec[7], rec[13])
 	g := a.history.agg[k]
 	if g == nil {
 		g = &aggregate{}
@@ -200,10 +224,11 @@ func ledgerRowFor(input, sha string, st Status, started, finished time.Time, out
 		finished.Format(time.RFC3339), csvcell.Neutralise(output), csvcell.Neutralise(msg)}
 }
 
-// record appends the ok row of a result and then its history rows, and
-// returns the drift test of each constant. Must be called under the lock.
-func (a *archive) record(input, sha string, started, finished time.Time, output string, cs []Constant, threshold float64) ([]Drift, error) {
-	if err := a.led.append([][]string{ledgerRowFor(input, sha, StatusOK, started, finished, output, "")}); err != nil {
+// record appends the ok row of a result (msg: its notes, one line) and then
+// its history rows, and returns the drift test of each constant. Must be
+// called under the lock.
+func (a *archive) record(input, sha string, started, finished time.Time, output, msg string, cs []Constant, threshold float64) ([]Drift, error) {
+	if err := a.led.append([][]string{ledgerRowFor(input, sha, StatusOK, started, finished, output, msg)}); err != nil {
 		return nil, err
 	}
 	hook("ledger", input)
@@ -221,24 +246,26 @@ func (a *archive) addHistory(input, sha, finished string, cs []Constant, thresho
 	ds := make([]Drift, len(cs))
 	rows := make([][]string, len(cs))
 	for i, c := range cs {
-		sp, nm, un := csvcell.Neutralise(c.Species), csvcell.Neutralise(c.Name), csvcell.Neutralise(c.Unit)
+		sp, nm, un, md := csvcell.Neutralise(c.Species), csvcell.Neutralise(c.Name), csvcell.Neutralise(c.Unit), csvcell.Neutralise(c.Model)
 		d := Drift{Constant: c, Mean: math.NaN(), SigmaMean: math.NaN(), Z: math.NaN()}
-		if g := a.history.agg[key(sp, nm, un)]; g != nil && g.n > 0 {
+		if g := a.history.agg[key(sp, nm, un, md)]; g != nil && g.n > 0 {
 			d.N = g.n
 			d.Mean = g.wx / g.w
 			d.SigmaMean = 1 / math.Sqrt(g.w)
-			if usable(c.Value, c.Sigma) {
+			if mine, all := a.history.modelShare(sp, md); md != "" && 2*mine < all {
+				d.Untested = fmt.Sprintf("not tested: model in %d of %d earlier results", mine, all)
+			} else if usable(c.Value, c.Sigma) {
 				d.Z = (c.Value - d.Mean) / math.Hypot(c.Sigma, d.SigmaMean)
 				d.Flagged = math.Abs(d.Z) > threshold
 			}
 		}
 		ds[i] = d
-		flag := ""
+		flag := d.Untested
 		if d.Flagged {
 			flag = "flagged"
 		}
 		rows[i] = []string{sha, csvcell.Neutralise(input), finished, sp, nm, fmtF(c.Value), fmtF(c.Sigma), un,
-			strconv.Itoa(d.N), fmtNaN(d.Mean), fmtNaN(d.SigmaMean), fmtNaN(d.Z), flag}
+			strconv.Itoa(d.N), fmtNaN(d.Mean), fmtNaN(d.SigmaMean), fmtNaN(d.Z), flag, md}
 	}
 	if err := a.hist.append(rows); err != nil {
 		return nil, err
@@ -271,7 +298,9 @@ func (a *archive) tryClaim(sha string) (*flock.Flock, bool) {
 	return f, true
 }
 
-func key(species, name, unit string) string { return species + "\x00" + name + "\x00" + unit }
+func key(species, name, unit, model string) string {
+	return species + "\x00" + name + "\x00" + unit + "\x00" + model
+}
 
 func usable(v, s float64) bool {
 	return !math.IsNaN(v) && !math.IsInf(v, 0) && s > 0 && !math.IsInf(s, 0)

@@ -54,16 +54,30 @@
 // # Drift
 //
 // For every constant of a new ok result, the earlier results of the same
-// constant (same species, name and unit; in the order they were recorded in
-// history.csv) give the weighted mean x̄ = Σwᵢxᵢ/Σwᵢ with wᵢ = 1/σᵢ² and
+// constant (same species, name, unit and model — the model and its term set,
+// so that a Y10 of five Dunham terms is never compared with one of six; in
+// the order they were recorded in history.csv) give the weighted mean x̄ = Σwᵢxᵢ/Σwᵢ with wᵢ = 1/σᵢ² and
 // σ(x̄) = (Σwᵢ)^−½. The new value x ± σ is flagged when
 //
 //	|z| = |x − x̄| / √(σ² + σ(x̄)²) > 5   (Options.DriftSigma)
 //
 // (the combined standard uncertainty of a difference of independent
-// quantities, common practice). Constants with σ = 0 are recorded but neither
-// tested nor averaged; constants without a finite value or σ are left out of
+// quantities, common practice). A constant of a model that was chosen in
+// fewer than half of the earlier results of its species is recorded but not
+// tested: a model the automatic choice takes only now and then is taken
+// because of the noise of those files (a term admitted when it happens to look
+// significant), so its constants are not a steady sample, and comparing them
+// gave the only false alarms we measured over 1000 quiet nights (see the
+// README). Constants with σ = 0 are recorded but neither tested nor averaged; constants without a finite value or σ are left out of
 // the manifest and the history, with a note.
+//
+// A job may also report constants that do not depend on the model (Model
+// empty), such as a scale factor of each file against a reference. The
+// archive keeps one reference constants record per set of species in
+// ARCHIVE/reference/ (see ReferenceKey): the first ok result of that set that
+// offers one (JobResult.Reference) becomes it, and every later job is told
+// where the references are (Input.ReferenceDir). Replace or delete a
+// reference to start anew; bandwright never changes one it has written.
 package nightly
 
 import (
@@ -97,6 +111,10 @@ type Input struct {
 	Name string
 	// SHA256 is the hex SHA-256 of the content.
 	SHA256 string
+	// ReferenceDir is the archive's folder of reference constants records
+	// (ARCHIVE/reference; it may not exist yet): the record of a set of
+	// species is ReferenceDir/ReferenceKey(species)+".json". Read only.
+	ReferenceDir string
 }
 
 // JobResult is what a successful Job reports besides the files it wrote.
@@ -109,19 +127,32 @@ type JobResult struct {
 	// Inputs lists further files the job read (electronic-states file, trial constants),
 	// recorded with their SHA-256 in the manifest.
 	Inputs []FileHash
+	// Reference offers a constants record of the result (Path relative to
+	// the work folder) as the archive's reference for the species set Key,
+	// adopted when the archive has none for it yet; nil: none offered.
+	Reference *ReferenceOffer
+}
+
+// ReferenceOffer is a constants record a job offers as the archive's
+// reference for a set of species.
+type ReferenceOffer struct {
+	Key  string // ReferenceKey of the record's species
+	Path string // relative to the job's work folder
 }
 
 // Constant is one constant of a result with its 1σ uncertainty. Name is the
 // constant as every output writes it, the way --fix takes a parameter:
 // "B_v0[12C16O]", "Y01", and "B_e[13C16O]" for a derived constant of one
-// isotopologue. Species, Name and Unit together identify a constant in the
-// history.
+// isotopologue. Model names the model and term set the value depends on
+// ("dunham Y01,Y02,Y10,Y11,Y20"; empty when it does not). Species, Name, Unit
+// and Model together identify a constant in the history.
 type Constant struct {
 	Species string  `json:"species"`
 	Name    string  `json:"name"`
 	Value   float64 `json:"value"`
 	Sigma   float64 `json:"sigma"`
 	Unit    string  `json:"unit"`
+	Model   string  `json:"model,omitempty"`
 }
 
 // Options configure a run. The zero values of Workers, Shard/Shards, Now,
@@ -173,7 +204,7 @@ type FileOutcome struct {
 	SHA256    string
 	Status    Status
 	Output    string // results folder relative to the archive ("results/a-1234abcd"); ok only
-	Message   string // the failure or the reason for skipping, one line
+	Message   string // the failure, the reason for skipping or the notes of an ok result, one line
 	Started   time.Time
 	Finished  time.Time
 	Constants []Constant
@@ -189,6 +220,9 @@ type Drift struct {
 	SigmaMean float64 // its 1σ
 	Z         float64 // (value − Mean)/combined σ (NaN when not tested)
 	Flagged   bool    // |Z| > DriftSigma
+	// Untested says why a constant with earlier results was not tested
+	// (its model was chosen in fewer than half of the earlier results).
+	Untested string
 }
 
 // Ignored is an inbox entry that was not considered, with the reason.

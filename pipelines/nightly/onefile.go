@@ -67,7 +67,7 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	}
 	hook("snapshot", t.name)
 
-	res, jerr := r.runJob(Input{Path: snap, Name: t.name, SHA256: t.sha}, outDir)
+	res, jerr := r.runJob(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir)}, outDir)
 	hook("job", t.name)
 
 	// The inbox file must not have changed while it was processed.
@@ -96,20 +96,24 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 		return skip("its results could not be put in place (" + err.Error() + "); it will be tried again next run")
 	}
 	hook("rename", t.name)
+	notes := res.Notes
+	if err := a.locked(func() error { return a.adoptReference(out, res.Reference) }); err != nil {
+		// The result stands; the next file of the same species offers its
+		// record again.
+		notes = append(notes, "not adopted as the archive's reference: "+err.Error())
+	}
+	msg := oneLine(strings.Join(notes, "; "))
 	var drift []Drift
 	if err := a.locked(func() error {
 		var err error
-		drift, err = a.record(t.name, t.sha, fo.Started, fo.Finished, out, res.Constants, r.o.DriftSigma)
+		drift, err = a.record(t.name, t.sha, fo.Started, fo.Finished, out, msg, res.Constants, r.o.DriftSigma)
 		return err
 	}); err != nil {
 		r.fatal(err)
 		return skip("not recorded: " + err.Error())
 	}
 	hook("history", t.name)
-	fo.Status, fo.Output, fo.Constants, fo.Drift = StatusOK, out, res.Constants, drift
-	if len(res.Notes) > 0 {
-		fo.Message = oneLine(strings.Join(res.Notes, "; "))
-	}
+	fo.Status, fo.Output, fo.Constants, fo.Drift, fo.Message = StatusOK, out, res.Constants, drift, msg
 	return fo
 }
 

@@ -107,7 +107,7 @@ func (r *runner) adopt(out, p string, m *Manifest) error {
 			return nil
 		}
 		var err error
-		drift, err = r.a.record(m.Input.Name, sha, started, finished, out, m.Constants, r.o.DriftSigma)
+		drift, err = r.a.record(m.Input.Name, sha, started, finished, out, "", m.Constants, r.o.DriftSigma)
 		recorded = err == nil
 		return err
 	})

@@ -55,8 +55,8 @@ type sumFile struct {
 }
 
 type sumConst struct {
-	Input, Constant, Value, Unit, Z, Mean, N string
-	Flagged                                  bool
+	Input, Constant, Value, Unit, Z, Mean, N, Note string
+	Flagged                                        bool
 }
 
 type sumSkip struct{ Input, Reason string }
@@ -114,7 +114,10 @@ func (r *runner) writeSummary(date string, extra *Report) (string, string, error
 			v, _ := strconv.ParseFloat(rec[5], 64)
 			s, _ := strconv.ParseFloat(rec[6], 64)
 			c := sumConst{Input: rec[1], Constant: rec[4], Value: constants.FormatParen(v, s), Unit: rec[7],
-				N: rec[8], Flagged: rec[12] != ""}
+				N: rec[8], Flagged: rec[12] == "flagged"}
+			if !c.Flagged {
+				c.Note = rec[12]
+			}
 			if z, err := strconv.ParseFloat(rec[11], 64); err == nil {
 				c.Z = strconv.FormatFloat(z, 'f', 1, 64)
 				m, _ := strconv.ParseFloat(rec[9], 64)
@@ -203,7 +206,7 @@ tr.failed td, tr.drift td { background: #fde8e8; }
 <p class="small">Values with their 1σ in parenthetical notation: 1.922529(3) means 1.922529 ± 0.000003. z is the difference from the weighted mean of the earlier results of the same constant in units of the combined σ.</p>
 <table>
 <tr><th>file</th><th>constant</th><th>value (1σ)</th><th>unit</th><th>z / σ</th></tr>
-{{range .Constants}}<tr{{if .Flagged}} class="drift"{{end}}><td>{{.Input}}</td><td>{{.Constant}}</td><td class="num">{{.Value}}</td><td>{{.Unit}}</td><td class="num">{{if .Z}}{{.Z}}{{else}}first{{end}}</td></tr>
+{{range .Constants}}<tr{{if .Flagged}} class="drift"{{end}}><td>{{.Input}}</td><td>{{.Constant}}</td><td class="num">{{.Value}}</td><td>{{.Unit}}</td><td class="num">{{if .Z}}{{.Z}}{{else if .Note}}{{.Note}}{{else}}first{{end}}</td></tr>
 {{end}}</table>
 {{end}}
 {{if .Skipped}}
@@ -275,7 +278,10 @@ func writeMarkdown(b *bytes.Buffer, d summaryData) {
 		b.WriteString("| file | constant | value (1σ) | unit | z / σ |\n|---|---|---|---|---|\n")
 		for _, c := range d.Constants {
 			z := c.Z
-			if z == "" {
+			switch {
+			case z == "" && c.Note != "":
+				z = e(c.Note)
+			case z == "":
 				z = "first"
 			}
 			if c.Flagged {
