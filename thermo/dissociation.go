@@ -89,12 +89,12 @@ func (b *levelSum) settleDissociation() {
 // centre of its prior, so that the sum is still bounded.
 func birgeSponerLimit(vib vibStructure) Dissociation {
 	w, wx := vib.omega, vib.omegaX
-	how := "ω_e x_e"
+	how := fmt.Sprintf("ω_e x_e = %.4g cm-1 from the record", wx)
 	if !(wx > 0) {
 		wx = xePriorCentre * w
 		how = fmt.Sprintf("x_e = %.3g of the prior (the record's G(v) never turns over)", xePriorCentre)
 	} else if !vib.anharmonic {
-		how = "x_e of the prior"
+		how = fmt.Sprintf("ω_e x_e = %.4g cm-1 from x_e of the prior", wx)
 	}
 	lbs := w*w/(4*wx) - (w/2 - wx/4)
 	return Dissociation{D0: birgeSponerRatio * lbs, Sigma: birgeSponerSpread * lbs, BirgeSponer: lbs,

@@ -203,8 +203,11 @@ type thermoTable struct {
 }
 
 // thermoColumns are the columns of thermo.csv, fixed by the thermo stage.
-var thermoColumns = []string{"T_K", "Q", "Q_sigma", "Cp", "Cp_sigma", "S", "S_sigma", "H_minus_H0", "H_minus_H0_sigma",
-	"H_minus_H298", "H_minus_H298_sigma", "gef", "gef_sigma", "Q_closed_form", "Q_closed_form_error",
+var thermoColumns = []string{"T_K",
+	"Q", "Q_sigma", "Q_sigma_model", "Q_sigma_total", "Cp", "Cp_sigma", "Cp_sigma_model", "Cp_sigma_total",
+	"S", "S_sigma", "S_sigma_model", "S_sigma_total", "H_minus_H0", "H_minus_H0_sigma", "H_minus_H0_sigma_model", "H_minus_H0_sigma_total",
+	"H_minus_H298", "H_minus_H298_sigma", "H_minus_H298_sigma_model", "H_minus_H298_sigma_total",
+	"gef", "gef_sigma", "gef_sigma_model", "gef_sigma_total", "share_outside_data", "Q_closed_form", "Q_closed_form_error",
 	"Q_sigma_mc", "Cp_sigma_mc", "S_sigma_mc", "H_minus_H0_sigma_mc", "H_minus_H298_sigma_mc", "gef_sigma_mc"}
 
 func (t *thermoTable) get(col string) []float64 { return t.v[strings.ToLower(col)] }

@@ -23,7 +23,7 @@ func conventions(d *document, f *folder) {
 		"Quantum numbers: v′, J′ of the upper level, v″, J″ of the lower; branches O, P, Q, R, S for ΔJ = J′ − J″ = −2 … +2.",
 	}
 	if f.thermo != nil {
-		items = append(items, "Thermodynamic functions: ideal gas, per mole; the shaded bands of their figures are ±2σ.")
+		items = append(items, "Thermodynamic functions: ideal gas, per mole; their values are given as value(σ_total), rounded to σ_total = √(σ² + σ_model²), with the statistical σ of the fit beside them; the shaded bands of their figures are ±2σ of the fit (inner) and ±2σ_total (outer).")
 	}
 	items = append(items, "Colours: "+paletteName+"; every series also has its own glyph or dash pattern.", "Times are UTC.")
 	s.list(items)
@@ -42,7 +42,7 @@ func cautions(d *document, f *folder) {
 	s := d.section("cautions", "Cautions")
 	items := []string{
 		"Gas cells: many diatomic gases measured this way are toxic, corrosive or both (carbon monoxide, hydrogen halides, nitric oxide, halogens). Fill, vent and leak-test cells following your laboratory's safety rules, with ventilation and gas detection where they call for it.",
-		"Thermodynamic data used for safety or process design: verify them against evaluated reference data first, and defer to local codes and licensed engineering practice. The σ here carry only the statistical uncertainty of the fit, not errors of the model or of the calibration.",
+		"Thermodynamic data used for safety or process design: these numbers are only as good as the model behind them; use reviewed reference data, and defer to local codes and licensed engineering practice. σ_total adds to the statistical σ of the fit a model part for what the lines did not observe (named alternatives, listed per temperature in thermo.json); errors of the calibration of the spectrum are in neither.",
 		"Extrapolation: the constants describe the levels the lines reach (listed under At a glance). Predicted lines, partition functions and thermodynamic functions that rest on higher levels are extrapolations, more so the higher the temperature.",
 	}
 	if n := len(f.record.Warnings); n > 0 {

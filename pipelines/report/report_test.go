@@ -15,6 +15,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/internal/failure"
+	"bandwright/pipelines"
 	"bandwright/pipelines/report"
 )
 
@@ -181,7 +182,7 @@ func TestHTMLCarriesPlots(t *testing.T) {
 		}
 	}
 	for _, want := range []string{"thermo.csv (thermo stage): the thermodynamic section is left out.",
-		"verify", "licensed engineering practice", "toxic", "Okabe–Ito", "Y10", "test"} {
+		"reviewed reference data", "licensed engineering practice", "toxic", "Okabe–Ito", "Y10", "test"} {
 		if !strings.Contains(p.text, want) && !strings.Contains(strings.ToLower(p.text), strings.ToLower(want)) {
 			t.Errorf("report.html lacks %q", want)
 		}
@@ -554,4 +555,53 @@ func BenchmarkBuild(b *testing.B) {
 			b.Fatal(err)
 		}
 	}
+}
+
+// TestThermoBudgetInReport: a report built from the whole chain (CO bands
+// 1-0 and 2-1, the thermo stage's default table up to 6000 K) says under At
+// a glance which functions rest more on the model than on the data and from
+// which temperature, rounds the excerpt's values to σ_total while showing the
+// statistical σ beside them, draws both bands in the figures and carries the
+// caution beside the tables, in HTML and Markdown.
+func TestThermoBudgetInReport(t *testing.T) {
+	root := t.TempDir()
+	in := filepath.Join(root, "lines.csv")
+	writeLines(t, in, append(bandLines(1, 0, 25), bandLines(2, 1, 20)...), 0.0005, 3)
+	out := filepath.Join(root, "out")
+	if _, err := pipelines.RunChain(pipelines.ChainOptions{Inputs: []string{in}, Out: out}); err != nil {
+		t.Fatal(err)
+	}
+	files := build(t, out, report.Options{})
+	md := string(files[constants.ReportMarkdownFile])
+	p := parsePage(t, files[constants.ReportHTMLFile])
+	for _, text := range []string{md, p.text} {
+		for _, want := range []string{
+			"the model part of the uncertainty (what the lines did not observe",
+			"exceeds the statistical part of the fit for Q from",
+			"Cp° from",
+			"only as good as the model behind them",
+			"σ fit",
+			"Levels outside the data",
+		} {
+			if !strings.Contains(text, want) {
+				t.Errorf("report lacks %q", want)
+			}
+		}
+	}
+	var cp *svgInfo
+	for i := range p.svgs {
+		if p.svgs[i].hasText("Heat capacity") {
+			cp = &p.svgs[i]
+		}
+	}
+	if cp == nil || !cp.hasText("±2σ total") || !cp.hasText("±2σ fit") {
+		t.Errorf("the Cp° figure lacks its two bands")
+	}
+	// The 6000 K row of the excerpt: Cp° in parentheses to σ_total, which is
+	// far wider than the statistical σ there.
+	row := regexp.MustCompile(`\| 6000 \| ([0-9.]+)\(([0-9]+)\) \| ([0-9.e+-]+) \|`).FindStringSubmatch(md)
+	if row == nil {
+		t.Fatalf("no 6000 K row with value(σ_total) and σ fit in the Markdown excerpt:\n%s", md)
+	}
+	t.Logf("6000 K: Q %s(%s), σ fit %s", row[1], row[2], row[3])
 }

@@ -104,6 +104,9 @@ func glance(d *document, f *folder) {
 		s.para("Warnings of the fit:")
 		s.list(rec.Warnings)
 	}
+	if f.thermo != nil && f.thermo.n > 0 {
+		thermoGlance(s, f.thermo)
+	}
 	var missing []string
 	if f.residuals == nil {
 		missing = append(missing, "residuals.csv (fit stage): the residual and position sections are left out.")

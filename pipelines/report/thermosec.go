@@ -13,8 +13,9 @@ import (
 	"bandwright/constants"
 )
 
-// thermoSection shows the thermodynamic table: an excerpt, Q(T) and Cp°(T)
-// with ±2σ bands, and the closed-form comparison.
+// thermoSection shows the thermodynamic table: an excerpt with σ_total,
+// Q(T) and Cp°(T) with their statistical and total ±2σ bands, the
+// closed-form comparison, and the caution beside them.
 func thermoSection(d *document, f *folder) {
 	th := f.thermo
 	s := d.section("thermo", "Partition function and thermodynamic functions")
@@ -29,7 +30,13 @@ func thermoSection(d *document, f *folder) {
 		s.para("thermo.csv holds no rows.")
 		return
 	}
-	s.para("thermo.csv holds %d temperatures from %s K to %s K; below, an excerpt with 1σ in parentheses (the file has every row). Its conventions (energy zero, nuclear spin, standard pressure) are listed under Conventions.", th.n, num(tMin, 6), num(tMax, 6))
+	_, hasTotal := totalOrStat(th, "Cp")
+	if hasTotal {
+		s.para("thermo.csv holds %d temperatures from %s K to %s K; below, an excerpt (the file has every row). Each value is given with its total 1σ in parentheses and rounded to it; σ_total = √(σ² + σ_model²) adds to the statistical σ of the fit (column \"σ fit\") a model part for what the lines did not observe, from named alternatives recomputed against the table (thermo.json lists them per temperature). Its conventions (energy zero, nuclear spin, standard pressure) are listed under Conventions.", th.n, num(tMin, 6), num(tMax, 6))
+	} else {
+		s.para("thermo.csv holds %d temperatures from %s K to %s K; below, an excerpt with the statistical 1σ of the fit in parentheses (the file has every row; it has no model part of the uncertainty). Its conventions (energy zero, nuclear spin, standard pressure) are listed under Conventions.", th.n, num(tMin, 6), num(tMax, 6))
+	}
+	s.para("Caution: these numbers are only as good as the model behind them; for safety analysis or process design use reviewed reference data and defer to local codes and licensed engineering practice.")
 	var others []string
 	for _, n := range []string{constants.ThermoJSONFile, constants.NASA7File} {
 		if f.has(n) {
@@ -40,53 +47,7 @@ func thermoSection(d *document, f *folder) {
 		s.para("Also in this folder from the thermo stage: %s (machine-readable; not reproduced here).", strings.Join(others, ", "))
 	}
 	rows := excerptRows(T)
-	type col struct{ key, sig, head string }
-	cols := []col{
-		{"Q", "Q_sigma", "Q"},
-		{"Cp", "Cp_sigma", "Cp° / J mol⁻¹ K⁻¹"},
-		{"S", "S_sigma", "S° / J mol⁻¹ K⁻¹"},
-		{"H_minus_H0", "H_minus_H0_sigma", "H°(T) − H°(0) / kJ mol⁻¹"},
-		{"H_minus_H298", "H_minus_H298_sigma", "H°(T) − H°(298.15 K) / kJ mol⁻¹"},
-		{"gef", "gef_sigma", "−[G°(T) − H°(298.15 K)]/T / J mol⁻¹ K⁻¹"},
-		{"Q_closed_form", "", "Q, closed form"},
-		{"Q_closed_form_error", "", "closed-form error (as in thermo.csv)"},
-	}
-	// Two tables of at most four quantities each, so that an excerpt fits the
-	// width of a printed page.
-	var present []col
-	for _, c := range cols {
-		if th.get(c.key) != nil {
-			present = append(present, c)
-		}
-	}
-	for part := 0; part*4 < len(present); part++ {
-		cs := present[part*4 : min(len(present), part*4+4)]
-		caption := "Excerpt of thermo.csv."
-		if len(present) > 4 {
-			caption = sprintf("Excerpt of thermo.csv, part %d of %d.", part+1, (len(present)+3)/4)
-		}
-		t := &table{Caption: caption, Head: []string{"T / K"}, Numeric: []bool{true}}
-		for _, c := range cs {
-			t.Head = append(t.Head, c.head)
-			t.Numeric = append(t.Numeric, true)
-		}
-		for _, i := range rows {
-			row := []string{num(T[i], 8)}
-			for _, c := range cs {
-				v := th.get(c.key)[i]
-				switch {
-				case c.sig != "" && th.get(c.sig) != nil:
-					row = append(row, paren(v, th.get(c.sig)[i]))
-				case c.key == "Q_closed_form_error":
-					row = append(row, num(v, 3))
-				default:
-					row = append(row, num(v, 8))
-				}
-			}
-			t.Rows = append(t.Rows, row)
-		}
-		d.table(s, t)
-	}
+	excerptTables(d, s, th, rows)
 	// Linear against Monte Carlo σ, when the table has both.
 	mc := []struct{ key, lin, mc string }{{"Q", "Q_sigma", "Q_sigma_mc"}, {"Cp°", "Cp_sigma", "Cp_sigma_mc"}, {"S°", "S_sigma", "S_sigma_mc"}}
 	mt := &table{Caption: "1σ by linear propagation and by Monte Carlo, at the same temperatures.", Head: []string{"T / K"}, Numeric: []bool{true}}
@@ -108,14 +69,81 @@ func thermoSection(d *document, f *folder) {
 		}
 		d.table(s, mt)
 	}
-	d.figure(s, bandPlot(T, th.get("Q"), th.get("Q_sigma"), th.get("Q_closed_form"),
+	qTot, _ := totalOrStat(th, "Q")
+	cpTot, _ := totalOrStat(th, "Cp")
+	d.figure(s, bandPlot(T, th.get("Q"), th.get("Q_sigma"), qTot, th.get("Q_closed_form"),
 		"report-thermo-q.svg", "Partition function", "Q", "Q(T), internal partition function", "level sum"))
-	d.figure(s, bandPlot(T, th.get("Cp"), th.get("Cp_sigma"), nil,
+	d.figure(s, bandPlot(T, th.get("Cp"), th.get("Cp_sigma"), cpTot, nil,
 		"report-thermo-cp.svg", "Heat capacity", "Cp° / J mol⁻¹ K⁻¹", "Cp°(T), ideal gas at the standard pressure", "Cp°"))
 	if th.get("Q_closed_form") != nil {
 		d.figure(s, closedFormFigure(T, th.get("Q"), th.get("Q_closed_form")))
 	}
 	d.figure(s, widthFigure(th))
+}
+
+// excerptTables writes the excerpt of thermo.csv at the rows: each function
+// as value(σ_total) rounded to σ_total, with the statistical σ of the fit
+// beside it (value(σ) alone when the file has no total), then the closed
+// form; in tables of at most three functions, so that an excerpt fits the
+// width of a printed page.
+func excerptTables(d *document, s *section, th *thermoTable, rows []int) {
+	T := th.get("T_K")
+	type col struct {
+		head string
+		cell func(i int) string
+	}
+	var cols [][]col // one group per quantity
+	units := map[string]string{"Q": "", "Cp": " / J mol⁻¹ K⁻¹", "S": " / J mol⁻¹ K⁻¹", "H_minus_H0": " / kJ mol⁻¹", "H_minus_H298": " / kJ mol⁻¹", "gef": " / J mol⁻¹ K⁻¹"}
+	for _, fn := range thermoFunctions {
+		v := th.get(fn.key)
+		if v == nil {
+			continue
+		}
+		sig, hasTotal := totalOrStat(th, fn.key)
+		stat := th.get(fn.key + "_sigma")
+		g := []col{{fn.name + units[fn.key], func(i int) string {
+			if sig == nil {
+				return num(v[i], 8)
+			}
+			return paren(v[i], sig[i])
+		}}}
+		if hasTotal && stat != nil {
+			g = append(g, col{"σ fit", func(i int) string { return num(stat[i], 2) }})
+		}
+		cols = append(cols, g)
+	}
+	if cf := th.get("Q_closed_form"); cf != nil {
+		cols = append(cols, []col{{"Q, closed form", func(i int) string { return num(cf[i], 8) }}})
+	}
+	if ce := th.get("Q_closed_form_error"); ce != nil {
+		cols = append(cols, []col{{"closed-form error (as in thermo.csv)", func(i int) string { return num(ce[i], 3) }}})
+	}
+	const perTable = 3
+	parts := (len(cols) + perTable - 1) / perTable
+	for part := 0; part < parts; part++ {
+		caption := "Excerpt of thermo.csv."
+		if parts > 1 {
+			caption = sprintf("Excerpt of thermo.csv, part %d of %d.", part+1, parts)
+		}
+		t := &table{Caption: caption, Head: []string{"T / K"}, Numeric: []bool{true}}
+		group := cols[part*perTable : min(len(cols), part*perTable+perTable)]
+		for _, g := range group {
+			for _, c := range g {
+				t.Head = append(t.Head, c.head)
+				t.Numeric = append(t.Numeric, true)
+			}
+		}
+		for _, i := range rows {
+			row := []string{num(T[i], 8)}
+			for _, g := range group {
+				for _, c := range g {
+					row = append(row, c.cell(i))
+				}
+			}
+			t.Rows = append(t.Rows, row)
+		}
+		d.table(s, t)
+	}
 }
 
 // excerptRows picks the rows of the usual table temperatures, plus the first
@@ -155,9 +183,14 @@ func excerptRows(T []float64) []int {
 
 const maxCurvePoints = 800
 
-// bandPlot draws y(T) with a ±2σ band and, when cf is given, the closed form.
-func bandPlot(T, y, sig, cf []float64, name, title, yLabel, what, curve string) *figure {
+// bandPlot draws y(T) with a ±2σ_total band (when tot differs from sig) under
+// the ±2σ statistical band and, when cf is given, the closed form.
+func bandPlot(T, y, sig, tot, cf []float64, name, title, yLabel, what, curve string) *figure {
+	twoBands := tot != nil && sig != nil && !sameSlice(tot, sig)
 	fig := &figure{Name: name, Alt: what + " with its ±2σ band"}
+	if twoBands {
+		fig.Alt = what + " with its ±2σ statistical and ±2σ total bands"
+	}
 	var c xyCollector
 	for i := range T {
 		c.add(T[i], y[i])
@@ -168,26 +201,11 @@ func bandPlot(T, y, sig, cf []float64, name, title, yLabel, what, curve string) 
 		return fig
 	}
 	p := newPlot(title, "T / K", yLabel)
-	widest := 0.0
+	if twoBands {
+		addBand(p, T, y, tot, withAlpha(okOrange, 0x60), "±2σ total")
+	}
 	if sig != nil {
-		lo := make([]float64, len(T))
-		hi := make([]float64, len(T))
-		var bx []float64
-		k := max(1, len(T)/maxCurvePoints)
-		var blo, bhi []float64
-		for i := range T {
-			lo[i], hi[i] = y[i]-2*sig[i], y[i]+2*sig[i]
-			if finite(sig[i]) && finite(y[i]) && y[i] != 0 {
-				widest = math.Max(widest, 2*sig[i]/math.Abs(y[i]))
-			}
-			if i%k == 0 || i == len(T)-1 {
-				bx, blo, bhi = append(bx, T[i]), append(blo, lo[i]), append(bhi, hi[i])
-			}
-		}
-		if band, err := fillBand(bx, blo, bhi, withAlpha(okSkyBlue, 0x80)); err == nil {
-			p.Add(band)
-			p.Legend.Add("±2σ", band)
-		}
+		addBand(p, T, y, sig, withAlpha(okSkyBlue, 0x80), map[bool]string{true: "±2σ fit", false: "±2σ"}[twoBands])
 	}
 	line, err := plotter.NewLine(decimate(c.xy, maxCurvePoints, false))
 	if err != nil {
@@ -219,10 +237,40 @@ func bandPlot(T, y, sig, cf []float64, name, title, yLabel, what, curve string) 
 		return fig
 	}
 	fig.SVG = svg
-	if sig != nil {
-		fig.Caption += sprintf(" The shaded band is ±2σ; at its widest it spans ±%s of the value, so it may be thinner than the line.", relPercent(widest))
+	switch {
+	case twoBands:
+		fig.Caption += sprintf(" The inner band is ±2σ of the fit (statistical; at its widest ±%s of the value), the outer band ±2σ_total, which adds what the lines did not observe (at its widest ±%s); either may be thinner than the line.", relPercent(widest(y, sig)), relPercent(widest(y, tot)))
+	case sig != nil:
+		fig.Caption += sprintf(" The shaded band is ±2σ; at its widest it spans ±%s of the value, so it may be thinner than the line.", relPercent(widest(y, sig)))
 	}
 	return fig
+}
+
+// addBand adds the band y ± 2σ in colour c with a legend entry.
+func addBand(p *plot.Plot, T, y, sig []float64, c color.Color, label string) {
+	k := max(1, len(T)/maxCurvePoints)
+	var bx, blo, bhi []float64
+	for i := range T {
+		if i%k == 0 || i == len(T)-1 {
+			bx, blo, bhi = append(bx, T[i]), append(blo, y[i]-2*sig[i]), append(bhi, y[i]+2*sig[i])
+		}
+	}
+	if band, err := fillBand(bx, blo, bhi, c); err == nil {
+		p.Add(band)
+		p.Legend.Add(label, band)
+	}
+}
+
+func sameSlice(a, b []float64) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
 }
 
 // relPercent writes a relative size in percent or ppm.
@@ -321,7 +369,7 @@ func closedFormFigure(T, q, cf []float64) *figure {
 // widthFigure plots the relative 2σ of Q, Cp° and S° against T on a log scale.
 func widthFigure(th *thermoTable) *figure {
 	fig := &figure{Name: "report-thermo-sigma.svg", Alt: "relative 2σ of Q, Cp° and S° against temperature",
-		Caption: "Relative width 2σ/value of Q, Cp° and S° against T (log scale): where the uncertainty inherited from the fit grows."}
+		Caption: "Relative width 2σ/value of Q, Cp° and S° against T (log scale): where the uncertainty inherited from the fit grows, and (Cp° total) where the model part of the budget takes over."}
 	T := th.get("T_K")
 	series := []struct {
 		key, sig, label string
@@ -333,6 +381,7 @@ func widthFigure(th *thermoTable) *figure {
 		{"S", "S_sigma", "S°", seriesStyle{color: okBluishGreen}, []vg.Length{vg.Points(2), vg.Points(2)}},
 		{"Q", "Q_sigma_mc", "Q (Monte Carlo)", seriesStyle{color: okReddishPurple}, []vg.Length{vg.Points(1), vg.Points(3)}},
 		{"Cp", "Cp_sigma_mc", "Cp° (Monte Carlo)", seriesStyle{color: okBlack}, []vg.Length{vg.Points(8), vg.Points(2), vg.Points(2), vg.Points(2)}},
+		{"Cp", "Cp_sigma_total", "Cp° total", seriesStyle{color: okVermillion}, nil},
 	}
 	p := newPlot("Relative uncertainty 2σ/value (log scale)", "T / K", "")
 	p.Y.Scale = plot.LogScale{}
