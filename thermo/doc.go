@@ -63,15 +63,95 @@
 // (seed, d), so the result does not depend on the number of goroutines (see
 // System.MonteCarlo).
 //
-// # Level limits
+// # Levels and their sources
 //
-// Dunham model: v from 0 while G(v) = E(v, 0) still rises; J from 0 while
-// E(v, J) still rises with J (centrifugal turnover). Every level stays below the
-// dissociation energy D0 (electronic-states file) above the lowest level; without D0 it
-// stays below the top of the model's own G(v), the model's estimate of the
-// dissociation limit (levels above it are not bound in the model's own
-// picture). Term-values model: the vibrational levels of the record; the missing
-// ones are named and their share of Q is estimated (see Row.MissingShare).
-// Levels that cannot hold more than e⁻⁵⁰ of the molecules at the highest
-// temperature are not enumerated.
+// Each constants record (the ground state's, and each excited state's own)
+// is a level source: the vibrational levels the record describes, with their
+// energies and gradients from its model, and an extrapolation of the levels
+// it lacks (levelSource). A Dunham model with the anharmonic term Y20
+// describes every v. A term-values record, or a Dunham model without Y20,
+// describes its own levels; the others are extrapolated from them,
+//
+//	G(v) = T_a + P(v+½) − P(v_a+½),  P(u) = ω_e u − ω_e x_e u²,
+//	B_v = B_a + b₁(v − v_a),  D_v, H_v, … = the means over the record,
+//
+// a the nearest record level: ω_e and ω_e x_e fitted to the band origins of
+// three or more levels; from two levels ω_e = ΔG/(1 − x_e(v₀+v₁+1)) with x_e
+// = ω_e x_e/ω_e from a prior; from one level (pure rotation) ω_e from the
+// electronic-states file (omega_e) and x_e from the prior. The prior spans
+// x_e = 0.002 (heavy molecules) … 0.03 (hydrides), nominal 0.0077 (the
+// geometric centre). b₁ is the slope of the record's B_v (two or more
+// levels) or −α_e of the Pekeris relation α_e = 6√(ω_e x_e B³)/ω_e − 6B²/ω_e
+// (one level). The extrapolated levels enter the nominal sum, linear in the
+// record's values, so their statistical σ is carried like any other.
+//
+// Vibrational levels run from v = 0 while G(v) = E(v, 0) rises and B_v > 0;
+// rotational levels from J = 0 while E(v, J) rises (centrifugal turnover).
+// Every level of every state lies at most D0 + its products energy above the
+// lowest level (products_energy of the electronic-states file; 0: the ground
+// state's asymptote). D0 is the electronic-states file's dissociation_energy
+// (with dissociation_energy_sigma), or, without it, 0.86 × the linear
+// Birge–Sponer D0(LBS) = ω_e²/(4ω_e x_e) − G(0), with σ = 0.14 × D0(LBS): the
+// mean and spread of D0/D0(LBS) over the ground states of H2, HF, HCl, CO,
+// N2, O2, Cl2 and I2 (Huber & Herzberg 1979, from memory; the extrapolation
+// overestimates for most molecules). Where G(v) never turns over the sum is
+// still capped at that estimate (x_e at the prior's centre). Levels that
+// cannot hold more than e⁻⁵⁰ of the molecules at the highest temperature are
+// not enumerated.
+//
+// A record with a single vibrational level and no omega_e determines no
+// vibrational structure: the sum is refused (ErrCannotCompute) at the
+// temperatures where the vibrational levels could add more than 0.01
+// J mol⁻¹ K⁻¹ to Cp° (the harmonic contribution at a safe lower bound of
+// ω_e: the Kratzer estimate √(4B³/(D + 3σ_D)) divided by 1.5, or 20 cm⁻¹
+// without a determined D), and the NASA-7 fit is left out when its range
+// reaches them.
+//
+// # Uncertainty budget
+//
+// Every function f carries three σ: the statistical σ above (the fit's
+// covariance), σ_model for what the lines did not observe, and σ_total =
+// √(σ² + σ_model²). σ_model comes from named contributions, each the largest
+// |f_alternative − f_nominal| over its alternatives; contributions are
+// combined in quadrature as independent:
+//
+//   - vibrational_levels: x_e at the ends of its prior (the level sum
+//     recomputed; the dissociation estimate follows each x_e), or, where the
+//     record determines the anharmonicity, the next term of G(v) beyond the
+//     observed v at its expected size;
+//   - rotation_vibration: α_e at 0.5 and 1.5 times the Pekeris value (one
+//     level), or the next term of B_v beyond the observed v;
+//   - rotational_levels: the next centrifugal-distortion term beyond the
+//     highest J observed in each v (H ≈ D²/B after D; D = 4B³/ω_e² after B
+//     alone), which covers the extrapolation in J and the truncation of the
+//     series;
+//   - dissociation: D0 − σ and D0 + σ (the levels between the limits
+//     removed or added: the sum is enumerated once to the highest limit);
+//   - omega_e: ω_e ± σ of the electronic-states file (one level);
+//   - fine_structure: the spin components of an open-shell state split over
+//     its width W (fine_structure_width, or the embedded list of open-shell
+//     ground states), energies from the new lowest level.
+//
+// The next term of a series is estimated from its last two, c_(K+1) ≈
+// c_K²/c_(K−1) (common practice: an order of magnitude), and applied only
+// beyond the data, as c·[y^n − y_m^n − n y_m^(n−1)(y − y_m)] for y > y_m (the
+// part a fit up to y_m cannot absorb); these small perturbations are
+// evaluated to first order through the same analytic derivatives as the
+// statistical σ (Σ_i ∂f/∂E_i·δE_i), the others by recomputing the sum.
+// thermo.json names every contribution at every temperature; nasa7.json
+// states, per range, the largest σ_total of Cp, where it stays below 0.1
+// J mol⁻¹ K⁻¹, and where the model part dominates. The numbers are only as
+// good as this model: for safety or design work use reviewed reference data.
+//
+// # Open shells
+//
+// The models describe ¹Σ levels. A molecule of the embedded list of
+// diatomics whose ground state is not ¹Σ⁺ (O2, NO, OH, CH, CN, SO, ClO, NS,
+// NH, SH, S2, CF, BrO, any isotopologue; OpenShellGround) is refused without
+// electronic states (an error of kind failure.BadInput naming --states).
+// With them, the model's J is read as N and each N carries its 2S+1 spin
+// components at one energy; the fine-structure entry of the budget and a
+// warning state the size of what that neglects (for 16O2 the energy zero
+// sits at the centre of N = 1, about 2.6 cm⁻¹ above its lowest spin
+// component, so H°(T) − H°(0) is low by about 0.03 kJ mol⁻¹).
 package thermo

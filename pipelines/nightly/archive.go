@@ -1,6 +1,7 @@
 package nightly
 
 import (
+	"bufio"
 	"context"
 	"fmt"
 	"math"
@@ -153,7 +154,26 @@ func (a *archive) open() error {
 	if err != nil {
 		return err
 	}
-	return a.refresh()
+	if err := a.refresh(); err != nil {
+		return olderHistory(filepath.Join(a.dir, HistoryFile), err)
+	}
+	return nil
+}
+
+// olderHistory returns a clearer error than err when path is a history.csv
+// of an earlier version (its header lacks the model column).
+func olderHistory(path string, err error) error {
+	f, ferr := os.Open(path)
+	if ferr != nil {
+		return err
+	}
+	defer f.Close()
+	line, _ := bufio.NewReader(f).ReadString('\n')
+	rec, ok := parseLine(line)
+	if ok && sameHeader(rec, HistoryHeader[:len(HistoryHeader)-1]) {
+		return fmt.Errorf("nightly: %s was written by an earlier version of bandwright (its rows have no model column): move it aside, and bandwright starts a new history", path)
+	}
+	return err
 }
 
 func (a *archive) refresh() error {

@@ -779,3 +779,23 @@ func TestIncludeGlob(t *testing.T) {
 		t.Errorf("bad glob: %v", err)
 	}
 }
+
+// TestOlderHistoryRefused: a history.csv of an earlier version (no model
+// column) is refused with a message that says what to do; nothing is written.
+func TestOlderHistoryRefused(t *testing.T) {
+	dir := t.TempDir()
+	inbox, archive := filepath.Join(dir, "inbox"), filepath.Join(dir, "archive")
+	os.MkdirAll(inbox, 0o755)
+	os.MkdirAll(archive, 0o755)
+	old := strings.Join(nightly.HistoryHeader[:len(nightly.HistoryHeader)-1], ",") + "\n"
+	os.WriteFile(filepath.Join(archive, nightly.HistoryFile), []byte(old), 0o644)
+	_, err := nightly.Run(context.Background(), nightly.Options{Inbox: inbox, Archive: archive, Job: func(context.Context, nightly.Input, string) (*nightly.JobResult, error) {
+		return &nightly.JobResult{}, nil
+	}})
+	if err == nil || !strings.Contains(err.Error(), "earlier version of bandwright") || !strings.Contains(err.Error(), "move it aside") {
+		t.Errorf("%v", err)
+	}
+	if b, _ := os.ReadFile(filepath.Join(archive, nightly.HistoryFile)); string(b) != old {
+		t.Errorf("history.csv changed: %q", b)
+	}
+}
