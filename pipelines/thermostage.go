@@ -103,7 +103,10 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	s := thermo.Settings{Temperatures: temps, Composition: o.Composition, NuclearSpin: o.NuclearSpin,
-		MonteCarlo: o.MC, Seed: o.Seed, Workers: o.Workers, NASA: o.NASA}
+		MonteCarlo: o.MC, Seed: o.Seed, Workers: o.Workers, NASA: o.NASA,
+		// The default table: temperatures the sum cannot give honestly are
+		// left out and named; asked for one by one, they are refused.
+		OmitRefused: strings.TrimSpace(o.Temperatures) == "" && strings.TrimSpace(o.Range) == ""}
 	switch strings.ToLower(strings.ReplaceAll(o.Pressure, " ", "")) {
 	case "", "1bar":
 		s.Pressure = thermo.PressureBar

@@ -287,3 +287,57 @@ func indexOf(header []string, name string) int {
 	}
 	return -1
 }
+
+// TestThermoPureRotationTable: a microwave record (v = 0 only, no ω_e) with
+// the default table gives the temperatures where vibration cannot matter and
+// names the others; asked for 298.15 K explicitly, it refuses (exit 2,
+// naming --states and omega_e) and writes nothing.
+func TestThermoPureRotationTable(t *testing.T) {
+	dir := t.TempDir()
+	co := map[string]float64{"Y10": 2169.81358, "Y20": -13.28831, "Y01": 1.93128087, "Y11": -0.01750441, "Y02": -6.12147e-6}
+	var mw [][4]int
+	for j := 0; j <= 9; j++ {
+		mw = append(mw, [4]int{0, j + 1, 0, j})
+	}
+	lines := filepath.Join(dir, "mw.csv")
+	f, _ := os.Create(lines)
+	if err := linelist.Write(f, simLines(t, "12C16O", "mw.csv", co, mw, 0.05, true), nil); err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+	fit := filepath.Join(dir, "fit")
+	if _, err := RunFit(FitOptions{Inputs: []string{lines}, Model: "term-values", Terms: []string{"B", "D"}, Out: fit}); err != nil {
+		t.Fatal(err)
+	}
+	rec := filepath.Join(fit, constants.ConstantsFile)
+	oc, err := RunThermo(ThermoOptions{Constants: rec, Out: filepath.Join(dir, "table")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := oc.Result
+	if len(r.Rows) != 1 || r.Rows[0].T != 100 || r.NASA != nil || !strings.Contains(r.OmittedNote, "temperatures left out: 200, 298.15, … 6000") {
+		t.Errorf("default table: %d rows, NASA %v, %q", len(r.Rows), r.NASA, r.OmittedNote)
+	}
+	n7, _ := os.ReadFile(filepath.Join(dir, "table", constants.NASA7File))
+	if !strings.Contains(string(n7), `"omitted": "no NASA-7 fit`) {
+		t.Errorf("nasa7.json does not say why it has no fit:\n%s", n7)
+	}
+	out := filepath.Join(dir, "asked")
+	_, err = RunThermo(ThermoOptions{Constants: rec, Temperatures: "298.15", Out: out})
+	if failure.ExitCode(err) != 2 || !strings.Contains(err.Error(), "--states") || !strings.Contains(err.Error(), "omega_e") {
+		t.Errorf("asked for 298.15 K: exit %d, %v", failure.ExitCode(err), err)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Error("a refused table left a folder")
+	}
+	// The chain on the same lines: the report says which temperatures were
+	// left out, under At a glance.
+	run := filepath.Join(dir, "run")
+	if _, err := RunChain(ChainOptions{Inputs: []string{lines}, Out: run}); err != nil {
+		t.Fatal(err)
+	}
+	md, _ := os.ReadFile(filepath.Join(run, constants.ReportMarkdownFile))
+	if !strings.Contains(string(md), "Thermodynamic table: temperatures left out: 200, 298.15") {
+		t.Errorf("the report does not name the temperatures left out")
+	}
+}

@@ -198,7 +198,8 @@ func pureRotation(c hh) []linelist.Line {
 // TestBudgetPureRotation: a microwave record (v = 0 only) does not determine
 // the vibrational levels. Without ω_e thermo refuses the temperatures where
 // they could add more than 0.01 J mol⁻¹ K⁻¹ to Cp° (exit code 2, naming
-// --states and omega_e), and still gives those below. With ω_e ± σ in the
+// --states and omega_e), and still gives those below; a default table leaves
+// them out with a warning that names them. With ω_e ± σ in the
 // electronic-states file the truth lies within 2.5 σ_total at 1000 and 3000 K
 // (σ_total(Cp, 3000 K) ≤ 3 J mol⁻¹ K⁻¹).
 func TestBudgetPureRotation(t *testing.T) {
@@ -220,6 +221,14 @@ func TestBudgetPureRotation(t *testing.T) {
 		low, err := Compute(p, Settings{Temperatures: []float64{50, 100}})
 		if err != nil || low.NASA != nil || !strings.Contains(low.NASAOmitted, "vibrational levels are unknown") {
 			t.Fatalf("%s below the threshold: %v, NASA %v, %q", c.label, err, low.NASA, low.NASAOmitted)
+		}
+		// A default table nobody asked for temperature by temperature
+		// (OmitRefused): the temperatures above the threshold are left out
+		// and named instead.
+		def, err := Compute(p, Settings{Temperatures: []float64{100, ReferenceTemperature, 1000}, OmitRefused: true})
+		if err != nil || len(def.Rows) != 1 || def.Rows[0].T != 100 || len(def.Omitted) != 2 ||
+			!strings.Contains(strings.Join(def.Warnings, "\n"), "temperatures left out: 298.15, 1000 K") {
+			t.Fatalf("%s default table: %v, rows %d, omitted %v, %q", c.label, err, len(def.Rows), def.Omitted, def.Warnings)
 		}
 		x := defaultStates(mustParse(t, c.label))[0]
 		x.OmegaE, x.OmegaESigma = c.we, 1

@@ -51,6 +51,12 @@ type Settings struct {
 	Workers int
 	// NASA chooses the ranges of the NASA-7 fit.
 	NASA NASARanges
+	// OmitRefused leaves out of the table, with a warning that names them,
+	// the temperatures the sum refuses (a record without vibrational
+	// structure: see the package doc) instead of failing; for a default
+	// table that nobody asked for temperature by temperature. At least one
+	// temperature must remain.
+	OmitRefused bool
 }
 
 func (s Settings) nuclearSpin() string {
@@ -163,6 +169,10 @@ type Result struct {
 	NASA           *NASA7
 	// NASAOmitted says why there is no NASA-7 fit (empty when there is one).
 	NASAOmitted string
+	// Omitted lists the temperatures left out of the table (Settings.OmitRefused)
+	// and OmittedNote why.
+	Omitted     []float64
+	OmittedNote string
 	Warnings    []string
 	System      *System
 }
@@ -187,12 +197,18 @@ func Compute(p Problem, s Settings) (*Result, error) {
 		return nil, err
 	}
 	th := sys.vibrationThreshold()
-	if err := th.refuseAbove(s.Temperatures); err != nil {
-		return nil, err
+	temps, omitted := th.split(s.Temperatures)
+	if len(omitted) > 0 && (!s.OmitRefused || len(temps) == 0) {
+		return nil, th.refuseAbove(s.Temperatures)
 	}
+	s.Temperatures = temps
 	res := &Result{System: sys, States: sys.summaries, Zero: *sys.zp, Params: append([]string(nil), sys.names...),
 		Budget: sys.Contributions(), Dissociation: sys.dissociation}
 	res.Warnings = append(res.Warnings, sys.warnings...)
+	if len(omitted) > 0 {
+		res.Omitted, res.OmittedNote = omitted, th.omittedWarning(omitted)
+		res.Warnings = append(res.Warnings, res.OmittedNote)
+	}
 	res.Conventions = sys.conventions(s)
 
 	res.Rows = sys.Table(s.Temperatures, s.Workers)

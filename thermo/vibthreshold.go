@@ -96,21 +96,41 @@ func harmonicCpX(y float64) float64 {
 	return (lo + hi) / 2
 }
 
+// split returns the temperatures at or below the threshold and those above.
+func (th vibThreshold) split(temps []float64) (ok, above []float64) {
+	for _, t := range temps {
+		if t > th.T {
+			above = append(above, t)
+		} else {
+			ok = append(ok, t)
+		}
+	}
+	return ok, above
+}
+
+// listTemperatures writes temperatures for a message, shortened when long.
+func listTemperatures(ts []float64) string {
+	var s []string
+	for _, t := range ts {
+		s = append(s, fmt.Sprintf("%g", t))
+	}
+	if len(s) > 8 {
+		return fmt.Sprintf("%s, %s, … %s (%d temperatures)", s[0], s[1], s[len(s)-1], len(s))
+	}
+	return strings.Join(s, ", ")
+}
+
 // refuseAbove returns the error of the temperatures above the threshold (nil
 // when there are none).
 func (th vibThreshold) refuseAbove(temps []float64) error {
-	var bad []string
-	for _, t := range temps {
-		if t > th.T {
-			bad = append(bad, fmt.Sprintf("%g", t))
-		}
-	}
+	_, bad := th.split(temps)
 	if len(bad) == 0 {
 		return nil
 	}
-	list := strings.Join(bad, ", ")
-	if len(bad) > 8 {
-		list = fmt.Sprintf("%s, %s, … %s (%d temperatures)", bad[0], bad[1], bad[len(bad)-1], len(bad))
-	}
-	return cannot("%s. Refused: %s K. Give omega_e (with omega_e_sigma) for the state in an electronic-states file (--states), or ask only for temperatures ≤ %.4g K", th.why, list, th.T)
+	return cannot("%s. Refused: %s K. Give omega_e (with omega_e_sigma) for the state in an electronic-states file (--states), or ask only for temperatures ≤ %.4g K", th.why, listTemperatures(bad), th.T)
+}
+
+// omittedWarning states the temperatures left out of a default table.
+func (th vibThreshold) omittedWarning(omitted []float64) string {
+	return fmt.Sprintf("temperatures left out: %s K. %s. Give omega_e (with omega_e_sigma) for the state in an electronic-states file (--states) to have them", listTemperatures(omitted), th.why)
 }

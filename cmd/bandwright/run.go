@@ -94,7 +94,11 @@ func printChain(c *cli.Context, oc *pipelines.ChainOutcome) {
 	}
 	st := oc.Fit.Result.Stats
 	fmt.Fprintf(c.App.Writer, "fit: %s model, %d lines (%d used, %d rejected), s = %.3g, rms %.3g %s\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma, oc.Fit.Record.RMS(), oc.Fit.Record.ShownIn())
-	fmt.Fprintf(c.App.Writer, "thermo: %d temperatures\n", len(oc.Thermo.Result.Rows))
+	tr := oc.Thermo.Result
+	fmt.Fprintf(c.App.Writer, "thermo: %d temperatures\n", len(tr.Rows))
+	if tr.OmittedNote != "" {
+		fmt.Fprintln(c.App.ErrWriter, "warning: thermo:", tr.OmittedNote)
+	}
 	if oc.Assign != nil {
 		for _, w := range oc.Assign.Result.Warnings {
 			fmt.Fprintln(c.App.ErrWriter, "warning: assign:", w)

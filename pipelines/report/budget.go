@@ -64,6 +64,11 @@ func thermoGlance(s *section, th *thermoTable) {
 			s.para("Levels outside the data (v not observed, or J above the highest observed) carry up to %s of the partition function (at %s K).", relPercent(worst), num(at, 6))
 		}
 	}
+	for _, c := range th.comments {
+		if i := strings.Index(c, "temperatures left out:"); i >= 0 {
+			s.para("Thermodynamic table: %s.", strings.TrimSuffix(c[i:], "."))
+		}
+	}
 	s.para("The thermodynamic values are only as good as the model behind them; for safety or design work use reviewed reference data.")
 }
 
