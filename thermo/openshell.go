@@ -194,3 +194,28 @@ func (sys *System) fineMoments(beta float64, fs *fineStructure, acc *moments, st
 	}
 	acc.a0, acc.a1, acc.a2, acc.ext = a0, a1, a2, 0
 }
+
+// fineSizeWarning states the largest effect of the neglected fine structure
+// over the rows on H°(T) − H°(0) and S° (the fine_structure contribution of
+// the budget); "" when there is none.
+func fineSizeWarning(budget []Contribution, rows []Row) string {
+	k := -1
+	for i, c := range budget {
+		if c.Name == ContribFineStructure {
+			k = i
+		}
+	}
+	if k < 0 || len(rows) == 0 {
+		return ""
+	}
+	var h, s, th, ts float64
+	for _, r := range rows {
+		if m := r.Model[k]; m.HmH0 > h {
+			h, th = m.HmH0, r.T
+		}
+		if m := r.Model[k]; m.S > s {
+			s, ts = m.S, r.T
+		}
+	}
+	return fmt.Sprintf("fine structure neglected: over this table its effect reaches %.2g kJ mol-1 on H°(T)−H°(0) (at %g K) and %.2g J mol-1 K-1 on S° (at %g K); it is the fine_structure entry of σ_model", h, th, s, ts)
+}

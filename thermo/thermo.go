@@ -169,6 +169,9 @@ type Result struct {
 	NASA           *NASA7
 	// NASAOmitted says why there is no NASA-7 fit (empty when there is one).
 	NASAOmitted string
+	// FineStructure states the size of the neglected fine structure over the
+	// table ("" when no state has it).
+	FineStructure string
 	// Omitted lists the temperatures left out of the table (Settings.OmitRefused)
 	// and OmittedNote why.
 	Omitted     []float64
@@ -235,6 +238,10 @@ func Compute(p Problem, s Settings) (*Result, error) {
 		n7.addBudget(grid, gridRows)
 		res.NASA = n7
 		res.Warnings = append(res.Warnings, n7.budgetWarnings()...)
+	}
+	if w := fineSizeWarning(res.Budget, res.Rows); w != "" {
+		res.FineStructure = w
+		res.Warnings = append(res.Warnings, w)
 	}
 	res.ModelDominated = modelDominance(res.Rows)
 	res.Warnings = append(res.Warnings, sys.shareWarnings(res.Rows)...)

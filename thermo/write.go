@@ -265,6 +265,9 @@ func (r *Result) WriteNASA7(w io.Writer, prov constants.Provenance) error {
 	if r.NASA != nil {
 		out.Warnings = append(out.Warnings, r.NASA.budgetWarnings()...)
 	}
+	if r.FineStructure != "" {
+		out.Warnings = append(out.Warnings, r.FineStructure)
+	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(out)

@@ -65,8 +65,10 @@ func thermoGlance(s *section, th *thermoTable) {
 		}
 	}
 	for _, c := range th.comments {
-		if i := strings.Index(c, "temperatures left out:"); i >= 0 {
-			s.para("Thermodynamic table: %s.", strings.TrimSuffix(c[i:], "."))
+		for _, key := range []string{"temperatures left out:", "fine structure neglected: over this table"} {
+			if i := strings.Index(c, key); i >= 0 {
+				s.para("Thermodynamic table: %s.", strings.TrimSuffix(c[i:], "."))
+			}
 		}
 	}
 	s.para("The thermodynamic values are only as good as the model behind them; for safety or design work use reviewed reference data.")
