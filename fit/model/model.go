@@ -43,20 +43,27 @@ type Param struct {
 	Species string
 	// Element is the element symbol of a BOB parameter; empty otherwise.
 	Element string
+	// State is the label of the electronic state the parameter belongs to;
+	// empty for the ground state.
+	State string
 
 	Value, Sigma float64
 	Fixed        bool
 }
 
-// ID is the parameter's unique key, used in messages and in --fix:
-// "B_v1[13C16O]" (term values), "Y01" (Dunham), "BOB01_C" (breakdown).
+// ID is the parameter's unique key, used in messages, in --fix and in every
+// output: "B_v1[13C16O]" (term values), "Y01" (Dunham), "BOB01_C"
+// (breakdown), with the label of the electronic state and a colon in front
+// for a state other than the ground state: "A:T_v0[14N16O]", "A:Y01".
 func (p Param) ID() string {
-	switch {
-	case p.V >= 0:
-		return fmt.Sprintf("%s_v%d[%s]", p.Name, p.V, p.Species)
-	default:
-		return p.Name
+	id := p.Name
+	if p.V >= 0 {
+		id = p.Name + "_v" + strconv.Itoa(p.V) + "[" + p.Species + "]"
 	}
+	if p.State != "" {
+		id = p.State + ":" + id
+	}
+	return id
 }
 
 // Model is an energy-level model. Implementations are immutable and safe for
@@ -117,12 +124,14 @@ func Values(ps []Param) []float64 {
 	return v
 }
 
-// Fix is a user's request to hold parameters at a value: "D=6.1e-6" (every D),
-// "D_v1=…" (D of v=1 in every isotopologue), "D_v1[13C16O]=…", "Y02=…".
+// Fix is a user's request to hold parameters at a value: "D=6.1e-6" (every D
+// of the ground state), "D_v1=…" (D of v=1 in every isotopologue),
+// "D_v1[13C16O]=…", "Y02=…", "A:B_v0=…" (B of v=0 of electronic state A).
 type Fix struct {
-	Name    string // "D", "Y02", "BOB01_C"
+	Name    string // "D", "Y02", "BOB01_C", "gamma"
 	V       int    // -1: any level
 	Species string // empty: any isotopologue
+	State   string // label of the electronic state; empty: the ground state
 	Value   float64
 }
 
@@ -138,6 +147,12 @@ func ParseFix(s string) (Fix, error) {
 		return Fix{}, fmt.Errorf("model: --fix %q: value %q is not a finite number", s, val)
 	}
 	f := Fix{V: -1, Value: x}
+	if i := strings.IndexByte(name, ':'); i >= 0 {
+		f.State, name = name[:i], name[i+1:]
+		if f.State == "" {
+			return Fix{}, fmt.Errorf("model: --fix %q: write STATE:NAME with the state's label before the colon", s)
+		}
+	}
 	if i := strings.IndexByte(name, '['); i >= 0 {
 		if !strings.HasSuffix(name, "]") || i == len(name)-2 {
 			return Fix{}, fmt.Errorf("model: --fix %q: species must be written NAME[SPECIES]", s)
@@ -162,7 +177,7 @@ func ParseFix(s string) (Fix, error) {
 
 // Matches reports whether the fix applies to parameter p.
 func (f Fix) Matches(p Param) bool {
-	if f.Name != p.Name {
+	if f.Name != p.Name || f.State != p.State {
 		return false
 	}
 	if f.V >= 0 && f.V != p.V {
@@ -172,6 +187,33 @@ func (f Fix) Matches(p Param) bool {
 		return false
 	}
 	return true
+}
+
+// id writes the fix as the parameter IDs it matches are written.
+func (f Fix) id() string {
+	id := f.Name
+	if f.V >= 0 {
+		id += "_v" + strconv.Itoa(f.V)
+	}
+	if f.Species != "" {
+		id += "[" + f.Species + "]"
+	}
+	if f.State != "" {
+		id = f.State + ":" + id
+	}
+	return id
+}
+
+// groundFixes returns fixes with the ground state's label (ground) removed
+// from their state, so that "X:B=…" and "B=…" name the same parameters.
+func groundFixes(fixes []Fix, ground string) []Fix {
+	out := append([]Fix(nil), fixes...)
+	for i := range out {
+		if out[i].State == ground {
+			out[i].State = ""
+		}
+	}
+	return out
 }
 
 // applyFixes marks the parameters matched by fixes as fixed at their values and
@@ -188,14 +230,7 @@ func applyFixes(ps []Param, fixes []Fix) error {
 			}
 		}
 		if !hit {
-			id := f.Name
-			if f.V >= 0 {
-				id += "_v" + strconv.Itoa(f.V)
-			}
-			if f.Species != "" {
-				id += "[" + f.Species + "]"
-			}
-			unused = append(unused, id)
+			unused = append(unused, f.id())
 		}
 	}
 	if len(unused) > 0 {

@@ -65,7 +65,7 @@ func checkGradient(t *testing.T, m Model, p, step []float64, vs []int, jmax int)
 // TestTermValuesEnergyGradient checks E = T_v + B_v x − D_v x² + H_v x³ + L_v x⁴ and its
 // gradient against diff/fd for two isotopologues with different levels.
 func TestTermValuesEnergyGradient(t *testing.T) {
-	m, err := NewTermValues([]LevelSpec{{"12C16O", []int{0, 1, 2}}, {"13C16O", []int{1, 3}}}, []string{"B", "D", "H", "L"}, nil)
+	m, err := NewTermValues([]LevelSpec{{Species: "12C16O", V: []int{0, 1, 2}}, {Species: "13C16O", V: []int{1, 3}}}, []string{"B", "D", "H", "L"}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -263,7 +263,7 @@ func TestTransition(t *testing.T) {
 		t.Fatal(err)
 	}
 	dp := []float64{2990.946, -52.8186, 0.2243, 10.59341, -0.30718, -5.3194e-4, -1e-5, 0.3}
-	lm, err := NewTermValues([]LevelSpec{{"12C16O", []int{0, 1, 2}}, {"13C16O", []int{0, 1}}}, []string{"B", "D", "H"}, nil)
+	lm, err := NewTermValues([]LevelSpec{{Species: "12C16O", V: []int{0, 1, 2}}, {Species: "13C16O", V: []int{0, 1}}}, []string{"B", "D", "H"}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,0 +1,191 @@
+package model
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/diff/fd"
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/fit/states"
+)
+
+var (
+	stDoubletPi   = states.State{Label: "X", Multiplicity: 2, Lambda: 1}
+	stTripletSigM = states.State{Label: "X", Multiplicity: 3, Symmetry: states.Symmetry{Parity: 'g', Reflection: '-'}}
+	stDoubletSigP = states.State{Label: "X", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}}
+	stSingletPi   = states.State{Label: "A", Multiplicity: 1, Lambda: 1, TermEnergy: 65000}
+)
+
+// oneLevel builds a term-values model of state st with levels v = 0, 1 and
+// every constant of the case; values sets p by parameter name (the v = 1
+// level gets each value scaled by 0.98, T 1000 more).
+func oneLevel(t *testing.T, st states.State, values map[string]float64) (*TermValues, []float64) {
+	t.Helper()
+	terms := append([]string{"B", "D", "H"}, FineTerms(st.Case())...)
+	m, err := NewTermValuesStates([]states.State{st}, []LevelSpec{{Species: "14N16O", V: []int{0, 1}}}, terms, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ps := m.Params()
+	p := make([]float64, len(ps))
+	for i, q := range ps {
+		p[i] = values[q.Name]
+		if q.V == 1 {
+			p[i] *= 0.98
+			if q.Name == "T" {
+				p[i] = 1000
+			}
+		}
+	}
+	return m, p
+}
+
+var fineCases = []struct {
+	name string
+	st   states.State
+	vals map[string]float64
+}{
+	// NO X²Π and OH X²Π v = 0 (Huber & Herzberg 1979 and later microwave
+	// work, from memory), distortion constants exaggerated.
+	{"2Pi NO", stDoubletPi, map[string]float64{"B": 1.6961, "D": 5.4e-6, "H": 1e-11, "A": 123.14, "A_D": 1.9e-4, "gamma": -6e-3, "gamma_D": 1e-7, "p": 1.17e-2, "q": 6.7e-5, "p_D": 2e-6, "q_D": 1e-7}},
+	{"2Pi OH", stDoubletPi, map[string]float64{"B": 18.535, "D": 1.9e-3, "H": 1.4e-7, "A": -139.05, "A_D": -7e-3, "gamma": -0.119, "gamma_D": 1e-5, "p": 0.235, "q": -0.0387, "p_D": -2e-5, "q_D": 1.5e-5}},
+	// O2 X³Σg⁻ (the lead's recollection, from memory, in cm⁻¹).
+	{"3Sigma O2", stTripletSigM, map[string]float64{"B": 1.4377, "D": 4.84e-6, "H": 1e-12, "lambda": 1.9847, "lambda_D": 1.95e-6, "gamma": -8.425e-3, "gamma_D": -8e-9}},
+	{"2Sigma", stDoubletSigP, map[string]float64{"B": 1.8997, "D": 6.4e-6, "gamma": 7.25e-3, "gamma_D": 1e-7}},
+	{"1Pi", stSingletPi, map[string]float64{"B": 1.6115, "D": 7.3e-6, "q": -1.3e-5, "q_D": 2e-9}},
+}
+
+// TestLevelGradientMatchesFiniteDifferences checks the Hellmann–Feynman
+// gradients of LevelEnergy, LevelTransition and Sublevels against central
+// differences (gonum diff/fd), in units of a step of each parameter's size.
+func TestLevelGradientMatchesFiniteDifferences(t *testing.T) {
+	for _, c := range fineCases {
+		t.Run(c.name, func(t *testing.T) {
+			m, p := oneLevel(t, c.st, c.vals)
+			n := len(p)
+			step := make([]float64, n)
+			for j := range p {
+				step[j] = math.Max(math.Abs(p[j]), 1e-9)
+			}
+			x := make([]float64, n)
+			at := func(tv []float64) []float64 {
+				for j := range x {
+					x[j] = p[j] + step[j]*tv[j]
+				}
+				return x
+			}
+			check := func(what string, grad []float64, f func([]float64) float64) {
+				t.Helper()
+				num := make([]float64, n)
+				fd.Gradient(num, func(tv []float64) float64 { return f(at(tv)) }, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1e-4})
+				for j := range num {
+					if !scalar.EqualWithinAbsOrRel(grad[j]*step[j], num[j], 1e-7, 1e-6) {
+						t.Errorf("%s: ∂/∂%s = %g analytic, %g finite difference", what, m.Params()[j].ID(), grad[j], num[j]/step[j])
+					}
+				}
+			}
+			grad := make([]float64, n)
+			var levels []Level
+			m.Sublevels(0, 0, 1, 31, p, true, func(sl Sublevel) {
+				levels = append(levels, sl.Level)
+				e := m.LevelEnergy(0, sl.Level, p, grad)
+				if e != sl.E {
+					t.Errorf("Sublevels and LevelEnergy differ at %+v: %g, %g", sl.Level, sl.E, e)
+				}
+				for j := range grad {
+					if grad[j] != sl.Grad[j] {
+						t.Errorf("Sublevels and LevelEnergy gradients differ at %+v", sl.Level)
+						break
+					}
+				}
+			})
+			if len(levels) < 20 {
+				t.Fatalf("only %d levels enumerated", len(levels))
+			}
+			for i, lv := range levels {
+				if i%3 != 0 {
+					continue
+				}
+				m.LevelEnergy(0, lv, p, grad)
+				check("E", grad, func(q []float64) float64 { return m.LevelEnergy(0, lv, q, nil) })
+				lo := lv
+				lo.V = 0
+				m.LevelTransition(0, lv, lo, p, grad)
+				check("ν", grad, func(q []float64) float64 { nu, _ := m.LevelTransition(0, lv, lo, q, nil); return nu })
+			}
+		})
+	}
+}
+
+// TestDoubletPiHillVanVleck checks ²Π levels without Λ-doubling and
+// distortion against the Hill–Van Vleck formula (common practice),
+// F = B[(J+½)² − Λ² ∓ ½√(4(J+½)² + Y(Y−4)Λ²)], Y = A/B, F1 the lower sign.
+// The N² formulation counts the rotational energy from B·N² with N² = J(J+1)
+// + S(S+1) − 2ΩΣ, which lies BΛ² = B above the R² form of the formula.
+func TestDoubletPiHillVanVleck(t *testing.T) {
+	for _, c := range []struct{ A, B float64 }{{123.14, 1.6961}, {-139.05, 18.535}, {28.1, 14.19}, {-5, 10}} {
+		m, err := NewTermValuesStates([]states.State{stDoubletPi}, []LevelSpec{{Species: "1H16O", V: []int{0}}}, []string{"B", "A"}, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := []float64{0, c.B, c.A} // T, B, A
+		y := c.A / c.B
+		for j2 := 3; j2 <= 81; j2 += 2 {
+			x := float64(j2+1) / 2
+			root := 0.5 * math.Sqrt(4*x*x+y*(y-4))
+			for f, sgn := range []float64{-1, 1} {
+				want := c.B*(x*x-1+sgn*root) + c.B
+				for _, par := range []states.Parity{states.ParityE, states.ParityF} {
+					got := m.LevelEnergy(0, Level{J2: j2, F: f + 1, Parity: par}, p, nil)
+					if !scalar.EqualWithinAbsOrRel(got, want, 1e-9, 1e-12) {
+						t.Errorf("A=%g B=%g J=%s F%d: %.10g, Hill–Van Vleck %.10g", c.A, c.B, states.FormatJ(j2), f+1, got, want)
+					}
+				}
+			}
+		}
+	}
+}
+
+// TestTripletSigmaSchlapp checks ³Σ levels (γ = 0) against Schlapp's closed
+// forms (Phys. Rev. 51, 342 (1937); common practice), counted from the F2
+// level B·N(N+1), which the model places at B·N(N+1) + ⅔λ:
+//
+//	F1 (J = N+1) = BN(N+1) + (2N+3)B − λ − √((2N+3)²B² + λ² − 2λB)
+//	F3 (J = N−1) = BN(N+1) − (2N−1)B − λ + √((2N−1)²B² + λ² − 2λB)
+//
+// At J = 0 (N = 1, F3), which has no partner, the root stands for B − λ with
+// its sign: F3 = 2(B − λ) also when λ > B (the level of 16O2 from which the
+// line near 118.75 GHz starts).
+func TestTripletSigmaSchlapp(t *testing.T) {
+	for _, c := range []struct{ B, L float64 }{{1.4377, 1.9847}, {0.7, 5.3}, {0.5, -3}} {
+		m, err := NewTermValuesStates([]states.State{stTripletSigM}, []LevelSpec{{Species: "16O16O", V: []int{0}}}, []string{"B", "lambda"}, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := []float64{0, c.B, c.L}
+		B, l := c.B, c.L
+		for N := 0; N <= 40; N++ {
+			nf := float64(N)
+			base := B * nf * (nf + 1)
+			want := map[int]float64{
+				1: base + (2*nf+3)*B - l - math.Sqrt((2*nf+3)*(2*nf+3)*B*B+l*l-2*l*B),
+				2: base,
+				3: base - (2*nf-1)*B - l + math.Sqrt((2*nf-1)*(2*nf-1)*B*B+l*l-2*l*B),
+			}
+			if N == 1 {
+				want[3] = 2 * (B - l)
+			}
+			for f, w := range want {
+				J := N + 2 - f
+				if J < 0 || (N == 0 && f != 1) {
+					continue
+				}
+				got := m.LevelEnergy(0, Level{J2: 2 * J, F: f}, p, nil) - 2*l/3
+				if !scalar.EqualWithinAbsOrRel(got, w, 1e-9, 1e-12) {
+					t.Errorf("B=%g λ=%g N=%d F%d: %.10g, Schlapp %.10g", B, l, N, f, got, w)
+				}
+			}
+		}
+	}
+}
