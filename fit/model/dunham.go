@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"bandwright/fit/species"
+	"bandwright/fit/states"
 	"bandwright/units"
 )
 
@@ -32,7 +33,16 @@ import (
 // which is linear in the parameters and reduces to the plain mass scaling
 // without breakdown terms. Y00 is not part of the model: energies are measured
 // from the potential minimum.
+//
+// With electronic states (DunhamOptions.States) every state has its own Y_kl
+// ("A:Y01" for state A) and an excited state its term energy T_e between
+// potential minima ("A:T_e"); a state with fine structure has Dunham-type
+// expansions of its constants, X_v = X_e − α_X (v+½) (parameters "A_e",
+// "alpha_A", "gamma_e", …) and the v-independent distortion constants
+// ("A_D", "gamma_D", …), mass-scaled as the Y_kl (see dunhamfine.go and the
+// package doc). Breakdown terms belong to the ground state's Y_kl.
 type Dunham struct {
+	electronic
 	species  []string
 	isos     []species.Isotopologue
 	terms    [][2]int // (k, l) of each Y parameter, parameter index = term index
@@ -45,6 +55,9 @@ type Dunham struct {
 	bob  [][]bobTerm
 	maxK int
 	maxL int
+	// contrib lists, per electronic state, every contribution of a parameter
+	// to an effective constant of a vibronic level (see dunhamfine.go).
+	contrib [][]contribution
 }
 
 type bobTerm struct {
@@ -76,10 +89,17 @@ func BOBName(k, l int, element string) string { return fmt.Sprintf("BOB%d%d_%s",
 
 // DunhamOptions chooses the terms of a Dunham model.
 type DunhamOptions struct {
-	Terms     []string // "Y10", "Y01", …
+	// Terms are "Y10", "Y01", … and the fine-structure terms ("A_e",
+	// "alpha_A", "gamma_D", …), each "NAME" or "STATE:NAME": a state whose
+	// label prefixes some term has exactly those, every other state the
+	// unprefixed ones its case has.
+	Terms     []string
 	BOBTerms  []string // terms that get breakdown parameters for each substituted element
 	Reference int      // index of the reference isotopologue
 	Fixes     []Fix
+	// States are the electronic states, the ground state first; nil: a ¹Σ⁺
+	// ground state alone.
+	States []states.State
 }
 
 // NewDunham builds a Dunham model for the isotopologues isos (all of one
@@ -90,7 +110,15 @@ func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := m.setTerms(o.Terms, o.Fixes); err != nil {
+	if m.electronic, err = newElectronic(o.States); err != nil {
+		return nil, err
+	}
+	fixes := groundFixes(o.Fixes, m.states[0].Label)
+	lists, err := m.dunhamTermLists(o.Terms, fixes)
+	if err != nil {
+		return nil, err
+	}
+	if err := m.setTerms(lists[0].ys, nil); err != nil {
 		return nil, err
 	}
 	if len(o.BOBTerms) > 0 {
@@ -98,7 +126,10 @@ func NewDunham(isos []species.Isotopologue, o DunhamOptions) (*Dunham, error) {
 			return nil, err
 		}
 	}
-	if err := applyFixes(m.params, o.Fixes); err != nil {
+	if err := m.addStates(lists); err != nil {
+		return nil, err
+	}
+	if err := applyFixes(m.params, fixes); err != nil {
 		return nil, err
 	}
 	return m, nil

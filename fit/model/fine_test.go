@@ -189,3 +189,119 @@ func TestTripletSigmaSchlapp(t *testing.T) {
 		}
 	}
 }
+
+// nitricOxide is a two-state Dunham model of NO: X²Π (Y_kl, the
+// fine-structure expansions) and A²Σ⁺ (T_e, Y_kl, γ) for 14N16O and 15N16O,
+// with constants of the size of Huber & Herzberg's (1979, from memory).
+func nitricOxide(t *testing.T) (*Dunham, []float64, map[string]float64) {
+	t.Helper()
+	x := stDoubletPi
+	a := states.State{Label: "A", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}, TermEnergy: 43965.7}
+	m, err := NewDunham(mustIsos(t, "14N16O", "15N16O"), DunhamOptions{
+		States: []states.State{x, a},
+		Terms: []string{"Y10", "Y20", "Y01", "Y11", "Y02", "A_e", "alpha_A", "A_D", "gamma_e", "p_e", "alpha_p", "q_e", "p_D", "q_D",
+			"A:Y10", "A:Y20", "A:Y01", "A:Y11", "A:Y02", "A:gamma_e", "A:alpha_gamma", "A:gamma_D"},
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vals := map[string]float64{
+		"Y10": 1904.2, "Y20": -14.075, "Y01": 1.67195, "Y11": -0.0171, "Y02": -5.4e-6,
+		"A_e": 123.28, "alpha_A": 0.19, "A_D": 1.9e-4, "gamma_e": -6e-3, "p_e": 1.17e-2, "alpha_p": 1e-4, "q_e": 6.7e-5, "p_D": 2e-7, "q_D": 1e-8,
+		"A:T_e": 43965.7, "A:Y10": 2374.31, "A:Y20": -16.106, "A:Y01": 1.9965, "A:Y11": -0.01915, "A:Y02": -5.4e-6,
+		"A:gamma_e": -2.7e-3, "A:alpha_gamma": 1e-5, "A:gamma_D": 1e-8,
+	}
+	ps := m.Params()
+	p := make([]float64, len(ps))
+	for i, q := range ps {
+		v, ok := vals[q.ID()]
+		if !ok {
+			t.Fatalf("no value for %s", q.ID())
+		}
+		p[i] = v
+	}
+	return m, p, vals
+}
+
+// TestDunhamFineStructure checks the Dunham model with electronic states
+// against a term-values model given the effective constants of each level
+// (X_v = X_e − α_X(v+½), mass-scaled with (μ_r/μ_s)^((k+2l)/2), l the
+// rotational order of each constant), and its gradients against finite
+// differences.
+func TestDunhamFineStructure(t *testing.T) {
+	m, p, vals := nitricOxide(t)
+	if m.Linear() {
+		t.Error("a model with a 2Pi state reports itself linear")
+	}
+	for s, label := range m.Species() {
+		for st, state := range m.States() {
+			for v := 0; v <= 2; v++ {
+				r := m.Scale(s, 1, 0) // (μ_r/μ_s)^½
+				vh := float64(v) + 0.5
+				pre := ""
+				if st > 0 {
+					pre = "A:"
+				}
+				y := func(k, l int) float64 {
+					return vals[pre+DunhamName(k, l)] * math.Pow(r, float64(k+2*l))
+				}
+				c := map[string]float64{
+					"T": vals[pre+"T_e"] + y(1, 0)*vh + y(2, 0)*vh*vh,
+					"B": y(0, 1) + y(1, 1)*vh, "D": -(y(0, 2)),
+					"A": vals["A_e"] - vals["alpha_A"]*r*vh, "A_D": vals["A_D"] * r * r,
+					"gamma": vals[pre+"gamma_e"]*r*r - vals[pre+"alpha_gamma"]*r*r*r*vh, "gamma_D": vals[pre+"gamma_D"] * math.Pow(r, 4),
+					"p": vals["p_e"]*r*r - vals["alpha_p"]*r*r*r*vh, "q": vals["q_e"] * math.Pow(r, 4),
+					"p_D": vals["p_D"] * math.Pow(r, 4), "q_D": vals["q_D"] * math.Pow(r, 6),
+				}
+				terms := append([]string{"B", "D"}, FineTerms(state.Case())...)
+				tv, err := NewTermValuesStates([]states.State{state}, []LevelSpec{{Species: label, V: []int{v}}}, terms, nil)
+				if err != nil {
+					t.Fatal(err)
+				}
+				tp := make([]float64, len(tv.Params()))
+				for i, q := range tv.Params() {
+					tp[i] = c[q.Name]
+				}
+				n := 0
+				m.Sublevels(s, st, v, 61, p, false, func(sl Sublevel) {
+					lv := sl.Level
+					lv.State = 0
+					want := tv.LevelEnergy(0, lv, tp, nil)
+					if !scalar.EqualWithinAbsOrRel(sl.E, want, 1e-8, 1e-12) {
+						t.Errorf("%s %s v=%d J=%s F%d %s: Dunham %.10g, term values %.10g", label, state.Label, v, states.FormatJ(sl.J2), sl.F, sl.Parity, sl.E, want)
+					}
+					n++
+				})
+				if n < 60 {
+					t.Errorf("%s %s v=%d: %d levels", label, state.Label, v, n)
+				}
+			}
+		}
+	}
+	// Gradients of a band of the A–X system and of a rotational line in X.
+	n := len(p)
+	grad := make([]float64, n)
+	for _, c := range [][2]Level{
+		{{State: 1, V: 1, J2: 11, F: 2}, {State: 0, V: 0, J2: 9, F: 1, Parity: states.ParityF}},
+		{{State: 0, V: 1, J2: 21, F: 2, Parity: states.ParityE}, {State: 0, V: 1, J2: 19, F: 1, Parity: states.ParityE}},
+	} {
+		for s := range m.Species() {
+			m.LevelTransition(s, c[0], c[1], p, grad)
+			num := make([]float64, n)
+			x := make([]float64, n)
+			f := func(tv []float64) float64 {
+				for j := range x {
+					x[j] = p[j] + math.Abs(p[j])*tv[j]
+				}
+				nu, _ := m.LevelTransition(s, c[0], c[1], x, nil)
+				return nu
+			}
+			fd.Gradient(num, f, make([]float64, n), &fd.Settings{Formula: fd.Central, Step: 1e-4})
+			for j := range num {
+				if !scalar.EqualWithinAbsOrRel(grad[j]*math.Abs(p[j]), num[j], 1e-7, 1e-6) {
+					t.Errorf("%+v: ∂ν/∂%s = %g analytic, %g finite difference", c, m.Params()[j].ID(), grad[j], num[j]/math.Abs(p[j]))
+				}
+			}
+		}
+	}
+}

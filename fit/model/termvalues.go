@@ -403,16 +403,38 @@ func (m *TermValues) vibGradient(s, st, v int, dE *[nQ]float64, w float64, grad 
 
 // LevelEnergy implements LevelModel.
 func (m *TermValues) LevelEnergy(s int, lv Level, p []float64, grad []float64) float64 {
+	if m.closedShell() {
+		if lv.State != 0 || lv.J2%2 != 0 {
+			if grad != nil {
+				clear(grad)
+			}
+			return math.NaN()
+		}
+		return m.Energy(s, lv.V, lv.J2/2, p, grad)
+	}
 	return m.levelEnergy(m, s, lv, p, grad)
 }
 
 // LevelTransition implements LevelModel.
 func (m *TermValues) LevelTransition(s int, up, lo Level, p []float64, grad []float64) (nu, mag float64) {
+	if m.closedShell() {
+		if up.State != 0 || lo.State != 0 || up.J2%2 != 0 || lo.J2%2 != 0 {
+			if grad != nil {
+				clear(grad)
+			}
+			return math.NaN(), math.NaN()
+		}
+		return m.Transition(s, up.V, up.J2/2, lo.V, lo.J2/2, p, grad)
+	}
 	return m.levelTransition(m, s, up, lo, p, grad)
 }
 
 // Sublevels implements LevelModel.
 func (m *TermValues) Sublevels(s, st, v, j2max int, p []float64, withGrad bool, fn func(Sublevel)) {
+	if m.closedShell() {
+		closedSublevels(m, s, v, j2max, p, withGrad, fn)
+		return
+	}
 	m.sublevels(m, len(m.params), s, st, v, j2max, p, withGrad, fn)
 }
 
