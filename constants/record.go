@@ -22,7 +22,7 @@ import (
 )
 
 // Schema is the schema tag of constants records this version writes and reads.
-const Schema = "bandwright.constants/1"
+const Schema = "bandwright.constants/2"
 
 // CovarianceConvention states how σ and the covariance are scaled, written
 // into every record.
@@ -40,20 +40,27 @@ type Record struct {
 	DisplayUnit      string   `json:"display_unit,omitempty"`
 	Species          []string `json:"species"`
 	ReferenceSpecies string   `json:"reference_species,omitempty"`
-	Parameters       []Param  `json:"parameters"`
+	// States are the electronic states the model describes, the ground state
+	// first; absent when the fit had no electronic-states file (a ¹Σ⁺ ground
+	// state, labelled X).
+	States     []State `json:"states,omitempty"`
+	Parameters []Param `json:"parameters"`
 	// Covariance and Correlation cover the fitted (not fixed) parameters in
 	// their order in Parameters.
-	Covariance           [][]float64  `json:"covariance"`
-	Correlation          [][]float64  `json:"correlation"`
-	CovarianceConvention string       `json:"covariance_convention"`
-	Stats                Stats        `json:"stats"`
-	Status               string       `json:"status"`
-	Bands                []Band       `json:"bands"`
-	Observed             []LevelRange `json:"levels_observed"`
-	Derived              []Derived    `json:"derived"`
-	Rounding             *Rounding    `json:"rounding,omitempty"`
-	Warnings             []string     `json:"warnings"`
-	Provenance           Provenance   `json:"provenance"`
+	Covariance           [][]float64 `json:"covariance"`
+	Correlation          [][]float64 `json:"correlation"`
+	CovarianceConvention string      `json:"covariance_convention"`
+	Stats                Stats       `json:"stats"`
+	Status               string      `json:"status"`
+	// Convergence describes the iterations of a nonlinear fit (fine
+	// structure, calibration factors); absent for a linear one.
+	Convergence *Convergence `json:"convergence,omitempty"`
+	Bands       []Band       `json:"bands"`
+	Observed    []LevelRange `json:"levels_observed"`
+	Derived     []Derived    `json:"derived"`
+	Rounding    *Rounding    `json:"rounding,omitempty"`
+	Warnings    []string     `json:"warnings"`
+	Provenance  Provenance   `json:"provenance"`
 }
 
 // Param is one parameter in a record: a model parameter (term-values or Dunham
@@ -65,7 +72,8 @@ type Param struct {
 	L       *int    `json:"l,omitempty"`
 	Species string  `json:"species,omitempty"`
 	Element string  `json:"element,omitempty"`
-	File    string  `json:"file,omitempty"` // calibration factors
+	State   string  `json:"state,omitempty"` // electronic state; empty: the ground state
+	File    string  `json:"file,omitempty"`  // calibration factors
 	Value   float64 `json:"value"`
 	Sigma   float64 `json:"sigma"`
 	Fixed   bool    `json:"fixed"`
@@ -78,16 +86,44 @@ type Param struct {
 
 // ID is the parameter's name as --fix takes it and as every output writes
 // it: "B_v1[13C16O]" (term values), "Y01" (Dunham), "BOB01_C" (breakdown),
-// "kappa[FILE]" (calibration factor). It equals model.Param.ID of the model
-// parameter.
+// "A:T_v0[14N16O]" (a parameter of electronic state A), "kappa[FILE]"
+// (calibration factor). It equals model.Param.ID of the model parameter.
 func (p Param) ID() string {
+	id := p.Name
 	switch {
 	case p.Name == kappa:
 		return kappa + "[" + p.File + "]"
 	case p.V != nil:
-		return p.Name + "_v" + strconv.Itoa(*p.V) + "[" + p.Species + "]"
+		id = p.Name + "_v" + strconv.Itoa(*p.V) + "[" + p.Species + "]"
 	}
-	return p.Name
+	if p.State != "" {
+		id = p.State + ":" + id
+	}
+	return id
+}
+
+// State is an electronic state in a record: its label, spin multiplicity
+// 2S+1, |Λ| and symmetry ("g-", "+", "u", "").
+type State struct {
+	Label        string `json:"label"`
+	Multiplicity int    `json:"multiplicity"`
+	Lambda       int    `json:"lambda"`
+	Symmetry     string `json:"symmetry,omitempty"`
+}
+
+// Convergence describes the iterations of a nonlinear fit.
+type Convergence struct {
+	// Method is "Gauss–Newton" or "Levenberg–Marquardt" (when a step had
+	// to be damped).
+	Method string `json:"method"`
+	// Iterations counts the QR solves of the linearised problem, over every
+	// starting point and rejection pass.
+	Iterations int `json:"iterations"`
+	// Starts is the number of starting points tried.
+	Starts int `json:"starts"`
+	// FinalStep is the largest |Δp_j|/σ_j of the last step.
+	FinalStep float64 `json:"final_step_sigma"`
+	Converged bool    `json:"converged"`
 }
 
 // Provenance says where a record came from.

@@ -10,6 +10,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/fit/states"
 )
 
 // Set is a record turned back into a model that can be evaluated, with the
@@ -54,7 +55,11 @@ func (rec *Record) Constants() (*Set, error) {
 	if err := checkCovariance(rec.Parameters, rec.Covariance); err != nil {
 		return nil, err
 	}
-	m, err := rebuildModel(rec.Model, rec.Species, modelParams)
+	sts, err := rec.modelStates()
+	if err != nil {
+		return nil, err
+	}
+	m, err := rebuildModel(rec.Model, rec.Species, sts, modelParams)
 	if err != nil {
 		return nil, err
 	}
@@ -121,18 +126,55 @@ func checkCovarianceShape(cov [][]float64, n int) error {
 	return nil
 }
 
-// rebuildModel builds the model of kind over the species from the record's
-// model parameters.
-func rebuildModel(kind string, sp []string, ps []Param) (model.Model, error) {
+// modelStates returns the record's electronic states as the models take
+// them (nil when the record has none).
+func (rec *Record) modelStates() ([]states.State, error) {
+	var out []states.State
+	for i, s := range rec.States {
+		y, err := states.ParseSymmetry(s.Symmetry)
+		if err != nil {
+			return nil, fmt.Errorf("states: entry %d (%s): symmetry: %w", i+1, s.Label, err)
+		}
+		out = append(out, states.State{Label: s.Label, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: y})
+	}
+	return out, nil
+}
+
+// RecordStates returns the states of a model as a record writes them: nil for
+// a model of a ¹Σ⁺ ground state alone with the default label.
+func RecordStates(m model.Model) []State {
+	lm, ok := m.(model.LevelModel)
+	if !ok {
+		return nil
+	}
+	sts := lm.States()
+	if len(sts) == 1 && sts[0] == states.Ground() {
+		return nil
+	}
+	out := make([]State, len(sts))
+	for i, s := range sts {
+		out[i] = State{Label: s.Label, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry.String()}
+	}
+	return out
+}
+
+// rebuildModel builds the model of kind over the species and electronic
+// states from the record's model parameters.
+func rebuildModel(kind string, sp []string, sts []states.State, ps []Param) (model.Model, error) {
+	for _, p := range ps {
+		if p.State != "" && states.Index(sts, p.State) < 1 {
+			return nil, fmt.Errorf("parameters: %s: state %q is not an excited state of the record's states", p.Name, p.State)
+		}
+	}
 	switch kind {
 	case model.KindTermValues:
-		m, err := termValuesFromRecord(sp, ps)
+		m, err := termValuesFromRecord(sp, sts, ps)
 		if err != nil {
 			return nil, err
 		}
 		return m, nil
 	case model.KindDunham:
-		m, err := dunhamFromRecord(sp, ps)
+		m, err := dunhamFromRecord(sp, sts, ps)
 		if err != nil {
 			return nil, err
 		}
@@ -152,7 +194,7 @@ func newSet(m model.Model, kind string, modelParams []Param, fittedModel []int, 
 	c := &Set{Model: m}
 	for i := range ps {
 		rp := modelParams[i]
-		if ps[i].Name != rp.Name || (rp.Species != "" && ps[i].Species != rp.Species && ps[i].Element == "") {
+		if ps[i].Name != rp.Name || ps[i].State != rp.State || (rp.Species != "" && ps[i].Species != rp.Species && ps[i].Element == "") {
 			return nil, fmt.Errorf("parameters: entry %d (%s) is out of the model's order", i+1, rp.Name)
 		}
 		ps[i].Value, ps[i].Sigma, ps[i].Fixed = rp.Value, rp.Sigma, rp.Fixed
@@ -176,9 +218,16 @@ func newSet(m model.Model, kind string, modelParams []Param, fittedModel []int, 
 	return c, nil
 }
 
-func termValuesFromRecord(sp []string, ps []Param) (*model.TermValues, error) {
-	levels := map[string][]int{}
-	terms := map[string]bool{}
+// termValuesFromRecord rebuilds a term-values model: the levels of each
+// species and state from its T_v, the constants of each state from their
+// names.
+func termValuesFromRecord(sp []string, sts []states.State, ps []Param) (*model.TermValues, error) {
+	nst := max(len(sts), 1)
+	levels := make([]map[string][]int, nst)
+	terms := make([][]string, nst)
+	for i := range levels {
+		levels[i] = map[string][]int{}
+	}
 	for _, p := range ps {
 		if p.V == nil {
 			return nil, fmt.Errorf("parameters: %s has no v (term-values model)", p.Name)
@@ -186,10 +235,11 @@ func termValuesFromRecord(sp []string, ps []Param) (*model.TermValues, error) {
 		if *p.V < 0 || *p.V > linelist.MaxV {
 			return nil, fmt.Errorf("parameters: %s: v = %d is outside 0…%d", p.Name, *p.V, linelist.MaxV)
 		}
+		st := max(states.Index(sts, p.State), 0)
 		if p.Name == "T" {
-			levels[p.Species] = append(levels[p.Species], *p.V)
-		} else {
-			terms[p.Name] = true
+			levels[st][p.Species] = append(levels[st][p.Species], *p.V)
+		} else if !contains(terms[st], p.Name) {
+			terms[st] = append(terms[st], p.Name)
 		}
 	}
 	var specs []model.LevelSpec
@@ -197,21 +247,46 @@ func termValuesFromRecord(sp []string, ps []Param) (*model.TermValues, error) {
 		if _, err := species.Parse(s); err != nil {
 			return nil, err
 		}
-		if len(levels[s]) == 0 {
+		if len(levels[0][s]) == 0 {
 			return nil, fmt.Errorf("species: %s has no term values T in the record", s)
 		}
-		specs = append(specs, model.LevelSpec{Species: s, V: levels[s]})
-	}
-	var ts []string
-	for _, t := range model.RotTerms() {
-		if terms[t] {
-			ts = append(ts, t)
+		for st := range levels {
+			if len(levels[st][s]) > 0 {
+				specs = append(specs, model.LevelSpec{Species: s, State: st, V: levels[st][s]})
+			}
 		}
 	}
-	return model.NewTermValues(specs, ts, nil)
+	if len(sts) == 0 {
+		var ts []string
+		for _, t := range model.RotTerms() {
+			if contains(terms[0], t) {
+				ts = append(ts, t)
+			}
+		}
+		return model.NewTermValues(specs, ts, nil)
+	}
+	return model.NewTermValuesStates(sts, specs, prefixed(sts, terms), nil)
 }
 
-func dunhamFromRecord(sp []string, ps []Param) (*model.Dunham, error) {
+// prefixed writes the term list of each state with the state's label in
+// front ("A:B"), so that each state gets exactly its own terms; a state
+// without terms gets "T" (accepted and ignored).
+func prefixed(sts []states.State, terms [][]string) []string {
+	var out []string
+	for st, ts := range terms {
+		if len(ts) == 0 {
+			ts = []string{"T"}
+		}
+		for _, t := range ts {
+			out = append(out, sts[st].Label+":"+t)
+		}
+	}
+	return out
+}
+
+// dunhamFromRecord rebuilds a Dunham model: the Y_kl and fine-structure terms
+// of each state and the breakdown terms of the ground state.
+func dunhamFromRecord(sp []string, sts []states.State, ps []Param) (*model.Dunham, error) {
 	var isos []species.Isotopologue
 	for _, s := range sp {
 		iso, err := species.Parse(s)
@@ -220,28 +295,39 @@ func dunhamFromRecord(sp []string, ps []Param) (*model.Dunham, error) {
 		}
 		isos = append(isos, iso)
 	}
-	var terms, bob []string
+	nst := max(len(sts), 1)
+	terms := make([][]string, nst)
+	var bob []string
 	for _, p := range ps {
-		if p.K == nil || p.L == nil {
-			return nil, fmt.Errorf("parameters: %s has no k, l (Dunham model)", p.Name)
-		}
-		if p.Element == "" {
-			if k, l, err := model.ParseDunhamTerm(p.Name); err != nil || k != *p.K || l != *p.L {
-				return nil, fmt.Errorf("parameters: %s: k = %d, l = %d do not match the name", p.Name, *p.K, *p.L)
+		st := max(states.Index(sts, p.State), 0)
+		switch {
+		case p.Name == "T_e":
+			continue
+		case p.Element != "":
+			if p.K == nil || p.L == nil || *p.K < 0 || *p.K > 9 || *p.L < 0 || *p.L > 9 {
+				return nil, fmt.Errorf("parameters: %s: k and l must be single digits", p.Name)
 			}
-		} else if *p.K < 0 || *p.K > 9 || *p.L < 0 || *p.L > 9 {
-			return nil, fmt.Errorf("parameters: %s: k = %d, l = %d must be single digits", p.Name, *p.K, *p.L)
-		}
-		if p.Element != "" {
-			n := model.DunhamName(*p.K, *p.L)
-			if !contains(bob, n) {
+			if n := model.DunhamName(*p.K, *p.L); !contains(bob, n) {
 				bob = append(bob, n)
 			}
 			continue
+		case p.L != nil:
+			if p.K == nil {
+				return nil, fmt.Errorf("parameters: %s has no k, l (Dunham model)", p.Name)
+			}
+			if k, l, err := model.ParseDunhamTerm(p.Name); err != nil || k != *p.K || l != *p.L {
+				return nil, fmt.Errorf("parameters: %s: k = %d, l = %d do not match the name", p.Name, *p.K, *p.L)
+			}
+		case p.K == nil:
+			return nil, fmt.Errorf("parameters: %s has no k, l (Dunham model)", p.Name)
 		}
-		terms = append(terms, p.Name)
+		terms[st] = append(terms[st], p.Name)
 	}
-	return model.NewDunham(isos, model.DunhamOptions{Terms: terms, BOBTerms: bob})
+	o := model.DunhamOptions{Terms: terms[0], BOBTerms: bob}
+	if len(sts) > 0 {
+		o.States, o.Terms = sts, prefixed(sts, terms)
+	}
+	return model.NewDunham(isos, o)
 }
 
 func contains(xs []string, s string) bool {
@@ -285,4 +371,67 @@ func (c *Set) FreeValues() []float64 {
 		x[k] = c.Values[j]
 	}
 	return x
+}
+
+// States returns the electronic states of the model, the ground state first
+// (a ¹Σ⁺ ground state labelled X for a record without states).
+func (c *Set) States() []states.State {
+	if lm, ok := c.Model.(model.LevelModel); ok {
+		return lm.States()
+	}
+	return []states.State{states.Ground()}
+}
+
+// freeGradient stores the entries of the full gradient g that belong to the
+// fitted parameters, in covariance order, in gradFree.
+func (c *Set) freeGradient(g, gradFree []float64) {
+	for k, j := range c.Free {
+		gradFree[k] = g[j]
+	}
+}
+
+// LevelEnergy returns E of level lv of species s in cm⁻¹ (NaN for a level the
+// model does not have) and, when gradFree is not nil, ∂E/∂p for each fitted
+// parameter in covariance order.
+func (c *Set) LevelEnergy(s int, lv model.Level, gradFree []float64) float64 {
+	lm := c.Model.(model.LevelModel)
+	if gradFree == nil {
+		return lm.LevelEnergy(s, lv, c.Values, nil)
+	}
+	g := make([]float64, len(c.Values))
+	e := lm.LevelEnergy(s, lv, c.Values, g)
+	c.freeGradient(g, gradFree)
+	return e
+}
+
+// Sublevels calls fn for every level of vibrational level v of electronic
+// state st (index into States) of species s with J ≤ j2max/2, in increasing
+// J: every fine-structure and Λ-doubling component, with its J (as 2J), the
+// case-(b) N, F, parity and energy in cm⁻¹ from the model's zero. With
+// withGrad, Sublevel.Grad holds ∂E/∂p for each fitted parameter in covariance
+// order (a slice reused between calls: copy what must be kept); otherwise it
+// is nil. A level the model has no parameters for gives no call.
+//
+// This is how the thermo stage sums over levels:
+//
+//	for st := range set.States() {
+//		for v := 0; v <= vmax; v++ {
+//			set.Sublevels(s, st, v, 2*jmax, true, func(l model.Sublevel) {
+//				g := float64(l.J2 + 1) // 2J+1
+//				… l.E, l.Grad …
+//			})
+//		}
+//	}
+func (c *Set) Sublevels(s, st, v, j2max int, withGrad bool, fn func(model.Sublevel)) {
+	lm := c.Model.(model.LevelModel)
+	if !withGrad {
+		lm.Sublevels(s, st, v, j2max, c.Values, false, fn)
+		return
+	}
+	free := make([]float64, len(c.Free))
+	lm.Sublevels(s, st, v, j2max, c.Values, true, func(l model.Sublevel) {
+		c.freeGradient(l.Grad, free)
+		l.Grad = free
+		fn(l)
+	})
 }

@@ -18,6 +18,7 @@ func NewRecord(r *Result) *constants.Record {
 		Bands: r.Bands, Observed: r.Observed, Derived: r.Derived, Rounding: r.Rounding,
 		Warnings:             append([]string{}, r.Warnings...),
 		CovarianceConvention: constants.CovarianceConvention,
+		States:               constants.RecordStates(r.Model),
 	}
 	if rec.Model == model.KindDunham {
 		rec.ReferenceSpecies = rec.Species[0]
@@ -27,7 +28,7 @@ func NewRecord(r *Result) *constants.Record {
 		unconnected[j] = true
 	}
 	for j, p := range r.Params {
-		rp := constants.Param{Name: p.Name, Species: p.Species, Element: p.Element, Value: p.Value, Sigma: p.Sigma, Fixed: p.Fixed, Unconnected: unconnected[j]}
+		rp := constants.Param{Name: p.Name, Species: p.Species, Element: p.Element, State: p.State, Value: p.Value, Sigma: p.Sigma, Fixed: p.Fixed, Unconnected: unconnected[j]}
 		if p.V >= 0 {
 			rp.V = intp(p.V)
 		}

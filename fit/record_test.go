@@ -121,7 +121,7 @@ func TestRecordRefusals(t *testing.T) {
 		data []byte
 		want []string
 	}{
-		{"newer", edit(func(m map[string]any) { m["schema"] = "bandwright.constants/2" }), []string{"c.json", "schema", "newer"}},
+		{"newer", edit(func(m map[string]any) { m["schema"] = "bandwright.constants/99" }), []string{"c.json", "schema", "newer"}},
 		{"older", edit(func(m map[string]any) { m["schema"] = "bandwright.constants/0" }), []string{"c.json", "schema", "older"}},
 		{"foreign", edit(func(m map[string]any) { m["schema"] = "something/1" }), []string{"c.json", "not a bandwright constants record"}},
 		{"cov rows", edit(func(m map[string]any) {

@@ -401,8 +401,8 @@ func TestCatalogueConstantsRecord(t *testing.T) {
 		{name: "unit", input: edit(func(m map[string]any) { m["unit"] = "MHz" }), code: 1, want: []string{`constants.json: unit: "MHz"`}},
 		{name: "unknown field", input: edit(func(m map[string]any) { m["comment"] = "ignored by this version" }), code: 0},
 		{name: "invalid UTF-8", input: bytes.Replace(base, []byte(`"model": "dunham"`), []byte("\"model\": \"dunh\xe4m\""), 1), code: 1, want: []string{"constants.json:", ": not UTF-8 text: byte 0xE4"}},
-		{name: "future schema", input: bytes.Replace(base, []byte("bandwright.constants/1"), []byte("bandwright.constants/2"), 1), code: 1,
-			want: []string{`constants.json: schema: "bandwright.constants/2" was written by a newer bandwright; this version reads "bandwright.constants/1"`}},
+		{name: "future schema", input: bytes.Replace(base, []byte("bandwright.constants/2"), []byte("bandwright.constants/3"), 1), code: 1,
+			want: []string{`constants.json: schema: "bandwright.constants/3" was written by a newer bandwright; this version reads "bandwright.constants/2"`}},
 		{name: "two records", input: append(append([]byte{}, base...), base...), code: 1, want: []string{"constants.json:", "more follows the record's closing brace"}},
 	}
 	t.Run("thermo", func(t *testing.T) {

@@ -99,6 +99,10 @@ func (m *Dunham) dunhamTermLists(terms []string, fixes []Fix) ([]dunhamStateTerm
 	out := make([]dunhamStateTerms, len(m.states))
 	used := map[string]bool{}
 	add := func(st int, name string, own bool) error {
+		if name == "T" || name == "" { // T_e exists for every excited state
+			used[name] = true
+			return nil
+		}
 		if dunhamName.MatchString(name) {
 			if !contains(out[st].ys, name) {
 				out[st].ys = append(out[st].ys, name)
