@@ -95,6 +95,9 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := linelist.CheckStates(list, nil); err != nil {
+		return nil, err
+	}
 	if len(o.Names) == len(o.Inputs) {
 		rename := map[string]string{}
 		for i, in := range o.Inputs {

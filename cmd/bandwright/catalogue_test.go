@@ -90,7 +90,7 @@ func TestCatalogueLineList(t *testing.T) {
 			want: []string{"lines.csv:2: J_up: 99999 exceeds the limit J <= 1000 (a column mix-up?)"}},
 		{name: "absurd v", input: []byte(replaceRow(base, 2, setField(r2, 1, "250"))), code: 1, want: []string{"lines.csv:2: v_up: 250 exceeds the limit v <= 100"}},
 		{name: "negative v", input: []byte(replaceRow(base, 2, setField(r2, 3, "-1"))), code: 1, want: []string{"lines.csv:2: v_lo: must be >= 0, got -1"}},
-		{name: "half-integer J", input: []byte(replaceRow(base, 2, setField(setField(r2, 2, "1.5"), 4, "0.5"))), code: 1, want: []string{"lines.csv:2: J_up: half-integer J (1.5) is not supported"}},
+		{name: "half-integer J", input: []byte(replaceRow(base, 2, setField(setField(r2, 2, "1.5"), 4, "0.5"))), code: 1, want: []string{"lines.csv:2: J_up: J = 1.5 is a half-integer, but state X ¹Σ⁺ has integer J (without --states"}},
 		{name: "Delta J of 3", input: []byte(replaceRow(base, 2, setField(r2, 2, "3"))), code: 1, want: []string{"lines.csv:2: J_up: J_up - J_lo = +3 is outside the selection rules"}},
 		{name: "unknown isotopologue", input: []byte(replaceRow(base, 2, setField(r2, 0, "12C99O"))), code: 1, want: []string{`lines.csv:2: species: unknown isotopologue "12C99O"`}},
 		{name: "mixed units without a unit column", input: []byte(toMHz(3, false)), code: 1,

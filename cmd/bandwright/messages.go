@@ -20,7 +20,7 @@ import (
 // them (TestInternalPackagesListed keeps the list complete).
 var internalPackages = []string{
 	"assign", "codeshape", "constants", "csvcell", "failure", "fit", "linelist", "lsq", "model",
-	"nightly", "outdir", "parallel", "pipelines", "report", "species", "synth", "textcheck",
+	"nightly", "outdir", "parallel", "pipelines", "report", "species", "states", "synth", "textcheck",
 	"thermo", "units",
 }
 

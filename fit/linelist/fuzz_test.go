@@ -32,6 +32,9 @@ func FuzzRead(f *testing.F) {
 		hdr + "12C16O,1,1,0,0,2147.08,0.001\n12C16O,1,2,0,1,64482003.1,0.03\n12C16O,0,1,0,0,115271.2,0.001\n",
 		hdr + "12C16O,1,1,0,0,2147.08,0.001\n12C16O,1,1,0,0,2147.08,0.002\n",
 		hdr[:len(hdr)-1] + ",comment\n12C16O,1,1,0,0,2147.08,0.001,caf\xe9\n",
+		// Open-shell columns.
+		hdr[:len(hdr)-1] + ",N_up,N_lo,F_up,F_lo,parity_up,parity_lo,state_up,state_lo\n14N16O,1,3.5,0,2.5,1876.1,0.001,,,1,1,e,e,,\n14N16O,0,1.5,0,0.5,3.1,0.001,2,1,F2,F1,f,f,A,=X\n",
+		hdr[:len(hdr)-1] + ",N_up,N_lo,unit\n16O16O,0,1,0,2,56264.774,0.01,1,1,MHz\n",
 	} {
 		f.Add([]byte(s))
 	}
@@ -81,6 +84,9 @@ func FuzzRead(f *testing.F) {
 				csvcell.Neutralise(a.Branch) != b.Branch || csvcell.Neutralise(a.Comment) != b.Comment {
 				t.Fatalf("line %d:\n%+v\n%+v", i, a, b)
 			}
+			if (a.Open == nil) != (b.Open == nil) || (a.Open != nil && !sameOpen(*a.Open, *b.Open)) {
+				t.Fatalf("line %d open-shell labels:\n%+v\n%+v", i, a.Open, b.Open)
+			}
 			for j := range a.Extra {
 				if csvcell.Neutralise(a.Extra[j]) != b.Extra[j] {
 					t.Fatalf("line %d extra %d: %q became %q", i, j, a.Extra[j], b.Extra[j])
@@ -88,4 +94,11 @@ func FuzzRead(f *testing.F) {
 			}
 		}
 	})
+}
+
+// sameOpen compares open-shell labels as Write and Read carry them (state
+// labels through csvcell.Neutralise).
+func sameOpen(a, b OpenShell) bool {
+	a.Up.State, a.Lo.State = csvcell.Neutralise(a.Up.State), csvcell.Neutralise(a.Lo.State)
+	return a == b
 }

@@ -20,6 +20,14 @@
 //	unit      no        "cm-1" (default when absent or empty), "MHz" or "GHz", any letter case
 //	branch    no        O, P, Q, R or S; checked against ΔJ = J_up − J_lo
 //	comment   no        free text
+//	N_up      no        N of the upper level (Hund's case (b)), integer ≥ 0
+//	N_lo      no        N of the lower level
+//	F_up      no        spin component of the upper level, 1 … 2S+1 ("F1" also read)
+//	F_lo      no        spin component of the lower level
+//	parity_up no        e or f, the parity label of the upper level
+//	parity_lo no        e or f, the parity label of the lower level
+//	state_up  no        electronic-state label of the upper level (states file); empty: the ground state
+//	state_lo  no        electronic-state label of the lower level
 //
 // Any other column is kept and passed through (List.Extra, Line.Extra). Every cell must
 // be UTF-8 text.
@@ -38,11 +46,24 @@
 //
 // # Conventions
 //
-// Quantum numbers are those of a diatomic molecule in a ¹Σ state: integer J, no
-// half-integer values. ΔJ = J_up − J_lo names the branch: O (−2), P (−1), Q (0), R (+1),
-// S (+2). The selection rules of the spectra bandwright fits are infrared ΔJ = ±1,
-// Raman ΔJ = 0, ±2 and pure rotation ΔJ = ±1, so |ΔJ| > 2 is refused. The upper level
-// must lie above the lower one: v_up > v_lo, or v_up = v_lo with J_up > J_lo.
+// A line without any of the open-shell columns filled and with integer J is a line
+// between ¹Σ levels of the ground state. ΔJ = J_up − J_lo names the branch: O (−2),
+// P (−1), Q (0), R (+1), S (+2). The selection rules of the spectra bandwright fits are
+// infrared ΔJ = ±1, Raman ΔJ = 0, ±2 and pure rotation ΔJ = ±1, so |ΔJ| > 2 is
+// refused. The upper level must lie above the lower one: v_up > v_lo, or v_up = v_lo
+// with J_up > J_lo.
+//
+// # Open-shell and electronic lines
+//
+// A line with any of the columns N_up … state_lo filled, or with half-integer J
+// (written as a decimal, 3.5), is an open-shell or electronic line (Line.Open). The
+// reader checks its syntax, |ΔJ| ≤ 1 and that J_up and J_lo are both integers or both
+// half-integers; whether each level exists and is fully identified needs the
+// electronic states and is checked by CheckStates (the rules of package states). Its
+// branch may be written in the trade's open-shell notation (Branch: "pQ12", "R1").
+// The checks of positions in cm⁻¹ below skip lines between spin or Λ-doubling
+// components of one vibronic level, and MaxWavenumber does not bound lines between
+// two electronic states.
 //
 // Positions and uncertainties are kept as written, in their own unit; Line.Wavenumber
 // and Line.UncWavenumber convert to cm⁻¹ with 1 cm⁻¹ = 29 979.2458 MHz (exact, from the
@@ -171,6 +192,11 @@ type Line struct {
 	Branch   string   // branch letter as given (may be empty)
 	Comment  string   // free text
 	Extra    []string // pass-through values, aligned with List.Extra
+	// Open is the open-shell and electronic identity of the two levels (the
+	// columns N_up … state_lo, half-integer J); nil for a line between ¹Σ
+	// levels of the ground state, which has none of them. JUp and JLo hold
+	// J − ½ when Open.HalfJ; J2Up and J2Lo give 2J in every case.
+	Open *OpenShell
 }
 
 // Wavenumber returns the position in cm⁻¹: Position, or Position / units.MHzPerWavenumber

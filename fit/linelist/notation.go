@@ -73,3 +73,77 @@ func BranchDeltaJ(letter string) (int, bool) {
 func TransitionLabel(vUp, jUp, vLo, jLo int) string {
 	return BandLabel(vUp, vLo) + " " + BranchLetter(jUp-jLo) + "(" + strconv.Itoa(jLo) + ")"
 }
+
+// Branch is the branch of a line between open-shell levels in the notation
+// of the trade, ^ΔN ΔJ _F′F″ (for example ᴾQ₁₂: ΔN = −1, ΔJ = 0, F′ = 1,
+// F″ = 2), written in files as "pQ12": the ΔN letter in lower case, left out
+// where ΔN = ΔJ; the ΔJ letter; the F′ and F″ indices, one digit when F′ = F″
+// ("R1"), none for singlet states.
+type Branch struct {
+	DeltaJ, DeltaN int
+	HasN           bool // ΔN is known (ParseBranch: its letter is written)
+	FUp, FLo       int  // 0: not written
+}
+
+// String writes the branch as files write it; ΔN is written when HasN and
+// ΔN ≠ ΔJ.
+func (b Branch) String() string {
+	var s strings.Builder
+	if b.HasN && b.DeltaN != b.DeltaJ {
+		s.WriteString(strings.ToLower(BranchLetter(b.DeltaN)))
+	}
+	s.WriteString(BranchLetter(b.DeltaJ))
+	switch {
+	case b.FUp == 0 && b.FLo == 0:
+	case b.FUp == b.FLo:
+		s.WriteString(strconv.Itoa(b.FUp))
+	default:
+		s.WriteString(strconv.Itoa(b.FUp) + strconv.Itoa(b.FLo))
+	}
+	return s.String()
+}
+
+// ParseBranch reads a branch written as Branch.String writes it ("pQ12",
+// "R1", "Q", "sR31"); the ΔJ letter may be in any case, the ΔN letter must be
+// lower case, indices are single digits 1…9. Without a ΔN letter, ΔN is not
+// known (HasN false): "Q12" does not say that ΔN = 0.
+func ParseBranch(s string) (Branch, error) {
+	var b Branch
+	rest := strings.TrimSpace(s)
+	bad := func() (Branch, error) {
+		return Branch{}, fmt.Errorf("linelist: branch %q: write the ΔJ letter (O, P, Q, R, S) with the ΔN letter in lower case in front where ΔN differs and the F′F″ indices behind (pQ12, R1)", s)
+	}
+	if len(rest) >= 2 && rest[0] >= 'a' && rest[0] <= 'z' && rest[1] >= 'A' && rest[1] <= 'Z' {
+		dn, ok := BranchDeltaJ(rest[:1])
+		if !ok {
+			return bad()
+		}
+		b.DeltaN, b.HasN = dn, true
+		rest = rest[1:]
+	}
+	if rest == "" {
+		return bad()
+	}
+	dj, ok := BranchDeltaJ(rest[:1])
+	if !ok {
+		return bad()
+	}
+	b.DeltaJ = dj
+	digits := rest[1:]
+	for _, r := range digits {
+		if r < '1' || r > '9' {
+			return bad()
+		}
+	}
+	switch len(digits) {
+	case 0:
+	case 1:
+		b.FUp = int(digits[0] - '0')
+		b.FLo = b.FUp
+	case 2:
+		b.FUp, b.FLo = int(digits[0]-'0'), int(digits[1]-'0')
+	default:
+		return bad()
+	}
+	return b, nil
+}

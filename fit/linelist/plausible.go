@@ -27,8 +27,28 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 // unitBand is a band of one file, the unit in which the check of mixed units
 // compares positions.
 type unitBand struct {
-	file, species string
-	vUp, vLo      int
+	file, species    string
+	vUp, vLo         int
+	stateUp, stateLo string
+}
+
+// bandOf returns the band of line l for the check of mixed units, and
+// whether the line takes part in the checks of positions in cm⁻¹: lines
+// between spin components or Λ-doubling components of one vibronic level
+// (their positions range from MHz to hundreds of cm⁻¹) do not.
+func bandOf(l *Line) (unitBand, bool) {
+	k := unitBand{file: l.File, species: l.Species, vUp: l.VUp, vLo: l.VLo}
+	if l.Open == nil {
+		return k, true
+	}
+	k.stateUp, k.stateLo = l.Open.Up.State, l.Open.Lo.State
+	if k.stateUp != k.stateLo || l.VUp != l.VLo {
+		return k, true
+	}
+	u, lo := l.Open.Up, l.Open.Lo
+	dj := l.JUp - l.JLo
+	sameF := (u.F > 0 && u.F == lo.F) || (u.F == 0 && lo.F == 0 && u.N >= 0 && lo.N >= 0 && u.N-lo.N == dj)
+	return k, sameF && (dj == 1 || dj == -1)
 }
 
 // checkMixedBands reports the bands of files without a unit column whose
@@ -55,7 +75,10 @@ func (rd *reader) checkMixedBands(byFile map[string]*collector) map[unitBand]boo
 		if !lastNoUnit {
 			continue
 		}
-		k := unitBand{l.File, l.Species, l.VUp, l.VLo}
+		k, ok := bandOf(l)
+		if !ok {
+			continue
+		}
 		r := reducedPosition(l)
 		e := last
 		if last == nil || k != lastKey {
@@ -82,7 +105,7 @@ func (rd *reader) checkMixedBands(byFile map[string]*collector) map[unitBand]boo
 			mixed[k] = true
 			hi, lo := &lines[e.maxI], &lines[e.minI]
 			per := ""
-			if hi.VUp == hi.VLo {
+			if hi.VUp == hi.VLo && k.stateUp == k.stateLo {
 				per = " per unit of J(J+1)"
 			}
 			byFile[k.file].add(hi.Row, "position", "%s is%s %.3g times that of row %d (%s) in the same band (%s %s): the file seems to mix cm-1 and MHz; add a unit column (cm-1 or MHz) saying which each row is",
@@ -98,19 +121,21 @@ func (rd *reader) checkMixedBands(byFile map[string]*collector) map[unitBand]boo
 func (rd *reader) checkWavenumbers(byFile map[string]*collector, mixed map[unitBand]bool) {
 	for i := range rd.list.Lines {
 		l := &rd.list.Lines[i]
-		if l.Unit != Wavenumber || (len(mixed) > 0 && mixed[unitBand{l.File, l.Species, l.VUp, l.VLo}]) {
+		k, ok := bandOf(l)
+		if l.Unit != Wavenumber || !ok || (len(mixed) > 0 && mixed[k]) {
 			continue
 		}
+		electronic := k.stateUp != k.stateLo
 		hint := "is the row's unit MHz? say so in its unit column"
 		if rd.noUnitCol[l.File] {
 			hint = "if the positions are in MHz, add a unit column (cm-1 or MHz)"
 		}
-		if l.Position >= MaxWavenumber {
+		if l.Position >= MaxWavenumber && !electronic {
 			byFile[l.File].add(l.Row, "position", "%s cm-1 is beyond the dissociation energy of every diatomic molecule (no transition within one electronic state reaches %g cm-1); %s",
 				fmtPos(l.Position), MaxWavenumber, hint)
 			continue
 		}
-		if l.VUp == l.VLo {
+		if l.VUp == l.VLo && !electronic {
 			if b := reducedPosition(l); b > MaxRotationalConstant {
 				byFile[l.File].add(l.Row, "position", "%s cm-1 for a pure-rotation line J=%d-%d implies a rotational constant of %.4g cm-1, larger than that of any molecule (H2: 60.85 cm-1); %s",
 					fmtPos(l.Position), l.JUp, l.JLo, b, hint)
@@ -145,7 +170,7 @@ func (rd *reader) warnDuplicates() {
 		o := &lines[j]
 		var reason string
 		switch {
-		case o.VUp == l.VUp && o.JUp == l.JUp && o.VLo == l.VLo && o.JLo == l.JLo:
+		case o.VUp == l.VUp && o.JUp == l.JUp && o.VLo == l.VLo && o.JLo == l.JLo && sameLabels(o, l):
 			reason = fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", rowOf(o, l))
 		case o.File == l.File:
 			reason = fmt.Sprintf("one peak assigned to two transitions: position %s %s is also row %d's, assigned to %s, and here to %s; a blended peak counts twice in the fit (keep one, or raise the unc of both)",
@@ -165,6 +190,15 @@ func (rd *reader) warnDuplicates() {
 	}
 }
 
+// sameLabels reports whether two lines have the same open-shell labels (or
+// none).
+func sameLabels(o, l *Line) bool {
+	if o.Open == nil || l.Open == nil {
+		return o.Open == l.Open
+	}
+	return *o.Open == *l.Open
+}
+
 // rowOf names the row of line o as seen from line l: "row 12", or
 // "FILE:12" when o is in another file.
 func rowOf(o, l *Line) string {
@@ -178,7 +212,7 @@ func rowOf(o, l *Line) string {
 // v_lo), by x_up − x_lo with x = J(J+1): about B_v, the same for every line of the
 // band. For other bands it is the position itself.
 func reducedPosition(l *Line) float64 {
-	if l.VUp != l.VLo {
+	if l.VUp != l.VLo || (l.Open != nil && l.Open.Up.State != l.Open.Lo.State) {
 		return l.Position
 	}
 	xu := float64(l.JUp) * float64(l.JUp+1)

@@ -54,12 +54,21 @@ const (
 	colUnit
 	colBranch
 	colComment
+	colNUp // the open-shell columns (openshell.go)
+	colNLo
+	colFUp
+	colFLo
+	colParityUp
+	colParityLo
+	colStateUp
+	colStateLo
 	nColumns
 	nRequired = colUnit // the columns before unit are required
 )
 
 // columnNames are the standard column names as written by Write and named in messages.
-var columnNames = [nColumns]string{"species", "v_up", "J_up", "v_lo", "J_lo", "position", "unc", "unit", "branch", "comment"}
+var columnNames = [nColumns]string{"species", "v_up", "J_up", "v_lo", "J_lo", "position", "unc", "unit", "branch", "comment",
+	"N_up", "N_lo", "F_up", "F_lo", "parity_up", "parity_lo", "state_up", "state_lo"}
 
 // headerRow is the struct onto which gocsv maps the header names; its csv tags are the
 // header keys (lower-case) of the standard columns, in column order. See mapHeader.
@@ -74,6 +83,14 @@ type headerRow struct {
 	Unit     string `csv:"unit"`
 	Branch   string `csv:"branch"`
 	Comment  string `csv:"comment"`
+	NUp      string `csv:"n_up"`
+	NLo      string `csv:"n_lo"`
+	FUp      string `csv:"f_up"`
+	FLo      string `csv:"f_lo"`
+	ParUp    string `csv:"parity_up"`
+	ParLo    string `csv:"parity_lo"`
+	StateUp  string `csv:"state_up"`
+	StateLo  string `csv:"state_lo"`
 }
 
 // headerKey is the form in which column names are compared: zero-width characters
@@ -138,6 +155,7 @@ type reader struct {
 	species   map[string]speciesResult
 	failed    bool     // some file had a problem: lines are no longer kept
 	slab      []string // storage carved into Line.Extra slices
+	openSlab  []OpenShell
 }
 
 func newReader() *reader {
@@ -414,13 +432,16 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 		l.Species = f.species(rec[i], row)
 	}
 	var qok [4]bool
+	var j2 [2]int
 	l.VUp, qok[0] = f.quantum(rec, colVUp, row, MaxV)
-	l.JUp, qok[1] = f.quantum(rec, colJUp, row, MaxJ)
+	j2[0], qok[1] = f.angular(rec, colJUp, row)
 	l.VLo, qok[2] = f.quantum(rec, colVLo, row, MaxV)
-	l.JLo, qok[3] = f.quantum(rec, colJLo, row, MaxJ)
+	j2[1], qok[3] = f.angular(rec, colJLo, row)
 	quantaOK := qok[0] && qok[1] && qok[2] && qok[3]
+	l.JUp, l.JLo = j2[0]/2, j2[1]/2
+	f.openShell(rec, row, &l, j2, qok[1] && qok[3])
 	dJ := l.JUp - l.JLo
-	if quantaOK {
+	if quantaOK && l.Open == nil {
 		switch {
 		case dJ < -2 || dJ > 2:
 			c.add(row, "J_up", "J_up - J_lo = %+d is outside the selection rules of every supported spectrum (infrared dJ = ±1, Raman 0, ±2, pure rotation ±1)", dJ)
@@ -447,7 +468,12 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	if i := f.col[colBranch]; i >= 0 {
 		if t := strings.TrimSpace(rec[i]); t != "" {
 			bdJ, known := BranchDeltaJ(t)
+			if b, err := ParseBranch(t); !known && l.Open != nil && err == nil {
+				bdJ, known = b.DeltaJ, true
+			}
 			switch {
+			case !known && l.Open != nil:
+				c.add(row, "branch", "unknown branch %q: write the ΔJ letter O, P, Q, R or S, with the ΔN letter in front and the F′F″ indices behind where they differ (pQ12, R1)", t)
 			case !known:
 				c.add(row, "branch", "unknown branch %q: use O, P, Q, R or S", t)
 			case quantaOK && bdJ != dJ:
@@ -583,11 +609,7 @@ func (f *file) quantum(rec []string, cl column, row int, max int) (int, bool) {
 			return 0, false
 		}
 		if x != math.Trunc(x) {
-			if (cl == colJUp || cl == colJLo) && 2*x == math.Trunc(2*x) {
-				f.c.add(row, name, "half-integer J (%s) is not supported: the models here are for 1Sigma states, whose J is an integer", t)
-			} else {
-				f.c.add(row, name, "must be an integer, got %s", t)
-			}
+			f.c.add(row, name, "must be an integer, got %s", t)
 			return 0, false
 		}
 		switch {

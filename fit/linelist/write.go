@@ -11,7 +11,8 @@ import (
 
 // Write writes lines as a CSV line list that Read reads back: a header with the
 // standard columns species, v_up, J_up, v_lo, J_lo, position, unc, unit, branch, comment,
-// then the pass-through columns named by extra (each line's Extra is aligned with extra;
+// the open-shell columns (OpenColumns) when some line has open-shell labels (J
+// is then written as a decimal, 3.5), then the pass-through columns named by extra (each line's Extra is aligned with extra;
 // missing trailing values are written empty). Floats are written with
 // strconv.FormatFloat(x, 'g', -1, 64), the shortest text that reads back to the same
 // float64, so a Write followed by a Read preserves positions and uncertainties bit for
@@ -24,7 +25,7 @@ func Write(w io.Writer, lines []Line, extra []string) error {
 // Columns returns the standard columns of a line list in the order Write
 // writes them: species, v_up, J_up, v_lo, J_lo, position, unc, unit, branch,
 // comment.
-func Columns() []string { return append([]string(nil), columnNames[:]...) }
+func Columns() []string { return append([]string(nil), columnNames[:colNUp]...) }
 
 // WriteText is Write with the position and unc of line i written as text(i)
 // gives them instead of their shortest float form, for a writer that copies
@@ -49,8 +50,14 @@ func WriteText(w io.Writer, lines []Line, extra []string, text func(i int) (posi
 
 	bw := bufio.NewWriterSize(w, 64<<10)
 	var row []byte
-	for j, n := range columnNames {
+	open := anyOpen(lines)
+	for j, n := range columnNames[:colNUp] {
 		row = appendCell(row, j, n)
+	}
+	if open {
+		for _, n := range OpenColumns() {
+			row = appendCell(row, 1, n)
+		}
 	}
 	for j, n := range extra {
 		row = appendCell(row, int(nColumns)+j, csvcell.Neutralise(n))
@@ -66,9 +73,10 @@ func WriteText(w io.Writer, lines []Line, extra []string, text func(i int) (posi
 				i+1, l.File, l.Row, len(l.Extra), len(extra))
 		}
 		row = appendCell(row[:0], 0, csvcell.Neutralise(l.Species))
-		for _, q := range [4]int{l.VUp, l.JUp, l.VLo, l.JLo} {
-			row = strconv.AppendInt(append(row, ','), int64(q), 10)
-		}
+		row = strconv.AppendInt(append(row, ','), int64(l.VUp), 10)
+		row = appendJ(append(row, ','), l.J2Up())
+		row = strconv.AppendInt(append(row, ','), int64(l.VLo), 10)
+		row = appendJ(append(row, ','), l.J2Lo())
 		var pos, unc string
 		if text != nil {
 			pos, unc = text(i)
@@ -78,6 +86,9 @@ func WriteText(w io.Writer, lines []Line, extra []string, text func(i int) (posi
 		row = append(append(row, ','), l.Unit.String()...)
 		row = appendCell(row, 1, csvcell.Neutralise(l.Branch))
 		row = appendCell(row, 1, csvcell.Neutralise(l.Comment))
+		if open {
+			row = appendOpen(row, l)
+		}
 		for j := range extra {
 			v := ""
 			if j < len(l.Extra) {

@@ -178,24 +178,27 @@ func (s State) checkSinglet(l Label) (Label, error) {
 	l.N = l.J2 / 2
 	if s.Case() == Singlet {
 		if l.Parity != NoParity {
-			return l, labelErr("parity", "a 1Sigma level takes no parity label (its parity follows from J); leave it empty")
+			return l, labelErr("parity", "a level of %s takes no parity label (its parity follows from J); leave it empty", s.Term())
 		}
 		l.Parity = s.SigmaParity(l.J2, l.N)
 		return l, nil
 	}
 	if l.J2 < 2 {
-		return l, labelErr("J", "J = 0 does not exist in a Pi state (J ≥ 1)")
+		return l, labelErr("J", "J = 0 does not exist in %s (J ≥ 1)", s.Term())
 	}
 	if l.Parity == NoParity {
-		return l, labelErr("parity", "a Pi level needs its parity label e or f")
+		return l, labelErr("parity", "a level of %s needs its parity label e or f", s.Term())
 	}
 	return l, nil
 }
 
 func (s State) checkSigma(l Label) (Label, error) {
+	if l.N < 0 && l.F == 0 && l.Parity != NoParity {
+		l.F = s.onlyF(l.J2, l.Parity)
+	}
 	switch {
 	case l.N < 0 && l.F == 0:
-		return l, labelErr("F", "a %s level needs F (1…%d) or N", s.Term(), s.Multiplicity)
+		return l, labelErr("F", "a level of %s needs F (1…%d) or N (or a parity label that only one spin component of J = %s has)", s.Term(), s.Multiplicity, fmtJ(l.J2))
 	case l.F != 0 && (l.F < 1 || l.F > s.Multiplicity):
 		return l, labelErr("F", "F%d does not exist in %s (F1…F%d)", l.F, s.Term(), s.Multiplicity)
 	case l.F == 0:
@@ -218,14 +221,29 @@ func (s State) checkSigma(l Label) (Label, error) {
 	return l, nil
 }
 
+// onlyF returns the spin component of the only level of a Σ state with
+// J = J2/2 and parity p, or 0 when there is none or more than one.
+func (s State) onlyF(J2 int, p Parity) int {
+	f := 0
+	for _, c := range s.Components(J2, true) {
+		if c.Parity == p {
+			if f != 0 {
+				return 0
+			}
+			f = c.F
+		}
+	}
+	return f
+}
+
 func (s State) checkDoubletPi(l Label) (Label, error) {
 	switch {
 	case l.F == 0:
-		return l, labelErr("F", "a 2Pi level needs F (1 or 2)")
+		return l, labelErr("F", "a level of %s needs F (1 or 2)", s.Term())
 	case l.F != 1 && l.F != 2:
-		return l, labelErr("F", "F%d does not exist in a 2Pi state (F1, F2)", l.F)
+		return l, labelErr("F", "F%d does not exist in %s (F1, F2)", l.F, s.Term())
 	case l.Parity == NoParity:
-		return l, labelErr("parity", "a 2Pi level needs its parity label e or f")
+		return l, labelErr("parity", "a level of %s needs its parity label e or f", s.Term())
 	}
 	n := s.NOf(l.J2, l.F)
 	if l.N >= 0 {

@@ -109,25 +109,31 @@ func (s State) TwiceS() int { return s.Multiplicity - 1 }
 // multiplicity).
 func (s State) HalfIntegerJ() bool { return s.Multiplicity%2 == 0 }
 
-// Term writes the state's term symbol in plain text: "X 2Pi", "b 1Sigma g+".
+// Term writes the state's label and term symbol: "X ²Π", "b ¹Σg⁺".
 func (s State) Term() string {
 	var b strings.Builder
 	b.WriteString(s.Label)
 	b.WriteByte(' ')
-	fmt.Fprintf(&b, "%d%s", s.Multiplicity, lambdaName(s.Lambda))
-	if y := s.Symmetry.String(); y != "" {
-		b.WriteByte(' ')
-		b.WriteString(y)
+	sup := []rune("⁰¹²³⁴⁵⁶⁷⁸⁹")
+	for _, d := range fmt.Sprint(s.Multiplicity) {
+		b.WriteRune(sup[d-'0'])
+	}
+	names := []string{"Σ", "Π", "Δ", "Φ", "Γ"}
+	if s.Lambda >= 0 && s.Lambda < len(names) {
+		b.WriteString(names[s.Lambda])
+	} else {
+		fmt.Fprintf(&b, "(Λ=%d)", s.Lambda)
+	}
+	if s.Symmetry.Parity != 0 {
+		b.WriteByte(s.Symmetry.Parity)
+	}
+	switch s.Symmetry.Reflection {
+	case '+':
+		b.WriteString("⁺")
+	case '-':
+		b.WriteString("⁻")
 	}
 	return b.String()
-}
-
-func lambdaName(l int) string {
-	names := []string{"Sigma", "Pi", "Delta", "Phi", "Gamma"}
-	if l >= 0 && l < len(names) {
-		return names[l]
-	}
-	return fmt.Sprintf("Lambda=%d", l)
 }
 
 // Case is the kind of effective Hamiltonian a state needs.
@@ -167,7 +173,7 @@ func (s State) Supported() error {
 	if s.Case() != Unsupported {
 		return nil
 	}
-	return fmt.Errorf("state %s is not modelled: the energy-level models describe 1Sigma, 2Sigma, 3Sigma, 1Pi and 2Pi states", s.Term())
+	return fmt.Errorf("state %s is not modelled: the energy-level models describe ¹Σ, ²Σ, ³Σ, ¹Π and ²Π states", s.Term())
 }
 
 // Index returns the index of the state labelled label in ss, or -1.
