@@ -32,10 +32,26 @@ import (
 	"bandwright/fit/model"
 )
 
-// Problem is what a fit works on: the lines and the model. It holds no settings.
+// Problem is what a fit works on: the lines and the model, and the starting
+// values of a nonlinear fit. It holds no settings.
 type Problem struct {
 	Lines []linelist.Line
 	Model model.Model
+	// Start are starting values of constants of the electronic states
+	// (usually from the electronic-states file); see Start. Without them a
+	// nonlinear fit starts from the linear fit of the case-(b) limit
+	// (start.go).
+	Start []Start
+}
+
+// Start is a starting value (cm⁻¹) of one constant of one electronic state:
+// every free parameter that stands for it starts there — the constant of
+// each vibrational level in the term-values model; in the Dunham model X_e of
+// a fine-structure constant, Y01 for B, −Y02 for D, T_e for T.
+type Start struct {
+	State string // label; empty: the ground state
+	Name  string // "T", "B", "D", "A", "lambda", "gamma", "p", "q", …
+	Value float64
 }
 
 // Settings are the limits and switches of a fit. The zero value is a plain
@@ -140,6 +156,9 @@ type Result struct {
 	// line connects their level to the lowest level of its isotopologue
 	// (fixed, outside the covariance; the record marks them).
 	Unconnected []int
+	// Convergence describes the iterations of a nonlinear fit; nil for a
+	// linear one.
+	Convergence *constants.Convergence
 }
 
 // CovNames returns the names of the covariance rows (parameter IDs, then κ of

@@ -19,6 +19,7 @@ func NewRecord(r *Result) *constants.Record {
 		Warnings:             append([]string{}, r.Warnings...),
 		CovarianceConvention: constants.CovarianceConvention,
 		States:               constants.RecordStates(r.Model),
+		Convergence:          r.Convergence,
 	}
 	if rec.Model == model.KindDunham {
 		rec.ReferenceSpecies = rec.Species[0]

@@ -23,6 +23,9 @@ func (w *work) run() error {
 			return err
 		}
 	}
+	if err := w.start(); err != nil {
+		return err
+	}
 	for {
 		if err := w.solve(); err != nil {
 			return err

@@ -84,6 +84,13 @@ func (w *work) result() *Result {
 		r.Stats.RMSMHz = math.Sqrt(sumMHz / float64(nMHz))
 		r.Stats.LinesMHz = nMHz
 	}
+	if w.nonlinear || len(w.kfree) > 0 {
+		method := "Gauss–Newton"
+		if w.conv.damped {
+			method = "Levenberg–Marquardt"
+		}
+		r.Convergence = &constants.Convergence{Method: method, Iterations: w.iter, Starts: max(w.conv.starts, 1), FinalStep: w.conv.finalStep, Converged: w.conv.converged}
+	}
 	r.Warnings = append(r.Warnings, w.warn...)
 	r.Warnings = append(r.Warnings, significanceWarnings(r)...)
 	return r

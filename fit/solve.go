@@ -49,6 +49,13 @@ type work struct {
 	iter       int
 	// unconnected lists the term values held at 0 by holdUnconnected.
 	unconnected []int
+	// lm is the model when its levels need more than (v, J): electronic
+	// states or fine structure (levels.go); up and lo are the levels of
+	// each line, nonlinear whether energies are eigenvalues.
+	lm        model.LevelModel
+	up, lo    []model.Level
+	nonlinear bool
+	conv      convergence
 }
 
 func newWork(p Problem, s Settings) (*work, error) {
@@ -74,14 +81,15 @@ func newWork(p Problem, s Settings) (*work, error) {
 		spIdx[sp] = i
 	}
 	var bad []string
+	w.setLevelModel()
 	for i, l := range p.Lines {
 		si, ok := spIdx[l.Species]
 		if !ok {
 			bad = append(bad, fmt.Sprintf("%s:%d: species: %s is not in the model", l.File, l.Row, l.Species))
 			continue
 		}
-		if !p.Model.HasLevel(si, l.VUp) || !p.Model.HasLevel(si, l.VLo) {
-			bad = append(bad, fmt.Sprintf("%s:%d: v: the model has no parameters for v=%d or v=%d of %s", l.File, l.Row, l.VUp, l.VLo, l.Species))
+		if why := w.levelsOf(i, si); why != "" {
+			bad = append(bad, fmt.Sprintf("%s:%d: %s", l.File, l.Row, why))
 			continue
 		}
 		w.sp[i] = si
@@ -182,8 +190,9 @@ func (d *design) row(i int, dst []float64) (float64, float64) {
 	return w.obs[i] - fac*nu, w.unc[i]
 }
 
-// solve performs Gauss–Newton from the current values until the step is
-// negligible (one step for a linear problem) on the lines in use.
+// solve fits the lines in use from the current values: one QR solve for a
+// linear problem, Gauss–Newton iterations (damped where needed, see iterate)
+// for a nonlinear one.
 func (w *work) solve() error {
 	w.omcOK = false
 	free := w.freeNow()
@@ -200,67 +209,60 @@ func (w *work) solve() error {
 	if len(rows) < ncol {
 		return &CannotFitError{fmt.Sprintf("fit: %d lines in use for %d fitted parameters; a fit needs at least as many lines as parameters", len(rows), ncol)}
 	}
-	d := w.newDesign(free)
-	prob := lsq.Problem{
-		Rows: len(rows), Cols: ncol, Names: d.names,
-		Row: func(r int, dst []float64) (float64, float64) {
-			return d.row(rows[r], dst)
-		},
-		// Each call gets its own design scratch, so lsq may fold the two
-		// halves of a large problem on the two cores.
-		NewRow: func() func(int, []float64) (float64, float64) {
-			dd := w.newDesign(free)
-			return func(r int, dst []float64) (float64, float64) { return dd.row(rows[r], dst) }
-		},
+	if len(w.kfree) > 0 || w.nonlinear {
+		return w.iterate(free, rows)
 	}
-	const maxIter = 30
-	prev := math.Inf(1)
-	for it := 0; it < maxIter; it++ {
-		res, err := lsq.Solve(prob, lsq.Settings{RankTolerance: w.s.RankTolerance})
-		if err != nil {
-			var re *lsq.RankError
-			if errors.As(err, &re) {
-				return w.undetermined(re)
-			}
-			return fmt.Errorf("fit: %w", err)
-		}
-		w.iter++
-		step := 0.0 // largest |Δx_c|/σ_c of this step
-		for c, j := range free {
-			d := res.X[c]
-			w.values[j] += d
-			step = math.Max(step, stepRatio(d, res, c))
-		}
-		for c, f := range w.kfree {
-			d := res.X[len(free)+c]
-			w.kappa[f] += d
-			step = math.Max(step, stepRatio(d, res, len(free)+c))
-		}
-		w.res = res
-		// A linear problem is solved exactly by its first step. With
-		// calibration, stop once the step is far below the uncertainty:
-		// below stepConverged σ, or below stepStalled σ and no longer
-		// shrinking — the rounding floor of the solution, which for
-		// well-measured lines lies near 1e-7 σ and cannot be passed.
-		if len(w.kfree) == 0 || step <= stepConverged || (step <= stepStalled && step > prev/2) {
-			return nil
-		}
-		prev = step
+	res, err := w.lsqSolve(free, rows, 0, nil)
+	if err != nil {
+		return err
 	}
-	w.status = IterationLimit
-	w.warn = append(w.warn, fmt.Sprintf("Gauss–Newton refinement of the calibration factors stopped after %d iterations without its steps falling below %g σ", maxIter, stepConverged))
+	w.iter++
+	for c, j := range free {
+		w.values[j] += res.X[c]
+	}
+	w.res = res
+	w.omcOK = false
 	return nil
 }
 
-// Convergence of the Gauss–Newton steps, in units of each parameter's σ.
-const (
-	stepConverged = 1e-6
-	stepStalled   = 1e-3
-)
-
-// stepRatio returns |d|/σ_c with σ_c from the unscaled covariance of r.
-func stepRatio(d float64, r *lsq.Result, c int) float64 {
-	return math.Abs(d) / math.Sqrt(r.Cov.At(c, c))
+// lsqSolve solves the problem linearised at the current values for the step
+// of the free parameters and κ: the design rows of the lines in use and,
+// with mu > 0, one damping row √mu·d_c per column (Levenberg–Marquardt as an
+// augmented least-squares problem, [J; √mu·D] δ = [r; 0]). A rank error of
+// an undamped solve becomes the fit's *UndeterminedError.
+func (w *work) lsqSolve(free, rows []int, mu float64, d []float64) (*lsq.Result, error) {
+	ncol := len(free) + len(w.kfree)
+	n := len(rows)
+	damp := 0
+	if mu > 0 {
+		damp = ncol
+	}
+	rowFn := func(dd *design) func(int, []float64) (float64, float64) {
+		return func(r int, dst []float64) (float64, float64) {
+			if r < n {
+				return dd.row(rows[r], dst)
+			}
+			dst[r-n] = math.Sqrt(mu) * d[r-n]
+			return 0, 1
+		}
+	}
+	dsg := w.newDesign(free)
+	prob := lsq.Problem{
+		Rows: n + damp, Cols: ncol, Names: dsg.names,
+		Row: rowFn(dsg),
+		// Each call gets its own design scratch, so lsq may fold the two
+		// halves of a large problem on the two cores.
+		NewRow: func() func(int, []float64) (float64, float64) { return rowFn(w.newDesign(free)) },
+	}
+	res, err := lsq.Solve(prob, lsq.Settings{RankTolerance: w.s.RankTolerance})
+	if err != nil {
+		var re *lsq.RankError
+		if errors.As(err, &re) && mu == 0 {
+			return nil, w.undetermined(re)
+		}
+		return nil, fmt.Errorf("fit: %w", err)
+	}
+	return res, nil
 }
 
 // roundoff is the relative size, 1024 ε, below which a residual cannot be told
@@ -278,6 +280,9 @@ const roundoff = 1024 * 0x1p-52
 // scratch slices s1, s2 (len(params)).
 func (w *work) transition(i int, dnu, s1, s2 []float64) (nu, mag float64) {
 	l := &w.p.Lines[i]
+	if w.lm != nil {
+		return w.lm.LevelTransition(w.sp[i], w.up[i], w.lo[i], w.values, dnu)
+	}
 	if w.tm != nil {
 		return w.tm.Transition(w.sp[i], l.VUp, l.JUp, l.VLo, l.JLo, w.values, dnu)
 	}

@@ -199,10 +199,11 @@ func (f *file) cell(rec []string, cl column) (string, bool) {
 //     with the levels;
 //   - parity (the selection rules of one-photon spectra): electric-dipole
 //     lines change the total parity, which in e/f labels means e↔e and
-//     f↔f for ΔJ = ±1 and e↔f for ΔJ = 0. Within one electronic state and
-//     vibrational level, lines between spin components of the same N
-//     (ΔN = 0, as O2's fine-structure band near 60 GHz) are magnetic-dipole
-//     lines, which keep the parity; they are accepted too. Lines between
+//     f↔f for ΔJ = ±1 and e↔f for ΔJ = 0. Within one vibrational level of
+//     a Σ state with spin, lines that keep the parity (ΔN even) are
+//     magnetic-dipole lines, as O2's fine-structure lines near 60 GHz
+//     (ΔN = 0) and its rotational lines (ΔN = ±2); they are accepted too.
+//     Lines between
 //     states of different multiplicity (intercombination bands, which borrow
 //     their intensity through spin–orbit mixing and include magnetic-dipole
 //     bands such as O2's b–X) are not checked for parity.
@@ -319,9 +320,9 @@ func checkSelection(c *collector, l *Line, up, lo states.State, sameState bool) 
 		return
 	}
 	electric := (dj == 0) != (o.Up.Parity == o.Lo.Parity)
-	magneticFine := sameState && l.VUp == l.VLo && dn == 0 && o.Up.F != o.Lo.F && up.Lambda == 0
-	if !electric && !magneticFine {
-		c.add(l.Row, "parity_up", "%s–%s with ΔJ = %+d breaks the electric-dipole rule (ΔJ = ±1: e–e or f–f; ΔJ = 0: e–f); parity-keeping magnetic-dipole lines are taken only between spin components of one N (ΔN = 0) in one vibrational level of a Σ state",
+	magnetic := sameState && l.VUp == l.VLo && up.Lambda == 0 && up.Multiplicity > 1
+	if !electric && !magnetic {
+		c.add(l.Row, "parity_up", "%s–%s with ΔJ = %+d breaks the electric-dipole rule (ΔJ = ±1: e–e or f–f; ΔJ = 0: e–f); parity-keeping magnetic-dipole lines are taken only within one vibrational level of a Σ state with spin",
 			o.Up.Parity, o.Lo.Parity, dj)
 	}
 }

@@ -298,21 +298,20 @@ func (m *Dunham) HasVibronic(s, st, v int) bool {
 }
 
 // vibConstants implements vibSource.
-func (m *Dunham) vibConstants(s, st, v int, p []float64, c *[nQ]float64) bool {
+func (m *Dunham) vibConstants(s, st, v int, p []float64) (c [nQ]float64, ok bool) {
 	if !m.HasVibronic(s, st, v) {
-		return false
+		return c, false
 	}
-	*c = [nQ]float64{}
 	var vp [10]float64
 	powers(vp[:], float64(v)+0.5, len(vp)-1)
 	for _, t := range m.contrib[st] {
 		c[t.q] += t.coef[s] * vp[t.k] * p[t.param]
 	}
-	return true
+	return c, true
 }
 
 // vibGradient implements vibSource.
-func (m *Dunham) vibGradient(s, st, v int, dE *[nQ]float64, w float64, grad []float64) {
+func (m *Dunham) vibGradient(s, st, v int, dE [nQ]float64, w float64, grad []float64) {
 	var vp [10]float64
 	powers(vp[:], float64(v)+0.5, len(vp)-1)
 	for _, t := range m.contrib[st] {
@@ -365,4 +364,34 @@ func closedSublevels(m Model, s, v, j2max int, p []float64, withGrad bool, fn fu
 		e := m.Energy(s, v, J, p, grad)
 		fn(Sublevel{Level: Level{V: v, J2: 2 * J, Parity: states.ParityE}, N: J, E: e, Grad: grad})
 	}
+}
+
+// FineConstant returns the fine-structure constant a parameter belongs to in
+// the trade's name ("A", "gamma", "p", "A_D", …) and its v-power k (0 for a
+// term-values constant or X_e, 1 for α_X), or ok false for a parameter that
+// is not a fine-structure constant.
+func FineConstant(p Param) (name string, k int, ok bool) {
+	if q := quantityOf(p.Name); q >= fineStart {
+		return p.Name, 0, true
+	}
+	if p.V >= 0 {
+		return "", 0, false
+	}
+	if q, k, ok := parseFineDunham(p.Name); ok {
+		return quantityNames[q], k, true
+	}
+	return "", 0, false
+}
+
+// RotationalConstant returns the rotational constant ("B", "D", "H", "L") a
+// parameter is, or the one a Dunham Y_k1 … Y_k4 contributes to with its
+// v-power k; ok false otherwise.
+func RotationalConstant(p Param) (name string, k int, ok bool) {
+	if q := quantityOf(p.Name); q >= qB && q < fineStart {
+		return p.Name, 0, true
+	}
+	if p.K >= 0 && p.L >= 1 && p.L <= 4 && p.Element == "" {
+		return quantityNames[qB+quantity(p.L-1)], p.K, true
+	}
+	return "", 0, false
 }

@@ -13,11 +13,12 @@ import (
 // vibrational level v) and their gradient with respect to the model's
 // parameters. Both are linear in the parameters.
 type vibSource interface {
-	// vibConstants stores c_q of the vibronic level at parameters p in c and
-	// reports whether the model has the level.
-	vibConstants(s, st, v int, p []float64, c *[nQ]float64) bool
+	// vibConstants returns c_q of the vibronic level at parameters p and
+	// whether the model has the level. (Arrays pass by value through the
+	// interface: a pointer would make the caller's arrays escape to the heap.)
+	vibConstants(s, st, v int, p []float64) ([nQ]float64, bool)
 	// vibGradient adds w·Σ_q dE[q]·∂c_q/∂p_j to grad[j] for every j.
-	vibGradient(s, st, v int, dE *[nQ]float64, w float64, grad []float64)
+	vibGradient(s, st, v int, dE [nQ]float64, w float64, grad []float64)
 }
 
 // electronic holds a model's electronic states and evaluates levels through
@@ -78,7 +79,10 @@ func (e *electronic) stateLabel(st int) string {
 // level evaluates level lv of species s (see LevelModel.LevelEnergy) and
 // returns E without T, T, and mag.
 func (e *electronic) level(src vibSource, s int, lv Level, p []float64, c, dE *[nQ]float64) (er, t, mag float64, ok bool) {
-	if lv.State < 0 || lv.State >= len(e.states) || !src.vibConstants(s, lv.State, lv.V, p, c) {
+	if lv.State < 0 || lv.State >= len(e.states) {
+		return 0, 0, 0, false
+	}
+	if *c, ok = src.vibConstants(s, lv.State, lv.V, p); !ok {
 		return 0, 0, 0, false
 	}
 	var b block
@@ -100,7 +104,7 @@ func (e *electronic) levelEnergy(src vibSource, s int, lv Level, p, grad []float
 		return math.NaN()
 	}
 	if grad != nil {
-		src.vibGradient(s, lv.State, lv.V, &dE, 1, grad)
+		src.vibGradient(s, lv.State, lv.V, dE, 1, grad)
 	}
 	return t + er
 }
@@ -127,18 +131,22 @@ func (e *electronic) levelTransition(src vibSource, s int, up, lo Level, p, grad
 		du[qT], dl[qT] = 0, 0
 	}
 	if grad != nil {
-		src.vibGradient(s, up.State, up.V, &du, 1, grad)
-		src.vibGradient(s, lo.State, lo.V, &dl, -1, grad)
+		src.vibGradient(s, up.State, up.V, du, 1, grad)
+		src.vibGradient(s, lo.State, lo.V, dl, -1, grad)
 	}
 	return nu, mag
 }
 
 // sublevels implements LevelModel.Sublevels.
 func (e *electronic) sublevels(src vibSource, nParams, s, st, v, j2max int, p []float64, withGrad bool, fn func(Sublevel)) {
-	var c, dE [nQ]float64
-	if st < 0 || st >= len(e.states) || !src.vibConstants(s, st, v, p, &c) {
+	if st < 0 || st >= len(e.states) {
 		return
 	}
+	c, ok := src.vibConstants(s, st, v, p)
+	if !ok {
+		return
+	}
+	var dE [nQ]float64
 	state := e.states[st]
 	var grad []float64
 	if withGrad {
@@ -159,7 +167,7 @@ func (e *electronic) sublevels(src vibSource, nParams, s, st, v, j2max int, p []
 			sl := Sublevel{Level: lv, N: lab.N, E: c[qT] + er}
 			if withGrad {
 				clear(grad)
-				src.vibGradient(s, st, v, &dE, 1, grad)
+				src.vibGradient(s, st, v, dE, 1, grad)
 				sl.Grad = grad
 			}
 			fn(sl)

@@ -376,23 +376,21 @@ func (m *TermValues) Transition(s, vUp, jUp, vLo, jLo int, p []float64, grad []f
 }
 
 // vibConstants implements vibSource: each constant is one parameter.
-func (m *TermValues) vibConstants(s, st, v int, p []float64, c *[nQ]float64) bool {
+func (m *TermValues) vibConstants(s, st, v int, p []float64) (c [nQ]float64, ok bool) {
 	idx, ok := m.vib[[3]int{s, st, v}]
 	if !ok {
-		return false
+		return c, false
 	}
 	for q, j := range idx {
 		if j >= 0 {
 			c[q] = p[j]
-		} else {
-			c[q] = 0
 		}
 	}
-	return true
+	return c, true
 }
 
 // vibGradient implements vibSource.
-func (m *TermValues) vibGradient(s, st, v int, dE *[nQ]float64, w float64, grad []float64) {
+func (m *TermValues) vibGradient(s, st, v int, dE [nQ]float64, w float64, grad []float64) {
 	idx := m.vib[[3]int{s, st, v}]
 	for q, j := range idx {
 		if j >= 0 {

@@ -245,13 +245,13 @@ func (s State) checkDoubletPi(l Label) (Label, error) {
 	case l.Parity == NoParity:
 		return l, labelErr("parity", "a level of %s needs its parity label e or f", s.Term())
 	}
-	n := s.NOf(l.J2, l.F)
+	n := max(s.NOf(l.J2, l.F), s.Lambda) // J = ½: N = 1 for either label
 	if l.N >= 0 {
-		if l.N != n || n < 1 {
+		if l.N != n {
 			return l, labelErr("N", "N = %d, J = %s and F%d disagree: in the case-(b) labelling N = J − ½ for F1 and N = J + ½ for F2, with N ≥ 1 (the J = ½ level is F2, N = 1)", l.N, fmtJ(l.J2), l.F)
 		}
 	}
-	l.N = max(n, 1)
+	l.N = n
 	return l, nil
 }
 
