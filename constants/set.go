@@ -131,7 +131,7 @@ func checkCovarianceShape(cov [][]float64, n int) error {
 func (rec *Record) modelStates() ([]states.State, error) {
 	var out []states.State
 	for i, s := range rec.States {
-		y, err := states.ParseSymmetry(s.Symmetry)
+		y, err := species.ParseStateSymmetry(s.Symmetry)
 		if err != nil {
 			return nil, fmt.Errorf("states: entry %d (%s): symmetry: %w", i+1, s.Label, err)
 		}
@@ -148,7 +148,7 @@ func RecordStates(m model.Model) []State {
 		return nil
 	}
 	sts := lm.States()
-	if len(sts) == 1 && sts[0] == states.Ground() {
+	if len(sts) == 1 && sts[0].SameTerm(states.Ground()) {
 		return nil
 	}
 	out := make([]State, len(sts))

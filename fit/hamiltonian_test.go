@@ -6,6 +6,7 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 
 	"bandwright/fit/model"
+	"bandwright/fit/species"
 	"bandwright/fit/states"
 )
 
@@ -51,13 +52,13 @@ func TestLevelsMatchCaseABasis(t *testing.T) {
 			genState{S2: 1, Lambda: 1, T: -7, B: 18.535, D: 1.9e-3, H: 1.4e-7, A: -139.05, AD: -7e-3, Gamma: -0.119, GD: 1e-5, P: 0.235, Q: -0.0387, PD: -2e-5, QD: 1.5e-5}},
 		{"2Pi A between 0 and 4B", states.State{Label: "X", Multiplicity: 2, Lambda: 1},
 			genState{S2: 1, Lambda: 1, B: 14.19, D: 1.4e-3, A: 28.1, Gamma: -0.02, P: 0.033, Q: 0.038}},
-		{"3Sigma- O2-like", states.State{Label: "X", Multiplicity: 3, Symmetry: states.Symmetry{Parity: 'g', Reflection: '-'}},
+		{"3Sigma- O2-like", states.State{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Parity: 'g', Reflection: '-'}},
 			genState{S2: 2, Minus: true, T: 1, B: 1.4377, D: 4.84e-6, H: 1e-12, Lam: 1.9847, LamD: 1.95e-6, Gamma: -8.425e-3, GD: -8e-9}},
-		{"3Sigma+ large lambda", states.State{Label: "X", Multiplicity: 3, Symmetry: states.Symmetry{Reflection: '+'}},
+		{"3Sigma+ large lambda", states.State{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Reflection: '+'}},
 			genState{S2: 2, B: 0.7, D: 1e-6, Lam: 5.3, LamD: 3e-5, Gamma: 0.01, GD: 1e-6}},
-		{"2Sigma+ CN-like", states.State{Label: "X", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}},
+		{"2Sigma+ CN-like", states.State{Label: "X", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}},
 			genState{S2: 1, T: 2, B: 1.8997, D: 6.4e-6, H: 1e-12, Gamma: 7.25e-3, GD: 1e-7}},
-		{"2Sigma- ", states.State{Label: "X", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '-'}},
+		{"2Sigma- ", states.State{Label: "X", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '-'}},
 			genState{S2: 1, Minus: true, B: 1.2, D: 3e-6, Gamma: -0.02, GD: 2e-7}},
 		{"1Pi", states.State{Label: "X", Multiplicity: 1, Lambda: 1},
 			genState{Lambda: 1, T: 5, B: 1.6115, D: 7.3e-6, Q: -1.3e-5, QD: 2e-9}},

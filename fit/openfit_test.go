@@ -7,6 +7,7 @@ import (
 
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/fit/species"
 	"bandwright/fit/states"
 )
 
@@ -244,7 +245,7 @@ func hydroxylLines(o *openTruth, rng *rand.Rand) []linelist.Line {
 // MHz, λ_D ≈ 58.4 kHz, γ_D ≈ −0.25 kHz, in cm⁻¹.
 func oxygenTruth() *openTruth {
 	const mhz = 1 / 29979.2458
-	x := states.State{Label: "X", Multiplicity: 3, Symmetry: states.Symmetry{Parity: 'g', Reflection: '-'}}
+	x := states.State{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Parity: 'g', Reflection: '-'}}
 	return newTruth([]states.State{x}, map[[2]int]genState{
 		{0, 0}: {S2: 2, Minus: true, B: 43100.4 * mhz, D: 0.1451 * mhz, Lam: 59501.3 * mhz, LamD: 0.0584 * mhz, Gamma: -252.6 * mhz, GD: -0.00025 * mhz},
 	})
@@ -260,7 +261,7 @@ func oxygenLines(o *openTruth, rng *rand.Rand) []linelist.Line {
 // cyanideTruth: CN X²Σ⁺ v = 0 and 1, constants of the size of Huber &
 // Herzberg's (1979, from memory).
 func cyanideTruth() *openTruth {
-	x := states.State{Label: "X", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}}
+	x := states.State{Label: "X", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}}
 	return newTruth([]states.State{x}, map[[2]int]genState{
 		{0, 0}: {S2: 1, B: 1.89108, D: 6.40e-6, Gamma: 7.25e-3},
 		{0, 1}: {S2: 1, T: 2042.42, B: 1.87366, D: 6.41e-6, Gamma: 7.10e-3},

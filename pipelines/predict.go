@@ -15,6 +15,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/fit/states"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 	"bandwright/thermo"
@@ -275,6 +276,27 @@ func addIntensities(ps []fit.Prediction, c *constants.Set, sp string, spec assig
 		p.Intensity = im.RelativeIntensity(t, p.Position)
 	}
 	return nil
+}
+
+// LoadStates reads the electronic-states file at path (states.Read); an
+// empty path gives nil.
+func LoadStates(path string) (*states.File, error) {
+	if path == "" {
+		return nil, nil
+	}
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("pipelines: %w", err)
+	}
+	defer f.Close()
+	sf, err := states.Read(f, path)
+	if err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
+	}
+	return sf, nil
 }
 
 // writeFileAtomic writes a single file through a temporary file renamed into

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -14,7 +13,6 @@ import (
 	"bandwright/constants"
 	"bandwright/fit/species"
 	"bandwright/internal/failure"
-	"bandwright/internal/textcheck"
 	"bandwright/pipelines/outdir"
 	"bandwright/thermo"
 )
@@ -125,26 +123,17 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	}
 	inputs := []string{o.Constants}
 	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: o.Constants, Species: o.Species}
-	var states *thermo.StatesFile
-	if o.States != "" {
-		if why := textcheck.NotRegular(o.States); why != "" {
-			return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", o.States, why)
-		}
-		f, err := os.Open(o.States)
-		if err != nil {
-			return nil, fmt.Errorf("pipelines: %w", err)
-		}
-		states, err = thermo.ReadStates(f, o.States)
-		f.Close()
-		if err != nil {
-			return nil, err
-		}
+	sf, err := LoadStates(o.States)
+	if err != nil {
+		return nil, err
+	}
+	if sf != nil {
 		inputs = append(inputs, o.States)
 		if p.Species == "" {
-			if err := states.CheckSpecies(o.Constants, c.Model.Species()); err != nil {
+			if err := sf.CheckSpecies(o.Constants, c.Model.Species()); err != nil {
 				return nil, err
 			}
-			p.Species = states.Species
+			p.Species = sf.Species
 		}
 	}
 	if p.Species == "" {
@@ -155,12 +144,12 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		return nil, failure.Errorf(failure.BadInput, "thermo: --species: %w", err)
 	}
 	p.Species = iso.Label
-	if states != nil {
-		if err := states.Check(iso); err != nil {
+	if sf != nil {
+		if err := sf.Check(iso); err != nil {
 			return nil, err
 		}
-		p.DissociationEnergy, p.DissociationSigma = states.DissociationEnergy, states.DissociationSigma
-		for i, cs := range states.States {
+		p.DissociationEnergy, p.DissociationSigma = sf.DissociationEnergy, sf.DissociationSigma
+		for i, cs := range sf.States {
 			st := thermo.State{Label: cs.Label, TermEnergy: cs.TermEnergy, Multiplicity: cs.Multiplicity, Lambda: cs.Lambda, Symmetry: cs.Symmetry,
 				OmegaE: cs.OmegaE, OmegaESigma: cs.OmegaESigma, FineStructureWidth: cs.FineStructureWidth, ProductsEnergy: cs.ProductsEnergy}
 			if cs.Constants != "" {

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/unit/constant"
 
 	"bandwright/fit/linelist"
+	"bandwright/fit/states"
 	"bandwright/internal/failure"
 	"bandwright/units"
 )
@@ -403,7 +404,7 @@ func TestOpenShellRefused(t *testing.T) {
 func TestOxygenFineStructure(t *testing.T) {
 	hhO2 := hh{label: "16O16O", we: 1580.193, wexe: 11.981, weye: 0.04747, be: 1.44563, alpha: 0.0159305, de: 4.839e-6, homonuclear: true, vmax: 3, jmax: 31}
 	rec, c := fitHH(t, hhO2, 0.001, 14)
-	file, err := ReadStates(strings.NewReader(`
+	file, err := states.Read(strings.NewReader(`
 species = "16O2"
 dissociation_energy = 41260.0
 dissociation_energy_sigma = 15.0

@@ -10,6 +10,7 @@ import (
 
 	"bandwright/fit/linelist"
 	"bandwright/fit/species"
+	"bandwright/fit/states"
 	"bandwright/internal/failure"
 	"bandwright/units"
 )
@@ -158,7 +159,7 @@ func TestExcitedStates(t *testing.T) {
 func TestOxygenStates(t *testing.T) {
 	hhO2 := hh{label: "16O16O", we: 1580.193, wexe: 11.981, weye: 0.04747, be: 1.44563, alpha: 0.0159305, de: 4.839e-6, homonuclear: true, vmax: 3, jmax: 31}
 	rec, c := fitHH(t, hhO2, 0.001, 14)
-	file, err := ReadStates(strings.NewReader(`
+	file, err := states.Read(strings.NewReader(`
 species = "16O2"
 dissociation_energy = 41260.0
 [[state]]

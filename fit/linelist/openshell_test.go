@@ -6,14 +6,15 @@ import (
 	"strings"
 	"testing"
 
+	"bandwright/fit/species"
 	"bandwright/fit/states"
 )
 
 var (
-	o2States = []states.State{{Label: "X", Multiplicity: 3, Symmetry: states.Symmetry{Parity: 'g', Reflection: '-'}}}
+	o2States = []states.State{{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Parity: 'g', Reflection: '-'}}}
 	noStates = []states.State{
 		{Label: "X", Multiplicity: 2, Lambda: 1},
-		{Label: "A", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}, TermEnergy: 43965.7},
+		{Label: "A", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}, TermEnergy: 43965.7},
 	}
 )
 

@@ -7,13 +7,14 @@ import (
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"bandwright/fit/species"
 	"bandwright/fit/states"
 )
 
 var (
 	stDoubletPi   = states.State{Label: "X", Multiplicity: 2, Lambda: 1}
-	stTripletSigM = states.State{Label: "X", Multiplicity: 3, Symmetry: states.Symmetry{Parity: 'g', Reflection: '-'}}
-	stDoubletSigP = states.State{Label: "X", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}}
+	stTripletSigM = states.State{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Parity: 'g', Reflection: '-'}}
+	stDoubletSigP = states.State{Label: "X", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}}
 	stSingletPi   = states.State{Label: "A", Multiplicity: 1, Lambda: 1, TermEnergy: 65000}
 )
 
@@ -196,7 +197,7 @@ func TestTripletSigmaSchlapp(t *testing.T) {
 func nitricOxide(t *testing.T) (*Dunham, []float64, map[string]float64) {
 	t.Helper()
 	x := stDoubletPi
-	a := states.State{Label: "A", Multiplicity: 2, Symmetry: states.Symmetry{Reflection: '+'}, TermEnergy: 43965.7}
+	a := states.State{Label: "A", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}, TermEnergy: 43965.7}
 	m, err := NewDunham(mustIsos(t, "14N16O", "15N16O"), DunhamOptions{
 		States: []states.State{x, a},
 		Terms: []string{"Y10", "Y20", "Y01", "Y11", "Y02", "A_e", "alpha_A", "A_D", "gamma_e", "p_e", "alpha_p", "q_e", "p_D", "q_D",

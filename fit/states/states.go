@@ -41,65 +41,44 @@ package states
 import (
 	"fmt"
 	"strings"
+
+	"bandwright/fit/species"
 )
-
-// Symmetry is the symmetry of an electronic state: Parity is 'g', 'u' or 0
-// (nuclei of two different elements, or not given); Reflection is '+', '-' or
-// 0 (Λ > 0, or not given).
-type Symmetry struct {
-	Parity     byte
-	Reflection byte
-}
-
-// String returns the symmetry as written in files: "g-", "u", "+", "".
-func (y Symmetry) String() string {
-	var b []byte
-	if y.Parity != 0 {
-		b = append(b, y.Parity)
-	}
-	if y.Reflection != 0 {
-		b = append(b, y.Reflection)
-	}
-	return string(b)
-}
-
-// ParseSymmetry reads "g+", "g-", "u+", "u-", "g", "u", "+", "-" or "" (a
-// Unicode minus "−" is accepted for "-").
-func ParseSymmetry(s string) (Symmetry, error) {
-	var y Symmetry
-	rest := s
-	if len(rest) > 0 && (rest[0] == 'g' || rest[0] == 'u') {
-		y.Parity = rest[0]
-		rest = rest[1:]
-	}
-	switch rest {
-	case "":
-	case "+":
-		y.Reflection = '+'
-	case "-", "−":
-		y.Reflection = '-'
-	default:
-		return Symmetry{}, fmt.Errorf("%q is not one of g+, g-, u+, u-, g, u, +, -", s)
-	}
-	return y, nil
-}
 
 // State is one electronic state.
 type State struct {
 	Label        string
 	Multiplicity int // 2S+1
 	Lambda       int // |Λ|: 0 Σ, 1 Π, 2 Δ
-	Symmetry     Symmetry
+	Symmetry     species.StateSymmetry
 	// TermEnergy is the energy of the state's zero above the ground state's
-	// (cm⁻¹), 0 for the ground state; a fit takes it as the starting value of
-	// the state's term energy.
+	// (cm⁻¹), 0 for the ground state (see File); a fit takes it as the
+	// starting value of the state's term energy.
 	TermEnergy float64
+	// Constants is the path of a constants record of the state, as written in
+	// the electronic-states file (relative to it); empty when none is given.
+	Constants string
+	// OmegaE and OmegaESigma are ω_e and its 1σ, cm⁻¹; 0 when not given (for
+	// the thermo stage, see File).
+	OmegaE, OmegaESigma float64
+	// FineStructureWidth is the spread of the spin components of a level,
+	// cm⁻¹; nil when not given (thermo).
+	FineStructureWidth *float64
+	// ProductsEnergy is the energy of the state's dissociation products above
+	// those of the ground state, cm⁻¹ (0: the same asymptote; thermo).
+	ProductsEnergy float64
 }
 
 // Ground is the state the models assume when no states are given: a
 // closed-shell ¹Σ⁺ ground state labelled "X".
 func Ground() State {
-	return State{Label: "X", Multiplicity: 1, Symmetry: Symmetry{Reflection: '+'}}
+	return State{Label: "X", Multiplicity: 1, Symmetry: species.StateSymmetry{Reflection: '+'}}
+}
+
+// SameTerm reports whether two states have the same label, multiplicity, Λ
+// and symmetry (what the models and the record describe of a state).
+func (s State) SameTerm(o State) bool {
+	return s.Label == o.Label && s.Multiplicity == o.Multiplicity && s.Lambda == o.Lambda && s.Symmetry == o.Symmetry
 }
 
 // TwiceS returns 2S = multiplicity − 1.

@@ -1,4 +1,4 @@
-package thermo
+package states
 
 import (
 	"strings"
@@ -27,8 +27,8 @@ symmetry = "g"
 constants = "a-state.json"
 `
 
-func TestReadStates(t *testing.T) {
-	c, err := ReadStates(strings.NewReader(o2States), "o2.toml")
+func TestRead(t *testing.T) {
+	c, err := Read(strings.NewReader(o2States), "o2.toml")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -79,26 +79,26 @@ func TestReadStatesErrors(t *testing.T) {
 		{"[[state]\n", "states.toml:2: "},
 	}
 	for _, tc := range cases {
-		_, err := ReadStates(strings.NewReader(tc.text), "states.toml")
+		_, err := Read(strings.NewReader(tc.text), "states.toml")
 		if err == nil {
 			t.Errorf("accepted:\n%s", tc.text)
 			continue
 		}
 		msg := err.Error()
-		if !strings.HasPrefix(msg, "thermo: states.toml") || !strings.Contains(msg, tc.field) {
+		if !strings.HasPrefix(msg, "states: states.toml") || !strings.Contains(msg, tc.field) {
 			t.Errorf("error %q does not name the file and %q", msg, tc.field)
 		}
 	}
 	// Lines: the message names the line of the key, and a decimal comma gets a hint.
 	for _, tc := range []struct{ text, want string }{
-		{"# O2\n\n[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 3\nlambda = 11\n", "thermo: states.toml:7: state 1 (X): lambda: 11 must be within 0…10"},
-		{"[[state]]\nterm_energy = 0.0\nlambda = 0\n", "thermo: states.toml:1: state 1: spin_multiplicity: missing"},
+		{"# O2\n\n[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 3\nlambda = 11\n", "states: states.toml:7: state 1 (X): lambda: 11 must be within 0…10"},
+		{"[[state]]\nterm_energy = 0.0\nlambda = 0\n", "states: states.toml:1: state 1: spin_multiplicity: missing"},
 		{"dissociation_energy = 41260,5\n" + state(""), "states.toml:1: "},
 		{"dissociation_energy = 41260,5\n" + state(""), "(decimal comma?"},
 		{state("") + "[[state]]\nlabel = \"a\"\nterm_energy = 7918.1\nspin_multiplicity = 1\nlambda = 2\ncolour = 1\n", "states.toml:11: unknown key \"state.colour\""},
 		{"[[state]]\nlabel = \"X\xff\"\n", "states.toml:2: state.label: invalid UTF-8"},
 	} {
-		_, err := ReadStates(strings.NewReader(tc.text), "states.toml")
+		_, err := Read(strings.NewReader(tc.text), "states.toml")
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%q: %v, want %q", tc.text, err, tc.want)
 		}
@@ -110,7 +110,7 @@ func TestReadStatesErrors(t *testing.T) {
 		{"1H35Cl", state("symmetry = \"g+\"\n")},                                        // two elements: no g/u
 		{"14N14N", "[[state]]\nterm_energy = 0.0\nspin_multiplicity = 2\nlambda = 1\n"}, // homonuclear Π: g or u needed
 	} {
-		c, err := ReadStates(strings.NewReader(tc.text), "states.toml")
+		c, err := Read(strings.NewReader(tc.text), "states.toml")
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -132,9 +132,9 @@ func FuzzReadStates(f *testing.F) {
 	f.Add("dissociation_energy = 41260,5\n[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Add("species = \"12C16O\"\n[[state]]\nlabel = \"caf\xe9\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Fuzz(func(t *testing.T, s string) {
-		c, err := ReadStates(strings.NewReader(s), "fuzz.toml")
+		c, err := Read(strings.NewReader(s), "fuzz.toml")
 		if err != nil {
-			if !strings.HasPrefix(err.Error(), "thermo: fuzz.toml") {
+			if !strings.HasPrefix(err.Error(), "states: fuzz.toml") {
 				t.Fatalf("error without file name: %v", err)
 			}
 			return
@@ -155,4 +155,13 @@ func FuzzReadStates(f *testing.F) {
 			_ = c.Check(mustParse(t, l))
 		}
 	})
+}
+
+func mustParse(t testing.TB, label string) species.Isotopologue {
+	t.Helper()
+	iso, err := species.Parse(label)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return iso
 }

@@ -1,4 +1,4 @@
-package thermo
+package states
 
 import (
 	"errors"
@@ -14,42 +14,50 @@ import (
 	"bandwright/internal/textcheck"
 )
 
-// StatesFile is an electronic-states file: the electronic states that enter
+// File is an electronic-states file: the electronic states of a molecule,
+// for the fit (which states the levels of the lines belong to, and starting
+// values of their constants) and for the thermo stage (the states that enter
 // the partition function and, optionally, the dissociation energy that bounds
-// the level sum. It is read from TOML:
+// the level sum). One file serves every stage. It is read from TOML:
 //
 //	species = "16O16O"
 //	dissociation_energy = 41260.0     # D0 in cm-1 above the lowest level, optional
 //	dissociation_energy_sigma = 10.0  # its 1σ, cm-1, optional
 //	[[state]]
-//	label = "X"                       # free text
+//	label = "X"                       # no spaces or : [ ] = , (line lists and parameter names use it)
 //	term_energy = 0.0                 # cm-1
 //	spin_multiplicity = 3             # 2S+1
 //	lambda = 0                        # |Λ|: 0 Σ, 1 Π, 2 Δ
-//	symmetry = "g-"                   # homonuclear Σ: g+, g-, u+, u-; homonuclear Λ>0: g or u
-//	constants = "excited.json"        # optional constants record of this state
+//	symmetry = "g-"                   # Σ: + or - (g+, g-, u+, u- when homonuclear); homonuclear Λ>0: g or u
+//	constants = "excited.json"        # optional constants record of this state (thermo)
 //	omega_e = 1580.2                  # ω_e, cm-1, optional: for records without vibrational levels
 //	omega_e_sigma = 0.5               # its 1σ, cm-1, optional
 //	fine_structure_width = 4.0        # spread of the spin components of a level, cm-1, optional
 //	products_energy = 0.0             # energy of the state's dissociation products above the ground state's, cm-1, optional
+//	[state.start]                     # optional starting values of a fit, cm-1
+//	B = 1.4377
+//	lambda = 1.98
 //
 // term_energy is the energy of the state's model zero above the ground state's
 // model zero (T_e between potential minima for Dunham models, the separation of
 // the lowest vibrational levels for term-values models). Exactly one state has
 // term_energy 0: the ground state, whose constants are the record given to the
 // thermo stage. A state without constants is the ground-state manifold shifted by
-// term_energy. Paths are relative to the file.
+// term_energy. Paths are relative to the file. The keys of [state.start] are
+// the constants of the state's case (T, B, D, H, L, A, A_D, gamma, gamma_D,
+// lambda, lambda_D, p, q, p_D, q_D; see package model).
 //
 // omega_e (with omega_e_sigma) gives the vibrational frequency of a state whose
 // constants record has a single vibrational level (a pure-rotation fit): the
-// levels v ≥ 1 are then extrapolated from it (see the package doc, Uncertainty
-// budget). fine_structure_width is the spread of the 2S+1 spin components (or
-// the spin–orbit components) of one rotational level, which the models do not
-// resolve: about 2|λ| for a ³Σ state, |A| for a ²Π state; it sizes the
-// fine-structure entry of the uncertainty budget. products_energy places the
-// state's dissociation asymptote at D0 + products_energy above the lowest
-// level (default: the ground state's asymptote).
-type StatesFile struct {
+// levels v ≥ 1 are then extrapolated from it (see the package doc of thermo,
+// Uncertainty budget). fine_structure_width is the spread of the 2S+1 spin
+// components (or the spin–orbit components) of one rotational level, which the
+// thermo stage does not resolve: about 2|λ| for a ³Σ state, |A| for a ²Π
+// state; it sizes the fine-structure entry of the uncertainty budget.
+// products_energy places the state's dissociation asymptote at D0 +
+// products_energy above the lowest level (default: the ground state's
+// asymptote).
+type File struct {
 	// Name is the file the states were read from (for messages).
 	Name    string
 	Species string
@@ -57,29 +65,26 @@ type StatesFile struct {
 	DissociationEnergy float64
 	// DissociationSigma is the 1σ of D0, cm⁻¹; 0 when not given.
 	DissociationSigma float64
-	States            []StateEntry
-	speciesAt         string // "name:line" of the species key, for messages
+	// States are the states in the order of the file.
+	States []State
+	// Start are the starting values of [state.start], state by state in
+	// file order, names sorted.
+	Start     []Start
+	speciesAt string // "name:line" of the species key, for messages
 }
 
-// StateEntry is one [[state]] of an electronic-states file.
-type StateEntry struct {
-	Label        string
-	TermEnergy   float64 // cm⁻¹
-	Multiplicity int     // 2S+1
-	Lambda       int     // |Λ|
-	Symmetry     species.StateSymmetry
-	Constants    string // path as written in the file (relative to the file); empty: shifted ground state
-	// OmegaE and OmegaESigma are ω_e and its 1σ, cm⁻¹; 0 when not given.
-	OmegaE, OmegaESigma float64
-	// FineStructureWidth is the spread of the spin components of a level,
-	// cm⁻¹; nil when not given.
-	FineStructureWidth *float64
-	// ProductsEnergy is the energy of the state's dissociation products above
-	// those of the ground state, cm⁻¹ (0: the same asymptote).
-	ProductsEnergy float64
+// Start is the starting value (cm⁻¹) of one constant of one electronic state
+// for a nonlinear fit.
+type Start struct {
+	State string // label; empty: the ground state
+	Name  string // "T", "B", "D", "A", "lambda", "gamma", "p", "q", …
+	Value float64
 }
 
-type rawStatesFile struct {
+// startNames are the keys of [state.start].
+var startNames = []string{"T", "B", "D", "H", "L", "A", "A_D", "gamma", "gamma_D", "lambda", "lambda_D", "p", "q", "p_D", "q_D"}
+
+type rawFile struct {
 	Species            *string    `toml:"species"`
 	DissociationEnergy *float64   `toml:"dissociation_energy"`
 	DissociationSigma  *float64   `toml:"dissociation_energy_sigma"`
@@ -87,49 +92,51 @@ type rawStatesFile struct {
 }
 
 type rawState struct {
-	Label            *string  `toml:"label"`
-	TermEnergy       *float64 `toml:"term_energy"`
-	SpinMultiplicity *int     `toml:"spin_multiplicity"`
-	Lambda           *int     `toml:"lambda"`
-	Symmetry         *string  `toml:"symmetry"`
-	Constants        *string  `toml:"constants"`
-	OmegaE           *float64 `toml:"omega_e"`
-	OmegaESigma      *float64 `toml:"omega_e_sigma"`
-	FineWidth        *float64 `toml:"fine_structure_width"`
-	ProductsEnergy   *float64 `toml:"products_energy"`
+	Label            *string            `toml:"label"`
+	TermEnergy       *float64           `toml:"term_energy"`
+	SpinMultiplicity *int               `toml:"spin_multiplicity"`
+	Lambda           *int               `toml:"lambda"`
+	Symmetry         *string            `toml:"symmetry"`
+	Constants        *string            `toml:"constants"`
+	OmegaE           *float64           `toml:"omega_e"`
+	OmegaESigma      *float64           `toml:"omega_e_sigma"`
+	FineWidth        *float64           `toml:"fine_structure_width"`
+	ProductsEnergy   *float64           `toml:"products_energy"`
+	Start            map[string]float64 `toml:"start"`
 }
 
-const statesKeys = "species, dissociation_energy, dissociation_energy_sigma, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants, omega_e, omega_e_sigma, fine_structure_width, products_energy"
+const statesKeys = "species, dissociation_energy, dissociation_energy_sigma, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants, omega_e, omega_e_sigma, fine_structure_width, products_energy, [state.start]"
 
 // maxStatesSize bounds the file read (an electronic-states file is a few
 // hundred bytes).
 const maxStatesSize = 1 << 20
 
-// ReadStates reads and checks an electronic-states file. name is the file name
+// Read reads and checks an electronic-states file. name is the file name
 // used in messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
 // lambda of every state), non-finite or negative energies, malformed symmetry
-// labels and text that is not UTF-8 are errors naming the file, the line (where
-// the key can be found in the text) and the field; a number written with a
-// decimal comma gets a hint.
-func ReadStates(r io.Reader, name string) (*StatesFile, error) {
+// labels, labels given twice or with characters that line lists and parameter
+// names cannot carry, unknown or non-finite starting values and text that is not
+// UTF-8 are errors naming the file, the line (where the key can be found in the
+// text) and the field; a number written with a decimal comma gets a hint.
+func Read(r io.Reader, name string) (*File, error) {
 	b, err := io.ReadAll(io.LimitReader(r, maxStatesSize+1))
 	if err != nil {
-		return nil, fmt.Errorf("thermo: %s: %w", name, err)
+		return nil, fmt.Errorf("states: %s: %w", name, err)
 	}
 	if len(b) > maxStatesSize {
-		return nil, fmt.Errorf("thermo: %s: larger than %d bytes; not an electronic-states file", name, maxStatesSize)
+		return nil, fmt.Errorf("states: %s: larger than %d bytes; not an electronic-states file", name, maxStatesSize)
 	}
 	raw, err := decodeStates(b, name)
 	if err != nil {
 		return nil, err
 	}
 	at := statesText{name: name, b: b}
-	c := &StatesFile{Name: name}
+	c := &File{Name: name}
 	if err := c.readTop(raw, at); err != nil {
 		return nil, err
 	}
 	if len(raw.State) == 0 {
-		return nil, fmt.Errorf("thermo: %s: state: no [[state]] given (the ground state at least)", name)
+		return nil, fmt.Errorf("states: %s: state: no [[state]] given (the ground state at least)", name)
 	}
 	ground := -1
 	for i, rs := range raw.State {
@@ -137,13 +144,21 @@ func ReadStates(r io.Reader, name string) (*StatesFile, error) {
 		if err != nil {
 			return nil, err
 		}
+		if Index(c.States, s.Label) >= 0 {
+			return nil, fmt.Errorf("states: %s: state %d: label: %q is the label of an earlier state", at.state(i, "label"), i+1, s.Label)
+		}
 		if s.TermEnergy == 0 {
 			ground = i
 		}
 		c.States = append(c.States, s)
+		starts, err := readStart(i, s, rs.Start, at)
+		if err != nil {
+			return nil, err
+		}
+		c.Start = append(c.Start, starts...)
 	}
 	if ground < 0 {
-		return nil, fmt.Errorf("thermo: %s: term_energy: no state has term_energy 0 (the ground state)", name)
+		return nil, fmt.Errorf("states: %s: term_energy: no state has term_energy 0 (the ground state)", name)
 	}
 	return c, nil
 }
@@ -174,8 +189,8 @@ func (t statesText) state(i int, key string) string {
 // decodeStates decodes the TOML of an electronic-states file. A syntax error
 // names the line and the key (with a hint for a decimal comma); a key the file
 // does not know is an error at the line where it is written.
-func decodeStates(b []byte, name string) (rawStatesFile, error) {
-	var raw rawStatesFile
+func decodeStates(b []byte, name string) (rawFile, error) {
+	var raw rawFile
 	md, err := toml.Decode(string(b), &raw)
 	if err != nil {
 		var pe toml.ParseError
@@ -184,9 +199,9 @@ func decodeStates(b []byte, name string) (rawStatesFile, error) {
 			if pe.LastKey != "" {
 				field = pe.LastKey + ": "
 			}
-			return raw, fmt.Errorf("thermo: %s:%d: %s%s%s", name, pe.Position.Line, field, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))
+			return raw, fmt.Errorf("states: %s:%d: %s%s%s", name, pe.Position.Line, field, pe.Message, textcheck.DecimalCommaHint(b, pe.Position.Line))
 		}
-		return raw, fmt.Errorf("thermo: %s: %w", name, err)
+		return raw, fmt.Errorf("states: %s: %w", name, err)
 	}
 	und := md.Undecoded()
 	if len(und) == 0 {
@@ -214,18 +229,18 @@ func decodeStates(b []byte, name string) (rawStatesFile, error) {
 			where = at.top(k[0])
 		}
 	}
-	return raw, fmt.Errorf("thermo: %s: unknown key %q (an electronic-states file knows %s)", where, keys[0], statesKeys)
+	return raw, fmt.Errorf("states: %s: unknown key %q (an electronic-states file knows %s)", where, keys[0], statesKeys)
 }
 
 // readTop reads and checks the top-level keys: species and dissociation_energy.
-func (c *StatesFile) readTop(raw rawStatesFile, at statesText) error {
+func (c *File) readTop(raw rawFile, at statesText) error {
 	if raw.Species != nil {
 		if why := textcheck.InvalidUTF8(*raw.Species); why != "" {
-			return fmt.Errorf("thermo: %s: species: %s", at.top("species"), why)
+			return fmt.Errorf("states: %s: species: %s", at.top("species"), why)
 		}
 		iso, err := species.Parse(*raw.Species)
 		if err != nil {
-			return fmt.Errorf("thermo: %s: species: %w", at.top("species"), err)
+			return fmt.Errorf("states: %s: species: %w", at.top("species"), err)
 		}
 		c.Species = iso.Label
 		c.speciesAt = at.top("species")
@@ -233,17 +248,17 @@ func (c *StatesFile) readTop(raw rawStatesFile, at statesText) error {
 	if raw.DissociationEnergy != nil {
 		d := *raw.DissociationEnergy
 		if !(d > 0) || math.IsInf(d, 0) {
-			return fmt.Errorf("thermo: %s: dissociation_energy: %v cm-1 must be a finite number > 0", at.top("dissociation_energy"), d)
+			return fmt.Errorf("states: %s: dissociation_energy: %v cm-1 must be a finite number > 0", at.top("dissociation_energy"), d)
 		}
 		c.DissociationEnergy = d
 	}
 	if raw.DissociationSigma != nil {
 		d := *raw.DissociationSigma
 		if raw.DissociationEnergy == nil {
-			return fmt.Errorf("thermo: %s: dissociation_energy_sigma: given without dissociation_energy", at.top("dissociation_energy_sigma"))
+			return fmt.Errorf("states: %s: dissociation_energy_sigma: given without dissociation_energy", at.top("dissociation_energy_sigma"))
 		}
 		if !(d > 0) || math.IsInf(d, 0) || d >= c.DissociationEnergy {
-			return fmt.Errorf("thermo: %s: dissociation_energy_sigma: %v cm-1 must be a finite number > 0 and below dissociation_energy", at.top("dissociation_energy_sigma"), d)
+			return fmt.Errorf("states: %s: dissociation_energy_sigma: %v cm-1 must be a finite number > 0 and below dissociation_energy", at.top("dissociation_energy_sigma"), d)
 		}
 		c.DissociationSigma = d
 	}
@@ -252,21 +267,24 @@ func (c *StatesFile) readTop(raw rawStatesFile, at statesText) error {
 
 // readStateEntry reads and checks [[state]] number i (0-based); ground is the
 // index of the state with term energy 0 among the earlier ones, −1 if none.
-func readStateEntry(i int, rs rawState, ground int, at statesText) (StateEntry, error) {
+func readStateEntry(i int, rs rawState, ground int, at statesText) (State, error) {
 	what := fmt.Sprintf("state %d", i+1)
-	var s StateEntry
+	var s State
 	if rs.Label != nil {
 		s.Label = *rs.Label
 		if why := textcheck.InvalidUTF8(s.Label); why != "" {
-			return s, fmt.Errorf("thermo: %s: %s: label: %s", at.state(i, "label"), what, why)
+			return s, fmt.Errorf("states: %s: %s: label: %s", at.state(i, "label"), what, why)
+		}
+		if s.Label == "" || strings.ContainsAny(s.Label, ":[]=, \t\n\r") {
+			return s, fmt.Errorf("states: %s: %s: label: %q: a label is non-empty, without spaces or any of : [ ] = , (line lists and parameter names carry it)", at.state(i, "label"), what, s.Label)
 		}
 		what += fmt.Sprintf(" (%s)", s.Label)
 	} else {
-		s.Label = fmt.Sprintf("state %d", i+1)
+		s.Label = fmt.Sprintf("S%d", i+1)
 	}
 	// fail formats the error of key of this state.
 	fail := func(key, format string, a ...any) error {
-		return fmt.Errorf("thermo: %s: %s: %s: %s", at.state(i, key), what, key, fmt.Sprintf(format, a...))
+		return fmt.Errorf("states: %s: %s: %s: %s", at.state(i, key), what, key, fmt.Sprintf(format, a...))
 	}
 	if rs.TermEnergy == nil {
 		return s, fail("term_energy", "missing (cm-1; 0 for the ground state)")
@@ -324,7 +342,7 @@ func readStateEntry(i int, rs rawState, ground int, at statesText) (StateEntry, 
 // budget: omega_e and omega_e_sigma (ω_e > 0, its σ ≥ 0 and below ω_e, only
 // with omega_e), fine_structure_width (≥ 0) and products_energy (≥ 0), all
 // finite, in cm⁻¹.
-func readStateBudgetKeys(s *StateEntry, rs rawState, fail func(key, format string, a ...any) error) error {
+func readStateBudgetKeys(s *State, rs rawState, fail func(key, format string, a ...any) error) error {
 	finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 	if rs.OmegaE != nil {
 		if w := *rs.OmegaE; !(w > 0) || !finite(w) {
@@ -360,7 +378,7 @@ func readStateBudgetKeys(s *StateEntry, rs rawState, fail func(key, format strin
 // CheckSpecies checks that an electronic-states file naming its species is
 // used with a constants record (named record in messages) that describes it:
 // have lists the record's isotopologues.
-func (c *StatesFile) CheckSpecies(record string, have []string) error {
+func (c *File) CheckSpecies(record string, have []string) error {
 	if c.Species == "" {
 		return nil
 	}
@@ -373,21 +391,73 @@ func (c *StatesFile) CheckSpecies(record string, have []string) error {
 	if at == "" {
 		at = c.Name
 	}
-	return fmt.Errorf("thermo: %s: species: the electronic-states file is for %s, but %s has %s (correct the file, or give the constants of %s)", at, c.Species, record, strings.Join(have, ", "), c.Species)
+	return fmt.Errorf("states: %s: species: the electronic-states file is for %s, but %s has %s (correct the file, or give the constants of %s)", at, c.Species, record, strings.Join(have, ", "), c.Species)
 }
 
 // Check checks the file against the isotopologue the thermo stage computes:
 // the species must match when the file names one, homonuclear molecules need
 // the g/u (and for Σ states ±) symmetry of every state, and molecules of two
 // different elements have no g/u symmetry.
-func (c *StatesFile) Check(iso species.Isotopologue) error {
+func (c *File) Check(iso species.Isotopologue) error {
 	if c.Species != "" && c.Species != iso.Label {
-		return fmt.Errorf("thermo: %s: species: the electronic-states file is for %s, the constants are used for %s", c.Name, c.Species, iso.Label)
+		return fmt.Errorf("states: %s: species: the electronic-states file is for %s, the constants are used for %s", c.Name, c.Species, iso.Label)
 	}
 	for i, s := range c.States {
 		if err := iso.CheckStateSymmetry(s.Lambda, s.Symmetry); err != nil {
-			return fmt.Errorf("thermo: %s: state %d (%s): symmetry: %w", c.Name, i+1, s.Label, err)
+			return fmt.Errorf("states: %s: state %d (%s): symmetry: %w", c.Name, i+1, s.Label, err)
 		}
 	}
 	return nil
+}
+
+// readStart reads the [state.start] table of state s (number i, 0-based).
+func readStart(i int, s State, raw map[string]float64, at statesText) ([]Start, error) {
+	var names []string
+	for k := range raw {
+		names = append(names, k)
+	}
+	sort.Strings(names)
+	var out []Start
+	for _, n := range names {
+		v := raw[n]
+		where := at.state(i, n)
+		switch {
+		case !contains(startNames, n):
+			return nil, fmt.Errorf("states: %s: state %d (%s): start.%s: not a constant (starting values are given for %s)", where, i+1, s.Label, n, strings.Join(startNames, ", "))
+		case math.IsNaN(v) || math.IsInf(v, 0):
+			return nil, fmt.Errorf("states: %s: state %d (%s): start.%s: %v must be a finite number (cm-1)", where, i+1, s.Label, n, v)
+		}
+		label := s.Label
+		if s.TermEnergy == 0 {
+			label = ""
+		}
+		out = append(out, Start{State: label, Name: n, Value: v})
+	}
+	return out, nil
+}
+
+func contains(xs []string, s string) bool {
+	for _, x := range xs {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// Ordered returns the states with the ground state (term energy 0) first and
+// the others in file order: the order of the models.
+func (c *File) Ordered() []State {
+	var out []State
+	for _, s := range c.States {
+		if s.TermEnergy == 0 {
+			out = append(out, s)
+		}
+	}
+	for _, s := range c.States {
+		if s.TermEnergy != 0 {
+			out = append(out, s)
+		}
+	}
+	return out
 }
