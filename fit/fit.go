@@ -30,6 +30,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/lsq"
 	"bandwright/fit/model"
+	"bandwright/fit/states"
 )
 
 // Problem is what a fit works on: the lines and the model, and the starting
@@ -38,20 +39,13 @@ type Problem struct {
 	Lines []linelist.Line
 	Model model.Model
 	// Start are starting values of constants of the electronic states
-	// (usually from the electronic-states file); see Start. Without them a
-	// nonlinear fit starts from the linear fit of the case-(b) limit
+	// (usually the electronic-states file's [state.start]): every free
+	// parameter that stands for one starts there — the constant of each
+	// vibrational level in the term-values model; in the Dunham model X_e of
+	// a fine-structure constant, Y01 for B, −Y02 for D, T_e for T. Without
+	// them a nonlinear fit starts from the linear fit of the case-(b) limit
 	// (start.go).
-	Start []Start
-}
-
-// Start is a starting value (cm⁻¹) of one constant of one electronic state:
-// every free parameter that stands for it starts there — the constant of
-// each vibrational level in the term-values model; in the Dunham model X_e of
-// a fine-structure constant, Y01 for B, −Y02 for D, T_e for T.
-type Start struct {
-	State string // label; empty: the ground state
-	Name  string // "T", "B", "D", "A", "lambda", "gamma", "p", "q", …
-	Value float64
+	Start []states.Start
 }
 
 // Settings are the limits and switches of a fit. The zero value is a plain

@@ -130,7 +130,7 @@ func (o *openTruth) truthOf(p model.Param) float64 {
 }
 
 // fitOpen builds the term-values model of the lines and fits them.
-func fitOpen(t testing.TB, lines []linelist.Line, sts []states.State, terms []string, start []Start) (*Result, error) {
+func fitOpen(t testing.TB, lines []linelist.Line, sts []states.State, terms []string, start []states.Start) (*Result, error) {
 	t.Helper()
 	list := &linelist.List{Lines: lines}
 	if err := linelist.CheckStates(list, sts); err != nil {
@@ -334,7 +334,7 @@ func TestPullsOpenShell(t *testing.T) {
 	for _, c := range roundTrips {
 		t.Run(c.name, func(t *testing.T) {
 			o := c.truth()
-			start := []Start{{Name: "A", Value: o.lv[[2]int{0, 0}].A}}
+			start := []states.Start{{Name: "A", Value: o.lv[[2]int{0, 0}].A}}
 			sum, sumAbs, sum2 := map[string]float64{}, map[string]float64{}, map[string]float64{}
 			rng := rand.New(rand.NewPCG(2024, 11))
 			for d := 0; d < draws; d++ {
