@@ -103,6 +103,35 @@ func vibronicLevels(lines []linelist.Line, sts []states.State) ([]string, map[st
 	return order, levels, nil
 }
 
+// reachedStates keeps the ground state and the states the lines reach (an
+// electronic-states file may list states for the thermo stage that no line
+// of the fit belongs to), renumbering the levels.
+func reachedStates(sts []states.State, levels map[string]map[int]map[int]bool) ([]states.State, map[string]map[int]map[int]bool) {
+	keep := []int{0}
+	for st := 1; st < len(sts); st++ {
+		for _, bySt := range levels {
+			if len(bySt[st]) > 0 {
+				keep = append(keep, st)
+				break
+			}
+		}
+	}
+	out := make([]states.State, len(keep))
+	renum := map[string]map[int]map[int]bool{}
+	for i, st := range keep {
+		out[i] = sts[st]
+		for sp, bySt := range levels {
+			if renum[sp] == nil {
+				renum[sp] = map[int]map[int]bool{}
+			}
+			if vs := bySt[st]; vs != nil {
+				renum[sp][i] = vs
+			}
+		}
+	}
+	return out, renum
+}
+
 func stateOf(o *linelist.OpenShell, up bool) string {
 	switch {
 	case o == nil:
@@ -190,6 +219,10 @@ func BuildModel(lines []linelist.Line, spec ModelSpec) (model.Model, error) {
 	order, levels, err := vibronicLevels(lines, sts)
 	if err != nil {
 		return nil, err
+	}
+	sts, levels = reachedStates(sts, levels)
+	if spec.States != nil {
+		spec.States = sts
 	}
 	terms := spec.Terms
 	if len(terms) == 0 {

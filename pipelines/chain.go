@@ -37,7 +37,11 @@ type ChainOptions struct {
 	// Unit, when set, is the unit the fit's outputs show (FitOptions.Unit),
 	// in place of the pipeline file's.
 	Unit string
-	Out  string
+	// States is the electronic-states file of the fit and thermo stages
+	// (--states), the pipeline file's states when empty; giving both is an
+	// error.
+	States string
+	Out    string
 }
 
 // ChainOutcome is what a chain produced.
@@ -133,6 +137,14 @@ func newChainRun(d *outdir.Dir, o ChainOptions) (*chainRun, error) {
 		c.p = &Pipeline{Input: in}
 	} else if o.Assign != nil {
 		return nil, failure.Errorf(failure.BadInput, "run: give the assign options either in the pipeline file or on the command line, not both")
+	}
+	if o.States != "" {
+		if c.p.States != "" {
+			return nil, failure.Errorf(failure.BadInput, "run: --states %s and the pipeline file's states = %q: give the electronic-states file once", o.States, c.p.States)
+		}
+		p := *c.p
+		p.States = o.States
+		c.p = &p
 	}
 	if c.p.Path != "" {
 		d.Protect(c.p.Path)
@@ -236,6 +248,9 @@ func (c *chainRun) fit() error {
 // automatically (no pipeline file, or a [fit] section without model and terms).
 func (c *chainRun) modelOpen() bool {
 	f := c.p.Fit
+	if c.p.States != "" {
+		return false // the automatic choice compares closed-shell models only
+	}
 	return c.auto || f == nil || (f.Model == "" && len(f.Terms) == 0)
 }
 
@@ -334,7 +349,7 @@ func (p *Pipeline) assignOptions(peaks string) (AssignOptions, error) {
 
 // thermoOptions returns the thermo options of the pipeline for a constants record.
 func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
-	o := ThermoOptions{Constants: constants, Seed: thermo.DefaultSeed}
+	o := ThermoOptions{Constants: constants, Seed: thermo.DefaultSeed, States: p.States}
 	if t := p.Thermo; t != nil {
 		o.Species = t.Species
 		o.NASA.Break = t.NASABreakpoint
@@ -350,7 +365,7 @@ func (p *Pipeline) thermoOptions(constants string) (ThermoOptions, error) {
 			ts = append(ts, strconv.FormatFloat(x, 'g', -1, 64))
 		}
 		o.Temperatures = strings.Join(ts, ",")
-		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC, o.States = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC, t.States
+		o.Range, o.Pressure, o.Composition, o.NuclearSpin, o.MC = t.Range, t.Pressure, t.Composition, t.NuclearSpin, t.MC
 		if t.Seed != nil {
 			o.Seed = *t.Seed
 		}

@@ -13,6 +13,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/fit/states"
 	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 )
@@ -35,7 +36,11 @@ type FitOptions struct {
 	// "MHz" or "GHz"; "": the unit of the lines when they all share one,
 	// else cm-1 (LinesUnit).
 	Unit string
-	Out  string
+	// States is the electronic-states file (TOML), optional: the states
+	// the levels of the lines belong to and starting values of their
+	// constants. Without it every level is of a ¹Σ⁺ ground state.
+	States string
+	Out    string
 	// Names, when set, replaces the input paths in the lines' file column,
 	// residuals and provenance (the chain fits files it keeps in a temporary
 	// folder, nightly fits private snapshots).
@@ -87,7 +92,15 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 		}
 		fixes = append(fixes, fx)
 	}
-	hashes, err := HashFiles(o.Inputs)
+	sf, err := LoadStates(o.States)
+	if err != nil {
+		return nil, err
+	}
+	inputs := o.Inputs
+	if sf != nil {
+		inputs = append(append([]string(nil), o.Inputs...), o.States)
+	}
+	hashes, err := HashFiles(inputs)
 	if err != nil {
 		return nil, err
 	}
@@ -95,7 +108,15 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := linelist.CheckStates(list, nil); err != nil {
+	var sts []states.State
+	var start []states.Start
+	if sf != nil {
+		if err := sf.CheckSpecies(strings.Join(o.Inputs, ", "), list.Species()); err != nil {
+			return nil, failure.Wrap(failure.BadInput, err)
+		}
+		sts, start = sf.Ordered(), sf.Start
+	}
+	if err := linelist.CheckStates(list, sts); err != nil {
 		return nil, err
 	}
 	if len(o.Names) == len(o.Inputs) {
@@ -121,7 +142,7 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if kind == "" {
 		kind = fit.DefaultModel
 	}
-	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: o.Terms, Fixes: fixes, Reference: o.Reference, BOBTerms: o.BOBTerms})
+	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: o.Terms, Fixes: fixes, Reference: o.Reference, BOBTerms: o.BOBTerms, States: sts})
 	if err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
@@ -129,13 +150,13 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	if err != nil {
 		return nil, err
 	}
-	p := fit.Problem{Lines: list.Lines, Model: m}
+	p := fit.Problem{Lines: list.Lines, Model: m, Start: start}
 	s := fit.Settings{Reject: o.Reject, Round: o.Round, Calibrate: o.Calibrate, Unit: unit}
 	res, err := fit.Fit(p, s)
 	if err != nil {
 		return nil, err
 	}
-	if err := checkUnchanged(o.Inputs, hashes); err != nil {
+	if err := checkUnchanged(inputs, hashes); err != nil {
 		return nil, err
 	}
 	// Warnings of the reader (lines given twice) come first, naming file and row.
@@ -147,8 +168,8 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 		res.Warnings = append(ws, res.Warnings...)
 	}
 	rec := fit.NewRecord(res)
-	for i, in := range o.Inputs {
-		if len(o.Names) == len(o.Inputs) {
+	for i, in := range inputs {
+		if i < len(o.Names) && len(o.Names) == len(o.Inputs) {
 			in = o.Names[i]
 		}
 		rec.Provenance.Inputs = append(rec.Provenance.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
@@ -161,7 +182,7 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 	}
 	rec.Provenance.Options = map[string]any{
 		"model": kind, "terms": m.Params()[0].Name, "fix": o.Fix, "reject": rej, "round": o.Round,
-		"bob": o.BOBTerms, "calibrate": o.Calibrate, "reference": m.Species()[0], "unit": unit.String(),
+		"bob": o.BOBTerms, "calibrate": o.Calibrate, "reference": m.Species()[0], "unit": unit.String(), "states": o.States,
 	}
 	rec.Provenance.Options["terms"] = termsOf(o.Terms, kind)
 	return &FitOutcome{Problem: p, Result: res, Record: rec, Extra: list.Extra}, nil

@@ -27,6 +27,7 @@ import (
 //
 //	name = "co-cell-nightly"
 //	input = "lines"                  # or "peaks" (then [assign] is required)
+//	states = "states.toml"           # electronic-states file of every stage, optional
 //	[assign]  start = "start.toml", bands = ["1-0", "2-1"], …
 //	[fit]     model = "dunham", terms = ["Y10", "Y20", "Y01", "Y11", "Y02"], …
 //	[thermo]  temperatures = [298.15, 1000.0] or range = "10:6000:1", …
@@ -34,8 +35,11 @@ import (
 //
 // Relative paths resolve against the pipeline file's folder.
 type Pipeline struct {
-	Name   string         `toml:"name"`
-	Input  string         `toml:"input"`
+	Name  string `toml:"name"`
+	Input string `toml:"input"`
+	// States is the electronic-states file of the fit and thermo stages (one
+	// file for all stages), as --states.
+	States string         `toml:"states"`
 	Assign *AssignSection `toml:"assign"`
 	Fit    *FitSection    `toml:"fit"`
 	Thermo *ThermoSection `toml:"thermo"`
@@ -79,7 +83,6 @@ type FitSection struct {
 
 // ThermoSection holds the options of `bandwright thermo`.
 type ThermoSection struct {
-	States       string    `toml:"states"`
 	Temperatures []float64 `toml:"temperatures"`
 	Range        string    `toml:"range"`
 	Pressure     string    `toml:"pressure"`
@@ -168,9 +171,7 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 		p.Assign.Start = rel(p.Assign.Start)
 		p.Assign.Constants = rel(p.Assign.Constants)
 	}
-	if p.Thermo != nil {
-		p.Thermo.States = rel(p.Thermo.States)
-	}
+	p.States = rel(p.States)
 	return &p, nil
 }
 
@@ -307,7 +308,7 @@ func (r *ReportSection) check(at keyAt) error {
 // FitOptions returns the fit options of the pipeline for the given inputs and
 // output folder.
 func (p *Pipeline) FitOptions(inputs []string, out string) FitOptions {
-	o := FitOptions{Inputs: inputs, Out: out, Reject: fit.DefaultReject}
+	o := FitOptions{Inputs: inputs, Out: out, Reject: fit.DefaultReject, States: p.States}
 	if f := p.Fit; f != nil {
 		o.Model, o.Terms, o.Fix, o.Round, o.Calibrate, o.Reference, o.Unit = f.Model, f.Terms, f.Fix, f.Round, f.Calibrate, f.Reference, f.Unit
 		o.BOBTerms = f.BOBTerms

@@ -12,6 +12,7 @@ import (
 func TestParsePipeline(t *testing.T) {
 	good := `name = "co-cell-nightly"
 input = "peaks"
+states = "/abs/states.toml"
 [assign]
 start = "start.toml"
 bands = ["1-0", "2-1"]
@@ -22,7 +23,6 @@ reject = 0
 [thermo]
 temperatures = [298.15, 1000.0]
 composition = "natural"
-states = "/abs/states.toml"
 [report]
 formats = ["html", "md"]
 `
@@ -33,17 +33,17 @@ formats = ["html", "md"]
 	if p.Assign.Start != filepath.Join("lab", "start.toml") {
 		t.Errorf("relative path not resolved against the pipeline's folder: %q", p.Assign.Start)
 	}
-	if p.Thermo.States != "/abs/states.toml" {
-		t.Errorf("absolute path changed: %q", p.Thermo.States)
+	if p.States != "/abs/states.toml" {
+		t.Errorf("absolute path changed: %q", p.States)
 	}
 	if p2, err := ParsePipeline([]byte("[fit]\nunit = \"MHz\"\n"), "pipe.toml"); err != nil || p2.FitOptions(nil, "").Unit != "MHz" {
 		t.Errorf("fit.unit not carried over: %v", err)
 	}
 	o := p.FitOptions([]string{"x.csv"}, "out")
-	if o.Reject != 0 || o.Model != "dunham" || len(o.Terms) != 5 {
+	if o.Reject != 0 || o.Model != "dunham" || len(o.Terms) != 5 || o.States != "/abs/states.toml" {
 		t.Errorf("fit options not carried over: %+v", o)
 	}
-	if to, err := p.thermoOptions("c.json"); err != nil || to.Composition != "natural" || to.Temperatures != "298.15,1000" {
+	if to, err := p.thermoOptions("c.json"); err != nil || to.Composition != "natural" || to.Temperatures != "298.15,1000" || to.States != "/abs/states.toml" {
 		t.Errorf("thermo options not carried over: %+v %v", to, err)
 	}
 	if len(p.Hash) != 64 {

@@ -42,8 +42,8 @@ func fitCommand() *cli.Command {
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "model", Value: fit.DefaultModel, Usage: "energy-level model: dunham or term-values"},
-			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: term-values B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,… (default: B,D or Y10,Y20,Y01,Y11,Y02)"},
-			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…); repeatable"},
+			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: term-values B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,…; fine structure A,A_D,gamma,gamma_D,lambda,lambda_D,p,q,p_D,q_D (dunham A_e,alpha_A,…); STATE:NAME for one state (default: B,D or Y10,Y20,Y01,Y11,Y02, and the fine structure of each state's case)"},
+			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…, A:B_v0=… for state A); repeatable"},
 			&cli.Float64Flag{Name: "reject", Value: fit.DefaultReject, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
 			&cli.BoolFlag{Name: "round", Usage: "sequential rounding and refitting of the constants (Le Roy 1998)"},
 			&cli.BoolFlag{Name: "bob", Usage: "Born–Oppenheimer-breakdown terms for Y10 and Y01 of each substituted element (dunham)"},
@@ -51,6 +51,7 @@ func fitCommand() *cli.Command {
 			&cli.BoolFlag{Name: "calibrate", Usage: "float a multiplicative calibration factor per file (the first file is the reference)"},
 			&cli.StringFlag{Name: "reference", Usage: "reference isotopologue of a Dunham fit (default: the first in the input)"},
 			&cli.StringFlag{Name: "unit", Usage: "unit of the constants, rms and residuals shown: cm-1, MHz or GHz (MHz: each constant in MHz, kHz or Hz; default: the lines' unit)"},
+			&cli.StringFlag{Name: "states", Usage: "electronic-states file (TOML): the states of open-shell levels and electronic band systems, starting values ([state.start])"},
 			&cli.StringFlag{Name: "out", Value: "bandwright-fit", Usage: "output folder"},
 		},
 		Action: func(c *cli.Context) error {
@@ -67,7 +68,7 @@ func fitCommand() *cli.Command {
 			o := pipelines.FitOptions{
 				Inputs: c.Args().Slice(), Model: c.String("model"), Terms: splitList(c.StringSlice("terms")),
 				Fix: c.StringSlice("fix"), Reject: c.Float64("reject"), Round: c.Bool("round"), BOBTerms: bob,
-				Calibrate: c.Bool("calibrate"), Reference: c.String("reference"), Unit: c.String("unit"), Out: c.String("out"),
+				Calibrate: c.Bool("calibrate"), Reference: c.String("reference"), Unit: c.String("unit"), States: c.String("states"), Out: c.String("out"),
 			}
 			oc, err := pipelines.RunFit(o)
 			if err != nil {

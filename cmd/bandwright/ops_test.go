@@ -128,7 +128,7 @@ func TestInputsNeverOverwritten(t *testing.T) {
 	statesFile := filepath.Join(dir, "out2", "thermo.csv")
 	writeFile(t, statesFile, []byte(coStates))
 	pipe := filepath.Join(dir, "p.toml")
-	writeFile(t, pipe, []byte("input = \"lines\"\n[fit]\nmodel = \"dunham\"\n[thermo]\nstates = \"out2/thermo.csv\"\ntemperatures = [298.15]\n"))
+	writeFile(t, pipe, []byte("input = \"lines\"\nstates = \"out2/thermo.csv\"\n[fit]\nmodel = \"dunham\"\n[thermo]\ntemperatures = [298.15]\n"))
 	before = snapshot(t, dir)
 	code, _, stderr = runCLI("run", lines2, "--pipeline", pipe, "--out", filepath.Join(dir, "out2"))
 	if code != 1 || !strings.Contains(stderr, "refusing to overwrite the input file") || !strings.Contains(stderr, "thermo.csv") {
@@ -279,10 +279,10 @@ func TestHostileText(t *testing.T) {
 	pipe := filepath.Join(lab, "p.toml")
 	writeFile(t, pipe, []byte(fmt.Sprintf(`name = %q
 input = "lines"
+states = "../../common/co-states.toml"
 [fit]
 model = "dunham"
 [thermo]
-states = "../../common/co-states.toml"
 temperatures = [298.15, 1000.0]
 [report]
 formats = ["html", "md"]

@@ -30,13 +30,14 @@ func runCommand() *cli.Command {
 		OnUsageError: onUsage,
 		Flags: append(runAssignFlags(),
 			&cli.StringFlag{Name: "pipeline", Usage: "pipeline file (TOML)"},
+			&cli.StringFlag{Name: "states", Usage: "electronic-states file (TOML) of the fit and thermo stages, for open-shell and electronic spectra (or states = … in the pipeline file)"},
 			&cli.StringFlag{Name: "out", Value: "bandwright-run", Usage: "output folder"},
 		),
 		Action: func(c *cli.Context) error {
 			if c.NArg() == 0 {
 				return usageExit("run: give one or more input files (see bandwright run --help)")
 			}
-			o := pipelines.ChainOptions{Inputs: c.Args().Slice(), Out: c.String("out"), Unit: c.String("unit")}
+			o := pipelines.ChainOptions{Inputs: c.Args().Slice(), Out: c.String("out"), Unit: c.String("unit"), States: c.String("states")}
 			if f := c.String("pipeline"); f != "" {
 				p, err := pipelines.LoadPipeline(f)
 				if err != nil {
