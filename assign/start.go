@@ -18,6 +18,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/fit/states"
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
@@ -439,6 +440,13 @@ func sameMolecule(a, b species.Isotopologue) bool {
 // mass scaling; the covariance carries over since the fitted parameters are
 // those of the reference). Abundances are natural (NaturalAbundance).
 func StartFromConstants(c *constants.Set, name string, extra []string) (*Start, error) {
+	if sts := c.States(); len(sts) > 1 || sts[0].Case() != states.Singlet {
+		var terms []string
+		for _, s := range sts {
+			terms = append(terms, s.Term())
+		}
+		return nil, fmt.Errorf("assign: %s describes the electronic states %s: assign handles the bands of a ¹Σ ground state only; assign open-shell and electronic spectra by hand (or with predict --lines) and fit the line list", name, strings.Join(terms, ", "))
+	}
 	st := &Start{File: name}
 	for i, lab := range c.Model.Species() {
 		iso, err := species.Parse(lab)

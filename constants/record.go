@@ -187,22 +187,32 @@ func (s *Stats) UnmarshalJSON(b []byte) error {
 	return nil
 }
 
-// Band counts the used lines of one band of one isotopologue.
+// Band counts the used lines of one band of one isotopologue. StateUp and
+// StateLo name the electronic states of a band of an electronic band system
+// (empty: the ground state). With HalfJ the J are half-integers: JMin + ½ and
+// JMax + ½.
 type Band struct {
 	Species string `json:"species"`
 	VUp     int    `json:"v_up"`
 	VLo     int    `json:"v_lo"`
+	StateUp string `json:"state_up,omitempty"`
+	StateLo string `json:"state_lo,omitempty"`
 	Lines   int    `json:"lines"`
 	JMin    int    `json:"j_min"`
 	JMax    int    `json:"j_max"`
+	HalfJ   bool   `json:"half_integer_j,omitempty"`
 }
 
 // LevelRange is a vibrational level reached by the used lines and the highest J
-// observed in it: the range outside which a model extrapolates.
+// observed in it: the range outside which a model extrapolates. State is its
+// electronic state (empty: the ground state); with HalfJ the highest J is
+// JMax + ½.
 type LevelRange struct {
 	Species string `json:"species"`
+	State   string `json:"state,omitempty"`
 	V       int    `json:"v"`
 	JMax    int    `json:"j_max"`
+	HalfJ   bool   `json:"half_integer_j,omitempty"`
 }
 
 // Derived is a constant computed from the fitted parameters, with its 1σ

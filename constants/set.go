@@ -404,6 +404,21 @@ func (c *Set) LevelEnergy(s int, lv model.Level, gradFree []float64) float64 {
 	return e
 }
 
+// LevelTransition returns ν = E(up) − E(lo) of species s in cm⁻¹ (NaN when
+// the model lacks a level) and, when gradFree is not nil, ∂ν/∂p for each
+// fitted parameter in covariance order.
+func (c *Set) LevelTransition(s int, up, lo model.Level, gradFree []float64) float64 {
+	lm := c.Model.(model.LevelModel)
+	if gradFree == nil {
+		nu, _ := lm.LevelTransition(s, up, lo, c.Values, nil)
+		return nu
+	}
+	g := make([]float64, len(c.Values))
+	nu, _ := lm.LevelTransition(s, up, lo, c.Values, g)
+	c.freeGradient(g, gradFree)
+	return nu
+}
+
 // Sublevels calls fn for every level of vibrational level v of electronic
 // state st (index into States) of species s with J ≤ j2max/2, in increasing
 // J: every fine-structure and Λ-doubling component, with its J (as 2J), the

@@ -48,34 +48,44 @@ func (w *work) levelsOf(i, si int) string {
 		}
 		return ""
 	}
-	sts := w.lm.States()
+	var why string
+	w.up[i], w.lo[i], why = LineLevels(w.lm, si, l, w.values)
+	return why
+}
+
+// LineLevels returns the two levels of line l of species index si in model
+// m (their states from the line's open-shell labels, completed by
+// linelist.CheckStates), and why m cannot evaluate them at parameters p, ""
+// when it can.
+func LineLevels(m model.LevelModel, si int, l *linelist.Line, p []float64) (up, lo model.Level, why string) {
+	sts := m.States()
 	for _, side := range []struct {
 		dst   *model.Level
 		v, j2 int
 		lab   *linelist.LevelLabel
 		field string
-	}{{&w.up[i], l.VUp, l.J2Up(), upLabel(l), "up"}, {&w.lo[i], l.VLo, l.J2Lo(), loLabel(l), "lo"}} {
+	}{{&up, l.VUp, l.J2Up(), upLabel(l), "up"}, {&lo, l.VLo, l.J2Lo(), loLabel(l), "lo"}} {
 		st := 0
 		lv := model.Level{V: side.v, J2: side.j2}
 		if lab := side.lab; lab != nil {
 			if lab.State != "" {
 				st = states.Index(sts, lab.State)
 				if st < 0 {
-					return fmt.Sprintf("state_%s: the model has no electronic state %q", side.field, lab.State)
+					return up, lo, fmt.Sprintf("state_%s: the model has no electronic state %q", side.field, lab.State)
 				}
 			}
 			lv.F, lv.Parity = lab.F, lab.Parity
 		}
 		lv.State = st
-		if !w.lm.HasVibronic(si, st, side.v) {
-			return fmt.Sprintf("v_%s: the model has no parameters for v=%d of state %s of %s", side.field, side.v, sts[st].Label, l.Species)
+		if !m.HasVibronic(si, st, side.v) {
+			return up, lo, fmt.Sprintf("v_%s: the model has no parameters for v=%d of state %s of %s", side.field, side.v, sts[st].Label, l.Species)
 		}
-		if e := w.lm.LevelEnergy(si, lv, w.values, nil); e != e {
-			return fmt.Sprintf("J_%s: state %s has no level J = %s, F%d %s (check the labels against the states file)", side.field, sts[st].Term(), states.FormatJ(side.j2), lv.F, lv.Parity)
+		if e := m.LevelEnergy(si, lv, p, nil); e != e {
+			return up, lo, fmt.Sprintf("J_%s: state %s has no level J = %s, F%d %s (check the labels against the states file)", side.field, sts[st].Term(), states.FormatJ(side.j2), lv.F, lv.Parity)
 		}
 		*side.dst = lv
 	}
-	return ""
+	return up, lo, ""
 }
 
 func upLabel(l *linelist.Line) *linelist.LevelLabel {

@@ -359,3 +359,125 @@ func TestPullsOpenShell(t *testing.T) {
 		})
 	}
 }
+
+// TestElectronicBandSystem fits an infrared band of the ground state (NO X²Π
+// 1–0) together with an electronic band system (the A²Σ⁺–X²Π 0–0 band, all
+// twelve branches) from the independent generator: both states' constants at
+// once, with the term energy of A as a parameter. A²Σ⁺ constants of the size
+// of Huber & Herzberg's (1979, from memory).
+func TestElectronicBandSystem(t *testing.T) {
+	no := nitricOxideTruth()
+	a := states.State{Label: "A", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}, TermEnergy: 44000}
+	o := newTruth([]states.State{no.sts[0], a}, map[[2]int]genState{
+		{0, 0}: no.lv[[2]int{0, 0}], {0, 1}: no.lv[[2]int{0, 1}],
+		{1, 0}: {S2: 1, T: 44138.25, B: 1.99651, D: 5.4e-6, Gamma: -2.7e-3},
+	})
+	gen := func(rng *rand.Rand) []linelist.Line {
+		lines := nitricOxideLines(o, rng)
+		return append(lines, o.lines("14N16O", bandSpec{stU: 1, j2max: 51, satellites: true, unc: 5e-3}, rng)...)
+	}
+	terms := []string{"B", "D", "A", "gamma", "p", "q"}
+	exact, err := fitOpen(t, gen(nil), o.sts, terms, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m := exact.Model.(model.LevelModel); len(m.States()) != 2 {
+		t.Fatalf("model states %v", m.States())
+	}
+	var sawT bool
+	for _, j := range exact.Free {
+		p := exact.Params[j]
+		sawT = sawT || p.ID() == "A:T_v0[14N16O]"
+		if want := o.truthOf(p); math.Abs(p.Value-want) > 1e-6*math.Abs(want)+1e-4*p.Sigma {
+			t.Errorf("exact lines: %s = %.12g, generated with %.12g", p.ID(), p.Value, want)
+		}
+	}
+	if !sawT {
+		t.Error("A:T_v0[14N16O] is not fitted")
+	}
+	noisy, err := fitOpen(t, gen(rand.New(rand.NewPCG(3, 4))), o.sts, terms, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for id, z := range o.pulls(noisy) {
+		if math.Abs(z) > 4 {
+			t.Errorf("%s is %.2fσ from the generating value", id, z)
+		}
+	}
+	t.Logf("%d lines, %d parameters, s = %.3f", noisy.Stats.Lines, noisy.Stats.Params, noisy.Stats.Sigma)
+}
+
+// TestDunhamOpenShell fits NO X²Π lines of two isotopologues with the Dunham
+// model: Y_kl, A_e and α_A, γ_e, p_e, q_e of 14N16O, the constants of 15N16O
+// mass-scaled, Y_kl ∝ μ^−(k+2l)/2 and a fine-structure constant of
+// rotational order l_X (A 0, γ and p 1, q 2) ∝ μ^−(k+2l_X)/2 (common
+// practice; written out here independently of package model). Values of the
+// size of Huber & Herzberg's (1979, from memory).
+func TestDunhamOpenShell(t *testing.T) {
+	x := states.State{Label: "X", Multiplicity: 2, Lambda: 1}
+	truth := map[string]float64{"Y10": 1904.04, "Y20": -14.1, "Y01": 1.70488, "Y11": -0.0178, "Y02": -5.4e-6,
+		"A_e": 123.28, "alpha_A": 0.19, "gamma_e": -6.1e-3, "p_e": 1.17e-2, "q_e": 7.1e-5}
+	mu := func(label string) float64 {
+		iso, err := species.Parse(label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return iso.ReducedMass()
+	}
+	gen := func(rng *rand.Rand) []linelist.Line {
+		var lines []linelist.Line
+		for _, sp := range []string{"14N16O", "15N16O"} {
+			r := math.Sqrt(mu("14N16O") / mu(sp)) // (μ_r/μ_s)^½
+			lv := map[[2]int]genState{}
+			for v := 0; v <= 2; v++ {
+				h := float64(v) + 0.5
+				lv[[2]int{0, v}] = genState{S2: 1, Lambda: 1,
+					T: truth["Y10"]*r*h + truth["Y20"]*r*r*h*h,
+					B: truth["Y01"]*r*r + truth["Y11"]*r*r*r*h, D: -truth["Y02"] * math.Pow(r, 4),
+					A: truth["A_e"] - truth["alpha_A"]*r*h, Gamma: truth["gamma_e"] * r * r,
+					P: truth["p_e"] * r * r, Q: truth["q_e"] * math.Pow(r, 4)}
+			}
+			o := newTruth([]states.State{x}, lv)
+			for _, b := range []bandSpec{{vU: 1, vL: 0, j2max: 51, unc: 2e-4}, {vU: 2, vL: 1, j2max: 41, unc: 2e-4}} {
+				lines = append(lines, o.lines(sp, b, rng)...)
+			}
+			for _, l := range o.lines(sp, bandSpec{j2max: 21, unc: 1e-6}, rng) {
+				if l.JUp == l.JLo {
+					lines = append(lines, l)
+				}
+			}
+		}
+		return lines
+	}
+	terms := []string{"Y10", "Y20", "Y01", "Y11", "Y02", "A_e", "alpha_A", "gamma_e", "p_e", "q_e"}
+	fitD := func(lines []linelist.Line) *Result {
+		list := &linelist.List{Lines: lines}
+		if err := linelist.CheckStates(list, []states.State{x}); err != nil {
+			t.Fatal(err)
+		}
+		m, err := BuildModel(list.Lines, ModelSpec{Kind: model.KindDunham, Terms: terms, States: []states.State{x}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, err := Fit(Problem{Lines: list.Lines, Model: m}, Settings{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return r
+	}
+	for _, c := range []struct {
+		rng *rand.Rand
+		tol func(want, sigma float64) float64
+	}{
+		{nil, func(want, sigma float64) float64 { return 1e-6*math.Abs(want) + 1e-4*sigma }},
+		{rand.New(rand.NewPCG(8, 9)), func(_, sigma float64) float64 { return 4 * sigma }},
+	} {
+		r := fitD(gen(c.rng))
+		for _, j := range r.Free {
+			p := r.Params[j]
+			if want := truth[p.ID()]; math.Abs(p.Value-want) > c.tol(want, p.Sigma) {
+				t.Errorf("%s = %.10g ± %.2g, generated with %.10g", p.ID(), p.Value, p.Sigma, want)
+			}
+		}
+	}
+}

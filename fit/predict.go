@@ -22,16 +22,29 @@ type Level struct {
 }
 
 // Transition is a line Up ← Lo of one isotopologue, with its branch letter
-// (O, P, Q, R, S).
+// (O, P, Q, R, S), or for open-shell and electronic lines the branch in the
+// notation of linelist.Branch and the levels' labels in Open (Up.J and Lo.J
+// are then J − ½ when Open.HalfJ, as in a linelist.Line).
 type Transition struct {
 	Species string
 	Up, Lo  Level
 	Branch  string
+	Open    *linelist.OpenShell
 }
 
-// Label writes the transition in the notation of the trade: "1-0 P(12)".
+// Line returns the transition as a line-list line (no position).
+func (t Transition) Line() linelist.Line {
+	return linelist.Line{Species: t.Species, VUp: t.Up.V, JUp: t.Up.J, VLo: t.Lo.V, JLo: t.Lo.J, Branch: t.Branch, Open: t.Open}
+}
+
+// Label writes the transition in the notation of the trade: "1-0 P(12)",
+// "A:0-0 pQ12(3.5) e-f" (linelist.LineLabel).
 func (t Transition) Label() string {
-	return linelist.TransitionLabel(t.Up.V, t.Up.J, t.Lo.V, t.Lo.J)
+	if t.Open == nil {
+		return linelist.TransitionLabel(t.Up.V, t.Up.J, t.Lo.V, t.Lo.J)
+	}
+	l := t.Line()
+	return linelist.LineLabel(&l)
 }
 
 // Prediction is a calculated line: its transition, position ν and 1σ in cm⁻¹
@@ -80,6 +93,12 @@ func BandTransitions(sp string, b linelist.Band, branches []string, jmax int) ([
 // the model (E(v, 1) ≤ E(v, 0), constants extrapolated beyond their range:
 // *CannotFitError). Intensities are left NaN.
 func PredictTransitions(c *constants.Set, ts []Transition) ([]Prediction, error) {
+	if lm, open := openModel(c); open || hasOpen(ts) {
+		if lm == nil {
+			return nil, fmt.Errorf("fit: the %s model cannot predict open-shell levels", c.Model.Kind())
+		}
+		return predictOpen(c, lm, ts)
+	}
 	n := len(c.Free)
 	gu := make([]float64, n)
 	gl := make([]float64, n)
@@ -133,26 +152,32 @@ func checkLevel(c *constants.Set, s, v int, t Transition) error {
 // or J above the highest observed in its level (constants.LevelRange).
 func MarkExtrapolated(ps []Prediction, observed []constants.LevelRange) {
 	type key struct {
-		sp string
-		v  int
+		sp, st string
+		v      int
 	}
 	jmax := map[key]int{}
 	for _, o := range observed {
-		jmax[key{o.Species, o.V}] = o.JMax
+		jmax[key{o.Species, o.State, o.V}] = o.JMax
 	}
-	outside := func(sp string, l Level) bool {
-		j, ok := jmax[key{sp, l.V}]
+	outside := func(sp, st string, l Level) bool {
+		j, ok := jmax[key{sp, st, l.V}]
 		return !ok || l.J > j
 	}
 	for i := range ps {
 		p := &ps[i]
-		p.Extrapolated = outside(p.Species, p.Up) || outside(p.Species, p.Lo)
+		var su, sl string
+		if p.Open != nil {
+			su, sl = p.Open.Up.State, p.Open.Lo.State
+		}
+		p.Extrapolated = outside(p.Species, su, p.Up) || outside(p.Species, sl, p.Lo)
 	}
 }
 
 // PredictionColumns are the columns of a predicted-line file, in order: the
 // line-list columns (so the file can be edited into a line list), then
-// extrapolated (yes/no) and, with intensities, intensity.
+// extrapolated (yes/no) and, with intensities, intensity. Predictions of
+// open-shell or electronic lines add the open-shell columns
+// (linelist.OpenColumns) after J_lo.
 var PredictionColumns = []string{"species", "v_up", "J_up", "v_lo", "J_lo", "branch", "position", "unc", "unit", "extrapolated"}
 
 // WritePredictions writes predictions as CSV (PredictionColumns): position
@@ -163,6 +188,13 @@ var PredictionColumns = []string{"species", "v_up", "J_up", "v_lo", "J_lo", "bra
 func WritePredictions(w io.Writer, ps []Prediction, u linelist.Unit, withIntensity bool) error {
 	cw := csv.NewWriter(w)
 	head := PredictionColumns
+	open := false
+	for _, p := range ps {
+		open = open || p.Open != nil
+	}
+	if open {
+		head = append(append(append([]string(nil), head[:5]...), linelist.OpenColumns()...), head[5:]...)
+	}
 	top := 0.0
 	if withIntensity {
 		head = append(append([]string(nil), head...), "intensity")
@@ -178,10 +210,15 @@ func WritePredictions(w io.Writer, ps []Prediction, u linelist.Unit, withIntensi
 	for _, p := range ps {
 		pos, unc := u.FromWavenumber(p.Position), u.FromWavenumber(p.Sigma)
 		d := SigmaDecimals(unc)
-		rec := []string{p.Species, strconv.Itoa(p.Up.V), strconv.Itoa(p.Up.J), strconv.Itoa(p.Lo.V), strconv.Itoa(p.Lo.J), p.Branch,
-			strconv.FormatFloat(pos, 'f', d, 64), strconv.FormatFloat(unc, 'f', d, 64), u.String(), yesNo(p.Extrapolated)}
+		l := p.Line()
+		rec := []string{p.Species, strconv.Itoa(p.Up.V), linelist.FormatJ(l.J2Up()), strconv.Itoa(p.Lo.V), linelist.FormatJ(l.J2Lo())}
+		if open {
+			rec = append(rec, linelist.OpenCells(p.Open)...)
+		}
+		num := len(rec) + 1 // index of position
+		rec = append(rec, p.Branch, strconv.FormatFloat(pos, 'f', d, 64), strconv.FormatFloat(unc, 'f', d, 64), u.String(), yesNo(p.Extrapolated))
 		if d < 0 {
-			rec[6], rec[7] = strconv.FormatFloat(pos, 'g', -1, 64), "0"
+			rec[num], rec[num+1] = strconv.FormatFloat(pos, 'g', -1, 64), "0"
 		}
 		if withIntensity {
 			in := 0.0

@@ -42,12 +42,18 @@ func (w *work) start() error {
 			w.fixedIdx[j] = true
 		}
 	}
-	err := w.solve()
+	before := append([]float64(nil), w.values...)
+	if len(w.freeNow())+len(w.kfree) > 0 {
+		if err := w.solve(); err != nil {
+			// The lines do not fix the case-(b) limit (lines between spin
+			// components of one N, which that limit puts at zero): start
+			// from the values as they were.
+			copy(w.values, before)
+			w.omcOK, w.res, w.status, w.warn = false, nil, Converged, nil
+		}
+	}
 	for j := range held {
 		delete(w.fixedIdx, j)
-	}
-	if err != nil {
-		return err
 	}
 	return w.chooseSign(given)
 }

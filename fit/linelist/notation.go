@@ -11,18 +11,75 @@ import (
 // labelled. Every output and every message of bandwright uses it.
 
 // Band is a vibrational band v′-v″ of a diatomic molecule; v′ = v″ stands for
-// the pure-rotation lines within level v.
-type Band struct{ VUp, VLo int }
+// the pure-rotation lines within level v. StateUp and StateLo name the
+// electronic states of a band of an electronic band system (empty: the
+// ground state).
+type Band struct {
+	VUp, VLo         int
+	StateUp, StateLo string
+}
 
-// String returns the band's label, BandLabel(b.VUp, b.VLo).
-func (b Band) String() string { return BandLabel(b.VUp, b.VLo) }
+// String returns the band's label: BandLabel(b.VUp, b.VLo) within the
+// ground state, each level with its state in front otherwise ("A:0-0" for
+// v′ = 0 of state A and v″ = 0 of the ground state).
+func (b Band) String() string {
+	if b.StateUp == "" && b.StateLo == "" {
+		return BandLabel(b.VUp, b.VLo)
+	}
+	side := func(st string, v int) string {
+		if st == "" {
+			return strconv.Itoa(v)
+		}
+		return st + ":" + strconv.Itoa(v)
+	}
+	return side(b.StateUp, b.VUp) + "-" + side(b.StateLo, b.VLo)
+}
+
+// LineBand returns the band of a line, with its states.
+func LineBand(l *Line) Band {
+	b := Band{VUp: l.VUp, VLo: l.VLo}
+	if l.Open != nil {
+		b.StateUp, b.StateLo = l.Open.Up.State, l.Open.Lo.State
+	}
+	return b
+}
+
+// LineBranch returns the branch of an open-shell line in the notation of
+// Branch (ΔN known when both N are), the plain branch letter of ΔJ otherwise.
+func LineBranch(l *Line) Branch {
+	b := Branch{DeltaJ: l.JUp - l.JLo}
+	if o := l.Open; o != nil {
+		if o.Up.N >= 0 && o.Lo.N >= 0 {
+			b.DeltaN, b.HasN = o.Up.N-o.Lo.N, true
+		}
+		b.FUp, b.FLo = o.Up.F, o.Lo.F
+	}
+	return b
+}
+
+// LineLabel writes a line in the notation of the trade: band, branch and
+// lower-state J, "1-0 P(12)" for a ¹Σ line (TransitionLabel), "A:0-0
+// pQ12(3.5)" for an open-shell one, with the parity of the levels where a
+// branch has both ("R1ee(2.5)" is not written: e/f follow as "R1(2.5) e-e").
+func LineLabel(l *Line) string {
+	if l.Open == nil {
+		return TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo)
+	}
+	s := LineBand(l).String() + " " + LineBranch(l).String() + "(" + FormatJ(l.J2Lo()) + ")"
+	if p, q := l.Open.Up.Parity, l.Open.Lo.Parity; p != 0 && q != 0 {
+		s += " " + p.String() + "-" + q.String()
+	}
+	return s
+}
 
 // BandLabel writes a band as "1-0": upper level, hyphen, lower level — the
 // spelling a user types after --bands, used unchanged in every output.
 func BandLabel(vUp, vLo int) string { return strconv.Itoa(vUp) + "-" + strconv.Itoa(vLo) }
 
 // ParseBands parses a comma-separated list of bands such as "1-0,2-1,0-0"
-// (levels 0…100; white space around each band and its numbers is ignored).
+// (levels 0…100; white space around each band and its numbers is ignored); a
+// level of an electronic state other than the ground state carries the
+// state's label and a colon, "A:0-0" (as Band.String writes it).
 func ParseBands(s string) ([]Band, error) {
 	var out []Band
 	for _, f := range strings.Split(s, ",") {
@@ -31,12 +88,12 @@ func ParseBands(s string) ([]Band, error) {
 			continue
 		}
 		a, b, ok := strings.Cut(f, "-")
-		vu, e1 := strconv.Atoi(strings.TrimSpace(a))
-		vl, e2 := strconv.Atoi(strings.TrimSpace(b))
+		su, vu, e1 := parseBandLevel(a)
+		sl, vl, e2 := parseBandLevel(b)
 		if !ok || e1 != nil || e2 != nil || vu < 0 || vl < 0 || vu > MaxV || vl > MaxV {
-			return nil, fmt.Errorf("linelist: band %q: write v′-v″ with levels 0…%d, e.g. 1-0 or 2-1 (0-0 for pure rotation)", f, MaxV)
+			return nil, fmt.Errorf("linelist: band %q: write v′-v″ with levels 0…%d, e.g. 1-0 or 2-1 (0-0 for pure rotation; A:0-0 for v′ = 0 of electronic state A)", f, MaxV)
 		}
-		out = append(out, Band{vu, vl})
+		out = append(out, Band{VUp: vu, VLo: vl, StateUp: su, StateLo: sl})
 	}
 	if len(out) == 0 {
 		return nil, fmt.Errorf("linelist: no bands given (e.g. 1-0,2-1)")
@@ -146,4 +203,14 @@ func ParseBranch(s string) (Branch, error) {
 		return bad()
 	}
 	return b, nil
+}
+
+// parseBandLevel reads "v" or "STATE:v".
+func parseBandLevel(s string) (string, int, error) {
+	st, v, ok := strings.Cut(strings.TrimSpace(s), ":")
+	if !ok {
+		st, v = "", st
+	}
+	n, err := strconv.Atoi(strings.TrimSpace(v))
+	return strings.TrimSpace(st), n, err
 }

@@ -14,7 +14,7 @@ func TestBandNotation(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if want := []Band{{1, 0}, {2, 1}, {0, 0}}; !reflect.DeepEqual(bands, want) {
+	if want := []Band{{VUp: 1}, {VUp: 2, VLo: 1}, {}}; !reflect.DeepEqual(bands, want) {
 		t.Fatalf("ParseBands: %v, want %v", bands, want)
 	}
 	var labels []string
@@ -40,6 +40,28 @@ func TestBandNotation(t *testing.T) {
 		back, ok := BranchDeltaJ(strings.ToLower(l))
 		if (l != "") != ok || (ok && back != dJ) {
 			t.Errorf("ΔJ %d: letter %q, back %d %v", dJ, l, back, ok)
+		}
+	}
+}
+
+// TestBandsOfElectronicStates: bands with state labels read back as written.
+func TestBandsOfElectronicStates(t *testing.T) {
+	bands, err := ParseBands("A:0-0, A:1-X:0 ,1-0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Band{{StateUp: "A"}, {VUp: 1, StateUp: "A", StateLo: "X"}, {VUp: 1}}
+	if !reflect.DeepEqual(bands, want) {
+		t.Fatalf("got %+v, want %+v", bands, want)
+	}
+	for i, s := range []string{"A:0-0", "A:1-X:0", "1-0"} {
+		if bands[i].String() != s {
+			t.Errorf("%+v written %q, want %q", bands[i], bands[i].String(), s)
+		}
+	}
+	for _, bad := range []string{"A:-0", "A0-0", "A:x-0"} {
+		if _, err := ParseBands(bad); err == nil {
+			t.Errorf("ParseBands(%q) accepted", bad)
 		}
 	}
 }

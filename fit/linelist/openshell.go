@@ -330,28 +330,35 @@ func checkSelection(c *collector, l *Line, up, lo states.State, sameState bool) 
 // FormatJ writes J as files write it: "3", "3.5".
 func FormatJ(j2 int) string { return states.FormatJ(j2) }
 
-// appendOpen appends the open-shell cells of l (empty cells for a line
-// without them) in the order of OpenColumns.
+// OpenCells returns the open-shell cells of a line's labels in the order of
+// OpenColumns (N, F, parity and state of the upper, then the lower level as
+// written by Write; empty cells for what is not given, all empty for nil),
+// state labels through csvcell.Neutralise.
+func OpenCells(o *OpenShell) []string {
+	out := make([]string, len(openColumns))
+	if o == nil {
+		return out
+	}
+	num := func(n int, ok bool) string {
+		if ok {
+			return strconv.Itoa(n)
+		}
+		return ""
+	}
+	copy(out, []string{num(o.Up.N, o.Up.N >= 0), num(o.Lo.N, o.Lo.N >= 0), num(o.Up.F, o.Up.F > 0), num(o.Lo.F, o.Lo.F > 0),
+		o.Up.Parity.String(), o.Lo.Parity.String(), csvcell.Neutralise(o.Up.State), csvcell.Neutralise(o.Lo.State)})
+	return out
+}
+
+// appendOpen appends the open-shell cells of l (OpenCells).
 func appendOpen(row []byte, l *Line) []byte {
 	if l.Open == nil {
-		return append(row, ",,,,,,,"...)
+		return append(row, ",,,,,,,,"...)
 	}
-	o := l.Open
-	num := func(b []byte, n int, ok bool) []byte {
-		b = append(b, ',')
-		if ok {
-			b = strconv.AppendInt(b, int64(n), 10)
-		}
-		return b
+	for _, c := range OpenCells(l.Open) {
+		row = appendCell(row, 1, c)
 	}
-	row = num(row, o.Up.N, o.Up.N >= 0)
-	row = num(row, o.Lo.N, o.Lo.N >= 0)
-	row = num(row, o.Up.F, o.Up.F > 0)
-	row = num(row, o.Lo.F, o.Lo.F > 0)
-	row = append(append(row, ','), o.Up.Parity.String()...)
-	row = append(append(row, ','), o.Lo.Parity.String()...)
-	row = appendCell(row, 1, csvcell.Neutralise(o.Up.State))
-	return appendCell(row, 1, csvcell.Neutralise(o.Lo.State))
+	return row
 }
 
 // appendJ appends J = j2/2 as a decimal.
@@ -363,8 +370,9 @@ func appendJ(b []byte, j2 int) []byte {
 	return b
 }
 
-// anyOpen reports whether some line has open-shell labels.
-func anyOpen(lines []Line) bool {
+// HasOpenShell reports whether some line has open-shell labels (the writers
+// then add the open-shell columns).
+func HasOpenShell(lines []Line) bool {
 	for i := range lines {
 		if lines[i].Open != nil {
 			return true

@@ -156,6 +156,8 @@ type reader struct {
 	failed    bool     // some file had a problem: lines are no longer kept
 	slab      []string // storage carved into Line.Extra slices
 	openSlab  []OpenShell
+	// transitions: position and unc are optional (ReadTransitions).
+	transitions bool
 }
 
 func newReader() *reader {
@@ -172,6 +174,22 @@ func Read(r io.Reader, name string) (*List, error) {
 		return nil, err
 	}
 	if err := rd.checkUnits(c); err != nil {
+		return nil, err
+	}
+	rd.finish()
+	return &rd.list, nil
+}
+
+// ReadTransitions reads a list of transitions to predict: a line list whose
+// position and unc columns may be missing and are not read (only the quantum
+// numbers, species, unit, branch and comment are), with the same checks of
+// the levels otherwise.
+func ReadTransitions(r io.Reader, name string) (*List, error) {
+	rd := newReader()
+	rd.transitions = true
+	c := &collector{file: name}
+	rd.read(r, c)
+	if err := merge(c); err != nil {
 		return nil, err
 	}
 	rd.finish()
@@ -384,7 +402,7 @@ func (f *file) header(t *Table) bool {
 	}
 	var missing []string
 	for cl := column(0); cl < nRequired; cl++ {
-		if col[cl] < 0 {
+		if col[cl] < 0 && !(f.rd.transitions && (cl == colPosition || cl == colUnc)) {
 			missing = append(missing, columnNames[cl])
 		}
 	}
@@ -452,8 +470,10 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 		}
 	}
 
-	l.Position = f.positive(rec, colPosition, row)
-	l.Unc = f.positive(rec, colUnc, row)
+	if !f.rd.transitions {
+		l.Position = f.positive(rec, colPosition, row)
+		l.Unc = f.positive(rec, colUnc, row)
+	}
 
 	if i := f.col[colUnit]; i >= 0 {
 		if t := strings.TrimSpace(rec[i]); t == "" {

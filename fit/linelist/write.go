@@ -50,7 +50,7 @@ func WriteText(w io.Writer, lines []Line, extra []string, text func(i int) (posi
 
 	bw := bufio.NewWriterSize(w, 64<<10)
 	var row []byte
-	open := anyOpen(lines)
+	open := HasOpenShell(lines)
 	for j, n := range columnNames[:colNUp] {
 		row = appendCell(row, j, n)
 	}
