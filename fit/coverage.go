@@ -8,60 +8,74 @@ import (
 )
 
 // coverage lists what the used lines reach: the bands, and per vibrational
-// level the highest J (the range outside which a model extrapolates).
+// level the highest J (the range outside which a model extrapolates), with
+// their electronic states.
 func coverage(lines []linelist.Line, used []bool) ([]constants.Band, []constants.LevelRange) {
-	type bk struct {
-		s      string
-		vu, vl int
-	}
 	type lk struct {
-		s string
-		v int
+		s, st string
+		v     int
 	}
-	bi := map[bk]int{}
+	bi := map[linelist.Band]map[string]int{}
 	var bands []constants.Band
 	lv := map[lk]int{}
 	var levels []constants.LevelRange
-	for i, l := range lines {
+	for i := range lines {
 		if !used[i] {
 			continue
 		}
-		k := bk{l.Species, l.VUp, l.VLo}
-		j, ok := bi[k]
+		l := &lines[i]
+		lb := linelist.LineBand(l)
+		half := l.Open != nil && l.Open.HalfJ
+		if bi[lb] == nil {
+			bi[lb] = map[string]int{}
+		}
+		j, ok := bi[lb][l.Species]
 		if !ok {
 			j = len(bands)
-			bi[k] = j
-			bands = append(bands, constants.Band{Species: l.Species, VUp: l.VUp, VLo: l.VLo, JMin: l.JLo, JMax: l.JLo})
+			bi[lb][l.Species] = j
+			bands = append(bands, constants.Band{Species: l.Species, VUp: l.VUp, VLo: l.VLo, StateUp: lb.StateUp, StateLo: lb.StateLo, JMin: l.JLo, JMax: l.JLo, HalfJ: half})
 		}
 		b := &bands[j]
 		b.Lines++
 		b.JMin = min(b.JMin, l.JLo, l.JUp)
 		b.JMax = max(b.JMax, l.JLo, l.JUp)
-		for _, x := range [][2]int{{l.VUp, l.JUp}, {l.VLo, l.JLo}} {
-			k := lk{l.Species, x[0]}
+		for _, x := range []struct {
+			st   string
+			v, j int
+		}{{lb.StateUp, l.VUp, l.JUp}, {lb.StateLo, l.VLo, l.JLo}} {
+			k := lk{l.Species, x.st, x.v}
 			j, ok := lv[k]
 			if !ok {
 				j = len(levels)
 				lv[k] = j
-				levels = append(levels, constants.LevelRange{Species: l.Species, V: x[0], JMax: x[1]})
+				levels = append(levels, constants.LevelRange{Species: l.Species, State: x.st, V: x.v, JMax: x.j, HalfJ: half})
 			}
-			levels[j].JMax = max(levels[j].JMax, x[1])
+			levels[j].JMax = max(levels[j].JMax, x.j)
 		}
 	}
 	sort.Slice(bands, func(a, b int) bool {
-		if bands[a].Species != bands[b].Species {
-			return bands[a].Species < bands[b].Species
+		x, y := bands[a], bands[b]
+		switch {
+		case x.Species != y.Species:
+			return x.Species < y.Species
+		case x.StateLo != y.StateLo:
+			return x.StateLo < y.StateLo
+		case x.StateUp != y.StateUp:
+			return x.StateUp < y.StateUp
+		case x.VLo != y.VLo:
+			return x.VLo < y.VLo
 		}
-		if bands[a].VLo != bands[b].VLo {
-			return bands[a].VLo < bands[b].VLo
-		}
-		return bands[a].VUp < bands[b].VUp
+		return x.VUp < y.VUp
 	})
 	sort.Slice(levels, func(a, b int) bool {
-		if levels[a].Species != levels[b].Species {
-			return levels[a].Species < levels[b].Species
+		x, y := levels[a], levels[b]
+		switch {
+		case x.Species != y.Species:
+			return x.Species < y.Species
+		case x.State != y.State:
+			return x.State < y.State
 		}
-		return levels[a].V < levels[b].V
+		return x.V < y.V
 	})
 	return bands, levels
 }

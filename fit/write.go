@@ -10,6 +10,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/fit/model"
 	"bandwright/internal/csvcell"
 )
 
@@ -26,6 +27,10 @@ import (
 func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 	bw := bufio.NewWriterSize(w, 64<<10)
 	head := []string{"file", "row", "species", "v_up", "J_up", "v_lo", "J_lo", "branch", "unit", "obs", "unc", "calc", "o_minus_c", "o_minus_c_over_unc", "status", "note", "comment"}
+	open := linelist.HasOpenShell(p.Lines)
+	if open {
+		head = append(head[:7], append(linelist.OpenColumns(), head[7:]...)...)
+	}
 	n := csvcell.Neutralise
 	var b []byte
 	for k, h := range head {
@@ -49,16 +54,22 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		}
 		branch := l.Branch
 		if branch == "" {
-			branch = linelist.BranchLetter(l.DeltaJ())
+			branch = linelist.LineBranch(l).String()
 		}
 		b = csvcell.Append(b[:0], n(l.File))
 		b = append(b, ',')
 		b = strconv.AppendInt(b, int64(l.Row), 10)
 		b = append(b, ',')
 		b = csvcell.Append(b, l.Species)
-		for _, q := range [4]int{l.VUp, l.JUp, l.VLo, l.JLo} {
-			b = append(b, ',')
-			b = strconv.AppendInt(b, int64(q), 10)
+		for k, q := range [4]string{strconv.Itoa(l.VUp), linelist.FormatJ(l.J2Up()), strconv.Itoa(l.VLo), linelist.FormatJ(l.J2Lo())} {
+			b = appendSep(b, k+1)
+			b = append(b, q...)
+		}
+		if open {
+			for _, c := range linelist.OpenCells(l.Open) {
+				b = append(b, ',')
+				b = csvcell.Append(b, c)
+			}
 		}
 		b = append(b, ',')
 		b = csvcell.Append(b, branch)
@@ -142,6 +153,7 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 		fmt.Fprintf(&b, " (reference: %s)", r.Model.Species()[0])
 	}
 	b.WriteString("\n\n")
+	writeStates(&b, r)
 	b.WriteString(unitSentence(r.Unit) + " Uncertainties are 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. ")
 	b.WriteString("σ are " + constants.CovarianceConvention + ".\n\n")
 	summaryStats(&b, r, rec)
@@ -186,7 +198,9 @@ func summaryStats(b *strings.Builder, r *Result, rec *constants.Record) {
 	if st.LinesMHz > 0 && st.LinesMHz < st.Used && !r.Unit.IsFrequency() {
 		fmt.Fprintf(b, "| rms of MHz and GHz lines (MHz) | %.4g |\n", st.RMSMHz)
 	}
-	fmt.Fprintf(b, "| condition number (scaled) | %.3g |\n| status | %s |\n\n", st.Condition, r.Status)
+	fmt.Fprintf(b, "| condition number (scaled) | %.3g |\n| status | %s |\n", st.Condition, r.Status)
+	writeConvergence(b, r.Convergence)
+	b.WriteString("\n")
 }
 
 // summaryConstants writes the constants and derived constants of fit.md, as
@@ -234,7 +248,7 @@ func summaryResiduals(b *strings.Builder, p Problem, r *Result) {
 			st = "rejected"
 		}
 		omc := r.Unit.FromWavenumber(l.Unit.ToWavenumber(lr.OmC))
-		fmt.Fprintf(b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, linelist.TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo), omc, r.Unit, lr.Norm, st)
+		fmt.Fprintf(b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, mdEscape(linelist.LineLabel(&l)), omc, r.Unit, lr.Norm, st)
 	}
 }
 
@@ -270,4 +284,27 @@ func largestResiduals(ls []LineResult, k int) []int {
 func mdEscape(s string) string {
 	r := strings.NewReplacer("|", `\|`, "<", "&lt;", ">", "&gt;", "&", "&amp;", "*", `\*`, "_", `\_`, "`", "\\`", "[", `\[`, "]", `\]`, "\n", " ", "\r", " ")
 	return r.Replace(s)
+}
+
+
+// writeStates names the electronic states of a model that has more than a ¹Σ⁺
+// ground state.
+func writeStates(b *strings.Builder, r *Result) {
+	rs := constants.RecordStates(r.Model)
+	if len(rs) == 0 {
+		return
+	}
+	var terms []string
+	for _, s := range r.Model.(model.LevelModel).States() {
+		terms = append(terms, mdEscape(s.Term()))
+	}
+	fmt.Fprintf(b, "Electronic states: %s (the first is the ground state; parameters of the others carry their label, A:B_v0). Fine structure and Λ-doubling: the effective Hamiltonians of the model package documentation.\n\n", strings.Join(terms, ", "))
+}
+
+// writeConvergence adds the iterations of a nonlinear fit to the statistics.
+func writeConvergence(b *strings.Builder, c *constants.Convergence) {
+	if c == nil {
+		return
+	}
+	fmt.Fprintf(b, "| iterations (%s, QR solves) | %d |\n| starting points | %d |\n| final step (largest \\|Δp\\|/σ) | %.2g |\n| converged | %t |\n", c.Method, c.Iterations, c.Starts, c.FinalStep, c.Converged)
 }

@@ -45,6 +45,10 @@ func LoadConstants(path string) (*constants.Record, *constants.Set, error) {
 // PredictOptions are the options of `bandwright predict`.
 type PredictOptions struct {
 	Constants string // constants.json
+	// Lines, when set, is a file of transitions (the quantum-number columns
+	// of a line list, positions optional) to predict exactly; Species,
+	// Bands, JMax, Branches and Spectrum are then not used.
+	Lines     string
 	Species   string // "": every species of the record
 	Bands     []linelist.Band
 	JMax      int // highest lower-state J
@@ -85,22 +89,19 @@ func RunPredict(o PredictOptions) (*PredictOutcome, error) {
 	if T := o.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
 		return nil, failure.Errorf(failure.BadInput, "--temperature %g K: give a temperature within %g…%g K", T, thermo.MinTemperature, thermo.MaxTemperature)
 	}
-	spp := c.Model.Species()
-	if o.Species != "" {
-		spp = []string{o.Species}
+	if o.Temperature > 0 && fit.OpenShell(c) {
+		return nil, failure.Errorf(failure.BadInput, "--temperature: intensities of open-shell and electronic lines are not computed; leave --temperature out")
 	}
-	var all []fit.Prediction
-	for _, sp := range spp {
-		ps, err := predictSpecies(c, rec, sp, o, oc)
-		if err != nil {
-			return nil, err
-		}
-		all = append(all, ps...)
+	all, err := predictAll(c, rec, o, oc)
+	if err != nil {
+		return nil, err
 	}
 	fit.MarkExtrapolated(all, rec.Observed)
-	if a, _ := filepath.Abs(o.Out); a != "" {
-		if b, _ := filepath.Abs(o.Constants); a == b {
-			return nil, failure.Errorf(failure.BadInput, "--out %s would overwrite the constants record", o.Out)
+	for _, in := range []struct{ path, what string }{{o.Constants, "the constants record"}, {o.Lines, "the list of transitions (--lines)"}} {
+		if a, _ := filepath.Abs(o.Out); a != "" && in.path != "" {
+			if b, _ := filepath.Abs(in.path); a == b {
+				return nil, failure.Errorf(failure.BadInput, "--out %s would overwrite %s", o.Out, in.what)
+			}
 		}
 	}
 	if err := writeFileAtomic(o.Out, func(w io.Writer) error { return fit.WritePredictions(w, all, oc.Unit, o.Temperature > 0) }); err != nil {
@@ -108,6 +109,76 @@ func RunPredict(o PredictOptions) (*PredictOutcome, error) {
 	}
 	oc.Lines = len(all)
 	return oc, nil
+}
+
+// predictAll predicts the transitions of o.Lines, or the bands of each
+// species.
+func predictAll(c *constants.Set, rec *constants.Record, o PredictOptions, oc *PredictOutcome) ([]fit.Prediction, error) {
+	if o.Lines != "" {
+		return predictListed(c, o.Lines)
+	}
+	spp := c.Model.Species()
+	if o.Species != "" {
+		spp = []string{o.Species}
+	}
+	var all []fit.Prediction
+	for _, sp := range spp {
+		predict := predictSpecies
+		if fit.OpenShell(c) {
+			predict = predictOpenSpecies
+		}
+		ps, err := predict(c, rec, sp, o, oc)
+		if err != nil {
+			return nil, err
+		}
+		all = append(all, ps...)
+	}
+	return all, nil
+}
+
+// predictListed predicts exactly the transitions of the file at path (a
+// line list whose positions may be left out; linelist.ReadTransitions), its
+// levels checked against the record's electronic states.
+func predictListed(c *constants.Set, path string) ([]fit.Prediction, error) {
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, failure.Wrap(failure.BadInput, fmt.Errorf("pipelines: %w", err))
+	}
+	defer f.Close()
+	list, err := linelist.ReadTransitions(f, path)
+	if err != nil {
+		return nil, err
+	}
+	if err := linelist.CheckStates(list, c.States()); err != nil {
+		return nil, err
+	}
+	ps, err := fit.PredictLines(c, list.Lines)
+	if err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
+	}
+	return ps, nil
+}
+
+// predictOpenSpecies predicts the bands of one species of a record with
+// electronic states or fine structure: every electric-dipole line of each
+// band (fit.OpenBandTransitions), without intensities.
+func predictOpenSpecies(c *constants.Set, _ *constants.Record, sp string, o PredictOptions, _ *PredictOutcome) ([]fit.Prediction, error) {
+	var out []fit.Prediction
+	for _, b := range o.Bands {
+		ts, err := fit.OpenBandTransitions(c, sp, b, o.Branches, o.JMax)
+		if err != nil {
+			return nil, failure.Wrap(failure.BadInput, err)
+		}
+		ps, err := fit.PredictTransitions(c, ts)
+		if err != nil {
+			return nil, failure.Wrap(failure.BadInput, err)
+		}
+		out = append(out, ps...)
+	}
+	return out, nil
 }
 
 // predictSpecies predicts the bands of one species: the transitions of each
@@ -278,27 +349,6 @@ func addIntensities(ps []fit.Prediction, c *constants.Set, sp string, spec assig
 	return nil
 }
 
-// LoadStates reads the electronic-states file at path (states.Read); an
-// empty path gives nil.
-func LoadStates(path string) (*states.File, error) {
-	if path == "" {
-		return nil, nil
-	}
-	if why := textcheck.NotRegular(path); why != "" {
-		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
-	}
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fmt.Errorf("pipelines: %w", err)
-	}
-	defer f.Close()
-	sf, err := states.Read(f, path)
-	if err != nil {
-		return nil, failure.Wrap(failure.BadInput, err)
-	}
-	return sf, nil
-}
-
 // writeFileAtomic writes a single file through a temporary file renamed into
 // place (google/renameio). Missing parent folders are created, and removed
 // again when the write fails.
@@ -341,4 +391,25 @@ func writeFileAtomic(path string, fn func(io.Writer) error) (err error) {
 		return fmt.Errorf("pipelines: writing %s: %w", path, err)
 	}
 	return nil
+}
+
+// LoadStates reads the electronic-states file at path (states.Read); an
+// empty path gives nil.
+func LoadStates(path string) (*states.File, error) {
+	if path == "" {
+		return nil, nil
+	}
+	if why := textcheck.NotRegular(path); why != "" {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("pipelines: %w", err)
+	}
+	defer f.Close()
+	sf, err := states.Read(f, path)
+	if err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
+	}
+	return sf, nil
 }

@@ -425,3 +425,95 @@ func editValue(b []byte, from int, with string) []byte {
 	out = append(out, with...)
 	return append(out, b[j:]...)
 }
+
+// o2States is an electronic-states file for 16O2 X³Σg⁻ with a starting value
+// of B (the lead's recollection of B0 = 43100.4 MHz in cm-1, from memory).
+const o2States = `species = "16O2"
+[[state]]
+label = "X"
+term_energy = 0.0
+spin_multiplicity = 3
+lambda = 0
+symmetry = "g-"
+[state.start]
+B = 1.4377
+`
+
+// o2LineList are the 60 GHz fine-structure lines of 16O2 (MHz) as the lead
+// recalls them (from memory), given by N and J: the N+ and N− lines of
+// N = 1 … 19 without the N = 1, J = 1 ← 0 line.
+func o2LineList() string {
+	lines := [][3]float64{
+		{1, 56264.774, 0}, {3, 58446.588, 62486.255}, {5, 59590.982, 60306.056}, {7, 60434.778, 59164.204},
+		{9, 61150.559, 58323.875}, {11, 61800.154, 57612.485}, {13, 62411.220, 56968.209},
+		{15, 62997.982, 56363.393}, {17, 63568.525, 55783.810}, {19, 64127.776, 55221.371},
+	}
+	var b strings.Builder
+	b.WriteString("species,v_up,J_up,v_lo,J_lo,N_up,N_lo,F_up,F_lo,parity_up,parity_lo,state_up,state_lo,position,unc,unit\n")
+	for _, l := range lines {
+		n := int(l[0])
+		fmt.Fprintf(&b, "16O2,0,%d,0,%d,%d,%d,,,,,,,%.3f,0.02,MHz\n", n, n+1, n, n, l[1])
+		if l[2] > 0 {
+			fmt.Fprintf(&b, "16O2,0,%d,0,%d,%d,%d,,,,,,,%.3f,0.02,MHz\n", n, n-1, n, n, l[2])
+		}
+	}
+	return b.String()
+}
+
+// TestCatalogueOpenShellLines: open-shell line lists given to `bandwright fit
+// --states`: each bad level is refused naming the file, the row and the field.
+func TestCatalogueOpenShellLines(t *testing.T) {
+	base := o2LineList()
+	r2 := row(base, 2)
+	cases := []catCase{
+		{name: "good", input: []byte(base), code: 0},
+		{name: "N and J against S", input: []byte(replaceRow(base, 2, setField(r2, 5, "4"))), code: 1, want: []string{"lines.csv:2: N_up: N = 4 and J = 1 do not couple with S = 1"}},
+		{name: "F and N disagree", input: []byte(replaceRow(base, 2, setField(r2, 7, "3"))), code: 1, want: []string{"lines.csv:2: N_up: N = 1, J = 1 and F3 disagree"}},
+		{name: "wrong parity", input: []byte(replaceRow(base, 2, setField(r2, 9, "e"))), code: 1, want: []string{"lines.csv:2: parity_up: the F2 level with J = 1 has parity f in X ³Σg⁻, not e"}},
+		{name: "unknown state", input: []byte(replaceRow(base, 2, setField(r2, 11, "b"))), code: 1, want: []string{`lines.csv:2: state_up: no state is labelled "b" in the electronic-states file (its states: X)`}},
+		{name: "half-integer J", input: []byte(replaceRow(base, 2, setField(setField(r2, 2, "1.5"), 4, "2.5"))), code: 1, want: []string{"lines.csv:2: J_up: J = 1.5 is a half-integer, but state X ³Σg⁻ has integer J"}},
+		{name: "bad parity label", input: []byte(replaceRow(base, 2, setField(r2, 10, "+"))), code: 1, want: []string{`lines.csv:2: parity_lo: "+" is not a parity label: write e or f`}},
+		{name: "Delta J of 2", input: []byte(replaceRow(base, 2, setField(r2, 4, "3"))), code: 1, want: []string{"lines.csv:2: J_up: J_up - J_lo = -2 is outside the selection rules of open-shell and electronic spectra"}},
+	}
+	catalogue(t, "lines.csv", cases, func(t *testing.T, dir string) {
+		writeFile(t, filepath.Join(dir, "o2.toml"), []byte(o2States))
+	}, func(dir, file, out string) []string {
+		return []string{"fit", file, "--states", filepath.Join(dir, "o2.toml"), "--model", "term-values", "--terms", "B,lambda,lambda_D,gamma,gamma_D", "--fix", "D=4.84e-6", "--out", out}
+	})
+}
+
+// TestCatalogueStartValues: the [state.start] table of an electronic-states
+// file given to `bandwright fit --states`.
+func TestCatalogueStartValues(t *testing.T) {
+	base := o2States
+	cases := []catCase{
+		{name: "good", input: []byte(base), code: 0},
+		{name: "unknown constant", input: []byte(base + "Y01 = 1.4\n"), code: 1, want: []string{"o2.toml:10: state 1 (X): start.Y01: not a constant (starting values are given for T, B, D"}},
+		{name: "not finite", input: []byte(strings.Replace(base, "B = 1.4377", "B = nan", 1)), code: 1, want: []string{"o2.toml:9: state 1 (X): start.B: NaN must be a finite number (cm-1)"}},
+		{name: "label with a space", input: []byte(strings.Replace(base, `label = "X"`, `label = "X 1"`, 1)), code: 1, want: []string{`o2.toml:3: state 1: label: "X 1": a label is non-empty, without spaces`}},
+	}
+	catalogue(t, "o2.toml", cases, func(t *testing.T, dir string) {
+		writeFile(t, filepath.Join(dir, "lines.csv"), []byte(o2LineList()))
+	}, func(dir, file, out string) []string {
+		return []string{"fit", filepath.Join(dir, "lines.csv"), "--states", file, "--model", "term-values", "--terms", "B,lambda,lambda_D,gamma,gamma_D", "--fix", "D=4.84e-6", "--out", out}
+	})
+}
+
+// TestCatalogueTransitions: lists of transitions given to `bandwright predict
+// --lines` (positions optional).
+func TestCatalogueTransitions(t *testing.T) {
+	base := "species,v_up,J_up,v_lo,J_lo\n12C16O,1,1,0,0\n12C16O,1,0,0,1\n"
+	cases := []catCase{
+		{name: "good", input: []byte(base), code: 0},
+		{name: "with positions", input: []byte("species,v_up,J_up,v_lo,J_lo,position,unc\n12C16O,1,1,0,0,2147.08,0.001\n"), code: 0},
+		{name: "missing column", input: []byte("species,v_up,J_up,v_lo\n12C16O,1,1,0\n"), code: 1, want: []string{"search.csv:1: J_lo: required column missing"}},
+		{name: "species not in the record", input: []byte(base + "13C16O,1,1,0,0\n"), code: 1, want: []string{"search.csv:4: species: 13C16O is not in the constants record"}},
+		{name: "half-integer J", input: []byte(base + "12C16O,1,1.5,0,0.5\n"), code: 1, want: []string{"search.csv:4: J_up: J = 1.5 is a half-integer, but state X ¹Σ⁺ has integer J"}},
+		{name: "parity on a 1Sigma level", input: []byte("species,v_up,J_up,v_lo,J_lo,parity_up\n12C16O,1,1,0,0,e\n"), code: 1, want: []string{"search.csv:2: parity_up: a level of X ¹Σ⁺ takes no parity label"}},
+	}
+	catalogue(t, "search.csv", cases, func(t *testing.T, dir string) {
+		writeFile(t, filepath.Join(dir, "constants.json"), record(t))
+	}, func(dir, file, out string) []string {
+		return []string{"predict", filepath.Join(dir, "constants.json"), "--lines", file, "--unit", "GHz", "--out", out}
+	})
+}

@@ -100,9 +100,10 @@ func predictCommand() *cli.Command {
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "species", Usage: "isotopologue (default: every species in the record)"},
-			&cli.StringFlag{Name: "bands", Value: "1-0", Usage: "bands v′-v″, comma-separated (0-0: pure rotation)"},
+			&cli.StringFlag{Name: "bands", Value: "1-0", Usage: "bands v′-v″, comma-separated (0-0: pure rotation; A:0-0: v′ = 0 of electronic state A)"},
 			&cli.IntFlag{Name: "jmax", Value: 40, Usage: "highest lower-state J"},
-			&cli.StringSliceFlag{Name: "branches", Usage: "branches O,P,Q,R,S (default: those of the spectrum — P,R infrared, R pure rotation, O,Q,S Raman)"},
+			&cli.StringSliceFlag{Name: "branches", Usage: "branches O,P,Q,R,S (default: those of the spectrum — P,R infrared, R pure rotation, O,Q,S Raman; for open-shell and electronic states every ΔJ = 0, ±1)"},
+			&cli.StringFlag{Name: "lines", Usage: "predict exactly the transitions of this file (line-list quantum-number columns, positions optional) instead of --bands"},
 			&cli.StringFlag{Name: "spectrum", Usage: "selection rules and intensities: ir, raman or rotation (default: rotation for v′ = v″, ir otherwise)"},
 			&cli.Float64Flag{Name: "temperature", Usage: "temperature in K for relative intensities (Boltzmann, 2J+1, Hönl–London, nuclear spin); default: no intensity column"},
 			&cli.StringFlag{Name: "unit", Usage: "unit of the positions: cm-1, MHz or GHz (default: the unit of the fit's outputs)"},
@@ -122,7 +123,7 @@ func predictCommand() *cli.Command {
 			oc, err := pipelines.RunPredict(pipelines.PredictOptions{
 				Constants: c.Args().First(), Species: c.String("species"), Bands: bands, JMax: c.Int("jmax"),
 				Branches: splitList(c.StringSlice("branches")), Spectrum: c.String("spectrum"),
-				Temperature: c.Float64("temperature"), Unit: c.String("unit"), Out: c.String("out"),
+				Temperature: c.Float64("temperature"), Unit: c.String("unit"), Lines: c.String("lines"), Out: c.String("out"),
 			})
 			if err != nil {
 				return err

@@ -102,3 +102,35 @@ func sameOpen(a, b OpenShell) bool {
 	a.Up.State, a.Lo.State = csvcell.Neutralise(a.Up.State), csvcell.Neutralise(a.Lo.State)
 	return a == b
 }
+
+// FuzzReadTransitions: the reader of lists of transitions (predict --lines)
+// never panics; what it accepts has the quantum numbers of a line list, and
+// CheckStates against a ¹Σ ground state either completes or refuses every
+// line with a problem naming the file.
+func FuzzReadTransitions(f *testing.F) {
+	f.Add([]byte("species,v_up,J_up,v_lo,J_lo\n12C16O,1,1,0,0\n"))
+	f.Add([]byte("species,v_up,J_up,v_lo,J_lo,N_up,N_lo\n16O2,0,1,0,0,1,1\n"))
+	f.Add([]byte("species,v_up,J_up,v_lo,J_lo,F_up,F_lo,parity_up,parity_lo,state_up\n14N16O,1,3.5,0,2.5,1,1,e,e,A\n"))
+	f.Add([]byte("species,v_up,J_up,v_lo,J_lo,position\n12C16O,1,1,0,0,\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		l, err := ReadTransitions(bytes.NewReader(data), "t.csv")
+		if err != nil {
+			var le *Error
+			if !errors.As(err, &le) || len(le.Problems) == 0 {
+				t.Fatalf("error %T %v", err, err)
+			}
+			return
+		}
+		for _, x := range l.Lines {
+			if x.J2Up() < 0 || x.J2Lo() < 0 || x.J2Up() > 2*MaxJ || x.VUp < 0 || x.VUp > MaxV {
+				t.Fatalf("accepted %+v", x)
+			}
+		}
+		if err := CheckStates(l, nil); err != nil {
+			var le *Error
+			if !errors.As(err, &le) || len(le.Problems) == 0 || le.Problems[0].File != "t.csv" {
+				t.Fatalf("CheckStates error %T %v", err, err)
+			}
+		}
+	})
+}

@@ -186,6 +186,28 @@ func (t statesText) state(i int, key string) string {
 	return textcheck.At(t.name, line)
 }
 
+// start returns "name:line" of key in the [state.start] table of [[state]]
+// number i (0-based), the line of the [[state]] header when the key cannot
+// be found (the scan follows headers only, as textcheck.KeyLine).
+func (t statesText) start(i int, key string) string {
+	count, inside := -1, false
+	for n, l := range strings.Split(string(t.b), "\n") {
+		h := strings.TrimSpace(l)
+		if strings.HasPrefix(h, "[") {
+			name := strings.TrimSpace(strings.Trim(strings.SplitN(h, "#", 2)[0], "[] \t"))
+			if strings.HasPrefix(h, "[[") && name == "state" {
+				count++
+			}
+			inside = count == i && !strings.HasPrefix(h, "[[") && name == "state.start"
+			continue
+		}
+		if k, _, ok := strings.Cut(h, "="); inside && ok && strings.Trim(strings.TrimSpace(k), `"`) == key {
+			return textcheck.At(t.name, n+1)
+		}
+	}
+	return t.state(i, "")
+}
+
 // decodeStates decodes the TOML of an electronic-states file. A syntax error
 // names the line and the key (with a hint for a decimal comma); a key the file
 // does not know is an error at the line where it is written.
@@ -420,7 +442,7 @@ func readStart(i int, s State, raw map[string]float64, at statesText) ([]Start, 
 	var out []Start
 	for _, n := range names {
 		v := raw[n]
-		where := at.state(i, n)
+		where := at.start(i, n)
 		switch {
 		case !contains(startNames, n):
 			return nil, fmt.Errorf("states: %s: state %d (%s): start.%s: not a constant (starting values are given for %s)", where, i+1, s.Label, n, strings.Join(startNames, ", "))

@@ -128,8 +128,9 @@ type residual struct {
 	file           string
 	row            int
 	species        string
-	vUp, jUp       int
-	vLo, jLo       int
+	vUp, vLo       int
+	jUp, jLo       float64 // J, a half-integer for levels of even multiplicity
+	stUp, stLo     string  // electronic states (state_up, state_lo; empty: the ground state)
 	branch, unit   string
 	obs, unc, calc float64
 	oc, norm       float64
@@ -157,13 +158,14 @@ func readResiduals(b []byte, name string) ([]residual, error) {
 		r.file = t.cell(i, "file")
 		r.species = t.cell(i, "species")
 		r.branch = t.cell(i, "branch")
+		r.stUp, r.stLo = t.cell(i, "state_up"), t.cell(i, "state_lo")
 		r.unit = t.cell(i, "unit")
 		r.note = t.cell(i, "note")
 		r.comment = t.cell(i, "comment")
 		for _, q := range []struct {
 			col string
 			dst *int
-		}{{"row", &r.row}, {"v_up", &r.vUp}, {"J_up", &r.jUp}, {"v_lo", &r.vLo}, {"J_lo", &r.jLo}} {
+		}{{"row", &r.row}, {"v_up", &r.vUp}, {"v_lo", &r.vLo}} {
 			if *q.dst, err = t.int(i, q.col); err != nil {
 				return nil, err
 			}
@@ -171,7 +173,7 @@ func readResiduals(b []byte, name string) ([]residual, error) {
 		for _, q := range []struct {
 			col string
 			dst *float64
-		}{{"obs", &r.obs}, {"unc", &r.unc}, {"calc", &r.calc}, {"o_minus_c", &r.oc}, {"o_minus_c_over_unc", &r.norm}} {
+		}{{"J_up", &r.jUp}, {"J_lo", &r.jLo}, {"obs", &r.obs}, {"unc", &r.unc}, {"calc", &r.calc}, {"o_minus_c", &r.oc}, {"o_minus_c_over_unc", &r.norm}} {
 			if *q.dst, err = t.float(i, q.col); err != nil {
 				return nil, err
 			}

@@ -15,8 +15,9 @@ import (
 
 // bandKey identifies a band of one isotopologue in residuals.csv.
 type bandKey struct {
-	species  string
-	vUp, vLo int
+	species    string
+	vUp, vLo   int
+	stUp, stLo string // electronic states; empty: the ground state
 }
 
 // groupBands groups residual rows by band, in record species order then by
@@ -29,7 +30,7 @@ func groupBands(f *folder) ([]bandKey, map[bandKey][]int) {
 	groups := map[bandKey][]int{}
 	var keys []bandKey
 	for i, r := range f.residuals {
-		k := bandKey{r.species, r.vUp, r.vLo}
+		k := bandKey{r.species, r.vUp, r.vLo, r.stUp, r.stLo}
 		if _, ok := groups[k]; !ok {
 			keys = append(keys, k)
 		}
@@ -58,10 +59,13 @@ func groupBands(f *folder) ([]bandKey, map[bandKey][]int) {
 }
 
 func bandName(k bandKey) string {
+	if k.stUp != k.stLo {
+		return k.species + " " + linelist.Band{VUp: k.vUp, VLo: k.vLo, StateUp: k.stUp, StateLo: k.stLo}.String()
+	}
 	if k.vUp == k.vLo {
 		return sprintf("%s pure rotation v=%d", k.species, k.vUp)
 	}
-	return k.species + " " + linelist.BandLabel(k.vUp, k.vLo)
+	return k.species + " " + linelist.Band{VUp: k.vUp, VLo: k.vLo, StateUp: k.stUp, StateLo: k.stLo}.String()
 }
 
 // residualSection plots o−c against J for each band and lists the lines that
@@ -129,7 +133,7 @@ func lineRow(r residual) []string {
 	}
 	return []string{
 		sprintf("%s:%d", filepath.Base(r.file), r.row), r.species,
-		linelist.BandLabel(r.vUp, r.vLo) + sprintf(" %s(%d)", br, r.jLo),
+		linelist.Band{VUp: r.vUp, VLo: r.vLo, StateUp: r.stUp, StateLo: r.stLo}.String() + sprintf(" %s(%g)", br, r.jLo),
 		num(r.obs, 12), num(r.oc, 4), unitName(r.unit), fixed(r.norm, 2), status, r.note, r.comment,
 	}
 }
@@ -138,7 +142,7 @@ func lineRow(r residual) []string {
 // branch, rejected lines as crosses (see addRejected), a zero line and
 // dashed guides at ±3σ (±3 on the normalised scale).
 func bandFigure(f *folder, k bandKey, idx []int) *figure {
-	name := sprintf("report-residuals-%s-%d-%d.svg", fileSafe(k.species), k.vUp, k.vLo)
+	name := sprintf("report-residuals-%s-%s%d-%s%d.svg", fileSafe(k.species), fileSafe(k.stUp), k.vUp, fileSafe(k.stLo), k.vLo)
 	fig := &figure{Name: name, Alt: "residuals of " + bandName(k) + " against J″"}
 	sc := newBandScale(f.residuals, idx)
 	pts := collectBand(f.residuals, idx, sc)
@@ -275,7 +279,7 @@ func collectBand(rs []residual, idx []int, sc bandScale) *bandPoints {
 		r := rs[i]
 		if !r.used {
 			pts.nRejected++
-			pts.rejected.add(float64(r.jLo), sc.y(r))
+			pts.rejected.add(r.jLo, sc.y(r))
 			continue
 		}
 		pts.nUsed++
@@ -286,7 +290,7 @@ func collectBand(rs []residual, idx []int, sc bandScale) *bandPoints {
 		if pts.byBranch[b] == nil {
 			pts.byBranch[b] = &xyCollector{}
 		}
-		pts.byBranch[b].add(float64(r.jLo), sc.y(r))
+		pts.byBranch[b].add(r.jLo, sc.y(r))
 	}
 	return pts
 }
