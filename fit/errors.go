@@ -71,7 +71,20 @@ func (w *work) undetermined(re *lsq.RankError) error {
 }
 
 func hintFor(id string, w *work) string {
+	if _, rest, ok := strings.Cut(id, ":"); ok && !strings.HasPrefix(id, "kappa[") {
+		id = rest // a parameter of an excited state: the same hint
+	}
 	switch {
+	case strings.HasPrefix(id, "T_e"):
+		return "The term energy of an electronic state needs lines between that state and another one (an electronic band)."
+	case strings.HasPrefix(id, "A_v"), strings.HasPrefix(id, "A_e"), strings.HasPrefix(id, "lambda_v"), strings.HasPrefix(id, "lambda_e"):
+		return "A spin–orbit or spin–spin constant needs lines that reach both spin components of the level (satellite lines, or an electronic band), or J over which their mixing changes."
+	case strings.HasPrefix(id, "p_v"), strings.HasPrefix(id, "q_v"), strings.HasPrefix(id, "p_e"), strings.HasPrefix(id, "q_e"):
+		return "Λ-doubling constants need lines that reach both e and f levels of the same J (Q lines of a band, or Λ-doubling transitions)."
+	case strings.HasPrefix(id, "gamma"):
+		return "A spin–rotation constant needs lines that resolve the spin components over a range of N."
+	case strings.HasPrefix(id, "alpha_"):
+		return "An α term of a fine-structure constant needs that constant in at least 2 vibrational levels."
 	case strings.HasPrefix(id, "kappa["):
 		return "A calibration factor needs lines in that file that are also measured in the reference file or tied to it through the model."
 	case strings.HasPrefix(id, "T_v"):
@@ -96,4 +109,39 @@ func hintFor(id string, w *work) string {
 		return fmt.Sprintf("Y0%d needs lines reaching higher J.", l)
 	}
 	return ""
+}
+
+// doubletPiPairs refuses a fit in which A_D and γ of one ²Π level (the same
+// state, v and isotopologue; in the Dunham model the same state) both float:
+// the levels of an isolated ²Π state determine only a combination of the two
+// (Brown, Colbourn, Watson and Wayne, J. Mol. Spectrosc. 74, 294 (1979)). The
+// design does not show it as an exact rank defect — the equivalence is a
+// contact transformation, not a linear relation — but the pair then drifts
+// along a curved valley of χ² that its linearised σ do not cover.
+func (w *work) doubletPiPairs() error {
+	type level struct {
+		state, species string
+		v              int
+	}
+	seen := map[level][2]string{}
+	for _, j := range w.free {
+		p := w.params[j]
+		name, k, ok := model.FineConstant(p)
+		if !ok || k != 0 || (name != "A_D" && name != "gamma") {
+			continue
+		}
+		key := level{p.State, p.Species, p.V}
+		pair := seen[key]
+		if name == "A_D" {
+			pair[0] = p.ID()
+		} else {
+			pair[1] = p.ID()
+		}
+		seen[key] = pair
+		if pair[0] != "" && pair[1] != "" {
+			return &UndeterminedError{Groups: [][]string{{pair[0], pair[1]}},
+				Hints: []string{"The levels of a ²Π state determine only a combination of A_D and γ (Brown, Colbourn, Watson and Wayne, J. Mol. Spectrosc. 74, 294 (1979)); hold one, e.g. --fix gamma=0, or leave A_D out of --terms."}}
+		}
+	}
+	return nil
 }

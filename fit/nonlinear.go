@@ -81,6 +81,12 @@ func (w *work) iterate(free, rows []int) error {
 		}
 		if newChi > chi*(1+chi2Slack)+w.chi2Floor() && w.nonlinear {
 			w.restore(free, old)
+			if mu == 0 && step <= stepStalled {
+				// An undamped step of a thousandth of σ that raises χ²: the
+				// rounding floor of an ill-conditioned problem.
+				w.res, w.conv.finalStep, w.conv.converged = res, step, true
+				return nil
+			}
 			if mu == 0 {
 				mu, scale = muStart, w.columnNorms(free, rows)
 			} else {

@@ -1,8 +1,10 @@
 package fit
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"bandwright/fit/linelist"
@@ -479,5 +481,21 @@ func TestDunhamOpenShell(t *testing.T) {
 				t.Errorf("%s = %.10g ± %.2g, generated with %.10g", p.ID(), p.Value, p.Sigma, want)
 			}
 		}
+	}
+}
+
+// TestDoubletPiADGammaRefused: A_D and γ of one ²Π level cannot both float
+// (Brown, Colbourn, Watson and Wayne, J. Mol. Spectrosc. 74, 294 (1979));
+// with either held the fit goes through.
+func TestDoubletPiADGammaRefused(t *testing.T) {
+	o := nitricOxideTruth()
+	lines := nitricOxideLines(o, rand.New(rand.NewPCG(1, 1)))
+	_, err := fitOpen(t, lines, o.sts, []string{"B", "D", "A", "A_D", "gamma", "p", "q"}, nil)
+	var ue *UndeterminedError
+	if !errors.As(err, &ue) || !strings.Contains(err.Error(), "A_D_v0[14N16O], gamma_v0[14N16O]") || !strings.Contains(err.Error(), "Brown, Colbourn, Watson and Wayne") {
+		t.Errorf("error %v, want the A_D–γ indeterminacy named", err)
+	}
+	if _, err := fitOpen(t, lines, o.sts, []string{"B", "D", "A", "A_D", "p", "q"}, nil); err != nil {
+		t.Errorf("A_D without γ: %v", err)
 	}
 }

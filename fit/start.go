@@ -34,6 +34,9 @@ func (w *work) start() error {
 	if !w.nonlinear {
 		return nil
 	}
+	if err := w.doubletPiPairs(); err != nil {
+		return err
+	}
 	given := w.applyStarts()
 	held := map[int]bool{}
 	for _, j := range w.free {
