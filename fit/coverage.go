@@ -15,7 +15,11 @@ func coverage(lines []linelist.Line, used []bool) ([]constants.Band, []constants
 		s, st string
 		v     int
 	}
-	bi := map[linelist.Band]map[string]int{}
+	type bk struct {
+		s string
+		b linelist.Band
+	}
+	bi := map[bk]int{}
 	var bands []constants.Band
 	lv := map[lk]int{}
 	var levels []constants.LevelRange
@@ -26,13 +30,10 @@ func coverage(lines []linelist.Line, used []bool) ([]constants.Band, []constants
 		l := &lines[i]
 		lb := linelist.LineBand(l)
 		half := l.Open != nil && l.Open.HalfJ
-		if bi[lb] == nil {
-			bi[lb] = map[string]int{}
-		}
-		j, ok := bi[lb][l.Species]
+		j, ok := bi[bk{l.Species, lb}]
 		if !ok {
 			j = len(bands)
-			bi[lb][l.Species] = j
+			bi[bk{l.Species, lb}] = j
 			bands = append(bands, constants.Band{Species: l.Species, VUp: l.VUp, VLo: l.VLo, StateUp: lb.StateUp, StateLo: lb.StateLo, JMin: l.JLo, JMax: l.JLo, HalfJ: half})
 		}
 		b := &bands[j]

@@ -53,7 +53,10 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 			status = "rejected"
 		}
 		branch := l.Branch
-		if branch == "" {
+		switch {
+		case branch == "" && l.Open == nil:
+			branch = linelist.BranchLetter(l.DeltaJ())
+		case branch == "":
 			branch = linelist.LineBranch(l).String()
 		}
 		b = csvcell.Append(b[:0], n(l.File))
@@ -61,10 +64,10 @@ func WriteResiduals(w io.Writer, p Problem, r *Result, extra []string) error {
 		b = strconv.AppendInt(b, int64(l.Row), 10)
 		b = append(b, ',')
 		b = csvcell.Append(b, l.Species)
-		for k, q := range [4]string{strconv.Itoa(l.VUp), linelist.FormatJ(l.J2Up()), strconv.Itoa(l.VLo), linelist.FormatJ(l.J2Lo())} {
-			b = appendSep(b, k+1)
-			b = append(b, q...)
-		}
+		b = strconv.AppendInt(append(b, ','), int64(l.VUp), 10)
+		b = linelist.AppendJ(append(b, ','), l.J2Up())
+		b = strconv.AppendInt(append(b, ','), int64(l.VLo), 10)
+		b = linelist.AppendJ(append(b, ','), l.J2Lo())
 		if open {
 			for _, c := range linelist.OpenCells(l.Open) {
 				b = append(b, ',')
@@ -285,7 +288,6 @@ func mdEscape(s string) string {
 	r := strings.NewReplacer("|", `\|`, "<", "&lt;", ">", "&gt;", "&", "&amp;", "*", `\*`, "_", `\_`, "`", "\\`", "[", `\[`, "]", `\]`, "\n", " ", "\r", " ")
 	return r.Replace(s)
 }
-
 
 // writeStates names the electronic states of a model that has more than a ¹Σ⁺
 // ground state.

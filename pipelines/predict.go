@@ -48,10 +48,10 @@ type PredictOptions struct {
 	// Lines, when set, is a file of transitions (the quantum-number columns
 	// of a line list, positions optional) to predict exactly; Species,
 	// Bands, JMax, Branches and Spectrum are then not used.
-	Lines     string
-	Species   string // "": every species of the record
-	Bands     []linelist.Band
-	JMax      int // highest lower-state J
+	Lines   string
+	Species string // "": every species of the record
+	Bands   []linelist.Band
+	JMax    int // highest lower-state J
 	// Branches are branch letters; none: those of the spectrum (assign.Spectrum.DeltaJ).
 	Branches []string
 	// Spectrum is "ir", "raman" or "rotation" (the selection rules of the

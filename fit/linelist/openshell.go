@@ -210,15 +210,29 @@ func (f *file) cell(rec []string, cl column) (string, bool) {
 //
 // Problems are returned as one *Error naming file, row and field.
 func CheckStates(list *List, sts []states.State) error {
+	if len(sts) == 0 || (len(sts) == 1 && sts[0].Case() == states.Singlet) {
+		closed := true
+		for i := range list.Lines {
+			if list.Lines[i].Open != nil {
+				closed = false
+				break
+			}
+		}
+		if closed {
+			return nil // ¹Σ lines of a ¹Σ ground state: nothing to check
+		}
+	}
 	cs := map[string]*collector{}
 	var order []*collector
+	var c *collector
 	for i := range list.Lines {
 		l := &list.Lines[i]
-		c := cs[l.File]
-		if c == nil {
-			c = &collector{file: l.File}
-			cs[l.File] = c
-			order = append(order, c)
+		if c == nil || c.file != l.File {
+			if c = cs[l.File]; c == nil {
+				c = &collector{file: l.File}
+				cs[l.File] = c
+				order = append(order, c)
+			}
 		}
 		checkLine(c, l, sts)
 	}
@@ -360,6 +374,9 @@ func appendOpen(row []byte, l *Line) []byte {
 	}
 	return row
 }
+
+// AppendJ appends J = j2/2 as files write it ("3", "3.5") to b.
+func AppendJ(b []byte, j2 int) []byte { return appendJ(b, j2) }
 
 // appendJ appends J = j2/2 as a decimal.
 func appendJ(b []byte, j2 int) []byte {

@@ -174,7 +174,7 @@ func (rd *reader) warnDuplicates() {
 			reason = fmt.Sprintf("duplicate line: the same species, quantum numbers and position as %s; it is counted twice in the fit (delete one copy if it was pasted twice)", rowOf(o, l))
 		case o.File == l.File:
 			reason = fmt.Sprintf("one peak assigned to two transitions: position %s %s is also row %d's, assigned to %s, and here to %s; a blended peak counts twice in the fit (keep one, or raise the unc of both)",
-				fmtPos(l.Position), l.Unit, o.Row, TransitionLabel(o.VUp, o.JUp, o.VLo, o.JLo), TransitionLabel(l.VUp, l.JUp, l.VLo, l.JLo))
+				fmtPos(l.Position), l.Unit, o.Row, LineLabel(o), LineLabel(l))
 		default:
 			continue
 		}

@@ -1,6 +1,9 @@
 package states
 
-import "fmt"
+import (
+	"fmt"
+	"strconv"
+)
 
 // Parity is the rotationless parity label of a level, e or f (see the package
 // doc).
@@ -258,9 +261,9 @@ func (s State) checkDoubletPi(l Label) (Label, error) {
 // fmtJ writes J = J2/2 as a decimal: "3", "3.5".
 func fmtJ(J2 int) string {
 	if J2%2 == 0 {
-		return fmt.Sprint(J2 / 2)
+		return strconv.Itoa(J2 / 2)
 	}
-	return fmt.Sprintf("%d.5", J2/2)
+	return strconv.Itoa(J2/2) + ".5"
 }
 
 // FormatJ writes J = J2/2 as files write it: "3", "3.5".
