@@ -306,3 +306,31 @@ func TestDunhamFineStructure(t *testing.T) {
 		}
 	}
 }
+
+// TestHydroxylLambdaDoubling checks the sign convention and size of p and q:
+// with OH X²Π v = 0 constants (B = 18.535, D = 1.91e-3, A = −139.05, γ =
+// −0.119, p = +0.2355, q = −0.0387 cm⁻¹; Coxon 1980 and later work, from
+// memory) the Λ-doubling of the lowest levels must match the centres of the
+// hyperfine quartets of the OH radio lines (from memory: ²Π3/2 J = 3/2 lines
+// at 1665.40 and 1667.36 MHz, centre ≈ 1666.4; J = 5/2 at 6016.7 … 6049.1,
+// centre ≈ 6033; ²Π½ J = 3/2 at 7749.9 … 7832.0, centre ≈ 7791), within 0.5 %
+// for constants recalled to three or four digits.
+func TestHydroxylLambdaDoubling(t *testing.T) {
+	m, err := NewTermValuesStates([]states.State{stDoubletPi}, []LevelSpec{{Species: "16O1H", V: []int{0}}}, []string{"B", "D", "A", "gamma", "p", "q"}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := []float64{0, 18.535, 1.91e-3, -139.05, -0.119, 0.2355, -0.0387}
+	const mhz = 29979.2458
+	for _, c := range []struct {
+		j2, f int
+		want  float64
+	}{{3, 1, 1666.4}, {5, 1, 6033}, {3, 2, 7791}} {
+		e := m.LevelEnergy(0, Level{J2: c.j2, F: c.f, Parity: states.ParityE}, p, nil)
+		f := m.LevelEnergy(0, Level{J2: c.j2, F: c.f, Parity: states.ParityF}, p, nil)
+		got := math.Abs(e-f) * mhz
+		if !scalar.EqualWithinRel(got, c.want, 0.005) {
+			t.Errorf("J = %s F%d: Λ-doubling %.1f MHz, want %.1f", states.FormatJ(c.j2), c.f, got, c.want)
+		}
+	}
+}

@@ -1,17 +1,112 @@
 // Package model holds the energy-level models of bandwright: band-by-band term
 // values ("term-values") and the Dunham expansion ("dunham") with mass scaling across
-// isotopologues and optional Born–Oppenheimer-breakdown terms.
+// isotopologues and optional Born–Oppenheimer-breakdown terms, for ¹Σ states and,
+// with electronic states and fine structure, for ²Σ, ³Σ, ¹Π and ²Π states and
+// electronic band systems.
 //
-// Every model is linear in its parameters: E(s, v, J) = Σ_j c_j(s, v, J)·p_j, so the
-// gradient ∂E/∂p_j = c_j is exact and cheap, and a line position
-// ν = E(upper) − E(lower) has the design row c(upper) − c(lower). All energies are
-// in cm⁻¹, measured from the model's own zero: T_v of the lowest level of each
-// isotopologue is 0 in the term-values model; the Dunham model has its zero at the
-// potential minimum (Y00 is not part of the model), so E(0, 0) is the zero-point
-// energy above the minimum.
+// All energies are in cm⁻¹, measured from the model's own zero: T_v of the lowest
+// level of the ground state of each isotopologue is 0 in the term-values model; the
+// Dunham model has its zero at the potential minimum of the ground state (Y00 is not
+// part of the model), so E(0, 0) is the zero-point energy above the minimum, and an
+// excited state adds its T_e.
 //
-// The models describe ¹Σ states (no Λ-doubling, no spin splitting): rotational
-// energy depends on x = J(J+1) only.
+// # ¹Σ states
+//
+// The levels of a ¹Σ state are linear in the parameters: E(s, v, J) = Σ_j
+// c_j(s, v, J)·p_j, so the gradient ∂E/∂p_j = c_j is exact and cheap, and a line
+// position ν = E(upper) − E(lower) has the design row c(upper) − c(lower). The
+// rotational energy depends on x = J(J+1) only. Energy and Transition evaluate the
+// ground state this way (for a ground state with fine structure they give its energy
+// without it, J read as N).
+//
+// # Electronic states and fine structure
+//
+// A model built with electronic states (package states; the ground state first)
+// implements LevelModel. Each vibronic level (isotopologue, state, v) has effective
+// constants — T, the rotational constants B, D, H, L and the fine-structure
+// constants of its state's case — which are single parameters in the term-values
+// model ("A_v0[14N16O]", "A:B_v0[14N16O]" for state A) and Dunham-type expansions in
+// the Dunham model (see Dunham). A level's energy is
+//
+//	E = T + eigenvalue of H(J, parity)
+//
+// where H is the effective Hamiltonian of the state's case in the 1×1 or 2×2 block
+// of the level's J and rotationless parity, diagonalised exactly for every J — the
+// whole range from Hund's case (a) to case (b), with no case assumed. H is linear in
+// the constants, H = Σ_q c_q M_q(J, parity), so the gradient of an eigenvalue is
+// ∂E/∂c_q = ψᵀ M_q ψ (Hellmann–Feynman), ψ the level's eigenvector; the fit's
+// Gauss–Newton steps use it (checked against finite differences of gonum/diff/fd in
+// the tests). The Hamiltonians are written in the N² formulation of Brown,
+// Colbourn, Watson and Wayne (J. Mol. Spectrosc. 74, 294 (1979)): N = J − S is the
+// rotational angular momentum including the orbital part, rotation is B N² − D N⁴ +
+// H N⁶ + L N⁸ (D > 0 lowers the levels), and every distortion term is the
+// anticommutator ½[N², O]₊ of N² with the operator O of its constant:
+//
+//	¹Σ   B N² − D N⁴ + H N⁶ + L N⁸
+//	²Σ   + γ N·S + γ_D ½[N², N·S]₊
+//	³Σ   + λ ⅔(3S_z² − S²) + λ_D ½[N², ⅔(3S_z² − S²)]₊ + γ N·S + γ_D ½[N², N·S]₊
+//	¹Π   + q O_q + q_D ½[N², O_q]₊
+//	²Π   + A L_zS_z + A_D ½[N², L_zS_z]₊ + γ N·S + γ_D ½[N², N·S]₊
+//	     + p O_p + q O_q + p_D ½[N², O_p]₊ + q_D ½[N², O_q]₊
+//
+// with the Λ-doubling operators (Brown and Merer, J. Mol. Spectrosc. 74, 488 (1979))
+//
+//	O_p = −½ (J₊S₊ e^(−2iφ) + J₋S₋ e^(2iφ))
+//	O_q = −(J₊S₊ e^(−2iφ) + J₋S₋ e^(2iφ)) + ½ (J₊² e^(−2iφ) + J₋² e^(2iφ))
+//
+// so that p O_p + q O_q = −½(p + 2q)(J₊S₊e^(−2iφ) + …) + ½q(J₊²e^(−2iφ) + …).
+// Molecule-fixed J₊ lowers Ω (the anomalous sign, common practice), and
+// ⟨Λ∓2|e^(∓2iφ)|Λ⟩ = 1.
+//
+// Parity and e/f (Brown et al., J. Mol. Spectrosc. 55, 500 (1975)): the parity
+// operation maps |Λ, S, Σ, Ω; J⟩ to (−1)^(J−S+s)|−Λ, S, −Σ, −Ω; J⟩ (s = 1 for Σ⁻
+// states, 0 otherwise); the basis functions of a Π state are
+// (|Λ, Σ, Ω⟩ ± |−Λ, −Σ, −Ω⟩)/√2, and the + combination, of parity +(−1)^(J−½) for
+// half-integer J, is e. With these phases E(e) − E(f) = q J(J+1) in a ¹Π state,
+// and −(p + 2q)(J + ½) for the Ω = ½ levels of a ²Π state in the case-(a) limit
+// (with OH X²Π v = 0, p ≈ +0.235 and q ≈ −0.039 cm⁻¹, the Λ-doubling of ²Π3/2 J =
+// 3/2 comes out near the known 1666 MHz; see the tests).
+//
+// The matrices of each case (x = J(J+1) unless noted; s = +1 for e, −1 for f):
+//
+//	¹Σ, ²Σ   1×1; in ²Σ N = J ∓ ½ for F1/F2 and N·S = ½[J(J+1) − N(N+1) − ¾]
+//	         (½N for F1, −½(N+1) for F2)
+//	¹Π       1×1 per parity: N² = x, O_q = ½ s x
+//	³Σ       Schlapp's case-(b) matrix (Phys. Rev. 51, 342 (1937)): F2 (N = J) alone,
+//	         N² = x, N·S = −1, ⅔(3S_z² − S²) = ⅔; F1 (N = J−1) and F3 (N = J+1) in
+//	         one 2×2 block,
+//	           N²   diag((J−1)J, (J+1)(J+2))
+//	           N·S  diag(J − 1, −(J + 2))
+//	           ⅔(3S_z² − S²)   [−⅔(J−1)/(2J+1)      2√(J(J+1))/(2J+1)]
+//	                           [2√(J(J+1))/(2J+1)   −⅔(J+2)/(2J+1)   ]
+//	         and J = 0 has F3 (N = 1) alone
+//	²Π       the case-(a) basis (Ω = ½, Ω = 3/2) of one parity, X = J + ½, z = X² − 1:
+//	           N²      [z + 2   −√z]    L_zS_z   diag(−½, ½)
+//	                   [−√z      z ]
+//	           N·S     [−1     ½√z]     O_p      diag(−½ s X, 0)
+//	                   [½√z     0 ]
+//	           O_q     [−s X        ½ s X √z]
+//	                   [½ s X √z       0    ]
+//	         and J = ½ has the Ω = ½ level alone
+//
+// Labels: in a 2×2 block the lower eigenvalue is F1 (²Π: F1, F2; ³Σ: F1, F3). The
+// two levels of one J and parity never cross, so the label follows the eigenvector
+// from case (a) to case (b): for ²Π it is the component that is mostly Ω = ½ when
+// A > 0 and mostly Ω = 3/2 when A < 0 at low J, and the one with N = J − ½ at high
+// J. The single J = ½ level of a ²Π state may carry either label (F1 in the case-(a)
+// labelling of A > 0, F2 with N = 1 in the case-(b) one). In the N² formulation the
+// rotational energy of a ²Π state lies BΛ² above the Hill–Van Vleck formula written
+// with R² (checked in the tests).
+//
+// Indeterminacies the fit must know: the levels of a ²Π state depend on A only
+// through A(A − 4B) when Λ-doubling and distortion are left out, so A and 4B − A
+// give the same F1 and F2 levels; and they determine only a combination of A_D and
+// γ (Brown, Colbourn, Watson and Wayne 1979). Package fit settles the first with
+// two starting values and refuses the second.
+//
+// Sublevels enumerates every level of a vibronic level — all spin and Λ-doubling
+// components with J, N, F, parity, energy and gradient — for the thermo stage;
+// constants.Set.Sublevels gives the gradient over the fitted parameters.
 package model
 
 import (
