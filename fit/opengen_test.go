@@ -295,14 +295,3 @@ func scaled(c float64, m *mat.Dense) *mat.Dense {
 	t.Scale(c, m)
 	return &t
 }
-
-// energy returns the level (F, parity) at J2, NaN if there is none; for the
-// single J = ½ level of a ²Π state any F matches.
-func (g genState) energy(J2, F, par int) float64 {
-	for _, l := range g.levels(J2) {
-		if l.Par == par && (l.F == F || l.F == 0) {
-			return l.E
-		}
-	}
-	return math.NaN()
-}

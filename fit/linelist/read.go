@@ -449,26 +449,8 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	if i := f.col[colSpecies]; i >= 0 {
 		l.Species = f.species(rec[i], row)
 	}
-	var qok [4]bool
-	var j2 [2]int
-	l.VUp, qok[0] = f.quantum(rec, colVUp, row, MaxV)
-	j2[0], qok[1] = f.angular(rec, colJUp, row)
-	l.VLo, qok[2] = f.quantum(rec, colVLo, row, MaxV)
-	j2[1], qok[3] = f.angular(rec, colJLo, row)
-	quantaOK := qok[0] && qok[1] && qok[2] && qok[3]
-	l.JUp, l.JLo = j2[0]/2, j2[1]/2
-	f.openShell(rec, row, &l, j2, qok[1] && qok[3])
+	quantaOK := f.quanta(rec, row, &l)
 	dJ := l.JUp - l.JLo
-	if quantaOK && l.Open == nil {
-		switch {
-		case dJ < -2 || dJ > 2:
-			c.add(row, "J_up", "J_up - J_lo = %+d is outside the selection rules of every supported spectrum (infrared dJ = ±1, Raman 0, ±2, pure rotation ±1)", dJ)
-		case l.VUp == l.VLo && dJ == 0:
-			c.add(row, "v_up", "upper level (v=%d, J=%d) equals the lower level: a zero-frequency transition", l.VUp, l.JUp)
-		case l.VUp < l.VLo || (l.VUp == l.VLo && dJ < 0):
-			c.add(row, "v_up", "upper level (v=%d, J=%d) lies below the lower level (v=%d, J=%d): are upper and lower swapped?", l.VUp, l.JUp, l.VLo, l.JLo)
-		}
-	}
 
 	if !f.rd.transitions {
 		l.Position = f.positive(rec, colPosition, row)
@@ -487,22 +469,7 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 
 	if i := f.col[colBranch]; i >= 0 {
 		if t := strings.TrimSpace(rec[i]); t != "" {
-			bdJ, known := BranchDeltaJ(t)
-			if b, err := ParseBranch(t); !known && l.Open != nil && err == nil {
-				bdJ, known = b.DeltaJ, true
-			}
-			switch {
-			case !known && l.Open != nil:
-				c.add(row, "branch", "unknown branch %q: write the ΔJ letter O, P, Q, R or S, with the ΔN letter in front and the F′F″ indices behind where they differ (pQ12, R1)", t)
-			case !known:
-				c.add(row, "branch", "unknown branch %q: use O, P, Q, R or S", t)
-			case quantaOK && bdJ != dJ:
-				c.add(row, "branch", "branch %s needs J_up - J_lo = %+d, but J_up - J_lo = %+d", t, bdJ, dJ)
-			}
-			if t == BranchLetter(bdJ) {
-				t = BranchLetter(bdJ) // share the constant rather than keep the record's text
-			}
-			l.Branch = t
+			l.Branch = f.branch(t, row, &l, quantaOK, dJ)
 		}
 	}
 
@@ -523,6 +490,57 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 		l.Extra = ex
 	}
 	return l, len(c.probs)+c.omitted == n0
+}
+
+// quanta reads the vibrational and rotational quantum numbers of a row (and
+// its open-shell labels, openShell) into l and checks a ¹Σ line's ΔJ and that
+// its upper level lies above the lower one; it reports whether all four
+// quantum numbers were read.
+func (f *file) quanta(rec []string, row int, l *Line) bool {
+	var qok [4]bool
+	var j2 [2]int
+	l.VUp, qok[0] = f.quantum(rec, colVUp, row, MaxV)
+	j2[0], qok[1] = f.angular(rec, colJUp, row)
+	l.VLo, qok[2] = f.quantum(rec, colVLo, row, MaxV)
+	j2[1], qok[3] = f.angular(rec, colJLo, row)
+	quantaOK := qok[0] && qok[1] && qok[2] && qok[3]
+	l.JUp, l.JLo = j2[0]/2, j2[1]/2
+	f.openShell(rec, row, l, j2, qok[1] && qok[3])
+	dJ := l.JUp - l.JLo
+	if !quantaOK || l.Open != nil {
+		return quantaOK
+	}
+	switch {
+	case dJ < -2 || dJ > 2:
+		f.c.add(row, "J_up", "J_up - J_lo = %+d is outside the selection rules of every supported spectrum (infrared dJ = ±1, Raman 0, ±2, pure rotation ±1)", dJ)
+	case l.VUp == l.VLo && dJ == 0:
+		f.c.add(row, "v_up", "upper level (v=%d, J=%d) equals the lower level: a zero-frequency transition", l.VUp, l.JUp)
+	case l.VUp < l.VLo || (l.VUp == l.VLo && dJ < 0):
+		f.c.add(row, "v_up", "upper level (v=%d, J=%d) lies below the lower level (v=%d, J=%d): are upper and lower swapped?", l.VUp, l.JUp, l.VLo, l.JLo)
+	}
+	return quantaOK
+}
+
+// branch reads a branch cell t: a letter O … S checked against ΔJ = dJ (when
+// the quantum numbers were read), or for an open-shell line the notation of
+// Branch.
+func (f *file) branch(t string, row int, l *Line, quantaOK bool, dJ int) string {
+	bdJ, known := BranchDeltaJ(t)
+	if b, err := ParseBranch(t); !known && l.Open != nil && err == nil {
+		bdJ, known = b.DeltaJ, true
+	}
+	switch {
+	case !known && l.Open != nil:
+		f.c.add(row, "branch", "unknown branch %q: write the ΔJ letter O, P, Q, R or S, with the ΔN letter in front and the F′F″ indices behind where they differ (pQ12, R1)", t)
+	case !known:
+		f.c.add(row, "branch", "unknown branch %q: use O, P, Q, R or S", t)
+	case quantaOK && bdJ != dJ:
+		f.c.add(row, "branch", "branch %s needs J_up - J_lo = %+d, but J_up - J_lo = %+d", t, bdJ, dJ)
+	}
+	if t == BranchLetter(bdJ) {
+		t = BranchLetter(bdJ) // share the constant rather than keep the record's text
+	}
+	return t
 }
 
 // fieldName returns the name of column i for messages: the canonical spelling of a
