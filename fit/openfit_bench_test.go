@@ -54,3 +54,44 @@ func BenchmarkFitDoubletPi10k(b *testing.B) {
 	b.ReportMetric(float64(len(lines)), "lines/op")
 	b.ReportMetric(float64(r.Stats.Iter), "QR-solves/op")
 }
+
+// BenchmarkSublevelsNitricOxide: the enumeration the thermo stage sums over
+// (constants.Set.Sublevels) for NO X²Π from a Dunham record: v = 0 … 40,
+// J ≤ 250.5, every spin and Λ-doubling component with its gradient over the
+// fitted parameters.
+func BenchmarkSublevelsNitricOxide(b *testing.B) {
+	o, lines := benchDoubletPiLines(3000)
+	list := &linelist.List{Lines: lines}
+	if err := linelist.CheckStates(list, o.sts); err != nil {
+		b.Fatal(err)
+	}
+	m, err := BuildModel(list.Lines, ModelSpec{Kind: model.KindDunham, Terms: []string{"Y10", "Y01", "Y11", "Y02", "A_e", "alpha_A", "gamma_e", "p_e", "q_e"}, States: o.sts})
+	if err != nil {
+		b.Fatal(err)
+	}
+	r, err := Fit(Problem{Lines: list.Lines, Model: m}, Settings{})
+	if err != nil {
+		b.Fatal(err)
+	}
+	set, err := NewRecord(r).Constants()
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	n := 0
+	for i := 0; i < b.N; i++ {
+		n = 0
+		sum := 0.0
+		for v := 0; v <= 40; v++ {
+			set.Sublevels(0, 0, v, 501, true, func(l model.Sublevel) {
+				n++
+				sum += l.E + l.Grad[0]
+			})
+		}
+		if sum != sum {
+			b.Fatal("NaN")
+		}
+	}
+	b.ReportMetric(float64(n), "levels/op")
+}

@@ -34,7 +34,10 @@ func NewRecord(r *Result) *constants.Record {
 			rp.V = intp(p.V)
 		}
 		if p.K >= 0 {
-			rp.K, rp.L = intp(p.K), intp(p.L)
+			rp.K = intp(p.K)
+		}
+		if p.L >= 0 {
+			rp.L = intp(p.L)
 		}
 		rec.Parameters = append(rec.Parameters, rp)
 	}

@@ -157,8 +157,9 @@ func (e *electronic) sublevels(src vibSource, nParams, s, st, v, j2max int, p []
 		j2 = 1
 	}
 	var b block
+	var buf [4]states.Label
 	for ; j2 <= j2max; j2 += 2 {
-		for _, lab := range state.Components(j2, c[qA] >= 0) {
+		for _, lab := range state.AppendComponents(buf[:0], j2, c[qA] >= 0) {
 			lv := Level{State: st, V: v, J2: j2, F: lab.F, Parity: lab.Parity}
 			if !b.setBlock(state, e.cases[st], lv) {
 				continue

@@ -86,10 +86,16 @@ func (s State) SigmaParity(J2, N int) Parity {
 // nil for a J the state does not have (half-integer J in a state of odd
 // multiplicity, or the reverse).
 func (s State) Components(J2 int, aPositive bool) []Label {
+	return s.AppendComponents(nil, J2, aPositive)
+}
+
+// AppendComponents appends the levels of Components to dst (no allocation
+// when dst has room for 2S+1 levels, 4 for ²Π).
+func (s State) AppendComponents(dst []Label, J2 int, aPositive bool) []Label {
+	out := dst
 	if J2 < 0 || (J2%2 == 1) != s.HalfIntegerJ() {
-		return nil
+		return out
 	}
-	var out []Label
 	switch s.Case() {
 	case Singlet:
 		out = append(out, Label{J2: J2, N: J2 / 2, Parity: s.SigmaParity(J2, J2/2)})
