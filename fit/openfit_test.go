@@ -499,3 +499,30 @@ func TestDoubletPiADGammaRefused(t *testing.T) {
 		t.Errorf("A_D without γ: %v", err)
 	}
 }
+
+// TestRoundingOpenShell: sequential rounding and refitting (Le Roy 1998) of a
+// nonlinear ²Π fit rounds every constant and leaves χ² within s²/400 per
+// rounded parameter of its unrounded value.
+func TestRoundingOpenShell(t *testing.T) {
+	o := nitricOxideTruth()
+	list := &linelist.List{Lines: nitricOxideLines(o, rand.New(rand.NewPCG(6, 6)))}
+	if err := linelist.CheckStates(list, o.sts); err != nil {
+		t.Fatal(err)
+	}
+	m, err := BuildModel(list.Lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D", "A", "gamma", "p", "q"}, States: o.sts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Fit(Problem{Lines: list.Lines, Model: m}, Settings{Round: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rd := r.Rounding
+	if rd == nil || len(rd.Steps) != len(r.Free) {
+		t.Fatalf("rounding %+v", rd)
+	}
+	s2 := r.Stats.Sigma * r.Stats.Sigma
+	if rd.Chi2After-rd.Chi2Before > s2/400*float64(len(rd.Steps))+1e-9 {
+		t.Errorf("χ² %.6g before, %.6g after rounding (s² = %.3g)", rd.Chi2Before, rd.Chi2After, s2)
+	}
+}

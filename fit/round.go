@@ -92,19 +92,20 @@ func (w *work) round(res *Result) error {
 	return nil
 }
 
-// columnNorm returns √Σ_i (∂ν_i/∂p_j / u_i)² over the used lines.
+// columnNorm returns √Σ_i (∂c_i/∂p_j / u_i)² over the used lines, c_i the
+// calculated position (1+κ_f)ν_i at the current values.
 func (w *work) columnNorm(j int) float64 {
 	np := len(w.params)
-	gu := make([]float64, np)
-	gl := make([]float64, np)
+	dnu := make([]float64, np)
+	s1 := make([]float64, np)
+	s2 := make([]float64, np)
 	sum := 0.0
-	for i, l := range w.p.Lines {
+	for i := range w.p.Lines {
 		if !w.used[i] {
 			continue
 		}
-		w.p.Model.Energy(w.sp[i], l.VUp, l.JUp, w.values, gu)
-		w.p.Model.Energy(w.sp[i], l.VLo, l.JLo, w.values, gl)
-		a := (1 + w.kappa[w.file[i]]) * (gu[j] - gl[j]) / w.unc[i]
+		w.transition(i, dnu, s1, s2)
+		a := (1 + w.kappa[w.file[i]]) * dnu[j] / w.unc[i]
 		sum += a * a
 	}
 	return math.Sqrt(sum)

@@ -261,6 +261,9 @@ func (c *chainRun) chooseModel(fo *FitOptions) error {
 	if err != nil {
 		return err
 	}
+	if err := linelist.CheckStates(list, nil); err != nil {
+		return err // open-shell lines need an electronic-states file
+	}
 	ch, err := ChooseModel(list.Lines, fit.Settings{Reject: fo.Reject})
 	if err != nil {
 		return err
