@@ -526,3 +526,34 @@ func TestRoundingOpenShell(t *testing.T) {
 		t.Errorf("χ² %.6g before, %.6g after rounding (s² = %.3g)", rd.Chi2Before, rd.Chi2After, s2)
 	}
 }
+
+// TestSignOfAAmbiguous: without Λ-doubling, distortion and the J = ½ level,
+// the levels of a ²Π state depend on A only through A(A − 4B) (Hill–Van
+// Vleck), so A and 4B − A fit equally well; the fit refuses and asks for a
+// starting value, and fits once the states file gives one.
+func TestSignOfAAmbiguous(t *testing.T) {
+	x := states.State{Label: "X", Multiplicity: 2, Lambda: 1}
+	o := newTruth([]states.State{x}, map[[2]int]genState{
+		{0, 0}: {S2: 1, Lambda: 1, B: 1.7, A: 60},
+		{0, 1}: {S2: 1, Lambda: 1, T: 1900, B: 1.68, A: 59.8},
+	})
+	var lines []linelist.Line
+	for _, l := range o.lines("14N16O", bandSpec{vU: 1, vL: 0, j2max: 41, satellites: true, unc: 1e-3}, rand.New(rand.NewPCG(9, 9))) {
+		if l.J2Up() > 1 && l.J2Lo() > 1 {
+			lines = append(lines, l)
+		}
+	}
+	_, err := fitOpen(t, lines, o.sts, []string{"B", "A"}, nil)
+	if err == nil || !strings.Contains(err.Error(), "cannot tell the sign of the spin–orbit constant A apart") {
+		t.Fatalf("error %v, want the sign of A refused", err)
+	}
+	r, err := fitOpen(t, lines, o.sts, []string{"B", "A"}, []states.Start{{Name: "A", Value: 50}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, j := range r.Free {
+		if p := r.Params[j]; p.Name == "A" && math.Abs(p.Value-o.truthOf(p)) > 4*p.Sigma {
+			t.Errorf("%s = %g ± %g, generated with %g", p.ID(), p.Value, p.Sigma, o.truthOf(p))
+		}
+	}
+}
