@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"bandwright/constants"
+	"bandwright/pipelines/report"
 )
 
 // o2Lines are fine-structure lines of 16O2 X³Σg⁻ v = 0 near 60 GHz (MHz), as
@@ -75,6 +76,13 @@ func TestOpenShellStages(t *testing.T) {
 	md, _ := os.ReadFile(filepath.Join(out, constants.FitReportFile))
 	if !strings.Contains(string(md), "Electronic states: X ³Σg⁻") || !strings.Contains(string(md), "starting points") {
 		t.Errorf("fit.md lacks the state or the convergence:\n%s", md)
+	}
+	files, err := report.Build(out, report.Options{Formats: []string{"md"}})
+	if err != nil {
+		t.Fatalf("report of an open-shell fit: %v", err)
+	}
+	if md := string(files["report.md"]); !strings.Contains(md, "gamma\\_v0\\[16O16O\\]") {
+		t.Errorf("report.md:\n%s", md)
 	}
 	pred := filepath.Join(dir, "pred.csv")
 	if _, err := RunPredict(PredictOptions{Constants: filepath.Join(out, constants.ConstantsFile), Lines: search, Unit: "MHz", Out: pred}); err != nil {

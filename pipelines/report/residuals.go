@@ -142,7 +142,13 @@ func lineRow(r residual) []string {
 // branch, rejected lines as crosses (see addRejected), a zero line and
 // dashed guides at ±3σ (±3 on the normalised scale).
 func bandFigure(f *folder, k bandKey, idx []int) *figure {
-	name := sprintf("report-residuals-%s-%s%d-%s%d.svg", fileSafe(k.species), fileSafe(k.stUp), k.vUp, fileSafe(k.stLo), k.vLo)
+	state := func(st string) string {
+		if st == "" {
+			return ""
+		}
+		return fileSafe(st) + "."
+	}
+	name := sprintf("report-residuals-%s-%s%d-%s%d.svg", fileSafe(k.species), state(k.stUp), k.vUp, state(k.stLo), k.vLo)
 	fig := &figure{Name: name, Alt: "residuals of " + bandName(k) + " against J″"}
 	sc := newBandScale(f.residuals, idx)
 	pts := collectBand(f.residuals, idx, sc)
