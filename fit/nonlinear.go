@@ -49,69 +49,18 @@ const (
 // iterate refines the free parameters and κ from the current values. Each
 // iteration solves the linearised problem with damping mu (0 at first): a
 // step that lowers χ² is taken and mu divided by ten (to 0 below muMin),
-// one that raises it is undone and mu raised tenfold (from muStart). It stops after an
-// undamped step below stepConverged σ, or below stepStalled σ and no longer
-// shrinking (the rounding floor of the solution).
+// one that raises it is undone and mu raised tenfold (from muStart). It stops
+// after an undamped step below stepConverged σ, or below stepStalled σ and no
+// longer shrinking (the rounding floor of the solution); a damped step below
+// stepConverged σ ends with one undamped solve (finish), so that the
+// covariance is always that of the undamped problem at the final values.
 func (w *work) iterate(free, rows []int) error {
-	mu := 0.0
-	var scale []float64
-	chi := w.chi2Used()
-	prev := math.Inf(1)
-	for it := 0; it < maxIter; it++ {
-		res, err := w.lsqSolve(free, rows, mu, scale)
-		if err != nil {
-			if _, ok := err.(*UndeterminedError); ok && w.nonlinear && it < maxIter-1 {
-				// Undetermined at these values (a start where a constant has no
-				// effect yet): damp, and judge the rank at the end.
-				mu, scale = muStart, w.columnNorms(free, rows)
-				w.conv.damped = true
-				continue
-			}
+	it := &iteration{w: w, free: free, rows: rows, chi: w.chi2Used(), prev: math.Inf(1)}
+	for n := 0; n < maxIter; n++ {
+		done, err := it.step(n)
+		if done || err != nil {
 			return err
 		}
-		w.iter++
-		step := maxStep(res, len(free), res.X)
-		old := w.stepBy(free, res.X, 1)
-		newChi := w.chi2Used()
-		if mu == 0 && step <= stepConverged {
-			// A step this small is the rounding floor: χ² may rise by
-			// rounding alone.
-			w.res, w.conv.finalStep, w.conv.converged = res, step, true
-			return nil
-		}
-		if newChi > chi*(1+chi2Slack)+w.chi2Floor() && w.nonlinear {
-			w.restore(free, old)
-			if mu == 0 && step <= stepStalled {
-				// An undamped step of a thousandth of σ that raises χ²: the
-				// rounding floor of an ill-conditioned problem.
-				w.res, w.conv.finalStep, w.conv.converged = res, step, true
-				return nil
-			}
-			if mu == 0 {
-				mu, scale = muStart, w.columnNorms(free, rows)
-			} else {
-				mu *= 10
-			}
-			w.conv.damped = true
-			if mu > muMax {
-				break
-			}
-			continue
-		}
-		chi = newChi
-		if mu > 0 {
-			if mu /= 10; mu < muMin {
-				mu = 0
-			}
-			continue
-		}
-		w.res = res
-		w.conv.finalStep = step
-		if step <= stepConverged || (step <= stepStalled && step > prev/2) {
-			w.conv.converged = true
-			return nil
-		}
-		prev = step
 	}
 	if w.res == nil {
 		return &CannotFitError{Msg: fmt.Sprintf("fit: the nonlinear fit found no step that lowers χ² in %d iterations; give starting values of the fine-structure constants in the electronic-states file", maxIter)}
@@ -119,6 +68,100 @@ func (w *work) iterate(free, rows []int) error {
 	w.conv.converged = false
 	w.status = IterationLimit
 	w.warn = append(w.warn, fmt.Sprintf("the Gauss–Newton refinement stopped after %d iterations without its steps falling below %g σ (last step %.3g σ): the constants and their σ are those of the last step", maxIter, stepConverged, w.conv.finalStep))
+	return nil
+}
+
+// iteration is the state of iterate.
+type iteration struct {
+	w          *work
+	free, rows []int
+	mu         float64
+	scale      []float64
+	chi, prev  float64
+}
+
+// damp raises the damping (from muStart) and reports false when it passes muMax.
+func (it *iteration) damp() bool {
+	if it.mu == 0 {
+		it.mu, it.scale = muStart, it.w.columnNorms(it.free, it.rows)
+	} else {
+		it.mu *= 10
+	}
+	it.w.conv.damped = true
+	return it.mu <= muMax
+}
+
+// step makes iteration n and reports whether the iterations are done.
+func (it *iteration) step(n int) (bool, error) {
+	w := it.w
+	res, err := w.lsqSolve(it.free, it.rows, it.mu, it.scale)
+	if err != nil {
+		if _, ok := err.(*UndeterminedError); ok && w.nonlinear && !w.startLimit && n < maxIter-1 {
+			// Undetermined at these values (a start where a constant has no
+			// effect yet): damp, and judge the rank at the end.
+			return !it.damp(), nil
+		}
+		return true, err
+	}
+	w.iter++
+	step := maxStep(res, len(it.free), res.X)
+	if it.mu > 0 && step <= stepConverged {
+		return true, it.finish()
+	}
+	old := w.stepBy(it.free, res.X, 1)
+	if it.mu == 0 && step <= stepConverged {
+		// A step this small is the rounding floor: χ² may rise by
+		// rounding alone.
+		w.res, w.conv.finalStep, w.conv.converged = res, step, true
+		return true, nil
+	}
+	newChi := w.chi2Used()
+	if newChi > it.chi*(1+chi2Slack)+w.chi2Floor() && w.nonlinear {
+		w.restore(it.free, old)
+		if it.mu == 0 && step <= stepStalled {
+			// An undamped step of a thousandth of σ that raises χ²: the
+			// rounding floor of an ill-conditioned problem.
+			w.res, w.conv.finalStep, w.conv.converged = res, step, true
+			return true, nil
+		}
+		return !it.damp(), nil
+	}
+	it.chi = newChi
+	if it.mu > 0 {
+		if it.mu /= 10; it.mu < muMin {
+			it.mu = 0
+		}
+		return false, nil
+	}
+	w.res, w.conv.finalStep = res, step
+	if step <= stepConverged || (step <= stepStalled && step > it.prev/2) {
+		w.conv.converged = true
+		return true, nil
+	}
+	it.prev = step
+	return false, nil
+}
+
+// finish ends damped iterations whose steps have become negligible: one
+// undamped solve at the current values gives the covariance (and its rank
+// analysis); its step is taken unless it raises χ².
+func (it *iteration) finish() error {
+	w := it.w
+	res, err := w.lsqSolve(it.free, it.rows, 0, nil)
+	if err != nil {
+		return err
+	}
+	w.iter++
+	step := maxStep(res, len(it.free), res.X)
+	old := w.stepBy(it.free, res.X, 1)
+	if w.chi2Used() > it.chi*(1+chi2Slack)+w.chi2Floor() {
+		w.restore(it.free, old)
+	}
+	w.res, w.conv.finalStep, w.conv.converged = res, step, step <= stepStalled
+	if !w.conv.converged {
+		w.status = IterationLimit
+		w.warn = append(w.warn, fmt.Sprintf("the damped refinement stalled with an undamped step of %.3g σ left: the constants and their σ are those of the last step", step))
+	}
 	return nil
 }
 

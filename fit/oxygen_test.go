@@ -148,3 +148,30 @@ func TestOxygenFineStructure(t *testing.T) {
 		t.Errorf("branch %s, want qR23 (ΔN = 0, ΔJ = +1, F2 ← F3)", ps[0].Branch)
 	}
 }
+
+// TestOxygenOddN: predictions of 16O2 X³Σg⁻ take levels of odd N only
+// (I(16O) = 0; spin statistics, common practice), so the state has no
+// electric-dipole lines of its own (odd N to odd N keeps the parity):
+// predict --bands 0-0 gives none, and its magnetic-dipole lines come from
+// --lines.
+func TestOxygenOddN(t *testing.T) {
+	list := oxygenLineList(t, false)
+	const mhz = 1 / 29979.2458
+	sts := []states.State{{Label: "X", Multiplicity: 3, Symmetry: oxygenTruth().sts[0].Symmetry}}
+	m, err := BuildModel(list.Lines, ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "lambda", "lambda_D", "gamma", "gamma_D"}, Fixes: []model.Fix{{Name: "D", V: -1, Value: 0.1451 * mhz}}, States: sts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Fit(Problem{Lines: list.Lines, Model: m}, Settings{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	set, err := NewRecord(r).Constants()
+	if err != nil {
+		t.Fatal(err)
+	}
+	ts, err := OpenBandTransitions(set, "16O16O", linelist.Band{}, nil, 10)
+	if err != nil || len(ts) != 0 {
+		t.Errorf("%d electric-dipole lines of 16O2 X, %v; want none", len(ts), err)
+	}
+}

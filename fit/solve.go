@@ -56,6 +56,9 @@ type work struct {
 	up, lo    []model.Level
 	nonlinear bool
 	conv      convergence
+	// startLimit: the fit of the case-(b) limit (start.go), which gives up
+	// on a parameter the lines do not determine instead of damping it.
+	startLimit bool
 }
 
 func newWork(p Problem, s Settings) (*work, error) {

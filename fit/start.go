@@ -47,7 +47,10 @@ func (w *work) start() error {
 	}
 	before := append([]float64(nil), w.values...)
 	if len(w.freeNow())+len(w.kfree) > 0 {
-		if err := w.solve(); err != nil {
+		w.startLimit = true
+		err := w.solve()
+		w.startLimit = false
+		if err != nil {
 			// The lines do not fix the case-(b) limit (lines between spin
 			// components of one N, which that limit puts at zero): start
 			// from the values as they were.
