@@ -150,3 +150,30 @@ func TestBranchNotation(t *testing.T) {
 		}
 	}
 }
+
+// TestWriteMixedLines: a line list mixing ¹Σ lines of the ground state and
+// open-shell lines writes empty open-shell cells for the former and reads
+// back the same.
+func TestWriteMixedLines(t *testing.T) {
+	in := openHdr + "14N16O,1,3.5,0,2.5,1883.1,0.001,cm-1,,,1,1,e,e,,\n"
+	list, err := Read(strings.NewReader(in), "a.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	closed, err := Read(strings.NewReader("species,v_up,J_up,v_lo,J_lo,position,unc\n12C16O,1,1,0,0,2147.08,0.001\n"), "b.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := append(closed.Lines, list.Lines...)
+	var buf bytes.Buffer
+	if err := Write(&buf, lines, nil); err != nil {
+		t.Fatal(err)
+	}
+	back, err := Read(&buf, "back.csv")
+	if err != nil {
+		t.Fatalf("%v\n%s", err, buf.String())
+	}
+	if back.Lines[0].Open != nil || back.Lines[1].Open == nil || *back.Lines[1].Open != *lines[1].Open {
+		t.Errorf("read back %+v and %+v", back.Lines[0].Open, back.Lines[1].Open)
+	}
+}
