@@ -35,6 +35,7 @@ func FuzzRead(f *testing.F) {
 		// Open-shell columns.
 		hdr[:len(hdr)-1] + ",N_up,N_lo,F_up,F_lo,parity_up,parity_lo,state_up,state_lo\n14N16O,1,3.5,0,2.5,1876.1,0.001,,,1,1,e,e,,\n14N16O,0,1.5,0,0.5,3.1,0.001,2,1,F2,F1,f,f,A,=X\n",
 		hdr[:len(hdr)-1] + ",N_up,N_lo,unit\n16O16O,0,1,0,2,56264.774,0.01,1,1,MHz\n",
+		hdr[:len(hdr)-1] + ",F_up,F_lo,parity_up,parity_lo\n12C16O,1,1,0,0,2147.08,0.001,,,,\n14N16O,1,3.5,0,2.5,1876.1,0.001,1,1,e,e\n",
 	} {
 		f.Add([]byte(s))
 	}
