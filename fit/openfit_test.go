@@ -557,3 +557,48 @@ func TestSignOfAAmbiguous(t *testing.T) {
 		}
 	}
 }
+
+// TestConnectedThroughExcitedState: two vibrational levels of the ground
+// state reached by bands of an electronic system from one upper level
+// (A–X 0–0 and 0–1) are connected through it, so T_v1 of X is fitted (not
+// held at 0 as a level no line connects), and comes back within 4σ.
+func TestConnectedThroughExcitedState(t *testing.T) {
+	no := nitricOxideTruth()
+	a := states.State{Label: "A", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}, TermEnergy: 44000}
+	o := newTruth([]states.State{no.sts[0], a}, map[[2]int]genState{
+		{0, 0}: no.lv[[2]int{0, 0}], {0, 1}: no.lv[[2]int{0, 1}],
+		{1, 0}: {S2: 1, T: 44138.25, B: 1.99651, D: 5.4e-6, Gamma: -2.7e-3},
+	})
+	rng := rand.New(rand.NewPCG(12, 3))
+	var lines []linelist.Line
+	for v := 0; v <= 1; v++ {
+		lines = append(lines, o.lines("14N16O", bandSpec{vU: v, vL: v, j2max: 31, satellites: true, unc: 1e-5}, rng)...)
+		lines = append(lines, o.lines("14N16O", bandSpec{stU: 1, vL: v, j2max: 41, satellites: true, unc: 5e-3}, rng)...)
+	}
+	r, err := fitOpen(t, lines, o.sts, []string{"B", "D", "A", "gamma", "p", "q"}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Unconnected) != 0 {
+		t.Errorf("held as unconnected: %v", r.Unconnected)
+	}
+	for id, z := range o.pulls(r) {
+		if math.Abs(z) > 4 {
+			t.Errorf("%s is %.2fσ from the generating value", id, z)
+		}
+	}
+	// X v = 1 reached by its own rotational lines alone, and a band from A
+	// v = 1 (not X v = 1) to X v = 0: v = 1 of X is not connected, whatever
+	// the v of the upper state.
+	o.lv[[2]int{1, 1}] = genState{S2: 1, T: 46500, B: 1.9, D: 5.4e-6, Gamma: -2.7e-3}
+	lines = o.lines("14N16O", bandSpec{vU: 1, vL: 1, j2max: 31, satellites: true, unc: 1e-5}, rng)
+	lines = append(lines, o.lines("14N16O", bandSpec{j2max: 31, satellites: true, unc: 1e-5}, rng)...)
+	lines = append(lines, o.lines("14N16O", bandSpec{stU: 1, vU: 1, j2max: 41, satellites: true, unc: 5e-3}, rng)...)
+	r, err = fitOpen(t, lines, o.sts, []string{"B", "D", "A", "gamma", "p", "q"}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Unconnected) != 1 || r.Params[r.Unconnected[0]].ID() != "T_v1[14N16O]" {
+		t.Errorf("unconnected %v, want T_v1[14N16O]", r.Unconnected)
+	}
+}

@@ -43,33 +43,48 @@ func (w *work) holdUnconnected() {
 	}
 }
 
-// levelGroups splits the vibrational levels vs of species s into the groups
-// the lines connect (union of the two levels of every line), each sorted,
-// in order of their lowest level.
+// levelGroups splits the vibrational levels vs of the ground state of
+// species s into the groups the lines connect (union of the two vibronic
+// levels of every line, through any electronic state: two ground levels
+// that lines to the same level of an excited state join are connected),
+// each sorted, in order of their lowest level.
 func levelGroups(w *work, s int, vs []int) [][]int {
-	parent := map[int]int{}
-	for _, v := range vs {
-		parent[v] = v
-	}
-	var find func(int) int
-	find = func(v int) int {
-		if parent[v] != v {
-			parent[v] = find(parent[v])
+	type key struct{ st, v int }
+	parent := map[key]key{}
+	var find func(key) key
+	find = func(k key) key {
+		p, ok := parent[k]
+		if !ok || p == k {
+			parent[k] = k
+			return k
 		}
-		return parent[v]
+		r := find(p)
+		parent[k] = r
+		return r
 	}
+	less := func(a, b key) bool { return a.st < b.st || (a.st == b.st && a.v < b.v) }
 	for i, l := range w.p.Lines {
-		if w.sp[i] != s || l.VUp == l.VLo {
+		if w.sp[i] != s {
 			continue
 		}
-		a, b := find(l.VUp), find(l.VLo)
+		up, lo := key{0, l.VUp}, key{0, l.VLo}
+		if w.lm != nil {
+			up.st, lo.st = w.up[i].State, w.lo[i].State
+		}
+		if up == lo {
+			continue
+		}
+		a, b := find(up), find(lo)
 		if a != b {
-			parent[max(a, b)] = min(a, b)
+			if less(b, a) {
+				a, b = b, a
+			}
+			parent[b] = a
 		}
 	}
-	byRoot := map[int][]int{}
+	byRoot := map[key][]int{}
 	for _, v := range vs {
-		r := find(v)
+		r := find(key{0, v})
 		byRoot[r] = append(byRoot[r], v)
 	}
 	var out [][]int
