@@ -135,7 +135,7 @@ func Fit(o FitOptions) (*FitOutcome, error) {
 			}
 		}
 	}
-	if err := fit.CheckSpinStatistics(list.Lines); err != nil {
+	if err := fit.CheckSpinStatistics(list.Lines, sts); err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	kind := o.Model
