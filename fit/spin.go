@@ -33,11 +33,22 @@ func CheckSpinStatistics(lines []linelist.Line, sts []states.State) error {
 	seen := map[key]*parity{}
 	first := map[key]linelist.Line{}
 	var order []key
+	type parsed struct {
+		iso species.Isotopologue
+		ok  bool
+	}
+	isos := map[string]parsed{} // species.Parse once per label, not per line
 	for _, l := range lines {
-		iso, err := species.Parse(l.Species)
-		if err != nil || !iso.Homonuclear() {
+		ps, done := isos[l.Species]
+		if !done {
+			iso, err := species.Parse(l.Species)
+			ps = parsed{iso, err == nil && iso.Homonuclear()}
+			isos[l.Species] = ps
+		}
+		if !ps.ok {
 			continue
 		}
+		iso := ps.iso
 		for _, lv := range spinLevels(&l) {
 			st := states.Index(sts, lv.state)
 			if lv.state == "" {
