@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
 
@@ -75,6 +76,9 @@ func (e *InputError) Error() string {
 // the like.
 func (e *InputError) Unwrap() []error { return linelist.Causes(e.Problems) }
 
+// FailureKind returns failure.BadInput: the file must be fixed (exit code 1).
+func (e *InputError) FailureKind() failure.Kind { return failure.BadInput }
+
 // inputError returns the problems c collected as an *InputError, nil when
 // there are none.
 func inputError(c *linelist.Collector) error {
@@ -101,10 +105,6 @@ const (
 	pcIntensity
 	pcUnit
 )
-
-// maxPeakBytes bounds the size of a peak list read into memory (a picked
-// peak list of a million peaks is about 40 MB).
-const maxPeakBytes = 512 << 20
 
 // ReadPeaksFile reads the peak list in the file at path; see ReadPeaks.
 func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
@@ -142,13 +142,14 @@ func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
 // field.
 func ReadPeaks(r io.Reader, name string, defaultUnit linelist.Unit) (*PeakList, error) {
 	c := linelist.NewCollector(name)
-	data, err := io.ReadAll(io.LimitReader(r, maxPeakBytes+1))
-	if err != nil {
-		c.AddErr(0, "", "read error: "+err.Error(), err)
+	data, err := textcheck.ReadLimited(r, linelist.MaxFileBytes, "a CSV file")
+	var large *textcheck.TooLargeError
+	switch {
+	case errors.As(err, &large):
+		c.Add(0, "", "%v", err)
 		return nil, inputError(c)
-	}
-	if len(data) > maxPeakBytes {
-		c.Add(0, "", "file larger than %d MB; split it", maxPeakBytes>>20)
+	case err != nil:
+		c.AddErr(0, "", "read error: "+err.Error(), err)
 		return nil, inputError(c)
 	}
 	t := linelist.ReadHeader(bytes.NewReader(data), c, "no peaks: the file is empty")

@@ -1,7 +1,6 @@
 package assign
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -21,9 +20,6 @@ import (
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
-
-// maxStartBytes bounds the size of a start file (one is a few hundred bytes).
-const maxStartBytes = 16 << 20
 
 // StartSpecies is one isotopologue the assignment looks for, with the
 // constants its lines are predicted from.
@@ -98,12 +94,13 @@ func ReadStartFile(path string) (*Start, error) {
 	if why := textcheck.NotRegular(path); why != "" {
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: why}}}
 	}
-	data, err := os.ReadFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		reason := textcheck.OpenReason(err)
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
 	}
-	return ReadStart(bytes.NewReader(data), path)
+	defer f.Close()
+	return ReadStart(f, path)
 }
 
 // ReadStart reads starting constants in the equilibrium notation of the trade
@@ -173,13 +170,19 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 // [[species]] table; it reports false when any was found.
 func decodeStart(r io.Reader, c *linelist.Collector) (startFile, *keyLocator, bool) {
 	var f startFile
-	data, err := io.ReadAll(io.LimitReader(r, maxStartBytes+1))
-	if err != nil {
+	data, err := textcheck.ReadLimited(r, textcheck.MaxSettingsBytes, "a start file")
+	var large *textcheck.TooLargeError
+	switch {
+	case errors.As(err, &large):
+		c.Add(0, "", "%v", err)
+		return f, nil, false
+	case err != nil:
 		c.AddErr(0, "", "read error: "+err.Error(), err)
 		return f, nil, false
 	}
-	if len(data) > maxStartBytes {
-		c.Add(0, "", "larger than %d MB; not a start file", maxStartBytes>>20)
+	var deep *textcheck.NestingError
+	if err := textcheck.TOMLNesting(data, textcheck.MaxNesting); errors.As(err, &deep) {
+		c.Add(deep.Line, "", "%v", err)
 		return f, nil, false
 	}
 	md, err := toml.Decode(string(data), &f)

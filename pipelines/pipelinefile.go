@@ -112,9 +112,14 @@ func LoadPipeline(path string) (*Pipeline, error) {
 	if why := textcheck.NotRegular(path); why != "" {
 		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
 	}
-	b, err := os.ReadFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("pipelines: %w", err)
+	}
+	defer f.Close()
+	b, err := textcheck.ReadLimited(f, textcheck.MaxSettingsBytes, "a pipeline file")
+	if err != nil {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: %w", path, err)
 	}
 	return ParsePipeline(b, path)
 }
@@ -127,6 +132,13 @@ func LoadPipeline(path string) (*Pipeline, error) {
 // the thermo limits, a finite rejection threshold, …).
 func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	var p Pipeline
+	if len(b) > textcheck.MaxSettingsBytes {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: %v", name, &textcheck.TooLargeError{Limit: textcheck.MaxSettingsBytes, What: "a pipeline file"})
+	}
+	var deep *textcheck.NestingError
+	if err := textcheck.TOMLNesting(b, textcheck.MaxNesting); errors.As(err, &deep) {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s:%d: %w", name, deep.Line, err)
+	}
 	md, err := toml.Decode(string(b), &p)
 	if err != nil {
 		var pe toml.ParseError

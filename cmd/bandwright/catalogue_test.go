@@ -121,6 +121,13 @@ func TestCatalogueLineList(t *testing.T) {
 		// 16O nuclei have spin 0: a ¹Σg⁺ state of 16O2 has no odd-J levels.
 		{name: "levels a 1Sigma-g+ state of 16O2 does not have", input: []byte(strings.ReplaceAll(base, "12C16O", "16O16O")), code: 1,
 			want: []string{"lines.csv:2: 16O16O: the lines reach odd-J levels", "which a ¹Σg⁺ state of 16O16O does not have"}},
+		{name: "a million pass-through columns", input: []byte(manyColumns(base, 1000000, true)), code: 1,
+			want: []string{"lines.csv:1: the header has 1000009 columns; bandwright reads at most 1000"}},
+		{name: "990 pass-through columns", input: []byte(manyColumns(base, 990, false)), code: 0},
+		{name: "CR-only line ends", input: []byte(strings.ReplaceAll(base, "\n", "\r")), code: 1,
+			want: []string{"lines.csv: the lines end in a carriage return alone (classic Mac OS line breaks); save the file with LF or CR LF line breaks"}},
+		{name: "a line above 16 MiB", input: []byte(replaceRow(base, 3, setField(r3, 8, strings.Repeat("x", 17<<20)))), code: 1,
+			want: []string{"lines.csv:3: the line is longer than 16 MiB"}},
 	}
 	catalogue(t, "lines.csv", cases, nil, func(dir, file, out string) []string {
 		return []string{"fit", file, "--out", out}
@@ -219,7 +226,11 @@ func TestCatalogueStartFile(t *testing.T) {
 		{name: "absurd constants", input: []byte(set("B_e", "1e6")), code: 2, want: []string{"bandwright assign: ", "peaks.csv: no band could be locked onto the peaks", "1H35Cl 0-0"}},
 		{name: "unknown key", input: []byte(strings.Replace(base, "B_e = 10.60\n", "B_e = 10.60\ncolour = \"blue\"\n", 1)), code: 1, want: []string{"start.toml:7: species.colour: unknown key"}},
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
-		{name: "too large", input: []byte(base + strings.Repeat("# "+strings.Repeat("z", 1<<20)+"\n", 17)), code: 1, want: []string{"start.toml: larger than 16 MB; not a start file"}},
+		{name: "too large", input: []byte(base + strings.Repeat("# "+strings.Repeat("z", 1<<20)+"\n", 5)), code: 1, want: []string{"start.toml: the file is larger than 4 MiB, the limit for a start file"}},
+		{name: "dotted tables 20 000 deep", input: []byte(base + "[" + strings.Repeat("a.", 20000) + "z]\n"), code: 1,
+			want: []string{"start.toml:12: nested more than 64 levels deep"}},
+		{name: "dotted key 65 deep", input: []byte(strings.Repeat("a.", 64) + "z = 1\n" + base), code: 1,
+			want: []string{"start.toml:1: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `"1H35Cl"`, "\"1H35Cl\xff\"", 1)), code: 1, want: []string{"start.toml:3: ", "invalid UTF-8"}},
 	}
 	catalogue(t, "start.toml", cases, func(t *testing.T, dir string) {
@@ -265,8 +276,11 @@ func TestCatalogueStatesFile(t *testing.T) {
 		{name: "absurd multiplicity", input: []byte(strings.Replace(base, "spin_multiplicity = 3", "spin_multiplicity = 0", 1)), code: 1, want: []string{"states.toml:11: state 2 (a): spin_multiplicity: 0 must be within 1…20"}},
 		{name: "unknown key", input: []byte(base + "colour = 3\n"), code: 1, want: []string{"states.toml:13: unknown key \"state.colour\""}},
 		{name: "wrong species", input: []byte(strings.Replace(base, "12C16O", "13C16O", 1)), code: 1, want: []string{"states.toml:1: species: the electronic-states file is for 13C16O, but", "constants.json has 12C16O"}},
-		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 1, want: []string{"states.toml: larger than 1048576 bytes; not an electronic-states file"}},
-		{name: "long comment within the limit", input: []byte(base + "# " + strings.Repeat("z", 1<<19) + "\n"), code: 0},
+		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
+		{name: "too large", input: []byte(base + "# " + strings.Repeat("z", 5<<20) + "\n"), code: 1,
+			want: []string{"states.toml: the file is larger than 4 MiB, the limit for an electronic-states file"}},
+		{name: "nested inline tables", input: []byte(base + "x = " + strings.Repeat("{a = ", 8000) + "1" + strings.Repeat("}", 8000) + "\n"), code: 1,
+			want: []string{"states.toml:13: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `label = "a"`, "label = \"a\xe9\"", 1)), code: 1, want: []string{"states.toml:9: state.label: invalid UTF-8"}},
 		{name: "constants path outside", input: []byte(base + "constants = \"../../../no-such/a-state.json\"\n"), code: 1,
 			want: []string{"states.toml: state 2 (a): constants: ", "no-such/a-state.json", "no such file or directory"}},
@@ -310,6 +324,10 @@ func TestCataloguePipelineFile(t *testing.T) {
 		{name: "unknown key", input: []byte(strings.Replace(base, "model = ", "modle = ", 1)), code: 1, want: []string{"pipeline.toml:4: unknown key fit.modle"}},
 		{name: "unknown model", input: []byte(strings.Replace(base, `model = "dunham"`, `model = "spline"`, 1)), code: 1, want: []string{"pipeline.toml:4: fit.model: \"spline\""}},
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
+		{name: "too large", input: []byte(base + "# " + strings.Repeat("z", 5<<20) + "\n"), code: 1,
+			want: []string{"pipeline.toml: the file is larger than 4 MiB, the limit for a pipeline file"}},
+		{name: "8 000 nested inline tables", input: []byte(strings.Replace(base, "[report]", "x = "+strings.Repeat("{a = ", 8000)+"1"+strings.Repeat("}", 8000)+"\n[report]", 1)), code: 1,
+			want: []string{"pipeline.toml:10: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `"co-cell"`, "\"co-c\xe9ll\"", 1)), code: 1, want: []string{"pipeline.toml:1: ", "invalid UTF-8"}},
 	}
 	catalogue(t, "pipeline.toml", cases, func(t *testing.T, dir string) {
@@ -404,6 +422,8 @@ func TestCatalogueConstantsRecord(t *testing.T) {
 		{name: "future schema", input: bytes.Replace(base, []byte("bandwright.constants/1"), []byte("bandwright.constants/2"), 1), code: 1,
 			want: []string{`constants.json: schema: "bandwright.constants/2" was written by a newer bandwright; this version reads "bandwright.constants/1"`}},
 		{name: "two records", input: append(append([]byte{}, base...), base...), code: 1, want: []string{"constants.json:", "more follows the record's closing brace"}},
+		{name: "nested 100 000 deep", input: bytes.Replace(base, []byte(`"model":`), []byte(`"x": `+strings.Repeat(`{"a":`, 100000)+"1"+strings.Repeat("}", 100000)+`, "model":`), 1), code: 1,
+			want: []string{"constants.json:", ": not a constants record: nested more than 64 levels deep"}},
 	}
 	t.Run("thermo", func(t *testing.T) {
 		catalogue(t, "constants.json", cases, nil, func(dir, file, out string) []string {
@@ -415,6 +435,27 @@ func TestCatalogueConstantsRecord(t *testing.T) {
 			return []string{"predict", file, "--bands", "1-0", "--out", out + ".csv"}
 		})
 	})
+}
+
+// manyColumns adds n pass-through columns to the header of a line list, and
+// to every row unless headerOnly.
+func manyColumns(base string, n int, headerOnly bool) string {
+	var b strings.Builder
+	for i, l := range strings.Split(strings.TrimSuffix(base, "\n"), "\n") {
+		b.WriteString(l)
+		for k := range n {
+			if i > 0 && headerOnly {
+				break
+			}
+			if i == 0 {
+				fmt.Fprintf(&b, ",x%d", k)
+			} else {
+				b.WriteString(",1")
+			}
+		}
+		b.WriteByte('\n')
+	}
+	return b.String()
 }
 
 // editValue replaces the number after the first "value": following offset from.

@@ -252,6 +252,13 @@ func (rd *reader) read(r io.Reader, c *collector) {
 		}
 	}()
 	hint := sizeHint(r)
+	if hint > MaxFileBytes {
+		c.add(0, "", "%v", tooLarge)
+		return
+	}
+	if hint < 0 {
+		r = &capped{r: r, left: MaxFileBytes}
+	}
 	f := &file{rd: rd, c: c}
 	t := readHeader(r, c, "no lines: the file is empty")
 	if t == nil || !f.header(t) {
@@ -301,6 +308,34 @@ func (rd *reader) read(r io.Reader, c *collector) {
 	if rows == 0 {
 		c.add(hline, "", "no lines: the file has a header only")
 	}
+}
+
+// slabCells is the number of pass-through cells allocated at once for the
+// lines that follow (one allocation for many lines rather than one per line).
+const slabCells = 16384
+
+// capped reads at most left bytes of r, then fails with a *TooLargeError:
+// the size limit of an input whose size is not known in advance.
+type capped struct {
+	r    io.Reader
+	left int64
+}
+
+func (c *capped) Read(p []byte) (int, error) {
+	if c.left <= 0 {
+		var one [1]byte
+		n, err := c.r.Read(one[:])
+		if n > 0 {
+			return 0, tooLarge
+		}
+		return 0, err
+	}
+	if int64(len(p)) > c.left {
+		p = p[:c.left]
+	}
+	n, err := c.r.Read(p)
+	c.left -= int64(n)
+	return n, err
 }
 
 // estimateAfter is the number of rows after which Read estimates the number of rows of
@@ -467,7 +502,7 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	if len(f.extra) > 0 {
 		n := len(f.rd.list.Extra)
 		if len(f.rd.slab) < n {
-			f.rd.slab = make([]string, n*1024)
+			f.rd.slab = make([]string, n*max(1, slabCells/n))
 		}
 		ex := f.rd.slab[:n:n]
 		f.rd.slab = f.rd.slab[n:]
