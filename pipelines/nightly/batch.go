@@ -26,7 +26,7 @@ func (r *runner) select_() ([]task, error) {
 	rep := r.rep
 	rep.Ignored = ign
 	for _, g := range ign {
-		r.note("nightly: ignored %s: %s", g.Name, g.Reason)
+		r.note("nightly: ignored %s: %s", shown(g.Name), g.Reason)
 	}
 	seen := map[string]bool{}
 	var todo []task
@@ -149,7 +149,7 @@ func (r *runner) noteDrift(fo FileOutcome) {
 	for _, d := range fo.Drift {
 		if d.Flagged {
 			r.note("nightly: DRIFT %s: %s = %s %s is %.1f combined σ from the weighted mean %s of %d earlier results",
-				fo.Input, d.Name, fmtF(d.Value), d.Unit, d.Z, fmtF(d.Mean), d.N)
+				shown(fo.Input), d.Name, fmtF(d.Value), d.Unit, d.Z, fmtF(d.Mean), d.N)
 		}
 	}
 }

@@ -25,7 +25,7 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	a := r.a
 	fo := FileOutcome{Input: t.name, SHA256: t.sha}
 	skip := func(msg string) FileOutcome {
-		fo.Status, fo.Message, fo.Finished = StatusSkipped, msg, r.o.Now()
+		fo.Status, fo.Message, fo.Finished = StatusSkipped, oneLine(msg), r.o.Now()
 		return fo
 	}
 	claim, err := a.claim(ctx, t.sha)
@@ -157,7 +157,7 @@ func (r *runner) removeStale(sha, keep string) {
 func (r *runner) runJob(in Input, out string) (res *JobResult, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			r.note("nightly: the pipeline panicked on %s: %v\n%s", in.Name, p, debug.Stack())
+			r.note("nightly: the pipeline panicked on %s: %v\n%s", shown(in.Name), p, debug.Stack())
 			res, err = nil, fmt.Errorf("nightly: internal error in the pipeline (%v); please report it with this input file", p)
 		}
 	}()

@@ -126,7 +126,7 @@ func (r *runner) adopt(out, p string, m *Manifest) error {
 		r.rep.Files = append(r.rep.Files, fo)
 		r.markDate(finished)
 		r.mu.Unlock()
-		r.note("nightly: recovered %s -> %s (completed by a run that stopped before recording it)", m.Input.Name, out)
+		r.note("nightly: recovered %s -> %s (completed by a run that stopped before recording it)", shown(m.Input.Name), out)
 		r.noteDrift(fo)
 	}
 	return nil
