@@ -2,9 +2,12 @@ package nightly_test
 
 import (
 	"bytes"
+	"context"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
 
 	"bandwright/pipelines/nightly"
@@ -76,4 +79,77 @@ func readOutput(t *testing.T, archive, input string) string {
 	}
 	t.Fatalf("no ok row for %q", input)
 	return ""
+}
+
+// TestArchiveFullMidRun: the archive is a small tmpfs that fills up part-way
+// through a run of 20 good files. The run stops with an error (exit code 1),
+// records no file as failed, and after space is freed the next run does
+// exactly the files not yet done: every file ends with one ok row and no
+// failed row. Needs a tmpfs mount (root, as in CI); skipped elsewhere.
+func TestArchiveFullMidRun(t *testing.T) {
+	mnt := t.TempDir()
+	if err := syscall.Mount("tmpfs", mnt, "tmpfs", 0, "size=256k"); err != nil {
+		t.Skipf("cannot mount a small tmpfs here (%v)", err)
+	}
+	t.Cleanup(func() { syscall.Unmount(mnt, 0) })
+	e := newEnv(t)
+	e.archive = filepath.Join(mnt, "archive")
+	want := fill(t, e.inbox, 20, 60)
+	rep, err := nightly.Run(context.Background(), e.opts(fitJob))
+	if err == nil || !strings.Contains(err.Error(), "no space left on device") || !strings.Contains(err.Error(), "cannot be written") {
+		t.Fatalf("full archive: want an error naming the full disk, got %v", err)
+	}
+	if rep == nil || rep.Failed != 0 || rep.Succeeded >= 20 {
+		t.Fatalf("full archive: %s", counts(rep))
+	}
+	t.Logf("first run: %s", counts(rep))
+	if err := syscall.Mount("tmpfs", mnt, "tmpfs", syscall.MS_REMOUNT, "size=16m"); err != nil {
+		t.Fatalf("remount with room: %v", err)
+	}
+	rep = run(t, e.opts(fitJob))
+	if rep.Failed != 0 || rep.FailedBefore != 0 || rep.ExitCode() != 0 {
+		t.Fatalf("after space was freed: %s", counts(rep))
+	}
+	checkArchive(t, e.archive, want)
+	for _, r := range readLedger(t, e.archive) {
+		if r.Status != "ok" {
+			t.Errorf("row %s %s: %s", r.Input, r.Status, r.Message)
+		}
+	}
+}
+
+// TestArchiveReadOnly: an archive that cannot be written (a read-only bind
+// mount) stops the run with an error and records nothing as failed; once it
+// is writable again every file is done. Needs mount (root); skipped elsewhere.
+func TestArchiveReadOnly(t *testing.T) {
+	e := newEnv(t)
+	want := fill(t, e.inbox, 3, 40)
+	run(t, e.opts(fitJob)) // creates the archive, ledger and history
+	for i := range 3 {
+		b := lineList(uint64(700+i), 1, 40)
+		write(t, filepath.Join(e.inbox, fmt.Sprintf("b%d.csv", i)), b)
+		want[shaOf(b)] = true
+	}
+	if err := syscall.Mount(e.archive, e.archive, "", syscall.MS_BIND, ""); err != nil {
+		t.Skipf("cannot bind-mount here (%v)", err)
+	}
+	t.Cleanup(func() { syscall.Unmount(e.archive, 0) })
+	if err := syscall.Mount("", e.archive, "", syscall.MS_REMOUNT|syscall.MS_BIND|syscall.MS_RDONLY, ""); err != nil {
+		t.Skipf("cannot remount read-only here (%v)", err)
+	}
+	rep, err := nightly.Run(context.Background(), e.opts(fitJob))
+	if err == nil {
+		t.Fatalf("read-only archive: no error (%s)", counts(rep))
+	}
+	if rep != nil && rep.Failed != 0 {
+		t.Errorf("read-only archive: %s", counts(rep))
+	}
+	if err := syscall.Unmount(e.archive, 0); err != nil {
+		t.Fatal(err)
+	}
+	rep = run(t, e.opts(fitJob))
+	if rep.Succeeded != 3 || rep.Failed != 0 || rep.FailedBefore != 0 {
+		t.Fatalf("writable again: %s", counts(rep))
+	}
+	checkArchive(t, e.archive, want)
 }

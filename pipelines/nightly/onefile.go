@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"runtime/debug"
 	"strings"
+	"syscall"
 	"time"
 	"unicode/utf8"
 )
@@ -52,13 +53,15 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 
 	stage, err := r.workArea(t.sha)
 	if err != nil {
-		r.fatal(fmt.Errorf("nightly: the archive cannot be written: %w", err))
-		return skip("not started: " + err.Error())
+		return r.archiveFailed(fo, err)
 	}
 	defer os.RemoveAll(stage)
 	inDir, outDir := filepath.Join(stage, "in"), filepath.Join(stage, "out")
 	snap := filepath.Join(inDir, path.Base(t.name))
 	got, err := snapshot(t.real, snap)
+	if isArchiveFault(err) {
+		return r.archiveFailed(fo, err)
+	}
 	if err != nil {
 		return skip("could not be copied into the archive's work area (" + errText(err) + "); it will be tried again next run")
 	}
@@ -80,6 +83,9 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	if jerr == nil {
 		jerr = r.seal(t, res, fo.Started, fo.Finished, outDir)
 	}
+	if isArchiveFault(jerr) {
+		return r.archiveFailed(fo, jerr)
+	}
 	if jerr != nil {
 		msg := message(jerr, snap, t.name, stage)
 		if err := r.recordFailure(t, fo.Started, fo.Finished, msg); err != nil {
@@ -92,6 +98,9 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	hook("manifest", t.name)
 
 	out, err := r.place(t, outDir, stage)
+	if isArchiveFault(err) {
+		return r.archiveFailed(fo, err)
+	}
 	if err != nil {
 		return skip("its results could not be put in place (" + err.Error() + "); it will be tried again next run")
 	}
@@ -114,6 +123,30 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	}
 	hook("history", t.name)
 	fo.Status, fo.Output, fo.Constants, fo.Drift, fo.Message = StatusOK, out, res.Constants, drift, msg
+	return fo
+}
+
+// isArchiveFault reports whether err is the archive's failure rather than the
+// input's: a full disk or quota, a read-only file system, an I/O error. Such a
+// file is not recorded as failed; it is tried again on the next run.
+func isArchiveFault(err error) bool {
+	for _, e := range []error{syscall.ENOSPC, syscall.EDQUOT, syscall.EROFS, syscall.EIO} {
+		if errors.Is(err, e) {
+			return true
+		}
+	}
+	return false
+}
+
+// archiveFailed stops the run after a fault of the archive (no new file is
+// started; the run's error makes the exit code 1) and returns the outcome of
+// the file it hit: skipped, without a ledger row, so that the next run tries
+// it again.
+func (r *runner) archiveFailed(fo FileOutcome, err error) FileOutcome {
+	why := errText(err)
+	r.fatal(fmt.Errorf("nightly: the archive %s cannot be written (%s); the files not done are tried again on the next run", r.a.shown, why))
+	fo.Status, fo.Finished = StatusSkipped, r.o.Now()
+	fo.Message = oneLine("not done: the archive cannot be written (" + why + "); it will be tried again next run")
 	return fo
 }
 
