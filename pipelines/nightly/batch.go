@@ -88,6 +88,8 @@ func (r *runner) process(todo []task) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			jr := &jobRunner{r: r}
+			defer jr.close()
 			for t := range ch {
 				if dctx.Err() != nil {
 					r.mu.Lock()
@@ -95,7 +97,7 @@ func (r *runner) process(todo []task) {
 					r.mu.Unlock()
 					continue
 				}
-				r.done(r.one(dctx, t), len(todo))
+				r.done(r.one(dctx, t, jr), len(todo))
 			}
 		}()
 	}

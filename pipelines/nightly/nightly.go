@@ -177,6 +177,9 @@ type Options struct {
 	PipelineHash, Version string
 	// Job is the chain of stages (required).
 	Job Job
+	// Isolate runs each job in a worker process (nil: in this process); see
+	// Isolation.
+	Isolate *Isolation
 	// Progress receives the progress: a bar when it is a terminal, plain log
 	// lines otherwise (nil: nothing is shown).
 	Progress io.Writer

@@ -22,7 +22,7 @@ var hook = func(point, name string) {}
 
 // one processes one file: claim, snapshot, job, check, manifest, rename,
 // ledger row, history rows.
-func (r *runner) one(ctx context.Context, t task) FileOutcome {
+func (r *runner) one(ctx context.Context, t task, jr *jobRunner) FileOutcome {
 	a := r.a
 	fo := FileOutcome{Input: t.name, SHA256: t.sha}
 	skip := func(msg string) FileOutcome {
@@ -70,7 +70,10 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	}
 	hook("snapshot", t.name)
 
-	res, jerr := r.runJob(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir)}, outDir)
+	if err := r.markStarted(stage, t, fo.Started); err != nil {
+		return r.archiveFailed(fo, err)
+	}
+	res, jerr := jr.run(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir)}, outDir)
 	hook("job", t.name)
 
 	// The inbox file must not have changed while it was processed.
@@ -93,6 +96,7 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 			return skip("not recorded: " + err.Error())
 		}
 		fo.Status, fo.Message = StatusFailed, msg
+		r.forgetDeaths(t.sha)
 		return fo
 	}
 	hook("manifest", t.name)
@@ -122,6 +126,7 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 		return skip("not recorded: " + err.Error())
 	}
 	hook("history", t.name)
+	r.forgetDeaths(t.sha)
 	fo.Status, fo.Output, fo.Constants, fo.Drift, fo.Message = StatusOK, out, res.Constants, drift, msg
 	return fo
 }
@@ -181,20 +186,29 @@ func (r *runner) removeStale(sha, keep string) {
 	old, _ := filepath.Glob(filepath.Join(r.a.dir, workDir, sha+"-*"))
 	for _, p := range old {
 		if p != keep {
+			if err := r.diedWhile(p); err != nil {
+				r.note("nightly: %v", err)
+			}
 			os.RemoveAll(p)
 		}
 	}
 }
 
-// runJob calls the job, turning a panic into an error.
-func (r *runner) runJob(in Input, out string) (res *JobResult, err error) {
+// runJob calls the job in the run's process.
+func (r *runner) runJob(in Input, out string) (*JobResult, error) {
+	return callJob(context.WithoutCancel(r.ctx), r.o.Job, in, out, func(s string) { r.note("%s", s) })
+}
+
+// callJob calls job, turning a panic into an error (and a note with the
+// stack).
+func callJob(ctx context.Context, job Job, in Input, out string, note func(string)) (res *JobResult, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			r.note("nightly: the pipeline panicked on %s: %v\n%s", shown(in.Name), p, debug.Stack())
+			note(fmt.Sprintf("nightly: the pipeline panicked on %s: %v\n%s", shown(in.Name), p, debug.Stack()))
 			res, err = nil, fmt.Errorf("nightly: internal error in the pipeline (%v); please report it with this input file", p)
 		}
 	}()
-	res, err = r.o.Job(context.WithoutCancel(r.ctx), in, out)
+	res, err = job(ctx, in, out)
 	if err == nil && res == nil {
 		res = &JobResult{}
 	}

@@ -48,6 +48,9 @@ func (r *runner) sweepWork() {
 		if !ok {
 			continue
 		}
+		if err := r.diedWhile(filepath.Join(dir, e.Name())); err != nil {
+			r.note("nightly: %v", err)
+		}
 		if err := os.RemoveAll(filepath.Join(dir, e.Name())); err != nil {
 			r.note("nightly: cannot remove the half-built %s: %v", filepath.Join(dir, e.Name()), err)
 		}
