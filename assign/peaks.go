@@ -271,8 +271,13 @@ func (pr *peakReader) peak(rec []string, row int) (Peak, bool) {
 	}
 	if i := pr.col[pcUnc]; i >= 0 {
 		p.Unc, p.UncText = number(c, rec[i], "unc", row, false)
-		if p.UncText != "" && !(p.Unc > 0) && c.Count() == n0 {
+		switch {
+		case p.UncText != "" && !(p.Unc > 0) && c.Count() == n0:
 			c.Add(row, "unc", "must be > 0, got %s", p.UncText)
+		case p.UncText != "" && p.Position > 0 && c.Count() == n0:
+			if why := linelist.UncProblem(p.Position, p.Unc); why != "" {
+				c.Add(row, "unc", "%s", why)
+			}
 		}
 	}
 	if i := pr.col[pcIntensity]; i >= 0 {
@@ -358,7 +363,7 @@ func number(c *linelist.Collector, cell, field string, row int, required bool) (
 		}
 		return 0, ""
 	}
-	x, err := strconv.ParseFloat(t, 64)
+	x, err := textcheck.ParseDecimal(t)
 	if err != nil {
 		switch {
 		case errors.Is(err, strconv.ErrRange):
@@ -366,7 +371,7 @@ func number(c *linelist.Collector, cell, field string, row int, required bool) (
 		case strings.Contains(t, ","):
 			c.Add(row, field, "not a number: %q (decimal comma? bandwright reads comma-separated with a dot decimal separator)", t)
 		default:
-			c.Add(row, field, "not a number: %q", t)
+			c.Add(row, field, "not a number: %q%s", t, textcheck.DecimalHint(t))
 		}
 		return 0, t
 	}

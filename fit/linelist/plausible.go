@@ -190,3 +190,23 @@ func reducedPosition(l *Line) float64 {
 }
 
 func fmtPos(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+// minRelativeUnc is the smallest uncertainty accepted relative to its
+// position: about four units in the last place of a 64-bit float (2.2e-16),
+// below which the weight 1/unc² of the line means nothing and overflows
+// the least-squares scaling.
+const minRelativeUnc = 1e-15
+
+// UncProblem returns why an uncertainty unc (> 0) cannot go with the position
+// pos (> 0, same unit), or "" when it can: it must be smaller than the
+// position, and not below the resolution of a 64-bit float at the position.
+// The line-list and peak-list readers share it.
+func UncProblem(pos, unc float64) string {
+	switch {
+	case unc >= pos:
+		return fmt.Sprintf("%g is not smaller than the position %g: an uncertainty that large says nothing about the line", unc, pos)
+	case unc < pos*minRelativeUnc:
+		return fmt.Sprintf("%g is below the resolution of a 64-bit float at the position %g (relative %g); give the real uncertainty", unc, pos, minRelativeUnc)
+	}
+	return ""
+}

@@ -466,8 +466,7 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 		}
 	}
 
-	l.Position = f.positive(rec, colPosition, row)
-	l.Unc = f.positive(rec, colUnc, row)
+	l.Position, l.Unc = f.positionAndUnc(rec, row)
 
 	if i := f.col[colUnit]; i >= 0 {
 		if t := strings.TrimSpace(rec[i]); t == "" {
@@ -512,6 +511,19 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 		l.Extra = ex
 	}
 	return l, len(c.probs)+c.omitted == n0
+}
+
+// positionAndUnc reads the position and its uncertainty, each > 0, the
+// uncertainty smaller than the position and above the float resolution at it.
+func (f *file) positionAndUnc(rec []string, row int) (pos, unc float64) {
+	pos = f.positive(rec, colPosition, row)
+	unc = f.positive(rec, colUnc, row)
+	if pos > 0 && unc > 0 {
+		if why := UncProblem(pos, unc); why != "" {
+			f.c.add(row, "unc", "%s", why)
+		}
+	}
+	return pos, unc
 }
 
 // fieldName returns the name of column i for messages: the canonical spelling of a
@@ -566,7 +578,7 @@ func (f *file) number(cell string, cl column, row int) (float64, string, bool) {
 		f.c.add(row, name, "missing value")
 		return 0, t, false
 	}
-	x, err := strconv.ParseFloat(t, 64)
+	x, err := textcheck.ParseDecimal(t)
 	if err != nil {
 		switch {
 		case errors.Is(err, strconv.ErrRange):
@@ -578,7 +590,7 @@ func (f *file) number(cell string, cl column, row int) (float64, string, bool) {
 			}
 			fallthrough
 		default:
-			f.c.add(row, name, "not a number: %q", t)
+			f.c.add(row, name, "not a number: %q%s", t, textcheck.DecimalHint(t))
 		}
 		return 0, t, false
 	}
