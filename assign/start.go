@@ -236,6 +236,26 @@ type givenSpecies struct {
 // isotopologue not listed before, recorded in seen), finite values, positive
 // ωe, Be and abundance, De ≥ 0, and for a table with constants the required
 // ones. Problems go to c; it reports false when the table cannot be used.
+// checkStartMagnitudes refuses constants no diatomic molecule has: any
+// constant beyond linelist.MaxWavenumber in magnitude (above every
+// dissociation energy), B_e above linelist.MaxRotationalConstant (that of
+// H2), a typo such as omega_e = 1e308 that would otherwise fail deep inside
+// the prediction without naming the key.
+func checkStartMagnitudes(c *linelist.Collector, at func(string) int, label string, vals map[string]*float64) {
+	for _, k := range startKeys[1:] {
+		v := vals[k]
+		if v == nil || k == "abundance" || math.IsNaN(*v) || math.IsInf(*v, 0) {
+			continue
+		}
+		switch {
+		case math.Abs(*v) > linelist.MaxWavenumber:
+			c.Add(at(k), label+"."+k, "%g cm-1 is beyond any constant of a diatomic molecule (|value| ≤ %g cm-1, above every dissociation energy)", *v, linelist.MaxWavenumber)
+		case (k == "B_e" || k == "B_0") && *v > linelist.MaxRotationalConstant:
+			c.Add(at(k), label+"."+k, "%g cm-1 is above the largest rotational constant of any molecule (H2, about 61 cm-1; limit %g)", *v, linelist.MaxRotationalConstant)
+		}
+	}
+}
+
 func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry, seen map[string]int) (givenSpecies, bool) {
 	row := loc.table(i)
 	at := func(key string) int {
@@ -283,6 +303,7 @@ func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry
 			c.Add(at(k), iso.Label+"."+k, "must be ≥ 0 (D > 0 for a bound state), got %g", *v)
 		}
 	}
+	checkStartMagnitudes(c, at, iso.Label, vals)
 	g := givenSpecies{iso: iso, e: e, row: row, full: nConst > 0}
 	if g.full {
 		g.lacks = checkConstantSet(c, row, iso.Label, vals)

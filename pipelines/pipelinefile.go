@@ -61,6 +61,8 @@ type AssignSection struct {
 	Unc     string   `toml:"unc"`
 	Unit    string   `toml:"unit"`
 	Species []string `toml:"species"`
+
+	temperatureGiven bool // the file has the key temperature (0 is then refused)
 }
 
 // FitSection holds the options of `bandwright fit`.
@@ -166,6 +168,9 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	sum := sha256.Sum256(b)
 	p.Hash = hex.EncodeToString(sum[:])
 	p.Path = name
+	if p.Assign != nil {
+		p.Assign.temperatureGiven = md.IsDefined("assign", "temperature")
+	}
 	if err := p.check(name, b); err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
@@ -242,8 +247,8 @@ func (a *AssignSection) check(at keyAt) error {
 	if a == nil {
 		return nil
 	}
-	if T := a.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
-		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, assign.DefaultTemperature)
+	if T := a.Temperature; (T != 0 || a.temperatureGiven) && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
+		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (leave the key out for %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, assign.DefaultTemperature)
 	}
 	if !(a.Tolerance >= 0) || math.IsInf(a.Tolerance, 0) {
 		return fmt.Errorf("pipelines: %s: assign.tolerance: %v must be a finite number > 0 (0: the default)", at("assign", "tolerance"), a.Tolerance)
@@ -299,6 +304,35 @@ func (t *ThermoSection) check(at keyAt) error {
 	}
 	if t.NASABreakpoint < 0 || t.NASABreakpoint != t.NASABreakpoint {
 		return fmt.Errorf("pipelines: %s: thermo.nasa_breakpoint: must be a temperature in K", at("thermo", "nasa_breakpoint"))
+	}
+	return t.checkSettings(at)
+}
+
+// checkSettings checks the thermo settings of the section one key at a
+// time, with the checks of the thermo stage, so that each error names the
+// file, the line and the key.
+func (t *ThermoSection) checkSettings(at keyAt) error {
+	if _, err := parsePressure(t.Pressure); err != nil {
+		return fmt.Errorf("pipelines: %s: thermo.pressure: %q: choose 1bar or 1atm", at("thermo", "pressure"), t.Pressure)
+	}
+	var nasa thermo.NASARanges
+	if t.NASALimits != "" {
+		nasa.Low, nasa.High, _ = ParseNASALimits(t.NASALimits)
+	}
+	nasa.Break = t.NASABreakpoint
+	room := []float64{298.15}
+	for _, k := range []struct {
+		key string
+		s   thermo.Settings
+	}{
+		{"composition", thermo.Settings{Temperatures: room, Composition: t.Composition}},
+		{"nuclear_spin", thermo.Settings{Temperatures: room, NuclearSpin: t.NuclearSpin}},
+		{"mc", thermo.Settings{Temperatures: room, MonteCarlo: t.MC}},
+		{"nasa_limits", thermo.Settings{Temperatures: room, NASA: nasa}},
+	} {
+		if err := k.s.Check(); err != nil {
+			return fmt.Errorf("pipelines: %s: thermo.%s: %s", at("thermo", k.key), k.key, strings.TrimPrefix(err.Error(), "thermo: "))
+		}
 	}
 	return nil
 }

@@ -107,13 +107,8 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		// The default table: temperatures the sum cannot give honestly are
 		// left out and named; asked for one by one, they are refused.
 		OmitRefused: strings.TrimSpace(o.Temperatures) == "" && strings.TrimSpace(o.Range) == ""}
-	switch strings.ToLower(strings.ReplaceAll(o.Pressure, " ", "")) {
-	case "", "1bar":
-		s.Pressure = thermo.PressureBar
-	case "1atm":
-		s.Pressure = thermo.PressureAtm
-	default:
-		return nil, failure.Errorf(failure.BadInput, "thermo: --pressure: %q: choose 1bar or 1atm", o.Pressure)
+	if s.Pressure, err = parsePressure(o.Pressure); err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	if err := s.Check(); err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
@@ -199,6 +194,18 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		"states": o.States,
 	}
 	return &ThermoOutcome{Result: res, Provenance: prov, Inputs: inputs}, nil
+}
+
+// parsePressure reads --pressure: "1bar" (also "", the default) or "1atm",
+// in Pa.
+func parsePressure(s string) (float64, error) {
+	switch strings.ToLower(strings.ReplaceAll(s, " ", "")) {
+	case "", "1bar":
+		return thermo.PressureBar, nil
+	case "1atm":
+		return thermo.PressureAtm, nil
+	}
+	return 0, fmt.Errorf("thermo: --pressure: %q: choose 1bar or 1atm", s)
 }
 
 // thermoTemperatures turns --temperatures or --range into a list (K).

@@ -236,6 +236,11 @@ func TestCatalogueStartFile(t *testing.T) {
 		{name: "negative rotational constant", input: []byte(set("B_e", "-10.6")), code: 1, want: []string{"start.toml:6: 1H35Cl.B_e: must be > 0, got -10.6"}},
 		{name: "absurd isotope", input: []byte(strings.Replace(base, `"1H35Cl"`, `"1H999Cl"`, 1)), code: 1, want: []string{"start.toml:3: species[1].name: unknown isotopologue \"1H999Cl\""}},
 		{name: "absurd constants", input: []byte(set("B_e", "1e6")), code: 2, want: []string{"bandwright assign: ", "peaks.csv: no band could be locked onto the peaks", "1H35Cl 0-0"}},
+		{name: "absurd constants", input: []byte(set("B_e", "90")), code: 2, want: []string{"assign: no band could be locked onto the peaks", "1H35Cl 0-0"}},
+		{name: "rotational constant above H2's", input: []byte(set("B_e", "1e3")), code: 1,
+			want: []string{"start.toml:6: 1H35Cl.B_e: 1000 cm-1 is above the largest rotational constant of any molecule"}},
+		{name: "omega_e = 1e308", input: []byte(set("omega_e", "1e308")), code: 1,
+			want: []string{"start.toml:4: 1H35Cl.omega_e: 1e+308 cm-1 is beyond any constant of a diatomic molecule"}},
 		{name: "unknown key", input: []byte(strings.Replace(base, "B_e = 10.60\n", "B_e = 10.60\ncolour = \"blue\"\n", 1)), code: 1, want: []string{"start.toml:7: species.colour: unknown key"}},
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
 		{name: "too large", input: []byte(base + strings.Repeat("# "+strings.Repeat("z", 1<<20)+"\n", 5)), code: 1, want: []string{"start.toml: the file is larger than 4 MiB, the limit for a start file"}},
@@ -294,6 +299,8 @@ func TestCatalogueStatesFile(t *testing.T) {
 		{name: "nested inline tables", input: []byte(base + "x = " + strings.Repeat("{a = ", 8000) + "1" + strings.Repeat("}", 8000) + "\n"), code: 1,
 			want: []string{"states.toml:13: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `label = "a"`, "label = \"a\xe9\"", 1)), code: 1, want: []string{"states.toml:9: state.label: invalid UTF-8"}},
+		{name: "dissociation energy of 1e-9", input: []byte(strings.Replace(base, "89460.0", "1e-9", 1)), code: 0, warnFile: "thermo.json",
+			want: []string{"the dissociation energy D0 = 1e-09 cm-1 lies below the first vibrationally excited level"}},
 		{name: "constants path outside", input: []byte(base + "constants = \"../../../no-such/a-state.json\"\n"), code: 1,
 			want: []string{"states.toml: state 2 (a): constants: ", "no-such/a-state.json", "no such file or directory"}},
 	}
@@ -338,6 +345,16 @@ func TestCataloguePipelineFile(t *testing.T) {
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
 		{name: "too large", input: []byte(base + "# " + strings.Repeat("z", 5<<20) + "\n"), code: 1,
 			want: []string{"pipeline.toml: the file is larger than 4 MiB, the limit for a pipeline file"}},
+		{name: "absurd Monte Carlo", input: []byte(strings.Replace(base, "composition = ", "mc = 1000000000\ncomposition = ", 1)), code: 1,
+			want: []string{"pipeline.toml:9: thermo.mc: Monte Carlo draws 1000000000: give 0 (off) or 2…1000000"}},
+		{name: "unknown pressure", input: []byte(strings.Replace(base, "composition = ", "pressure = \"5 parsecs\"\ncomposition = ", 1)), code: 1,
+			want: []string{`pipeline.toml:9: thermo.pressure: "5 parsecs": choose 1bar or 1atm`}},
+		{name: "unknown composition", input: []byte(strings.Replace(base, `"natural"`, `"weird"`, 1)), code: 1,
+			want: []string{`pipeline.toml:9: thermo.composition: composition "weird": choose isotopologue or natural`}},
+		{name: "unknown nuclear spin", input: []byte(strings.Replace(base, "composition = ", "nuclear_spin = \"x\"\ncomposition = ", 1)), code: 1,
+			want: []string{`pipeline.toml:9: thermo.nuclear_spin: nuclear-spin convention "x"`}},
+		{name: "NASA limits reversed", input: []byte(strings.Replace(base, "composition = ", "nasa_limits = \"6000:200\"\ncomposition = ", 1)), code: 1,
+			want: []string{"pipeline.toml:9: thermo.nasa_limits: NASA-7 ranges 6000–1000–200 K: need 0 < low < breakpoint < high"}},
 		{name: "8 000 nested inline tables", input: []byte(strings.Replace(base, "[report]", "x = "+strings.Repeat("{a = ", 8000)+"1"+strings.Repeat("}", 8000)+"\n[report]", 1)), code: 1,
 			want: []string{"pipeline.toml:10: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `"co-cell"`, "\"co-c\xe9ll\"", 1)), code: 1, want: []string{"pipeline.toml:1: ", "invalid UTF-8"}},
@@ -477,4 +494,38 @@ func editValue(b []byte, from int, with string) []byte {
 	out := append([]byte{}, b[:i]...)
 	out = append(out, with...)
 	return append(out, b[j:]...)
+}
+
+// TestCatalogueFlags: values on the command line that no run can honour are
+// refused with exit code 1 and a message naming the flag, and nothing is
+// written.
+func TestCatalogueFlags(t *testing.T) {
+	dir := t.TempDir()
+	writeFile(t, filepath.Join(dir, "peaks.csv"), []byte(readFile(t, peaksFile)))
+	writeFile(t, filepath.Join(dir, "start.toml"), []byte(readFile(t, startFile)))
+	writeFile(t, filepath.Join(dir, "p.toml"), []byte("input = \"peaks\"\n[assign]\nstart = \"start.toml\"\nbands = [\"0-0\"]\nspectrum = \"rotation\"\ntemperature = 0.0\n"))
+	assignArgs := []string{"assign", filepath.Join(dir, "peaks.csv"), "--start", filepath.Join(dir, "start.toml"), "--bands", "0-0", "--spectrum", "rotation"}
+	for _, c := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"temperature 0", append(append([]string{}, assignArgs...), "--temperature", "0", "--out", filepath.Join(dir, "o1")),
+			"assign: --temperature 0: give the sample temperature in K, > 0 (leave the flag out for 296 K)"},
+		{"temperature 0 in a pipeline file", []string{"run", filepath.Join(dir, "peaks.csv"), "--pipeline", filepath.Join(dir, "p.toml"), "--out", filepath.Join(dir, "o2")},
+			"p.toml:6: assign.temperature: 0 K must lie within 1…100000 K (leave the key out for 296 K)"},
+		{"the root as output folder", append(append([]string{}, assignArgs...), "--out", "/"),
+			"outdir: --out /: the output folder is replaced as a whole, so it cannot be a file system's root"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			before := snapshot(t, dir)
+			code, _, stderr := runCLI(c.args...)
+			if code != 1 || !strings.Contains(stderr, c.want) {
+				t.Errorf("exit %d: %s\nwant %q", code, stderr, c.want)
+			}
+			if d := diffSnapshots(before, snapshot(t, dir)); len(d) > 0 {
+				t.Errorf("changed: %v", d)
+			}
+		})
+	}
 }
