@@ -32,6 +32,10 @@ const maxRangeTemperatures = 1_000_000
 // ThermoOptions are the options of `bandwright thermo`.
 type ThermoOptions struct {
 	Constants string // constants.json written by fit
+	// ConstantsName is how outputs name the record (provenance, levels_from
+	// of thermo.json); empty: Constants. The chain gives the name of the file
+	// in its output folder, not the temporary path it reads.
+	ConstantsName string
 	States    string // electronic-states file (TOML), optional
 	// Species is the isotopologue; empty: the electronic-states file's, else the record's first.
 	Species string
@@ -119,7 +123,11 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		return nil, err
 	}
 	inputs := []string{o.Constants}
-	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: o.Constants, Species: o.Species}
+	shown := o.Constants
+	if o.ConstantsName != "" {
+		shown = o.ConstantsName
+	}
+	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: shown, Species: o.Species}
 	var states *thermo.StatesFile
 	if o.States != "" {
 		if why := textcheck.NotRegular(o.States); why != "" {
@@ -183,6 +191,9 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	}
 	prov := constants.Provenance{Version: Version, Created: time.Now().UTC().Format(time.RFC3339)}
 	for i, in := range inputs {
+		if i == 0 {
+			in = shown
+		}
 		prov.Inputs = append(prov.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}
 	nasa := s.NASA.WithDefaults()
