@@ -220,6 +220,9 @@ func (c *chainRun) fit() error {
 	if err != nil {
 		return err
 	}
+	if err := checkFitQuality(f, c.p.Fit != nil && c.p.Fit.AcceptPoorFit); err != nil {
+		return err
+	}
 	if c.p.Input == InputPeaks {
 		if err := c.recordPeakList(f.Record); err != nil {
 			return err

@@ -77,6 +77,9 @@ type FitSection struct {
 	Calibrate bool     `toml:"calibrate"`
 	Reference string   `toml:"reference"`
 	Unit      string   `toml:"unit"`
+	// AcceptPoorFit lets a chain go on to thermo with a fit whose s is above
+	// MaxChainSigma or whose rejection stopped at its cap.
+	AcceptPoorFit bool `toml:"accept_poor_fit"`
 }
 
 // ThermoSection holds the options of `bandwright thermo`.

@@ -121,6 +121,8 @@ func TestCatalogueLineList(t *testing.T) {
 		// 16O nuclei have spin 0: a ¹Σg⁺ state of 16O2 has no odd-J levels.
 		{name: "levels a 1Sigma-g+ state of 16O2 does not have", input: []byte(strings.ReplaceAll(base, "12C16O", "16O16O")), code: 1,
 			want: []string{"lines.csv:2: 16O16O: the lines reach odd-J levels", "which a ¹Σg⁺ state of 16O16O does not have"}},
+		{name: "a cm-1 position labelled MHz", input: []byte(replaceRow(withCol("unit", func(i int) string { return "cm-1" }), 5, row(base, 5)+",MHz")), code: 1,
+			want: []string{"lines.csv:5: position: ", " MHz is 3.3", "times the median of the other lines of its band (12C16O 1-0, 41 lines): is the row's unit right"}},
 		{name: "subnormal uncertainty", input: []byte(replaceRow(base, 3, setField(r3, 6, "1e-320"))), code: 1,
 			want: []string{"lines.csv:3: unc: 1e-320 is below the resolution of a 64-bit float at the position"}},
 		{name: "uncertainty of 1e152", input: []byte(replaceRow(base, 3, setField(r3, 6, "1e152"))), code: 1,
@@ -528,4 +530,41 @@ func TestCatalogueFlags(t *testing.T) {
 			}
 		})
 	}
+}
+
+// TestPoorFitStopsTheChain: a chain whose fit has s far above 1 (one line
+// assigned to the wrong J with a tiny uncertainty, rejection off) stops
+// before thermo with exit code 2 and names the line; accept_poor_fit = true
+// lets it go on.
+func TestPoorFitStopsTheChain(t *testing.T) {
+	dir := t.TempDir()
+	r9 := row(baseLines, 9)
+	f := strings.Split(r9, ",")
+	f[2] = fmt.Sprint(atoi(t, f[2]) + 2) // J_up and J_lo two higher: the same branch, the wrong line
+	f[4] = fmt.Sprint(atoi(t, f[4]) + 2)
+	writeFile(t, filepath.Join(dir, "lines.csv"), []byte(replaceRow(baseLines, 9, strings.Join(f, ","))))
+	pipe := strings.Replace(basePipeline, "reject = 3.0", "reject = 0.0", 1)
+	writeFile(t, filepath.Join(dir, "p.toml"), []byte(pipe))
+	writeFile(t, filepath.Join(dir, "accept.toml"), []byte(strings.Replace(pipe, "reject = 0.0", "reject = 0.0\naccept_poor_fit = true", 1)))
+	before := snapshot(t, dir)
+	code, _, stderr := runCLI("run", filepath.Join(dir, "lines.csv"), "--pipeline", filepath.Join(dir, "p.toml"), "--out", filepath.Join(dir, "out"))
+	if code != 2 || !strings.Contains(stderr, "the fit is too poor to go on to thermo: its dimensionless standard deviation s = ") ||
+		!strings.Contains(stderr, "the worst line is "+filepath.Join(dir, "lines.csv")+":9 ") || !strings.Contains(stderr, "accept_poor_fit = true") {
+		t.Errorf("exit %d: %s", code, stderr)
+	}
+	if d := diffSnapshots(before, snapshot(t, dir)); len(d) > 0 {
+		t.Errorf("changed: %v", d)
+	}
+	if code, _, stderr := runCLI("run", filepath.Join(dir, "lines.csv"), "--pipeline", filepath.Join(dir, "accept.toml"), "--out", filepath.Join(dir, "out")); code != 0 {
+		t.Errorf("accepted: exit %d: %s", code, stderr)
+	}
+}
+
+func atoi(t *testing.T, s string) int {
+	t.Helper()
+	var n int
+	if _, err := fmt.Sscan(s, &n); err != nil {
+		t.Fatal(err)
+	}
+	return n
 }

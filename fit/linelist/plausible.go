@@ -1,8 +1,10 @@
 package linelist
 
 import (
+	"bandwright/units"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 )
 
@@ -17,6 +19,7 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 	}
 	mixed := rd.checkMixedBands(byFile)
 	rd.checkWavenumbers(byFile, mixed)
+	rd.checkBandOutliers(byFile)
 	if err := merge(cs...); err != nil {
 		return err
 	}
@@ -117,6 +120,74 @@ func (rd *reader) checkWavenumbers(byFile map[string]*collector, mixed map[unitB
 			}
 		}
 	}
+}
+
+// OutlierRatio is the factor by which the reduced position (in cm⁻¹) of a
+// line of a file with a unit column may differ from the median of its band
+// before the row is refused: a band's own spread is below a factor 3, while a
+// position in cm⁻¹ labelled MHz (or the reverse) is off by 29 979.
+const OutlierRatio = 100.0
+
+// checkBandOutliers reports, in files with a unit column, the rows whose
+// reduced position converted to cm⁻¹ lies more than OutlierRatio from the
+// median of their band (same file, species and vibrational levels; bands of
+// three lines or more): a one-character unit typo, whose tiny uncertainty in
+// the wrong unit would otherwise dominate the fit.
+func (rd *reader) checkBandOutliers(byFile map[string]*collector) {
+	lines := rd.list.Lines
+	bands := map[unitBand][]int{}
+	var order []unitBand
+	for i := range lines {
+		l := &lines[i]
+		if rd.noUnitCol[l.File] {
+			continue
+		}
+		k := unitBand{l.File, l.Species, l.VUp, l.VLo}
+		if _, ok := bands[k]; !ok {
+			order = append(order, k)
+		}
+		bands[k] = append(bands[k], i)
+	}
+	for _, k := range order {
+		idx := bands[k]
+		if len(idx) < 3 {
+			continue
+		}
+		med := bandMedian(lines, idx)
+		for _, i := range idx {
+			if ratio := reducedCm(&lines[i]) / med; ratio > OutlierRatio || ratio < 1/OutlierRatio {
+				l := &lines[i]
+				byFile[k.file].add(l.Row, "position", "%s %s is %.3g times the median of the other lines of its band (%s %s, %d lines): is the row's unit right (1 cm-1 = 29979.2458 MHz)?",
+					fmtPos(l.Position), l.Unit, ratio, k.species, BandLabel(k.vUp, k.vLo), len(idx))
+			}
+		}
+	}
+}
+
+// reducedCm is reducedPosition in cm⁻¹.
+func reducedCm(l *Line) float64 {
+	r := reducedPosition(l)
+	if l.Unit == MHz {
+		r /= units.MHzPerWavenumber
+	}
+	return r
+}
+
+// bandMedian returns the median reduced position (cm⁻¹) of the lines idx,
+// from at most 1001 of them taken evenly (enough to place a band within a
+// factor OutlierRatio, and cheap for a band of a million lines).
+func bandMedian(lines []Line, idx []int) float64 {
+	step := max(1, len(idx)/1001)
+	x := make([]float64, 0, len(idx)/step+1)
+	for j := 0; j < len(idx); j += step {
+		x = append(x, reducedCm(&lines[idx[j]]))
+	}
+	slices.Sort(x)
+	n := len(x)
+	if n%2 == 1 {
+		return x[n/2]
+	}
+	return (x[n/2-1] + x[n/2]) / 2
 }
 
 // warnDuplicates adds a warning for every line with the species, quantum

@@ -33,7 +33,8 @@ func TestRoundTrip(t *testing.T) {
 		if x >= MaxWavenumber {
 			u = MHz // Read refuses a position in cm-1 beyond every dissociation energy
 		}
-		l := Line{Species: "12C16O", VUp: 1, JUp: i + 1, VLo: 0, JLo: i, Position: x, Unc: x / (1 << 20),
+		// A band each: the tricky values are no band's positions.
+		l := Line{Species: "12C16O", VUp: i + 1, JUp: i + 1, VLo: i, JLo: i, Position: x, Unc: x / (1 << 20),
 			Unit: u, Branch: "R", Comment: "c" + string(rune('a'+i)), Extra: []string{"o", "x,\"y\"\nz"}}
 		lines = append(lines, l)
 	}
