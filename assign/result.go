@@ -10,6 +10,7 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/internal/textcheck"
+	"bandwright/internal/failure"
 )
 
 // result assembles the Result of the finished run: the final fit, the
@@ -19,9 +20,12 @@ func (r *run) result() (*Result, error) {
 	if r.p.Peaks.HasIntensity {
 		res.IntensityScatter = r.sigI
 	}
+	if len(r.assigned) == 0 {
+		return nil, failure.Errorf(failure.CannotCompute, "assign: no line is left assigned: every line the locks brought was dropped by the internal fit or the combination-difference checks; check the starting constants and the bands")
+	}
 	lines, ts, err := r.finalFit(res)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("assign: the final fit of the %d assigned lines failed: %w", len(r.assigned), err)
 	}
 	byBand := r.bandResults()
 	r.addAssignments(res, lines, ts, byBand)

@@ -146,7 +146,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 	var gs []givenSpecies
 	seen := map[string]int{}
 	for i, e := range f.Species {
-		if g, ok := checkStartEntry(c, loc, i, e, seen); ok {
+		if g, ok := checkStartEntry(c, loc, i, e, seen, unit); ok {
 			gs = append(gs, g)
 		}
 	}
@@ -241,22 +241,26 @@ type givenSpecies struct {
 // dissociation energy), B_e above linelist.MaxRotationalConstant (that of
 // H2), a typo such as omega_e = 1e308 that would otherwise fail deep inside
 // the prediction without naming the key.
-func checkStartMagnitudes(c *linelist.Collector, at func(string) int, label string, vals map[string]*float64) {
+func checkStartMagnitudes(c *linelist.Collector, at func(string) int, label string, vals map[string]*float64, unit linelist.Unit) {
 	for _, k := range startKeys[1:] {
 		v := vals[k]
 		if v == nil || k == "abundance" || math.IsNaN(*v) || math.IsInf(*v, 0) {
 			continue
 		}
+		x, given := unit.ToWavenumber(*v), fmt.Sprintf("%g cm-1", *v)
+		if unit != linelist.Wavenumber {
+			given = fmt.Sprintf("%g %s (%g cm-1)", *v, unit, x)
+		}
 		switch {
-		case math.Abs(*v) > linelist.MaxWavenumber:
-			c.Add(at(k), label+"."+k, "%g cm-1 is beyond any constant of a diatomic molecule (|value| ≤ %g cm-1, above every dissociation energy)", *v, linelist.MaxWavenumber)
-		case (k == "B_e" || k == "B_0") && *v > linelist.MaxRotationalConstant:
-			c.Add(at(k), label+"."+k, "%g cm-1 is above the largest rotational constant of any molecule (H2, about 61 cm-1; limit %g)", *v, linelist.MaxRotationalConstant)
+		case math.Abs(x) > linelist.MaxWavenumber:
+			c.Add(at(k), label+"."+k, "%s is beyond any constant of a diatomic molecule (|value| ≤ %g cm-1, above every dissociation energy)", given, linelist.MaxWavenumber)
+		case (k == "B_e" || k == "B_0") && x > linelist.MaxRotationalConstant:
+			c.Add(at(k), label+"."+k, "%s is above the largest rotational constant of any molecule (H2, about 61 cm-1; limit %g)", given, linelist.MaxRotationalConstant)
 		}
 	}
 }
 
-func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry, seen map[string]int) (givenSpecies, bool) {
+func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry, seen map[string]int, unit linelist.Unit) (givenSpecies, bool) {
 	row := loc.table(i)
 	at := func(key string) int {
 		if r := loc.find(i, key); r > 0 {
@@ -303,7 +307,7 @@ func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry
 			c.Add(at(k), iso.Label+"."+k, "must be ≥ 0 (D > 0 for a bound state), got %g", *v)
 		}
 	}
-	checkStartMagnitudes(c, at, iso.Label, vals)
+	checkStartMagnitudes(c, at, iso.Label, vals, unit)
 	g := givenSpecies{iso: iso, e: e, row: row, full: nConst > 0}
 	if g.full {
 		g.lacks = checkConstantSet(c, row, iso.Label, vals)
