@@ -213,6 +213,8 @@ func (r *run) addLeftovers(res *Result, byBand map[*band]*BandResult) {
 			if b, _ := r.bandOf(t); b != nil {
 				byBand[b].Dropped = append(byBand[b].Dropped, lo)
 			}
+		} else if lo.Nearest != nil {
+			lo.Reason = r.leftoverReason(k, *lo.Nearest)
 		}
 		res.Unassigned = append(res.Unassigned, lo)
 	}
