@@ -9,8 +9,8 @@ import (
 
 	"bandwright/fit"
 	"bandwright/fit/linelist"
-	"bandwright/internal/textcheck"
 	"bandwright/internal/failure"
+	"bandwright/internal/textcheck"
 )
 
 // result assembles the Result of the finished run: the final fit, the
