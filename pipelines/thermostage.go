@@ -36,7 +36,7 @@ type ThermoOptions struct {
 	// of thermo.json); empty: Constants. The chain gives the name of the file
 	// in its output folder, not the temporary path it reads.
 	ConstantsName string
-	States    string // electronic-states file (TOML), optional
+	States        string // electronic-states file (TOML), optional
 	// Species is the isotopologue; empty: the electronic-states file's, else the record's first.
 	Species string
 	// Temperatures is a comma-separated list in K ("298.15,1000"); Range is

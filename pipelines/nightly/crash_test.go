@@ -84,17 +84,19 @@ func testJob(ctx context.Context, in nightly.Input, work string) (*nightly.JobRe
 		select {}
 	}
 	if k := os.Getenv("BW_HOG_ON"); k != "" && strings.Contains(in.Name, k) {
-		var hog [][]byte
 		for {
 			b := make([]byte, 64<<20)
 			for i := range b {
 				b[i] = byte(i)
 			}
-			hog = append(hog, b)
+			hogSink = append(hogSink, b)
 		}
 	}
 	return fitJob(ctx, in, work)
 }
+
+// hogSink holds what a memory hog allocates, so that nothing is freed.
+var hogSink [][]byte
 
 // workerMain is a worker process of Isolation: its memory is limited to
 // BW_MEMORY bytes (if set), and it serves testJob.

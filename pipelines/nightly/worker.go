@@ -224,9 +224,8 @@ func (t *tail) lastLine() string {
 // jobRunner runs the jobs of one worker of the pool: in the run's process, or
 // in a worker process started on first use and again after a death.
 type jobRunner struct {
-	r   *runner
-	w   *worker
-	err error // the worker process could not be started
+	r *runner
+	w *worker
 }
 
 func (j *jobRunner) run(in Input, work string) (*JobResult, error) {
