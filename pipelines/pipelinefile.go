@@ -275,6 +275,20 @@ func (f *FitSection) check(at keyAt) error {
 	if _, err := linelist.ParseUnit(f.Unit); f.Unit != "" && err != nil {
 		return fmt.Errorf("pipelines: %s: fit.unit: %q; use %s", at("fit", "unit"), f.Unit, linelist.UnitChoices)
 	}
+	kind := f.Model
+	if kind == "" {
+		kind = fit.DefaultModel
+	}
+	for _, t := range f.Terms {
+		if err := model.CheckTerm(kind, t); err != nil {
+			return fmt.Errorf("pipelines: %s: fit.terms: %s", at("fit", "terms"), strings.TrimPrefix(err.Error(), "model: "))
+		}
+	}
+	for _, t := range f.BOBTerms {
+		if err := model.CheckTerm(model.KindDunham, t); err != nil {
+			return fmt.Errorf("pipelines: %s: fit.bob_terms: %s", at("fit", "bob_terms"), strings.TrimPrefix(err.Error(), "model: "))
+		}
+	}
 	return nil
 }
 

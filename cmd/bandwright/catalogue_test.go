@@ -343,6 +343,7 @@ func TestCataloguePipelineFile(t *testing.T) {
 		{name: "negative", input: []byte(strings.Replace(base, "reject = 3.0", "reject = -3.0", 1)), code: 1, want: []string{"pipeline.toml:6: fit.reject: must be a finite number ≥ 0"}},
 		{name: "absurd temperature", input: []byte(strings.Replace(base, "298.15, 1000.0", "298.15, 1e9", 1)), code: 1, want: []string{"pipeline.toml:8: thermo.temperatures: entry 2: 1e+09 K is outside 1…100000 K"}},
 		{name: "unknown key", input: []byte(strings.Replace(base, "model = ", "modle = ", 1)), code: 1, want: []string{"pipeline.toml:4: unknown key fit.modle"}},
+		{name: "unknown term", input: []byte(strings.Replace(base, `"Y02"]`, `"Y02", "Z1"]`, 1)), code: 1, want: []string{`pipeline.toml:5: fit.terms: "Z1" is not a Dunham term (write Y<k><l>, e.g. Y10, Y01, Y11)`}},
 		{name: "unknown model", input: []byte(strings.Replace(base, `model = "dunham"`, `model = "spline"`, 1)), code: 1, want: []string{"pipeline.toml:4: fit.model: \"spline\""}},
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
 		{name: "too large", input: []byte(base + "# " + strings.Repeat("z", 5<<20) + "\n"), code: 1,
