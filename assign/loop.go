@@ -35,13 +35,22 @@ func (r *run) lockAll() error {
 				}
 				continue
 			}
+			saved, savedScale := r.save(), globalScale
 			b.lock = L
-			b.locked, anyLocked, progress = true, true, true
+			b.locked = true
 			r.takeLockLines(b, ms, &globalScale)
 			r.updateIntensityScales()
 			if err := r.loop(); err != nil {
-				return err
+				// The lines this lock brought cannot be fitted with the
+				// others: the lock was wrong. Undo it and go on without
+				// the band.
+				r.restore(saved)
+				globalScale = savedScale
+				b.locked, b.lock.OK = false, false
+				b.lock.Reason = "its lock was undone: the lines it brought could not be fitted with the others (" + err.Error() + ")"
+				continue
 			}
+			anyLocked, progress = true, true
 		}
 		if !progress {
 			break

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -209,5 +210,40 @@ func TestFlatIntensitiesIgnored(t *testing.T) {
 	}
 	if !found {
 		t.Errorf("no warning about the flat intensities: %q", res.Warnings)
+	}
+}
+
+// BenchmarkReadPeaksMemory measures the memory the peak-list reader needs per
+// MB of input, for the README's promises: peak lists of about 1, 10 and
+// 100 MB (position, unc, intensity, unit). alloc-MB/MB is what a read
+// allocates in all, live-MB/MB what stays in use with the result held.
+func BenchmarkReadPeaksMemory(b *testing.B) {
+	for _, mb := range []int{1, 10, 100} {
+		var buf bytes.Buffer
+		buf.WriteString("position,unc,intensity,unit\n")
+		for i := 0; buf.Len() < mb<<20; i++ {
+			fmt.Fprintf(&buf, "%.6f,0.0005,%.4g,cm-1\n", 1900+float64(i%400000)*0.001, 0.5+float64(i%97)/100)
+		}
+		data := buf.Bytes()
+		b.Run(fmt.Sprintf("%dMB", mb), func(b *testing.B) {
+			var alloc, live float64
+			for b.Loop() {
+				runtime.GC()
+				var m0, m1 runtime.MemStats
+				runtime.ReadMemStats(&m0)
+				pl, err := assign.ReadPeaks(bytes.NewReader(data), "bench.csv", linelist.Wavenumber)
+				if err != nil {
+					b.Fatal(err)
+				}
+				runtime.ReadMemStats(&m1)
+				alloc = float64(m1.TotalAlloc-m0.TotalAlloc) / (1 << 20)
+				runtime.GC()
+				runtime.ReadMemStats(&m1)
+				live = (float64(m1.HeapAlloc) - float64(m0.HeapAlloc)) / (1 << 20)
+				runtime.KeepAlive(pl)
+			}
+			b.ReportMetric(alloc/float64(mb), "alloc-MB/MB")
+			b.ReportMetric(live/float64(mb), "live-MB/MB")
+		})
 	}
 }

@@ -9,6 +9,7 @@ import (
 
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
 
@@ -19,9 +20,12 @@ func (r *run) result() (*Result, error) {
 	if r.p.Peaks.HasIntensity {
 		res.IntensityScatter = r.sigI
 	}
+	if len(r.assigned) == 0 {
+		return nil, failure.Errorf(failure.CannotCompute, "assign: no line is left assigned: every line the locks brought was dropped by the internal fit or the combination-difference checks; check the starting constants and the bands")
+	}
 	lines, ts, err := r.finalFit(res)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("assign: the final fit of the %d assigned lines failed: %w", len(r.assigned), err)
 	}
 	byBand := r.bandResults()
 	r.addAssignments(res, lines, ts, byBand)
@@ -209,6 +213,8 @@ func (r *run) addLeftovers(res *Result, byBand map[*band]*BandResult) {
 			if b, _ := r.bandOf(t); b != nil {
 				byBand[b].Dropped = append(byBand[b].Dropped, lo)
 			}
+		} else if lo.Nearest != nil {
+			lo.Reason = r.leftoverReason(k, *lo.Nearest)
 		}
 		res.Unassigned = append(res.Unassigned, lo)
 	}

@@ -1,7 +1,6 @@
 package assign
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -22,9 +21,6 @@ import (
 	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
-
-// maxStartBytes bounds the size of a start file (one is a few hundred bytes).
-const maxStartBytes = 16 << 20
 
 // StartSpecies is one isotopologue the assignment looks for, with the
 // constants its lines are predicted from.
@@ -99,12 +95,13 @@ func ReadStartFile(path string) (*Start, error) {
 	if why := textcheck.NotRegular(path); why != "" {
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: why}}}
 	}
-	data, err := os.ReadFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		reason := textcheck.OpenReason(err)
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
 	}
-	return ReadStart(bytes.NewReader(data), path)
+	defer f.Close()
+	return ReadStart(f, path)
 }
 
 // ReadStart reads starting constants in the equilibrium notation of the trade
@@ -150,7 +147,7 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 	var gs []givenSpecies
 	seen := map[string]int{}
 	for i, e := range f.Species {
-		if g, ok := checkStartEntry(c, loc, i, e, seen); ok {
+		if g, ok := checkStartEntry(c, loc, i, e, seen, unit); ok {
 			gs = append(gs, g)
 		}
 	}
@@ -174,13 +171,19 @@ func ReadStart(r io.Reader, name string) (*Start, error) {
 // [[species]] table; it reports false when any was found.
 func decodeStart(r io.Reader, c *linelist.Collector) (startFile, *keyLocator, bool) {
 	var f startFile
-	data, err := io.ReadAll(io.LimitReader(r, maxStartBytes+1))
-	if err != nil {
+	data, err := textcheck.ReadLimited(r, textcheck.MaxSettingsBytes, "a start file")
+	var large *textcheck.TooLargeError
+	switch {
+	case errors.As(err, &large):
+		c.Add(0, "", "%v", err)
+		return f, nil, false
+	case err != nil:
 		c.AddErr(0, "", "read error: "+err.Error(), err)
 		return f, nil, false
 	}
-	if len(data) > maxStartBytes {
-		c.Add(0, "", "larger than %d MB; not a start file", maxStartBytes>>20)
+	var deep *textcheck.NestingError
+	if err := textcheck.TOMLNesting(data, textcheck.MaxNesting); errors.As(err, &deep) {
+		c.Add(deep.Line, "", "%v", err)
 		return f, nil, false
 	}
 	md, err := toml.Decode(string(data), &f)
@@ -234,7 +237,31 @@ type givenSpecies struct {
 // isotopologue not listed before, recorded in seen), finite values, positive
 // ωe, Be and abundance, De ≥ 0, and for a table with constants the required
 // ones. Problems go to c; it reports false when the table cannot be used.
-func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry, seen map[string]int) (givenSpecies, bool) {
+// checkStartMagnitudes refuses constants no diatomic molecule has: any
+// constant beyond linelist.MaxWavenumber in magnitude (above every
+// dissociation energy), B_e above linelist.MaxRotationalConstant (that of
+// H2), a typo such as omega_e = 1e308 that would otherwise fail deep inside
+// the prediction without naming the key.
+func checkStartMagnitudes(c *linelist.Collector, at func(string) int, label string, vals map[string]*float64, unit linelist.Unit) {
+	for _, k := range startKeys[1:] {
+		v := vals[k]
+		if v == nil || k == "abundance" || math.IsNaN(*v) || math.IsInf(*v, 0) {
+			continue
+		}
+		x, given := unit.ToWavenumber(*v), fmt.Sprintf("%g cm-1", *v)
+		if unit != linelist.Wavenumber {
+			given = fmt.Sprintf("%g %s (%g cm-1)", *v, unit, x)
+		}
+		switch {
+		case math.Abs(x) > linelist.MaxWavenumber:
+			c.Add(at(k), label+"."+k, "%s is beyond any constant of a diatomic molecule (|value| ≤ %g cm-1, above every dissociation energy)", given, linelist.MaxWavenumber)
+		case (k == "B_e" || k == "B_0") && x > linelist.MaxRotationalConstant:
+			c.Add(at(k), label+"."+k, "%s is above the largest rotational constant of any molecule (H2, about 61 cm-1; limit %g)", given, linelist.MaxRotationalConstant)
+		}
+	}
+}
+
+func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry, seen map[string]int, unit linelist.Unit) (givenSpecies, bool) {
 	row := loc.table(i)
 	at := func(key string) int {
 		if r := loc.find(i, key); r > 0 {
@@ -281,6 +308,7 @@ func checkStartEntry(c *linelist.Collector, loc *keyLocator, i int, e startEntry
 			c.Add(at(k), iso.Label+"."+k, "must be ≥ 0 (D > 0 for a bound state), got %g", *v)
 		}
 	}
+	checkStartMagnitudes(c, at, iso.Label, vals, unit)
 	g := givenSpecies{iso: iso, e: e, row: row, full: nConst > 0}
 	if g.full {
 		g.lacks = checkConstantSet(c, row, iso.Label, vals)

@@ -96,6 +96,11 @@ func FuzzReadStart(f *testing.F) {
 	f.Add([]byte(coStart))
 	f.Add([]byte("[[species]]\nname = \"D35Cl\"\nomega_e = 2145\nomega_e_x_e = 27\nB_e = 5.4\nalpha_e = 0.11\nD_e = 1.4e-4\n"))
 	f.Add([]byte("x = [1, {a = 2}]\n[[species]]\n"))
+	// Deep nesting: dotted tables, dotted keys, inline tables, arrays.
+	f.Add([]byte("[" + strings.Repeat("a.", 2000) + "z]\n"))
+	f.Add([]byte(strings.Repeat("a.", 70) + "z = 1\n[[species]]\n"))
+	f.Add([]byte("x = " + strings.Repeat("{a = ", 100) + "1" + strings.Repeat("}", 100) + "\n"))
+	f.Add([]byte("x = " + strings.Repeat("[", 100) + strings.Repeat("]", 100) + "\n"))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		st, err := assign.ReadStart(bytes.NewReader(data), "f.toml")
 		if err != nil {

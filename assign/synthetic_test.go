@@ -56,7 +56,7 @@ func TestSyntheticCOSeveralSeeds(t *testing.T) {
 		t.Logf("seed %d: %d peaks, %d real; assigned %.2f %% of real, wrong %.2f %% (%d of %d); iterations %d", seed, len(peaks), s.real,
 			100*s.assignedFrac(), 100*s.wrongFrac(), s.wrong, s.total, res.Iterations)
 		for _, b := range res.Bands {
-			t.Logf("  %s: locked %v offset %+.3f δB %+.2g score %.2f alt %.2f margin %.2f; %d lines %v rms %.2g", b.Label(), b.Locked, b.Lock.Offset, b.Lock.DeltaB, b.Lock.Score, b.Lock.AltScore, b.Lock.Margin, b.Lines, b.Branches, b.RMS)
+			t.Logf("  %s: locked %v offset %+.3f δB %+.2g score %.2f alt %.2f margin %.2f chance %.2f±%.2f need %.2f; %d lines %v rms %.2g", b.Label(), b.Locked, b.Lock.Offset, b.Lock.DeltaB, b.Lock.Score, b.Lock.AltScore, b.Lock.Margin, b.Lock.ChanceScore, b.Lock.ChanceSigma, b.Lock.NeededScore, b.Lines, b.Branches, b.RMS)
 		}
 		for _, w := range s.wrongList {
 			t.Logf("  wrong: %s", w)

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"math"
 	"os"
+	"strings"
 	"testing"
 )
 
@@ -16,6 +17,9 @@ func FuzzReadRecord(f *testing.F) {
 	}
 	f.Add([]byte(`{"schema":"bandwright.constants/2","model":"term-values","species":["12C16O"],"parameters":[{"name":"T","v":0,"species":"12C16O","value":0,"sigma":0,"fixed":true},{"name":"B","v":0,"species":"12C16O","value":1.9,"sigma":1e-6,"fixed":false}],"covariance":[[1e-12]]}`))
 	f.Add([]byte(`{"schema":"bandwright.constants/2"}`))
+	// Deep nesting: refused before the parser and the duplicate-key check see it.
+	f.Add([]byte(`{"schema":"bandwright.constants/2","x":` + strings.Repeat(`{"a":`, 2000) + "1" + strings.Repeat("}", 2000) + "}"))
+	f.Add([]byte(strings.Repeat("[", 65) + strings.Repeat("]", 65)))
 	f.Add([]byte("\xef\xbb\xbf" + `{"schema":"bandwright.constants/2","model":"term-values","unit":"cm-1","species":["12C16O"],"parameters":[{"name":"T","v":0,"species":"12C16O","value":0,"sigma":0,"fixed":true},{"name":"B","v":0,"species":"12C16O","value":1.9,"value":2,"sigma":1e-6,"fixed":false}],"covariance":[[1e-12]]} {}`))
 	f.Add([]byte(`{"schema":"bandwright.constants/2","model":"dunham","unit":"cm-1","species":["12C16O"],"parameters":[{"name":"Y01","k":0,"l":1,"value":1.9,"sigma":1e-6,"fixed":false},{"name":"Y11","k":1,"l":1,"value":-0.0175,"sigma":1e-6,"fixed":false}],"covariance":[[1e-12,2e-12],[2e-12,1e-12]]}`))
 	f.Add([]byte(`{"schema":"bandwright.constants/2","model":"dunham","species":["12C16O"],"parameters":[{"name":"Y01","k":0,"l":1,"value":1.9,"sigma":0,"fixed":false}],"covariance":[[NaN]]}`))

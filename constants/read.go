@@ -65,6 +65,10 @@ func decode(b []byte, name string) (*Record, error) {
 		line, col := textcheck.LineCol(b, int64(off))
 		return nil, fmt.Errorf(":%d:%d: not UTF-8 text: byte 0x%02X (save the file as UTF-8)", line, col, b[off])
 	}
+	var deep *textcheck.NestingError
+	if err := textcheck.JSONNesting(b, textcheck.MaxNesting); errors.As(err, &deep) {
+		return nil, fmt.Errorf(":%d: not a constants record: %w", deep.Line, err)
+	}
 	if key, off, dup := duplicateKey(b); dup {
 		line, col := textcheck.LineCol(b, off)
 		return nil, fmt.Errorf(":%d:%d: %s: the key is given twice; which one holds is not clear (the record was edited?)", line, col, key)

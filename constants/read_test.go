@@ -3,8 +3,10 @@ package constants
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
+	"runtime"
 	"strings"
 	"testing"
 )
@@ -142,4 +144,71 @@ func TestReadRecordHandEdits(t *testing.T) {
 	if _, err := Read(bytes.NewReader(b), "c.json"); err != nil {
 		t.Errorf("singular positive semi-definite covariance: %v", err)
 	}
+}
+
+// BenchmarkReadMemory measures the memory the constants-record reader needs
+// per MB of input, for the README's promises: records of about 1 and 5 MB
+// (a term-values record with many levels and its full covariance).
+func BenchmarkReadMemory(b *testing.B) {
+	for _, n := range []int{95, 210} { // levels: about 1 and 5 MB of covariance
+		rec := bigRecord(n)
+		mb := float64(len(rec)) / (1 << 20)
+		b.Run(fmt.Sprintf("%.0fMB", mb), func(b *testing.B) {
+			var alloc float64
+			for b.Loop() {
+				var m0, m1 runtime.MemStats
+				runtime.ReadMemStats(&m0)
+				if _, err := Read(bytes.NewReader(rec), "big.json"); err != nil {
+					b.Fatal(err)
+				}
+				runtime.ReadMemStats(&m1)
+				alloc = float64(m1.TotalAlloc-m0.TotalAlloc) / (1 << 20)
+			}
+			b.ReportMetric(alloc/mb, "alloc-MB/MB")
+		})
+	}
+}
+
+// bigRecord writes a term-values record of five CO isotopologues with the
+// term value and rotational constant of levels v = 0 … (up to 90 each), n
+// levels in all (n ≤ 455), and the full covariance of the fitted ones (every
+// entry written, as the writer does).
+func bigRecord(n int) []byte {
+	var b bytes.Buffer
+	sp := []string{"12C16O", "13C16O", "12C18O", "13C18O", "12C17O"}
+	used, _ := json.Marshal(sp[:(n+90)/91])
+	fmt.Fprintf(&b, `{"schema":"bandwright.constants/1","model":"term-values","unit":"cm-1","species":%s,"parameters":[`, used)
+	fitted := 0
+	for i := range n {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		v := i % 91
+		fmt.Fprintf(&b, `{"name":"T","v":%d,"species":%q,"value":%.10g,"sigma":%s,"fixed":%v},`, v, sp[i/91], 2143.0*float64(v), map[bool]string{true: "0", false: "1e-6"}[v == 0], v == 0)
+		fmt.Fprintf(&b, `{"name":"B","v":%d,"species":%q,"value":%.10g,"sigma":1e-6,"fixed":false}`, v, sp[i/91], 1.93-0.0175*float64(v))
+		fitted += 2
+		if v == 0 {
+			fitted--
+		}
+	}
+	b.WriteString(`],"covariance":[`)
+	for i := range fitted {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteByte('[')
+		for j := range fitted {
+			if j > 0 {
+				b.WriteByte(',')
+			}
+			c := 1e-18
+			if i == j {
+				c = 1e-12
+			}
+			fmt.Fprintf(&b, "%.17g", c)
+		}
+		b.WriteByte(']')
+	}
+	b.WriteString("]}")
+	return b.Bytes()
 }

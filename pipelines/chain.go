@@ -232,6 +232,9 @@ func (c *chainRun) fit() error {
 	if err != nil {
 		return err
 	}
+	if err := checkFitQuality(f, c.p.Fit != nil && c.p.Fit.AcceptPoorFit); err != nil {
+		return err
+	}
 	if c.p.Input == InputPeaks {
 		if err := c.recordPeakList(f.Record); err != nil {
 			return err
@@ -294,12 +297,10 @@ func (c *chainRun) thermo() error {
 	if err != nil {
 		return err
 	}
+	to.ConstantsName = constants.ConstantsFile + " (this folder)"
 	t, err := Thermo(to)
 	if err != nil {
 		return fmt.Errorf("thermo stage: %w", err)
-	}
-	if len(t.Provenance.Inputs) > 0 {
-		t.Provenance.Inputs[0].Path = constants.ConstantsFile + " (this folder)"
 	}
 	c.oc.Thermo = t
 	c.d.Protect(t.Inputs...) // the electronic-states file and the records it names

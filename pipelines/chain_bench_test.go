@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"testing"
 )
@@ -11,8 +12,15 @@ import (
 // BenchmarkNightlyFullChain: 200 inbox files of ~150 lines each (CO 1-0 and
 // 2-1, J″ ≤ 37), 2 workers, the whole chain per file (Dunham fit, thermo at
 // the default temperatures, HTML and Markdown reports with plots), ledger,
-// history and summary. Target (issue 5): at least 600 files a minute.
+// history and summary. Target (issue 5): at least 600 files a minute. The
+// chains run in the run's process (in-process) or in one worker process per
+// worker of the pool (worker-processes, as `bandwright nightly` runs them).
 func BenchmarkNightlyFullChain(b *testing.B) {
+	b.Run("in-process", func(b *testing.B) { benchmarkNightly(b, nil) })
+	b.Run("worker-processes", func(b *testing.B) { benchmarkNightly(b, testWorker) })
+}
+
+func benchmarkNightly(b *testing.B, worker func(WorkerArgs) *exec.Cmd) {
 	dir := b.TempDir()
 	inbox := filepath.Join(dir, "inbox")
 	os.MkdirAll(inbox, 0o755)
@@ -26,7 +34,8 @@ func BenchmarkNightlyFullChain(b *testing.B) {
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		archive := filepath.Join(dir, fmt.Sprintf("archive-%d", i))
-		rep, err := RunNightly(context.Background(), NightlyOptions{Inbox: inbox, Archive: archive, Pipeline: pf, Workers: 2})
+		rep, err := RunNightly(context.Background(), NightlyOptions{Inbox: inbox, Archive: archive, Pipeline: pf, Workers: 2,
+			WorkerCommand: worker, JobMemory: 2 << 30})
 		if err != nil || rep.Succeeded != files {
 			b.Fatalf("succeeded %d of %d: %v", rep.Succeeded, files, err)
 		}

@@ -52,6 +52,17 @@ func TestRunChainLinesAutomatic(t *testing.T) {
 	if oc.Fit.Record.Model != "dunham" || len(oc.Chosen) == 0 || !strings.Contains(oc.Chosen[0], "chosen automatically") {
 		t.Errorf("automatic choice not made or not said: model %s, chosen %v", oc.Fit.Record.Model, oc.Chosen)
 	}
+	// The thermo files name the record of this folder, never the temporary
+	// folder the chain wrote it in (which differs on every run and is gone).
+	for _, f := range []string{constants.ThermoJSONFile, constants.ThermoCSVFile, constants.NASA7File, "report.md"} {
+		b, _ := os.ReadFile(filepath.Join(out, f))
+		if strings.Contains(string(b), ".partial-") {
+			t.Errorf("%s names the chain's temporary folder", f)
+		}
+	}
+	if b, _ := os.ReadFile(filepath.Join(out, constants.ThermoJSONFile)); !strings.Contains(string(b), `"levels_from": "fitted constants (constants.json (this folder))"`) {
+		t.Errorf("thermo.json does not say its levels come from constants.json (this folder)")
+	}
 	html, _ := os.ReadFile(filepath.Join(out, "report.html"))
 	if strings.Contains(string(html), "<script>alert") {
 		t.Error("a line comment reached the HTML report unescaped")

@@ -1,6 +1,7 @@
 package pipelines
 
 import (
+	"strings"
 	"testing"
 
 	"bandwright/internal/failure"
@@ -12,6 +13,9 @@ func FuzzParsePipeline(f *testing.F) {
 	f.Add([]byte("name = \"co\"\ninput = \"lines\"\n[fit]\nmodel = \"dunham\"\nterms = [\"Y10\", \"Y01\"]\n"))
 	f.Add([]byte("input = \"peaks\"\n[assign]\nstart = \"s.toml\"\nbands = [\"1-0\"]\n[thermo]\nrange = \"10:6000:1\"\n[report]\nformats = [\"md\"]\n"))
 	f.Add([]byte("[fit]\nreject = -1\n"))
+	f.Add([]byte("[fit]\nx = " + strings.Repeat("{a = ", 8000) + "1" + strings.Repeat("}", 8000) + "\n"))
+	f.Add([]byte("[" + strings.Repeat("fit.", 2000) + "x]\n"))
+	f.Add([]byte("[thermo]\ntemperatures = " + strings.Repeat("[", 100) + strings.Repeat("]", 100) + "\n"))
 	f.Add([]byte("[[fit]]\n"))
 	f.Add([]byte("\xff\xfe"))
 	f.Add([]byte(""))

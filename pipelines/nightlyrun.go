@@ -4,6 +4,8 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"os/exec"
+	"runtime"
 
 	"bandwright/internal/failure"
 	"bandwright/pipelines/nightly"
@@ -20,6 +22,52 @@ type NightlyOptions struct {
 	// "": every file).
 	Include  string
 	Progress io.Writer
+	// WorkerCommand, when set, runs each file's chain in a worker process
+	// (nightly.Isolation): it returns the command of a process that calls
+	// ServeNightlyWorker with the same arguments. nil: the chains run in this
+	// process.
+	WorkerCommand func(a WorkerArgs) *exec.Cmd
+	// JobMemory bounds the memory of each worker process in bytes (0: no
+	// bound); see nightly.LimitMemory.
+	JobMemory int64
+}
+
+// DefaultJobMemory is the memory limit of a worker process of `bandwright
+// nightly` (--job-memory): the largest line list read (linelist.MaxFileBytes,
+// 512 MiB) needs about 4.6 GiB (9 bytes per byte of file while it is read, see
+// the README's promises), and two workers then still fit a 24 GiB machine.
+const DefaultJobMemory = 8 << 30
+
+// WorkerArgs are what a worker process of `bandwright nightly` needs: the
+// pipeline file, the SHA-256 the run read it with (a worker refuses a file
+// changed since), its memory limit in bytes and the number of cores its chain
+// may use (the cores divided among the workers, since each runs one chain at
+// a time).
+type WorkerArgs struct {
+	Pipeline, SHA256 string
+	Memory           int64
+	Procs            int
+}
+
+// ServeNightlyWorker is the main loop of a worker process of RunNightly: it
+// limits its memory, reads the pipeline file, checks that it is the one the
+// run read, and serves the chain of every file the run sends on in (see
+// nightly.ServeJobs).
+func ServeNightlyWorker(ctx context.Context, a WorkerArgs, in io.Reader, out io.Writer) error {
+	if a.Procs > 0 {
+		runtime.GOMAXPROCS(a.Procs)
+	}
+	if err := nightly.LimitMemory(a.Memory); err != nil {
+		return fmt.Errorf("nightly worker: cannot limit the memory: %w", err)
+	}
+	p, err := LoadPipeline(a.Pipeline)
+	if err != nil {
+		return err
+	}
+	if p.Hash != a.SHA256 {
+		return fmt.Errorf("nightly worker: the pipeline file %s changed since the run started (SHA-256 %s, the run read %s)", a.Pipeline, p.Hash, a.SHA256)
+	}
+	return nightly.ServeJobs(ctx, in, out, nightlyJob(p))
 }
 
 // RunNightly runs the pipeline file's chain on every new file of the inbox
@@ -40,7 +88,23 @@ func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) 
 			return nil, failure.Wrap(failure.BadInput, err)
 		}
 	}
-	job := func(ctx context.Context, in nightly.Input, work string) (*nightly.JobResult, error) {
+	rep, err := nightly.Run(ctx, nightly.Options{
+		Inbox: o.Inbox, Archive: o.Archive, Workers: o.Workers, Shard: k, Shards: n,
+		RetryFailed: o.RetryFailed, Include: o.Include, PipelineHash: p.Hash, Version: Version, Job: nightlyJob(p), Progress: o.Progress,
+		Isolate: isolation(o, p),
+	})
+	if err != nil {
+		return nil, err
+	}
+	if rep.Failed > 0 {
+		return rep, &failure.BatchError{Failed: rep.Failed, Total: rep.Processed}
+	}
+	return rep, nil
+}
+
+// nightlyJob is the chain of the pipeline p on one file of the inbox.
+func nightlyJob(p *Pipeline) nightly.Job {
+	return func(ctx context.Context, in nightly.Input, work string) (*nightly.JobResult, error) {
 		d, err := outdir.Begin(work)
 		if err != nil {
 			return nil, err
@@ -70,15 +134,17 @@ func RunNightly(ctx context.Context, o NightlyOptions) (*nightly.Report, error) 
 		}
 		return jr, nil
 	}
-	rep, err := nightly.Run(ctx, nightly.Options{
-		Inbox: o.Inbox, Archive: o.Archive, Workers: o.Workers, Shard: k, Shards: n,
-		RetryFailed: o.RetryFailed, Include: o.Include, PipelineHash: p.Hash, Version: Version, Job: job, Progress: o.Progress,
-	})
-	if err != nil {
-		return nil, err
+}
+
+// isolation is the nightly.Isolation of o (nil without a WorkerCommand).
+func isolation(o NightlyOptions, p *Pipeline) *nightly.Isolation {
+	if o.WorkerCommand == nil {
+		return nil
 	}
-	if rep.Failed > 0 {
-		return rep, &failure.BatchError{Failed: rep.Failed, Total: rep.Processed}
+	workers := o.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
 	}
-	return rep, nil
+	a := WorkerArgs{Pipeline: p.Path, SHA256: p.Hash, Memory: o.JobMemory, Procs: max(1, runtime.NumCPU()/workers)}
+	return &nightly.Isolation{Command: func() *exec.Cmd { return o.WorkerCommand(a) }}
 }

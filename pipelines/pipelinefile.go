@@ -65,6 +65,8 @@ type AssignSection struct {
 	Unc     string   `toml:"unc"`
 	Unit    string   `toml:"unit"`
 	Species []string `toml:"species"`
+
+	temperatureGiven bool // the file has the key temperature (0 is then refused)
 }
 
 // FitSection holds the options of `bandwright fit`.
@@ -79,6 +81,9 @@ type FitSection struct {
 	Calibrate bool     `toml:"calibrate"`
 	Reference string   `toml:"reference"`
 	Unit      string   `toml:"unit"`
+	// AcceptPoorFit lets a chain go on to thermo with a fit whose s is above
+	// MaxChainSigma or whose rejection stopped at its cap.
+	AcceptPoorFit bool `toml:"accept_poor_fit"`
 }
 
 // ThermoSection holds the options of `bandwright thermo`.
@@ -115,9 +120,14 @@ func LoadPipeline(path string) (*Pipeline, error) {
 	if why := textcheck.NotRegular(path); why != "" {
 		return nil, failure.Errorf(failure.BadInput, "pipelines: %s %s", path, why)
 	}
-	b, err := os.ReadFile(path)
+	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("pipelines: %w", err)
+	}
+	defer f.Close()
+	b, err := textcheck.ReadLimited(f, textcheck.MaxSettingsBytes, "a pipeline file")
+	if err != nil {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: %w", path, err)
 	}
 	return ParsePipeline(b, path)
 }
@@ -130,6 +140,13 @@ func LoadPipeline(path string) (*Pipeline, error) {
 // the thermo limits, a finite rejection threshold, …).
 func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	var p Pipeline
+	if len(b) > textcheck.MaxSettingsBytes {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s: %v", name, &textcheck.TooLargeError{Limit: textcheck.MaxSettingsBytes, What: "a pipeline file"})
+	}
+	var deep *textcheck.NestingError
+	if err := textcheck.TOMLNesting(b, textcheck.MaxNesting); errors.As(err, &deep) {
+		return nil, failure.Errorf(failure.BadInput, "pipelines: %s:%d: %w", name, deep.Line, err)
+	}
 	md, err := toml.Decode(string(b), &p)
 	if err != nil {
 		var pe toml.ParseError
@@ -157,6 +174,9 @@ func ParsePipeline(b []byte, name string) (*Pipeline, error) {
 	sum := sha256.Sum256(b)
 	p.Hash = hex.EncodeToString(sum[:])
 	p.Path = name
+	if p.Assign != nil {
+		p.Assign.temperatureGiven = md.IsDefined("assign", "temperature")
+	}
 	if err := p.check(name, b); err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
 	}
@@ -231,8 +251,8 @@ func (a *AssignSection) check(at keyAt) error {
 	if a == nil {
 		return nil
 	}
-	if T := a.Temperature; T != 0 && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
-		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (0: the default %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, assign.DefaultTemperature)
+	if T := a.Temperature; (T != 0 || a.temperatureGiven) && (!(T >= thermo.MinTemperature) || T > thermo.MaxTemperature) {
+		return fmt.Errorf("pipelines: %s: assign.temperature: %v K must lie within %g…%g K (leave the key out for %g K)", at("assign", "temperature"), T, thermo.MinTemperature, thermo.MaxTemperature, assign.DefaultTemperature)
 	}
 	if !(a.Tolerance >= 0) || math.IsInf(a.Tolerance, 0) {
 		return fmt.Errorf("pipelines: %s: assign.tolerance: %v must be a finite number > 0 (0: the default)", at("assign", "tolerance"), a.Tolerance)
@@ -255,6 +275,20 @@ func (f *FitSection) check(at keyAt) error {
 	}
 	if _, err := linelist.ParseUnit(f.Unit); f.Unit != "" && err != nil {
 		return fmt.Errorf("pipelines: %s: fit.unit: %q; use %s", at("fit", "unit"), f.Unit, linelist.UnitChoices)
+	}
+	kind := f.Model
+	if kind == "" {
+		kind = fit.DefaultModel
+	}
+	for _, t := range f.Terms {
+		if err := model.CheckTerm(kind, t); err != nil {
+			return fmt.Errorf("pipelines: %s: fit.terms: %s", at("fit", "terms"), strings.TrimPrefix(err.Error(), "model: "))
+		}
+	}
+	for _, t := range f.BOBTerms {
+		if err := model.CheckTerm(model.KindDunham, t); err != nil {
+			return fmt.Errorf("pipelines: %s: fit.bob_terms: %s", at("fit", "bob_terms"), strings.TrimPrefix(err.Error(), "model: "))
+		}
 	}
 	return nil
 }
@@ -288,6 +322,35 @@ func (t *ThermoSection) check(at keyAt) error {
 	}
 	if t.NASABreakpoint < 0 || t.NASABreakpoint != t.NASABreakpoint {
 		return fmt.Errorf("pipelines: %s: thermo.nasa_breakpoint: must be a temperature in K", at("thermo", "nasa_breakpoint"))
+	}
+	return t.checkSettings(at)
+}
+
+// checkSettings checks the thermo settings of the section one key at a
+// time, with the checks of the thermo stage, so that each error names the
+// file, the line and the key.
+func (t *ThermoSection) checkSettings(at keyAt) error {
+	if _, err := parsePressure(t.Pressure); err != nil {
+		return fmt.Errorf("pipelines: %s: thermo.pressure: %q: choose 1bar or 1atm", at("thermo", "pressure"), t.Pressure)
+	}
+	var nasa thermo.NASARanges
+	if t.NASALimits != "" {
+		nasa.Low, nasa.High, _ = ParseNASALimits(t.NASALimits)
+	}
+	nasa.Break = t.NASABreakpoint
+	room := []float64{298.15}
+	for _, k := range []struct {
+		key string
+		s   thermo.Settings
+	}{
+		{"composition", thermo.Settings{Temperatures: room, Composition: t.Composition}},
+		{"nuclear_spin", thermo.Settings{Temperatures: room, NuclearSpin: t.NuclearSpin}},
+		{"mc", thermo.Settings{Temperatures: room, MonteCarlo: t.MC}},
+		{"nasa_limits", thermo.Settings{Temperatures: room, NASA: nasa}},
+	} {
+		if err := k.s.Check(); err != nil {
+			return fmt.Errorf("pipelines: %s: thermo.%s: %s", at("thermo", k.key), k.key, strings.TrimPrefix(err.Error(), "thermo: "))
+		}
 	}
 	return nil
 }

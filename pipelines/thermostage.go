@@ -30,7 +30,11 @@ const maxRangeTemperatures = 1_000_000
 // ThermoOptions are the options of `bandwright thermo`.
 type ThermoOptions struct {
 	Constants string // constants.json written by fit
-	States    string // electronic-states file (TOML), optional
+	// ConstantsName is how outputs name the record (provenance, levels_from
+	// of thermo.json); empty: Constants. The chain gives the name of the file
+	// in its output folder, not the temporary path it reads.
+	ConstantsName string
+	States        string // electronic-states file (TOML), optional
 	// Species is the isotopologue; empty: the electronic-states file's, else the record's first.
 	Species string
 	// Temperatures is a comma-separated list in K ("298.15,1000"); Range is
@@ -105,13 +109,8 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		// The default table: temperatures the sum cannot give honestly are
 		// left out and named; asked for one by one, they are refused.
 		OmitRefused: strings.TrimSpace(o.Temperatures) == "" && strings.TrimSpace(o.Range) == ""}
-	switch strings.ToLower(strings.ReplaceAll(o.Pressure, " ", "")) {
-	case "", "1bar":
-		s.Pressure = thermo.PressureBar
-	case "1atm":
-		s.Pressure = thermo.PressureAtm
-	default:
-		return nil, failure.Errorf(failure.BadInput, "thermo: --pressure: %q: choose 1bar or 1atm", o.Pressure)
+	if s.Pressure, err = parsePressure(o.Pressure); err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
 	}
 	if err := s.Check(); err != nil {
 		return nil, failure.Wrap(failure.BadInput, err)
@@ -122,7 +121,11 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		return nil, err
 	}
 	inputs := []string{o.Constants}
-	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: o.Constants, Species: o.Species}
+	shown := o.Constants
+	if o.ConstantsName != "" {
+		shown = o.ConstantsName
+	}
+	p := thermo.Problem{Constants: c, Observed: rec.Observed, Source: shown, Species: o.Species}
 	sf, err := LoadStates(o.States)
 	if err != nil {
 		return nil, err
@@ -177,6 +180,9 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 	}
 	prov := constants.Provenance{Version: Version, Created: time.Now().UTC().Format(time.RFC3339)}
 	for i, in := range inputs {
+		if i == 0 {
+			in = shown
+		}
 		prov.Inputs = append(prov.Inputs, constants.Input{Path: in, SHA256: hashes[i]})
 	}
 	nasa := s.NASA.WithDefaults()
@@ -188,6 +194,18 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		"states": o.States,
 	}
 	return &ThermoOutcome{Result: res, Provenance: prov, Inputs: inputs}, nil
+}
+
+// parsePressure reads --pressure: "1bar" (also "", the default) or "1atm",
+// in Pa.
+func parsePressure(s string) (float64, error) {
+	switch strings.ToLower(strings.ReplaceAll(s, " ", "")) {
+	case "", "1bar":
+		return thermo.PressureBar, nil
+	case "1atm":
+		return thermo.PressureAtm, nil
+	}
+	return 0, fmt.Errorf("thermo: --pressure: %q: choose 1bar or 1atm", s)
 }
 
 // thermoTemperatures turns --temperatures or --range into a list (K).

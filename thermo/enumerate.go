@@ -356,6 +356,9 @@ func (b *levelSum) enumerateManifolds() error {
 		}
 		m.flagExtrapolated(obs, sys.iso.Label)
 		sys.warnings = append(sys.warnings, m.warn...)
+		if d := sys.dissociation; blk == 0 && d.Given && d.D0 > 0 && !math.IsInf(d.D0, 1) {
+			sys.warnings = append(sys.warnings, lowDissociationWarning(m, d.D0)...)
+		}
 		manOf[blk] = len(sys.manifolds)
 		sys.stateMan[i] = len(sys.manifolds)
 		sys.manifolds = append(sys.manifolds, m)
@@ -499,4 +502,20 @@ func nameOr(s, def string) string {
 		return def
 	}
 	return s
+}
+
+// lowDissociationWarning warns when the dissociation energy d0 (cm⁻¹) leaves
+// no vibrationally excited level below it in the ground manifold m: the sum
+// then holds the rotational levels of v = 0 alone (at D0 = 1e-9 cm⁻¹ a single
+// level, Q = 1 at every temperature), which no bound diatomic molecule has; a
+// D0 given in eV or kJ/mol instead of cm⁻¹ does that.
+func lowDissociationWarning(m *manifold, d0 float64) []string {
+	n := 0
+	for _, v := range m.v {
+		if v > 0 {
+			return nil
+		}
+		n++
+	}
+	return []string{fmt.Sprintf("the dissociation energy D0 = %g cm-1 lies below the first vibrationally excited level: the level sum holds %d rotational level(s) of v = 0 only, which no bound diatomic molecule has; is D0 in cm-1 (1 eV = 8065.54 cm-1, 1 kJ/mol = 83.5935 cm-1)?", d0, n)}
 }

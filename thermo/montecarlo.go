@@ -179,16 +179,25 @@ func (s *sampler) draw(dst, z []float64, src rand.Source) {
 // Draw d uses a source seeded from (seed, d); draws are processed in chunks
 // of fixed size and the statistics are formed in draw order, so the result is
 // the same for any number of workers (0: GOMAXPROCS).
-func (sys *System) MonteCarlo(temps []float64, n int, seed uint64, workers int) ([]MCStats, error) {
+//
+// The draws are checked (see mcdraws.go): a draw whose rotational or
+// vibrational structure turns over within the nominal level set has its sum
+// enumerated again without the levels from its turnover on (reenumerated
+// counts those draws); a draw with a level below the zero level or a
+// non-finite energy is dropped, and one with non-finite functions is left out
+// of the statistics of those temperatures (dropped counts both). Fewer than 2
+// usable draws at a temperature is an error: the covariance reaches nowhere
+// the model holds.
+func (sys *System) MonteCarlo(temps []float64, n int, seed uint64, workers int) (stats []MCStats, dropped, reenumerated int, err error) {
 	if n < 2 {
-		return nil, fmt.Errorf("thermo: Monte Carlo needs at least 2 draws (%d given)", n)
+		return nil, 0, 0, fmt.Errorf("thermo: Monte Carlo needs at least 2 draws (%d given)", n)
 	}
 	if sys.p == 0 {
 		out := make([]MCStats, len(temps))
 		for i, T := range temps {
 			out[i] = MCStats{Mean: sys.Evaluate(nil, T)}
 		}
-		return out, nil
+		return out, 0, 0, nil
 	}
 	smp := sys.newSampler()
 	p := sys.p
@@ -204,14 +213,20 @@ func (sys *System) MonteCarlo(temps []float64, n int, seed uint64, workers int) 
 		}
 	}
 	linear := sys.linearCheck(xs[:p])
+	lc := sys.levelChains()
+	valid, masked := sys.checkDraws(xs, n, linear, workers, lc)
 
 	// H°(298.15 K) − H°(0) of every draw, then the temperatures in groups
 	// whose nominal factors and per-draw values fit the memory budget.
 	h298 := make([]float64, n)
-	sys.mcGroup([]float64{ReferenceTemperature}, xs, n, linear, workers, func(d, _ int, m *moments) {
+	sys.mcGroup([]float64{ReferenceTemperature}, xs, n, linear, workers, lc, func(d, _ int, m *moments) {
 		h298[d] = hmh0(ReferenceTemperature, m.a1/m.a0)
 	})
 	out := make([]MCStats, len(temps))
+	bad := make([]bool, n) // invalid, or non-finite at some temperature
+	for d := range bad {
+		bad[d] = !valid[d]
+	}
 	const budget = 1 << 22 // float64s of nominal factors, and of per-draw values, per group
 	for start := 0; start < len(temps); {
 		end, size := start, 0
@@ -225,19 +240,37 @@ func (sys *System) MonteCarlo(temps []float64, n int, seed uint64, workers int) 
 		}
 		group := temps[start:end]
 		vals := make([]Functions, n*len(group))
-		sys.mcGroup(group, xs, n, linear, workers, func(d, k int, m *moments) {
+		sys.mcGroup(group, xs, n, linear, workers, lc, func(d, k int, m *moments) {
 			vals[d*len(group)+k] = sys.functions(group[k], m, h298[d])
 		})
 		for k := range group {
 			var w welford
 			for d := 0; d < n; d++ {
-				w.add(vals[d*len(group)+k])
+				f := vals[d*len(group)+k]
+				switch {
+				case !valid[d]:
+				case !finiteFunctions(f):
+					bad[d] = true // left out here; counted once
+				default:
+					w.add(f)
+				}
+			}
+			if w.n < 2 {
+				return nil, n, 0, cannot("Monte Carlo: fewer than 2 of %d draws give a valid level structure at %g K (levels below the zero level, J or v order reversed, or non-finite functions): the covariance of the fit reaches where the model breaks down; use the linear σ, or fit more lines", n, group[k])
 			}
 			out[start+k] = w.stats()
 		}
 		start = end
 	}
-	return out, nil
+	for d, b := range bad {
+		switch {
+		case b:
+			dropped++
+		case masked[d]:
+			reenumerated++
+		}
+	}
+	return out, dropped, reenumerated, nil
 }
 
 // mcChunk is the number of draws a worker processes together (fixed, so that
@@ -247,7 +280,7 @@ const mcChunk = 8
 // mcGroup computes the moments of every draw at the temperatures of one group
 // and hands them to emit(draw, temperature index, moments); emit is called
 // concurrently for different draws.
-func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, workers int, emit func(d, k int, m *moments)) {
+func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, workers int, lc levelChains, emit func(d, k int, m *moments)) {
 	N := len(sys.e)
 	p := sys.p
 	// Nominal factors w e^(−βE) of each temperature, up to its cut.
@@ -268,7 +301,9 @@ func (sys *System) mcGroup(temps []float64, xs []float64, n int, linear bool, wo
 	parallel.ForScratch(nChunks, workers, newScratch, func(s *mcScratch, c int) {
 		d0, d1 := c*mcChunk, min(n, (c+1)*mcChunk)
 		for d := d0; d < d1; d++ {
-			sys.drawShifts(s, xs[d*p:(d+1)*p], s.delta[(d-d0)*N:(d-d0+1)*N], linear)
+			dl := s.delta[(d-d0)*N : (d-d0+1)*N]
+			sys.drawShifts(s, xs[d*p:(d+1)*p], dl, linear)
+			sys.maskTurnovers(dl, lc)
 		}
 		for k, T := range temps {
 			beta := units.SecondRadiation / T
@@ -325,6 +360,9 @@ func (sys *System) accumulateShifted(b, delta []float64, beta float64, acc *mome
 	var a0, a1, a2 float64
 	for i, bi := range b {
 		di := delta[i]
+		if math.IsInf(di, 1) {
+			continue // beyond a turnover of this draw (maskTurnovers)
+		}
 		y := beta * di
 		var f float64
 		if y <= 0.03 && y >= -0.03 {

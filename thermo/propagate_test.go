@@ -3,6 +3,7 @@ package thermo
 import (
 	"fmt"
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/diff/fd"
@@ -213,7 +214,11 @@ func TestMonteCarloMatchesDirectEvaluation(t *testing.T) {
 	}
 	sys := res.System
 	const n = 16
-	mc, err := sys.MonteCarlo(temps, n, 99, 2)
+	mc, dropped, reenum, err := sys.MonteCarlo(temps, n, 99, 2)
+	t.Logf("reenumerated %d", reenum)
+	if dropped != 0 {
+		t.Errorf("%d draws of a well-determined fit dropped", dropped)
+	}
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -247,7 +252,7 @@ func TestMonteCarloMatchesDirectEvaluation(t *testing.T) {
 	// The path that evaluates the models for each draw.
 	for _, linear := range []bool{true, false} {
 		got := make([]Functions, n)
-		sys.mcGroup([]float64{2000}, xs, n, linear, 2, func(d, _ int, m *moments) { got[d] = sys.functions(2000, m, 0) })
+		sys.mcGroup([]float64{2000}, xs, n, linear, 2, nil, func(d, _ int, m *moments) { got[d] = sys.functions(2000, m, 0) })
 		for d := 0; d < n; d++ {
 			x := make([]float64, sys.p)
 			for k := range x {
@@ -262,4 +267,38 @@ func TestMonteCarloMatchesDirectEvaluation(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestMonteCarloWideCovariance: with the covariance of an HCl fit blown up a
+// million-fold (σ × 1000), draws reach parameters whose levels fall below the
+// zero level or turn over early. Those draws are dropped or enumerated again,
+// and counted in a warning; the Monte Carlo spread stays finite and of the
+// order of the linear σ instead of exploding (before the checks: σ_mc of Q
+// at 3000 K of 1.6e14 against a linear 18.9 in the case that found it).
+func TestMonteCarloWideCovariance(t *testing.T) {
+	rec, c := fitHH(t, hhHCl, 0.05, 18)
+	c.Cov.ScaleSym(1e6, c.Cov)
+	temps := []float64{ReferenceTemperature, 3000}
+	res, err := Compute(Problem{Constants: c, Observed: rec.Observed}, Settings{Temperatures: temps, MonteCarlo: 400, Seed: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mi := res.MonteCarlo
+	if mi.Dropped == 0 && mi.Reenumerated == 0 {
+		t.Fatalf("no draw dropped or enumerated again: %+v", mi)
+	}
+	warned := false
+	for _, w := range res.Warnings {
+		warned = warned || strings.HasPrefix(w, "Monte Carlo: ")
+	}
+	if !warned {
+		t.Errorf("no warning about the draws: %q", res.Warnings)
+	}
+	for _, r := range res.Rows {
+		lin, mc := r.Sigma.Q, r.MC.Sigma.Q
+		if !(mc > 0) || math.IsInf(mc, 0) || mc > 100*lin {
+			t.Errorf("%g K: σ_mc(Q) = %g against a linear %g", r.T, mc, lin)
+		}
+	}
+	t.Logf("dropped %d, enumerated again %d of %d", mi.Dropped, mi.Reenumerated, mi.Draws)
 }

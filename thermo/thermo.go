@@ -182,9 +182,13 @@ type Result struct {
 
 // MCInfo describes a Monte Carlo run.
 type MCInfo struct {
-	Draws   int    `json:"draws"`
-	Seed    uint64 `json:"seed"`
-	Sampler string `json:"sampler"`
+	Draws int `json:"draws"`
+	// Dropped counts the draws left out, Reenumerated those whose sum lost
+	// the levels beyond a turnover of their own (see System.MonteCarlo).
+	Dropped      int    `json:"dropped"`
+	Reenumerated int    `json:"reenumerated"`
+	Seed         uint64 `json:"seed"`
+	Sampler      string `json:"sampler"`
 }
 
 // Compute enumerates the levels, computes the table with linearly propagated σ
@@ -255,16 +259,17 @@ func Compute(p Problem, s Settings) (*Result, error) {
 // monteCarlo adds the Monte Carlo spread to the rows.
 func (res *Result) monteCarlo(s Settings) error {
 	sys := res.System
-	mc, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.Workers)
+	mc, dropped, reenum, err := sys.MonteCarlo(s.Temperatures, s.MonteCarlo, s.Seed, s.Workers)
 	if err != nil {
 		return err
 	}
+	res.Warnings = append(res.Warnings, mcDrawWarnings(s.MonteCarlo, dropped, reenum)...)
 	for i := range res.Rows {
 		st := mc[i]
 		res.Rows[i].MC = &st
 	}
 	smp := sys.newSampler()
-	res.MonteCarlo = &MCInfo{Draws: s.MonteCarlo, Seed: s.Seed,
+	res.MonteCarlo = &MCInfo{Draws: s.MonteCarlo, Dropped: dropped, Reenumerated: reenum, Seed: s.Seed,
 		Sampler: fmt.Sprintf("multivariate normal N(x̂, C) of the %d fitted parameters (pivoted Cholesky of the correlation matrix, rank %d); draw d seeded from (seed, d) with SplitMix64 into PCG; levels of the nominal sum re-evaluated for every draw; spread = sample standard deviation", sys.p, smp.rank)}
 	if smp.rank < sys.p {
 		res.Warnings = append(res.Warnings, fmt.Sprintf("the covariance of the fit is singular (rank %d of %d): the Monte Carlo draws span its range only", smp.rank, sys.p))

@@ -82,6 +82,9 @@ func assignOptions(c *cli.Context) (*pipelines.AssignOptions, error) {
 			return nil, usageExit("%v", err)
 		}
 	}
+	if temp := c.Float64("temperature"); c.IsSet("temperature") && !(temp > 0) {
+		return nil, usageExit("assign: --temperature %g: give the sample temperature in K, > 0 (leave the flag out for %g K)", temp, assign.DefaultTemperature)
+	}
 	return &pipelines.AssignOptions{
 		Start: c.String("start"), Constants: c.String("constants"), Bands: bands,
 		Spectrum: c.String("spectrum"), Temperature: c.Float64("temperature"), Tolerance: c.String("tolerance"),

@@ -121,6 +121,23 @@ func TestCatalogueLineList(t *testing.T) {
 		// 16O nuclei have spin 0: a ¹Σg⁺ state of 16O2 has no odd-J levels.
 		{name: "levels a 1Sigma-g+ state of 16O2 does not have", input: []byte(strings.ReplaceAll(base, "12C16O", "16O16O")), code: 1,
 			want: []string{"lines.csv:2: 16O16O: the lines reach odd-J levels", "which a ¹Σg⁺ state of 16O16O does not have"}},
+		{name: "a cm-1 position labelled MHz", input: []byte(replaceRow(withCol("unit", func(i int) string { return "cm-1" }), 5, row(base, 5)+",MHz")), code: 1,
+			want: []string{"lines.csv:5: position: ", " MHz is 3.3", "times the median of the other lines of its band (12C16O 1-0, 41 lines): is the row's unit right"}},
+		{name: "subnormal uncertainty", input: []byte(replaceRow(base, 3, setField(r3, 6, "1e-320"))), code: 1,
+			want: []string{"lines.csv:3: unc: 1e-320 is below the resolution of a 64-bit float at the position"}},
+		{name: "uncertainty of 1e152", input: []byte(replaceRow(base, 3, setField(r3, 6, "1e152"))), code: 1,
+			want: []string{"lines.csv:3: unc: 1e+152 is not smaller than the position"}},
+		{name: "hexadecimal float", input: []byte(replaceRow(base, 2, setField(r2, 5, "0x1.0c6p+11"))), code: 1,
+			want: []string{`lines.csv:2: position: not a number: "0x1.0c6p+11" (write numbers in decimal notation`}},
+		{name: "digit separators", input: []byte(replaceRow(base, 2, setField(r2, 5, "0x2_147p0"))), code: 1,
+			want: []string{`lines.csv:2: position: not a number: "0x2_147p0" (write numbers in decimal notation`}},
+		{name: "a million pass-through columns", input: []byte(manyColumns(base, 1000000, true)), code: 1,
+			want: []string{"lines.csv:1: the header has 1000009 columns; bandwright reads at most 1000"}},
+		{name: "990 pass-through columns", input: []byte(manyColumns(base, 990, false)), code: 0},
+		{name: "CR-only line ends", input: []byte(strings.ReplaceAll(base, "\n", "\r")), code: 1,
+			want: []string{"lines.csv: the lines end in a carriage return alone (classic Mac OS line breaks); save the file with LF or CR LF line breaks"}},
+		{name: "a line above 16 MiB", input: []byte(replaceRow(base, 3, setField(r3, 8, strings.Repeat("x", 17<<20)))), code: 1,
+			want: []string{"lines.csv:3: the line is longer than 16 MiB"}},
 	}
 	catalogue(t, "lines.csv", cases, nil, func(dir, file, out string) []string {
 		return []string{"fit", file, "--out", out}
@@ -179,6 +196,10 @@ func TestCataloguePeakList(t *testing.T) {
 		{name: "very long line", input: []byte(replaceRow(base, 5, setField(r5, 4, strings.Repeat("y", 2<<20)))), code: 0},
 		{name: "invalid UTF-8", input: []byte(replaceRow(base, 5, setField(r5, 4, "caf\xe9"))), code: 1,
 			want: []string{"peaks.csv:5: truth: not UTF-8 text: byte 0xE9 at character 4"}},
+		{name: "hexadecimal float", input: []byte(replaceRow(base, 4, setField(r4, 0, "0x1.5p4"))), code: 1,
+			want: []string{`peaks.csv:4: position: not a number: "0x1.5p4" (write numbers in decimal notation`}},
+		{name: "uncertainty of 1e152", input: []byte(replaceRow(base, 4, setField(r4, 1, "1e152"))), code: 1,
+			want: []string{"peaks.csv:4: unc: 1e+152 is not smaller than the position"}},
 		{name: "opposite signs of intensity", input: []byte(replaceRow(base, 5, setField(r5, 2, "-0.03"))), code: 1,
 			want: []string{"peaks.csv:5: intensity: -0.03 has the opposite sign of the intensities above (row 4)"}},
 	}
@@ -216,10 +237,18 @@ func TestCatalogueStartFile(t *testing.T) {
 		{name: "zero rotational constant", input: []byte(set("B_e", "0")), code: 1, want: []string{"start.toml:6: 1H35Cl.B_e: must be > 0, got 0"}},
 		{name: "negative rotational constant", input: []byte(set("B_e", "-10.6")), code: 1, want: []string{"start.toml:6: 1H35Cl.B_e: must be > 0, got -10.6"}},
 		{name: "absurd isotope", input: []byte(strings.Replace(base, `"1H35Cl"`, `"1H999Cl"`, 1)), code: 1, want: []string{"start.toml:3: species[1].name: unknown isotopologue \"1H999Cl\""}},
-		{name: "absurd constants", input: []byte(set("B_e", "1e6")), code: 2, want: []string{"bandwright assign: ", "peaks.csv: no band could be locked onto the peaks", "1H35Cl 0-0"}},
+		{name: "absurd constants", input: []byte(set("B_e", "90")), code: 2, want: []string{"bandwright assign: ", "peaks.csv: no band could be locked onto the peaks", "1H35Cl 0-0"}},
+		{name: "rotational constant above H2's", input: []byte(set("B_e", "1e3")), code: 1,
+			want: []string{"start.toml:6: 1H35Cl.B_e: 1000 cm-1 is above the largest rotational constant of any molecule"}},
+		{name: "omega_e = 1e308", input: []byte(set("omega_e", "1e308")), code: 1,
+			want: []string{"start.toml:4: 1H35Cl.omega_e: 1e+308 cm-1 is beyond any constant of a diatomic molecule"}},
 		{name: "unknown key", input: []byte(strings.Replace(base, "B_e = 10.60\n", "B_e = 10.60\ncolour = \"blue\"\n", 1)), code: 1, want: []string{"start.toml:7: species.colour: unknown key"}},
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
-		{name: "too large", input: []byte(base + strings.Repeat("# "+strings.Repeat("z", 1<<20)+"\n", 17)), code: 1, want: []string{"start.toml: larger than 16 MB; not a start file"}},
+		{name: "too large", input: []byte(base + strings.Repeat("# "+strings.Repeat("z", 1<<20)+"\n", 5)), code: 1, want: []string{"start.toml: the file is larger than 4 MiB, the limit for a start file"}},
+		{name: "dotted tables 20 000 deep", input: []byte(base + "[" + strings.Repeat("a.", 20000) + "z]\n"), code: 1,
+			want: []string{"start.toml:12: nested more than 64 levels deep"}},
+		{name: "dotted key 65 deep", input: []byte(strings.Repeat("a.", 64) + "z = 1\n" + base), code: 1,
+			want: []string{"start.toml:1: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `"1H35Cl"`, "\"1H35Cl\xff\"", 1)), code: 1, want: []string{"start.toml:3: ", "invalid UTF-8"}},
 	}
 	catalogue(t, "start.toml", cases, func(t *testing.T, dir string) {
@@ -265,9 +294,14 @@ func TestCatalogueStatesFile(t *testing.T) {
 		{name: "absurd multiplicity", input: []byte(strings.Replace(base, "spin_multiplicity = 3", "spin_multiplicity = 0", 1)), code: 1, want: []string{"states.toml:11: state 2 (a): spin_multiplicity: 0 must be within 1…20"}},
 		{name: "unknown key", input: []byte(base + "colour = 3\n"), code: 1, want: []string{"states.toml:13: unknown key \"state.colour\""}},
 		{name: "wrong species", input: []byte(strings.Replace(base, "12C16O", "13C16O", 1)), code: 1, want: []string{"states.toml:1: species: the electronic-states file is for 13C16O, but", "constants.json has 12C16O"}},
-		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 1, want: []string{"states.toml: larger than 1048576 bytes; not an electronic-states file"}},
-		{name: "long comment within the limit", input: []byte(base + "# " + strings.Repeat("z", 1<<19) + "\n"), code: 0},
+		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
+		{name: "too large", input: []byte(base + "# " + strings.Repeat("z", 5<<20) + "\n"), code: 1,
+			want: []string{"states.toml: the file is larger than 4 MiB, the limit for an electronic-states file"}},
+		{name: "nested inline tables", input: []byte(base + "x = " + strings.Repeat("{a = ", 8000) + "1" + strings.Repeat("}", 8000) + "\n"), code: 1,
+			want: []string{"states.toml:13: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `label = "a"`, "label = \"a\xe9\"", 1)), code: 1, want: []string{"states.toml:9: state.label: invalid UTF-8"}},
+		{name: "dissociation energy of 1e-9", input: []byte(strings.Replace(base, "89460.0", "1e-9", 1)), code: 0, warnFile: "thermo.json",
+			want: []string{"the dissociation energy D0 = 1e-09 cm-1 lies below the first vibrationally excited level"}},
 		{name: "constants path outside", input: []byte(base + "constants = \"../../../no-such/a-state.json\"\n"), code: 1,
 			want: []string{"states.toml: state 2 (a): constants: ", "no-such/a-state.json", "no such file or directory"}},
 	}
@@ -308,8 +342,23 @@ func TestCataloguePipelineFile(t *testing.T) {
 		{name: "negative", input: []byte(strings.Replace(base, "reject = 3.0", "reject = -3.0", 1)), code: 1, want: []string{"pipeline.toml:6: fit.reject: must be a finite number ≥ 0"}},
 		{name: "absurd temperature", input: []byte(strings.Replace(base, "298.15, 1000.0", "298.15, 1e9", 1)), code: 1, want: []string{"pipeline.toml:8: thermo.temperatures: entry 2: 1e+09 K is outside 1…100000 K"}},
 		{name: "unknown key", input: []byte(strings.Replace(base, "model = ", "modle = ", 1)), code: 1, want: []string{"pipeline.toml:4: unknown key fit.modle"}},
+		{name: "unknown term", input: []byte(strings.Replace(base, `"Y02"]`, `"Y02", "Z1"]`, 1)), code: 1, want: []string{`pipeline.toml:5: fit.terms: "Z1" is not a Dunham term (write Y<k><l>, e.g. Y10, Y01, Y11)`}},
 		{name: "unknown model", input: []byte(strings.Replace(base, `model = "dunham"`, `model = "spline"`, 1)), code: 1, want: []string{"pipeline.toml:4: fit.model: \"spline\""}},
 		{name: "very long line", input: []byte(base + "# " + strings.Repeat("z", 2<<20) + "\n"), code: 0},
+		{name: "too large", input: []byte(base + "# " + strings.Repeat("z", 5<<20) + "\n"), code: 1,
+			want: []string{"pipeline.toml: the file is larger than 4 MiB, the limit for a pipeline file"}},
+		{name: "absurd Monte Carlo", input: []byte(strings.Replace(base, "composition = ", "mc = 1000000000\ncomposition = ", 1)), code: 1,
+			want: []string{"pipeline.toml:9: thermo.mc: Monte Carlo draws 1000000000: give 0 (off) or 2…1000000"}},
+		{name: "unknown pressure", input: []byte(strings.Replace(base, "composition = ", "pressure = \"5 parsecs\"\ncomposition = ", 1)), code: 1,
+			want: []string{`pipeline.toml:9: thermo.pressure: "5 parsecs": choose 1bar or 1atm`}},
+		{name: "unknown composition", input: []byte(strings.Replace(base, `"natural"`, `"weird"`, 1)), code: 1,
+			want: []string{`pipeline.toml:9: thermo.composition: composition "weird": choose isotopologue or natural`}},
+		{name: "unknown nuclear spin", input: []byte(strings.Replace(base, "composition = ", "nuclear_spin = \"x\"\ncomposition = ", 1)), code: 1,
+			want: []string{`pipeline.toml:9: thermo.nuclear_spin: nuclear-spin convention "x"`}},
+		{name: "NASA limits reversed", input: []byte(strings.Replace(base, "composition = ", "nasa_limits = \"6000:200\"\ncomposition = ", 1)), code: 1,
+			want: []string{"pipeline.toml:9: thermo.nasa_limits: NASA-7 ranges 6000–1000–200 K: need 0 < low < breakpoint < high"}},
+		{name: "8 000 nested inline tables", input: []byte(strings.Replace(base, "[report]", "x = "+strings.Repeat("{a = ", 8000)+"1"+strings.Repeat("}", 8000)+"\n[report]", 1)), code: 1,
+			want: []string{"pipeline.toml:10: nested more than 64 levels deep"}},
 		{name: "invalid UTF-8", input: []byte(strings.Replace(base, `"co-cell"`, "\"co-c\xe9ll\"", 1)), code: 1, want: []string{"pipeline.toml:1: ", "invalid UTF-8"}},
 	}
 	catalogue(t, "pipeline.toml", cases, func(t *testing.T, dir string) {
@@ -404,6 +453,8 @@ func TestCatalogueConstantsRecord(t *testing.T) {
 		{name: "future schema", input: bytes.Replace(base, []byte("bandwright.constants/2"), []byte("bandwright.constants/3"), 1), code: 1,
 			want: []string{`constants.json: schema: "bandwright.constants/3" was written by a newer bandwright; this version reads "bandwright.constants/2"`}},
 		{name: "two records", input: append(append([]byte{}, base...), base...), code: 1, want: []string{"constants.json:", "more follows the record's closing brace"}},
+		{name: "nested 100 000 deep", input: bytes.Replace(base, []byte(`"model":`), []byte(`"x": `+strings.Repeat(`{"a":`, 100000)+"1"+strings.Repeat("}", 100000)+`, "model":`), 1), code: 1,
+			want: []string{"constants.json:", ": not a constants record: nested more than 64 levels deep"}},
 	}
 	t.Run("thermo", func(t *testing.T) {
 		catalogue(t, "constants.json", cases, nil, func(dir, file, out string) []string {
@@ -415,6 +466,27 @@ func TestCatalogueConstantsRecord(t *testing.T) {
 			return []string{"predict", file, "--bands", "1-0", "--out", out + ".csv"}
 		})
 	})
+}
+
+// manyColumns adds n pass-through columns to the header of a line list, and
+// to every row unless headerOnly.
+func manyColumns(base string, n int, headerOnly bool) string {
+	var b strings.Builder
+	for i, l := range strings.Split(strings.TrimSuffix(base, "\n"), "\n") {
+		b.WriteString(l)
+		for k := range n {
+			if i > 0 && headerOnly {
+				break
+			}
+			if i == 0 {
+				fmt.Fprintf(&b, ",x%d", k)
+			} else {
+				b.WriteString(",1")
+			}
+		}
+		b.WriteByte('\n')
+	}
+	return b.String()
 }
 
 // editValue replaces the number after the first "value": following offset from.
@@ -516,4 +588,75 @@ func TestCatalogueTransitions(t *testing.T) {
 	}, func(dir, file, out string) []string {
 		return []string{"predict", filepath.Join(dir, "constants.json"), "--lines", file, "--unit", "GHz", "--out", out}
 	})
+}
+
+// TestCatalogueFlags: values on the command line that no run can honour are
+// refused with exit code 1 and a message naming the flag, and nothing is
+// written.
+func TestCatalogueFlags(t *testing.T) {
+	dir := t.TempDir()
+	writeFile(t, filepath.Join(dir, "peaks.csv"), []byte(readFile(t, peaksFile)))
+	writeFile(t, filepath.Join(dir, "start.toml"), []byte(readFile(t, startFile)))
+	writeFile(t, filepath.Join(dir, "p.toml"), []byte("input = \"peaks\"\n[assign]\nstart = \"start.toml\"\nbands = [\"0-0\"]\nspectrum = \"rotation\"\ntemperature = 0.0\n"))
+	assignArgs := []string{"assign", filepath.Join(dir, "peaks.csv"), "--start", filepath.Join(dir, "start.toml"), "--bands", "0-0", "--spectrum", "rotation"}
+	for _, c := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"temperature 0", append(append([]string{}, assignArgs...), "--temperature", "0", "--out", filepath.Join(dir, "o1")),
+			"assign: --temperature 0: give the sample temperature in K, > 0 (leave the flag out for 296 K)"},
+		{"temperature 0 in a pipeline file", []string{"run", filepath.Join(dir, "peaks.csv"), "--pipeline", filepath.Join(dir, "p.toml"), "--out", filepath.Join(dir, "o2")},
+			"p.toml:6: assign.temperature: 0 K must lie within 1…100000 K (leave the key out for 296 K)"},
+		{"the root as output folder", append(append([]string{}, assignArgs...), "--out", "/"),
+			"--out /: the output folder is replaced as a whole, so it cannot be a file system's root"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			before := snapshot(t, dir)
+			code, _, stderr := runCLI(c.args...)
+			if code != 1 || !strings.Contains(stderr, c.want) {
+				t.Errorf("exit %d: %s\nwant %q", code, stderr, c.want)
+			}
+			if d := diffSnapshots(before, snapshot(t, dir)); len(d) > 0 {
+				t.Errorf("changed: %v", d)
+			}
+		})
+	}
+}
+
+// TestPoorFitStopsTheChain: a chain whose fit has s far above 1 (one line
+// assigned to the wrong J with a tiny uncertainty, rejection off) stops
+// before thermo with exit code 2 and names the line; accept_poor_fit = true
+// lets it go on.
+func TestPoorFitStopsTheChain(t *testing.T) {
+	dir := t.TempDir()
+	r9 := row(baseLines, 9)
+	f := strings.Split(r9, ",")
+	f[2] = fmt.Sprint(atoi(t, f[2]) + 2) // J_up and J_lo two higher: the same branch, the wrong line
+	f[4] = fmt.Sprint(atoi(t, f[4]) + 2)
+	writeFile(t, filepath.Join(dir, "lines.csv"), []byte(replaceRow(baseLines, 9, strings.Join(f, ","))))
+	pipe := strings.Replace(basePipeline, "reject = 3.0", "reject = 0.0", 1)
+	writeFile(t, filepath.Join(dir, "p.toml"), []byte(pipe))
+	writeFile(t, filepath.Join(dir, "accept.toml"), []byte(strings.Replace(pipe, "reject = 0.0", "reject = 0.0\naccept_poor_fit = true", 1)))
+	before := snapshot(t, dir)
+	code, _, stderr := runCLI("run", filepath.Join(dir, "lines.csv"), "--pipeline", filepath.Join(dir, "p.toml"), "--out", filepath.Join(dir, "out"))
+	if code != 2 || !strings.Contains(stderr, "the fit is too poor to go on to thermo: its dimensionless standard deviation s = ") ||
+		!strings.Contains(stderr, "the worst line is "+filepath.Join(dir, "lines.csv")+":9 ") || !strings.Contains(stderr, "accept_poor_fit = true") {
+		t.Errorf("exit %d: %s", code, stderr)
+	}
+	if d := diffSnapshots(before, snapshot(t, dir)); len(d) > 0 {
+		t.Errorf("changed: %v", d)
+	}
+	if code, _, stderr := runCLI("run", filepath.Join(dir, "lines.csv"), "--pipeline", filepath.Join(dir, "accept.toml"), "--out", filepath.Join(dir, "out")); code != 0 {
+		t.Errorf("accepted: exit %d: %s", code, stderr)
+	}
+}
+
+func atoi(t *testing.T, s string) int {
+	t.Helper()
+	var n int
+	if _, err := fmt.Sscan(s, &n); err != nil {
+		t.Fatal(err)
+	}
+	return n
 }

@@ -22,8 +22,13 @@ import (
 
 // TestMain lets a test run the command line in a child process (to send it a
 // signal): with BW_CLI_CHILD=1 the test binary is bandwright, its arguments
-// taken as JSON from BW_CLI_ARGS.
+// taken as JSON from BW_CLI_ARGS. Started as a worker process of nightly (its
+// first argument nightly-worker: nightly runs its program as its workers, and
+// in these tests the program is this test binary), it is bandwright too.
 func TestMain(m *testing.M) {
+	if len(os.Args) > 1 && os.Args[1] == "nightly-worker" {
+		os.Exit(run(append([]string{"bandwright"}, os.Args[1:]...), os.Stdout, os.Stderr))
+	}
 	if os.Getenv("BW_CLI_CHILD") == "1" {
 		var args []string
 		if err := json.Unmarshal([]byte(os.Getenv("BW_CLI_ARGS")), &args); err != nil {

@@ -30,6 +30,11 @@ func reportCommand() *cli.Command {
 				return usageExit("report: give one output folder (see bandwright report --help)")
 			}
 			dir := c.Args().First()
+			if stale, err := report.Stale(dir); err == nil {
+				for _, s := range stale {
+					fmt.Fprintln(c.App.ErrWriter, "warning:", s)
+				}
+			}
 			names, err := report.Rebuild(dir, report.Options{
 				Formats: splitList(c.StringSlice("format")), Title: c.String("title"), Version: pipelines.Version,
 			})

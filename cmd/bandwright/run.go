@@ -4,6 +4,9 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"os"
+	"os/exec"
+	"strconv"
 	"strings"
 
 	"github.com/urfave/cli/v2"
@@ -16,6 +19,7 @@ import (
 func init() {
 	register(50, runCommand)
 	register(70, nightlyCommand)
+	register(71, nightlyWorkerCommand)
 }
 
 func runCommand() *cli.Command {
@@ -128,6 +132,7 @@ func nightlyCommand() *cli.Command {
 			&cli.StringFlag{Name: "shard", Usage: "K/N: process only shard K of N (by content hash), for job arrays"},
 			&cli.BoolFlag{Name: "retry-failed", Usage: "run again the files that failed before"},
 			&cli.StringFlag{Name: "include", Value: nightly.DefaultInclude, Usage: "glob of the files to process, letter case ignored (others are listed as ignored in the summary; \"\": every file)"},
+			&cli.IntFlag{Name: "job-memory", Value: pipelines.DefaultJobMemory >> 20, Usage: "memory limit of each file's chain in MiB (each worker runs its chains in a process of its own; 0: no limit)"},
 		},
 		Action: func(c *cli.Context) error {
 			var missing []string
@@ -147,6 +152,7 @@ func nightlyCommand() *cli.Command {
 			rep, err := pipelines.RunNightly(ctx, pipelines.NightlyOptions{
 				Inbox: c.String("inbox"), Archive: c.String("archive"), Pipeline: c.String("pipeline"),
 				Workers: c.Int("workers"), Shard: c.String("shard"), RetryFailed: c.Bool("retry-failed"), Include: c.String("include"), Progress: c.App.ErrWriter,
+				WorkerCommand: workerCommand(), JobMemory: int64(c.Int("job-memory")) << 20,
 			})
 			var be *failure.BatchError
 			if err != nil && !errors.As(err, &be) {
@@ -160,6 +166,41 @@ func nightlyCommand() *cli.Command {
 				fmt.Fprintln(c.App.Writer, "nightly: stopped by a signal; the remaining files will be done by the next run")
 			}
 			return err
+		},
+	}
+}
+
+// workerCommand starts this program as a worker process of nightly (the
+// hidden subcommand nightly-worker), or returns nil when the program cannot
+// find itself (the chains then run in the nightly process).
+func workerCommand() func(pipelines.WorkerArgs) *exec.Cmd {
+	exe, err := os.Executable()
+	if err != nil {
+		return nil
+	}
+	return func(a pipelines.WorkerArgs) *exec.Cmd {
+		return exec.Command(exe, "nightly-worker", "--pipeline", a.Pipeline, "--sha256", a.SHA256,
+			"--memory", strconv.FormatInt(a.Memory, 10), "--procs", strconv.Itoa(a.Procs))
+	}
+}
+
+// nightlyWorkerCommand is the worker process of nightly: it runs the chains
+// that the nightly process sends on its standard input, one at a time, each
+// reply on its standard output. Not for people.
+func nightlyWorkerCommand() *cli.Command {
+	return &cli.Command{
+		Name:   "nightly-worker",
+		Hidden: true,
+		Usage:  "internal: the worker process of nightly",
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "pipeline", Required: true},
+			&cli.StringFlag{Name: "sha256", Required: true},
+			&cli.Int64Flag{Name: "memory"},
+			&cli.IntFlag{Name: "procs"},
+		},
+		Action: func(c *cli.Context) error {
+			a := pipelines.WorkerArgs{Pipeline: c.String("pipeline"), SHA256: c.String("sha256"), Memory: c.Int64("memory"), Procs: c.Int("procs")}
+			return pipelines.ServeNightlyWorker(context.Background(), a, os.Stdin, c.App.Writer)
 		},
 	}
 }

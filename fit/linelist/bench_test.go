@@ -4,7 +4,9 @@ import (
 	"bytes"
 	"encoding/csv"
 	"io"
+	"runtime"
 	"strconv"
+	"strings"
 	"testing"
 
 	"github.com/gocarina/gocsv"
@@ -124,5 +126,56 @@ func BenchmarkGocsvRows(b *testing.B) {
 		if n != 100_000 {
 			b.Fatalf("%d rows", n)
 		}
+	}
+}
+
+// BenchmarkReadMemory measures the memory a read needs per MB of input, for the
+// README's promises: line lists of about 1, 10 and 100 MB, and a 10 MB list
+// with 900 pass-through columns. alloc-MB/MB is what the read allocates in
+// all, live-MB/MB what stays in use with the result held (after a collection).
+func BenchmarkReadMemory(b *testing.B) {
+	wide := func(mb int) []byte {
+		var buf bytes.Buffer
+		buf.WriteString("species,v_up,J_up,v_lo,J_lo,position,unc")
+		for k := range 900 {
+			buf.WriteString(",x" + strconv.Itoa(k))
+		}
+		buf.WriteByte('\n')
+		row := "12C16O,1,1,0,0,2147.081,0.0005" + strings.Repeat(",1", 900) + "\n"
+		for buf.Len() < mb<<20 {
+			buf.WriteString(row)
+		}
+		return buf.Bytes()
+	}
+	for _, c := range []struct {
+		name string
+		data []byte
+	}{
+		{"1MB", genLines(1 << 20 / 48)},
+		{"10MB", genLines(10 << 20 / 48)},
+		{"100MB", genLines(100 << 20 / 48)},
+		{"10MB-900-columns", wide(10)},
+	} {
+		b.Run(c.name, func(b *testing.B) {
+			mb := float64(len(c.data)) / (1 << 20)
+			var alloc, live float64
+			for b.Loop() {
+				runtime.GC()
+				var m0, m1 runtime.MemStats
+				runtime.ReadMemStats(&m0)
+				l, err := Read(bytes.NewReader(c.data), "bench.csv")
+				if err != nil {
+					b.Fatal(err)
+				}
+				runtime.ReadMemStats(&m1)
+				alloc = float64(m1.TotalAlloc-m0.TotalAlloc) / (1 << 20)
+				runtime.GC()
+				runtime.ReadMemStats(&m1)
+				live = (float64(m1.HeapAlloc) - float64(m0.HeapAlloc)) / (1 << 20)
+				runtime.KeepAlive(l)
+			}
+			b.ReportMetric(alloc/mb, "alloc-MB/MB")
+			b.ReportMetric(live/mb, "live-MB/MB")
+		})
 	}
 }

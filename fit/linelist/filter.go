@@ -3,6 +3,7 @@ package linelist
 import (
 	"bufio"
 	"bytes"
+	"fmt"
 	"io"
 
 	"bandwright/internal/textcheck"
@@ -25,10 +26,39 @@ type lineFilter struct {
 	midLine  bool // the last chunk passed on did not end its line
 	inQuote  bool // an odd number of '"' has been passed on
 	skipping bool // inside a comment line longer than the buffer
+	line     int  // physical lines passed on completely
+	lineLen  int  // bytes of the current physical line so far
 	err      error
 }
 
+// LineTooLongError is the error of a physical line longer than MaxLineBytes.
+type LineTooLongError struct{ Line int }
+
+func (e *LineTooLongError) Error() string {
+	return fmt.Sprintf("the line is longer than %s, the limit of a line of a CSV file (a file without line breaks, or not a CSV file?)", textcheck.FormatBytes(MaxLineBytes))
+}
+
+// CROnlyError is the error of a file whose lines end in a carriage return
+// alone.
+type CROnlyError struct{}
+
+func (CROnlyError) Error() string {
+	return "the lines end in a carriage return alone (classic Mac OS line breaks); save the file with LF or CR LF line breaks"
+}
+
 var emptyLine = []byte{'\n'}
+
+// crOnly reports whether the first chunk of a file breaks its first line with
+// a carriage return not followed by a line feed, before any quote (a quoted
+// cell may hold one).
+func crOnly(chunk []byte) bool {
+	end := len(chunk)
+	if i := bytes.IndexAny(chunk, "\"\n"); i >= 0 {
+		end = i
+	}
+	i := bytes.IndexByte(chunk[:end], '\r')
+	return i >= 0 && i+1 < len(chunk) && chunk[i+1] != '\n'
+}
 
 func newLineFilter(r io.Reader) *lineFilter {
 	return &lineFilter{br: bufio.NewReaderSize(r, 64<<10)}
@@ -57,8 +87,21 @@ func (f *lineFilter) next() {
 	if !f.started {
 		f.started = true
 		chunk = textcheck.TrimBOM(chunk)
+		if crOnly(chunk) {
+			f.err, f.pending = CROnlyError{}, nil
+			return
+		}
 	}
 	complete := len(chunk) > 0 && chunk[len(chunk)-1] == '\n'
+	f.lineLen += len(chunk)
+	if f.lineLen > MaxLineBytes {
+		f.err, f.pending = &LineTooLongError{Line: f.line + 1}, nil
+		return
+	}
+	if complete {
+		f.line++
+		f.lineLen = 0
+	}
 	if f.skipping {
 		if complete {
 			f.skipping = false

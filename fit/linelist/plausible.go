@@ -3,7 +3,10 @@ package linelist
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
+
+	"bandwright/units"
 )
 
 // checkUnits runs the checks that need every line of the files read: positions
@@ -17,6 +20,7 @@ func (rd *reader) checkUnits(cs ...*collector) error {
 	}
 	mixed := rd.checkMixedBands(byFile)
 	rd.checkWavenumbers(byFile, mixed)
+	rd.checkBandOutliers(byFile)
 	if err := merge(cs...); err != nil {
 		return err
 	}
@@ -144,6 +148,77 @@ func (rd *reader) checkWavenumbers(byFile map[string]*collector, mixed map[unitB
 	}
 }
 
+// OutlierRatio is the factor by which the reduced position (in cm⁻¹) of a
+// line of a file with a unit column may differ from the median of its band
+// before the row is refused: a band's own spread is below a factor 3, while a
+// position in cm⁻¹ labelled MHz (or the reverse) is off by 29 979.
+const OutlierRatio = 100.0
+
+// checkBandOutliers reports, in files with a unit column, the rows whose
+// reduced position converted to cm⁻¹ lies more than OutlierRatio from the
+// median of their band (same file, species and vibrational levels; bands of
+// three lines or more): a one-character unit typo, whose tiny uncertainty in
+// the wrong unit would otherwise dominate the fit.
+func (rd *reader) checkBandOutliers(byFile map[string]*collector) {
+	lines := rd.list.Lines
+	bands := map[unitBand][]int{}
+	var order []unitBand
+	for i := range lines {
+		l := &lines[i]
+		if rd.noUnitCol[l.File] {
+			continue
+		}
+		k, checked := bandOf(l)
+		if !checked {
+			continue
+		}
+		if _, ok := bands[k]; !ok {
+			order = append(order, k)
+		}
+		bands[k] = append(bands[k], i)
+	}
+	for _, k := range order {
+		idx := bands[k]
+		if len(idx) < 3 {
+			continue
+		}
+		med := bandMedian(lines, idx)
+		for _, i := range idx {
+			if ratio := reducedCm(&lines[i]) / med; ratio > OutlierRatio || ratio < 1/OutlierRatio {
+				l := &lines[i]
+				byFile[k.file].add(l.Row, "position", "%s %s is %.3g times the median of the other lines of its band (%s %s, %d lines): is the row's unit right (1 cm-1 = 29979.2458 MHz)?",
+					fmtPos(l.Position), l.Unit, ratio, k.species, BandLabel(k.vUp, k.vLo), len(idx))
+			}
+		}
+	}
+}
+
+// reducedCm is reducedPosition in cm⁻¹.
+func reducedCm(l *Line) float64 {
+	r := reducedPosition(l)
+	if l.Unit == MHz {
+		r /= units.MHzPerWavenumber
+	}
+	return r
+}
+
+// bandMedian returns the median reduced position (cm⁻¹) of the lines idx,
+// from at most 1001 of them taken evenly (enough to place a band within a
+// factor OutlierRatio, and cheap for a band of a million lines).
+func bandMedian(lines []Line, idx []int) float64 {
+	step := max(1, len(idx)/1001)
+	x := make([]float64, 0, len(idx)/step+1)
+	for j := 0; j < len(idx); j += step {
+		x = append(x, reducedCm(&lines[idx[j]]))
+	}
+	slices.Sort(x)
+	n := len(x)
+	if n%2 == 1 {
+		return x[n/2]
+	}
+	return (x[n/2-1] + x[n/2]) / 2
+}
+
 // warnDuplicates adds a warning for every line with the species, quantum
 // numbers, position and unit of the first line at that position, and for
 // every line of a file whose species, position and unit repeat an earlier
@@ -224,3 +299,23 @@ func reducedPosition(l *Line) float64 {
 }
 
 func fmtPos(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+// minRelativeUnc is the smallest uncertainty accepted relative to its
+// position: about four units in the last place of a 64-bit float (2.2e-16),
+// below which the weight 1/unc² of the line means nothing and overflows
+// the least-squares scaling.
+const minRelativeUnc = 1e-15
+
+// UncProblem returns why an uncertainty unc (> 0) cannot go with the position
+// pos (> 0, same unit), or "" when it can: it must be smaller than the
+// position, and not below the resolution of a 64-bit float at the position.
+// The line-list and peak-list readers share it.
+func UncProblem(pos, unc float64) string {
+	switch {
+	case unc >= pos:
+		return fmt.Sprintf("%g is not smaller than the position %g: an uncertainty that large says nothing about the line", unc, pos)
+	case unc < pos*minRelativeUnc:
+		return fmt.Sprintf("%g is below the resolution of a 64-bit float at the position %g (relative %g); give the real uncertainty", unc, pos, minRelativeUnc)
+	}
+	return ""
+}

@@ -288,6 +288,13 @@ func (rd *reader) read(r io.Reader, c *collector) {
 		}
 	}()
 	hint := sizeHint(r)
+	if hint > MaxFileBytes {
+		c.add(0, "", "%v", tooLarge)
+		return
+	}
+	if hint < 0 {
+		r = &capped{r: r, left: MaxFileBytes}
+	}
 	f := &file{rd: rd, c: c}
 	t := readHeader(r, c, "no lines: the file is empty")
 	if t == nil || !f.header(t) {
@@ -337,6 +344,34 @@ func (rd *reader) read(r io.Reader, c *collector) {
 	if rows == 0 {
 		c.add(hline, "", "no lines: the file has a header only")
 	}
+}
+
+// slabCells is the number of pass-through cells allocated at once for the
+// lines that follow (one allocation for many lines rather than one per line).
+const slabCells = 16384
+
+// capped reads at most left bytes of r, then fails with a *TooLargeError:
+// the size limit of an input whose size is not known in advance.
+type capped struct {
+	r    io.Reader
+	left int64
+}
+
+func (c *capped) Read(p []byte) (int, error) {
+	if c.left <= 0 {
+		var one [1]byte
+		n, err := c.r.Read(one[:])
+		if n > 0 {
+			return 0, tooLarge
+		}
+		return 0, err
+	}
+	if int64(len(p)) > c.left {
+		p = p[:c.left]
+	}
+	n, err := c.r.Read(p)
+	c.left -= int64(n)
+	return n, err
 }
 
 // estimateAfter is the number of rows after which Read estimates the number of rows of
@@ -453,8 +488,7 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	dJ := l.JUp - l.JLo
 
 	if !f.rd.transitions {
-		l.Position = f.positive(rec, colPosition, row)
-		l.Unc = f.positive(rec, colUnc, row)
+		l.Position, l.Unc = f.positionAndUnc(rec, row)
 	}
 
 	if i := f.col[colUnit]; i >= 0 {
@@ -480,7 +514,7 @@ func (f *file) line(rec []string, row int) (Line, bool) {
 	if len(f.extra) > 0 {
 		n := len(f.rd.list.Extra)
 		if len(f.rd.slab) < n {
-			f.rd.slab = make([]string, n*1024)
+			f.rd.slab = make([]string, n*max(1, slabCells/n))
 		}
 		ex := f.rd.slab[:n:n]
 		f.rd.slab = f.rd.slab[n:]
@@ -543,6 +577,19 @@ func (f *file) branch(t string, row int, l *Line, quantaOK bool, dJ int) string 
 	return t
 }
 
+// positionAndUnc reads the position and its uncertainty, each > 0, the
+// uncertainty smaller than the position and above the float resolution at it.
+func (f *file) positionAndUnc(rec []string, row int) (pos, unc float64) {
+	pos = f.positive(rec, colPosition, row)
+	unc = f.positive(rec, colUnc, row)
+	if pos > 0 && unc > 0 {
+		if why := UncProblem(pos, unc); why != "" {
+			f.c.add(row, "unc", "%s", why)
+		}
+	}
+	return pos, unc
+}
+
 // fieldName returns the name of column i for messages: the canonical spelling of a
 // standard column, the header name of any other.
 func (f *file) fieldName(i int) string {
@@ -595,7 +642,7 @@ func (f *file) number(cell string, cl column, row int) (float64, string, bool) {
 		f.c.add(row, name, "missing value")
 		return 0, t, false
 	}
-	x, err := strconv.ParseFloat(t, 64)
+	x, err := textcheck.ParseDecimal(t)
 	if err != nil {
 		switch {
 		case errors.Is(err, strconv.ErrRange):
@@ -607,7 +654,7 @@ func (f *file) number(cell string, cl column, row int) (float64, string, bool) {
 			}
 			fallthrough
 		default:
-			f.c.add(row, name, "not a number: %q", t)
+			f.c.add(row, name, "not a number: %q%s", t, textcheck.DecimalHint(t))
 		}
 		return 0, t, false
 	}

@@ -602,3 +602,33 @@ func TestZeroWidthInHeader(t *testing.T) {
 		t.Errorf("lines %+v extra %q", l.Lines, l.Extra)
 	}
 }
+
+// TestSizeLimit: a file above MaxFileBytes is refused before it is parsed,
+// whether its size is known (a file) or not (a stream, cut at the limit).
+func TestSizeLimit(t *testing.T) {
+	c := &capped{r: strings.NewReader("abcdef"), left: 4}
+	b, err := io.ReadAll(c)
+	if string(b) != "abcd" || !errors.Is(err, tooLarge) {
+		t.Errorf("a stream of 6 bytes capped at 4: %q, %v", b, err)
+	}
+	c = &capped{r: strings.NewReader("abcd"), left: 4}
+	if b, err := io.ReadAll(c); string(b) != "abcd" || err != nil {
+		t.Errorf("a stream of 4 bytes capped at 4: %q, %v", b, err)
+	}
+	p := filepath.Join(t.TempDir(), "big.csv")
+	f, err := os.Create(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := f.WriteString(hdr); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Truncate(MaxFileBytes + 1); err != nil { // sparse: no disk used
+		t.Fatal(err)
+	}
+	f.Close()
+	_, err = ReadFile(p)
+	if err == nil || !strings.Contains(err.Error(), "big.csv: the file is larger than 512 MiB, the limit for a CSV file") {
+		t.Errorf("a file of 512 MiB + 1 byte: %v", err)
+	}
+}

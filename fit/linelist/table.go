@@ -89,8 +89,12 @@ func readHeader(r io.Reader, c *collector, empty string) *Table {
 		c.readError(err)
 		return nil
 	}
-	t := &Table{CSV: cr, Header: append([]string(nil), h...), Names: make([]string, len(h)), Keys: make([]string, len(h))}
-	t.Line, _ = cr.FieldPos(0)
+	line, _ := cr.FieldPos(0)
+	if len(h) > MaxColumns {
+		c.add(line, "", "the header has %d columns; bandwright reads at most %d", len(h), MaxColumns)
+		return nil
+	}
+	t := &Table{CSV: cr, Header: append([]string(nil), h...), Names: make([]string, len(h)), Keys: make([]string, len(h)), Line: line}
 	first := make(map[string]int, len(h))
 	bad := false
 	for i, name := range h {
@@ -149,7 +153,16 @@ func (c *Collector) ReadError(err error) { c.c.readError(err) }
 
 func (c *collector) readError(err error) {
 	var pe *csv.ParseError
-	if errors.As(err, &pe) {
+	var long *LineTooLongError
+	var large *textcheck.TooLargeError
+	switch {
+	case errors.As(err, &long):
+		c.add(long.Line, "", "%v", err)
+		return
+	case errors.As(err, &large), errors.Is(err, CROnlyError{}):
+		c.add(0, "", "%v", err)
+		return
+	case errors.As(err, &pe):
 		c.addErr(pe.Line, "", fmt.Sprintf("malformed CSV at character %d: %v", pe.Column, pe.Err), err)
 		return
 	}

@@ -356,3 +356,21 @@ func xPow(J int, n int, dst []float64) {
 		p *= x
 	}
 }
+
+// CheckTerm returns nil when name is a term the model of the given kind
+// takes in its list of terms (term values: T, B, D, H, L; Dunham: Y<k><l>),
+// and otherwise the error NewTermValues or NewDunham would give, so that a
+// pipeline file can name the file and line of a bad term before any fit.
+func CheckTerm(kind, name string) error {
+	name = strings.TrimSpace(name)
+	switch kind {
+	case KindTermValues:
+		if name != "T" && !contains(rotTerms, name) {
+			return fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L)", name)
+		}
+	case KindDunham:
+		_, _, err := ParseDunhamTerm(name)
+		return err
+	}
+	return nil
+}

@@ -11,6 +11,7 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"bandwright/fit/species"
+	"bandwright/internal/failure"
 	"bandwright/internal/textcheck"
 )
 
@@ -107,24 +108,32 @@ type rawState struct {
 
 const statesKeys = "species, dissociation_energy, dissociation_energy_sigma, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants, omega_e, omega_e_sigma, fine_structure_width, products_energy, [state.start]"
 
-// maxStatesSize bounds the file read (an electronic-states file is a few
-// hundred bytes).
-const maxStatesSize = 1 << 20
-
 // Read reads and checks an electronic-states file. name is the file name
 // used in messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
 // lambda of every state), non-finite or negative energies, malformed symmetry
 // labels, labels given twice or with characters that line lists and parameter
 // names cannot carry, unknown or non-finite starting values and text that is not
 // UTF-8 are errors naming the file, the line (where the key can be found in the
-// text) and the field; a number written with a decimal comma gets a hint.
+// text) and the field; a number written with a decimal comma gets a hint. Files
+// larger than textcheck.MaxSettingsBytes or nested deeper than
+// textcheck.MaxNesting are refused before they are parsed. Its errors are bad
+// input (failure.BadInput, exit code 1).
 func Read(r io.Reader, name string) (*File, error) {
-	b, err := io.ReadAll(io.LimitReader(r, maxStatesSize+1))
+	sf, err := read(r, name)
+	if err != nil {
+		return nil, failure.Wrap(failure.BadInput, err)
+	}
+	return sf, nil
+}
+
+func read(r io.Reader, name string) (*File, error) {
+	b, err := textcheck.ReadLimited(r, textcheck.MaxSettingsBytes, "an electronic-states file")
 	if err != nil {
 		return nil, fmt.Errorf("states: %s: %w", name, err)
 	}
-	if len(b) > maxStatesSize {
-		return nil, fmt.Errorf("states: %s: larger than %d bytes; not an electronic-states file", name, maxStatesSize)
+	var deep *textcheck.NestingError
+	if err := textcheck.TOMLNesting(b, textcheck.MaxNesting); errors.As(err, &deep) {
+		return nil, fmt.Errorf("states: %s:%d: %w", name, deep.Line, err)
 	}
 	raw, err := decodeStates(b, name)
 	if err != nil {

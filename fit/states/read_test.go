@@ -129,6 +129,8 @@ func FuzzReadStates(f *testing.F) {
 	f.Add("species = \"14N2\"\n[[state]]\nterm_energy = 0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"g+\"\n")
 	f.Add("[[state]\n")
 	f.Add("state = 5")
+	f.Add("[" + strings.Repeat("state.", 2000) + "x]\n")
+	f.Add("x = " + strings.Repeat("{a = ", 100) + "1" + strings.Repeat("}", 100) + "\n")
 	f.Add("dissociation_energy = 41260,5\n[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Add("species = \"12C16O\"\n[[state]]\nlabel = \"caf\xe9\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Fuzz(func(t *testing.T, s string) {

@@ -11,6 +11,7 @@ import (
 	"io/fs"
 	"os"
 	"regexp"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 )
@@ -151,4 +152,25 @@ func OpenReason(err error) string {
 		return "cannot open: " + pe.Err.Error()
 	}
 	return err.Error()
+}
+
+// ParseDecimal parses a number of a CSV cell as strconv.ParseFloat does, but
+// in decimal notation only: hexadecimal floats (0x1p-3) and digit separators
+// (1_000), which ParseFloat also accepts, are a syntax error
+// (strconv.ErrSyntax). No instrument or peak picker writes them, and a typo
+// must not turn into a number.
+func ParseDecimal(s string) (float64, error) {
+	if strings.ContainsAny(s, "xX_") {
+		return 0, &strconv.NumError{Func: "ParseFloat", Num: s, Err: strconv.ErrSyntax}
+	}
+	return strconv.ParseFloat(s, 64)
+}
+
+// DecimalHint returns a hint for a cell refused by ParseDecimal for its
+// notation (hexadecimal, digit separators), and "" otherwise.
+func DecimalHint(s string) string {
+	if strings.ContainsAny(s, "xX_") {
+		return " (write numbers in decimal notation, e.g. 2147.081 or 6.1e-6)"
+	}
+	return ""
 }

@@ -1,8 +1,8 @@
 package nightly
 
 import (
-	"bufio"
 	"context"
+	"encoding/csv"
 	"fmt"
 	"math"
 	"os"
@@ -168,9 +168,10 @@ func olderHistory(path string, err error) error {
 		return err
 	}
 	defer f.Close()
-	line, _ := bufio.NewReader(f).ReadString('\n')
-	rec, ok := parseLine(line)
-	if ok && sameHeader(rec, HistoryHeader[:len(HistoryHeader)-1]) {
+	cr := csv.NewReader(f)
+	cr.FieldsPerRecord = -1
+	rec, rerr := cr.Read()
+	if rerr == nil && sameHeader(rec, HistoryHeader[:len(HistoryHeader)-1]) {
 		return fmt.Errorf("nightly: %s was written by an earlier version of bandwright (its rows have no model column): move it aside, and bandwright starts a new history", path)
 	}
 	return err

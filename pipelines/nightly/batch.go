@@ -26,7 +26,7 @@ func (r *runner) select_() ([]task, error) {
 	rep := r.rep
 	rep.Ignored = ign
 	for _, g := range ign {
-		r.note("nightly: ignored %s: %s", g.Name, g.Reason)
+		r.note("nightly: ignored %s: %s", shown(g.Name), g.Reason)
 	}
 	seen := map[string]bool{}
 	var todo []task
@@ -88,6 +88,8 @@ func (r *runner) process(todo []task) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			jr := &jobRunner{r: r}
+			defer jr.close()
 			for t := range ch {
 				if dctx.Err() != nil {
 					r.mu.Lock()
@@ -95,7 +97,7 @@ func (r *runner) process(todo []task) {
 					r.mu.Unlock()
 					continue
 				}
-				r.done(r.one(dctx, t), len(todo))
+				r.done(r.one(dctx, t, jr), len(todo))
 			}
 		}()
 	}
@@ -149,7 +151,7 @@ func (r *runner) noteDrift(fo FileOutcome) {
 	for _, d := range fo.Drift {
 		if d.Flagged {
 			r.note("nightly: DRIFT %s: %s = %s %s is %.1f combined σ from the weighted mean %s of %d earlier results",
-				fo.Input, d.Name, fmtF(d.Value), d.Unit, d.Z, fmtF(d.Mean), d.N)
+				shown(fo.Input), d.Name, fmtF(d.Value), d.Unit, d.Z, fmtF(d.Mean), d.N)
 		}
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -12,17 +13,18 @@ import (
 )
 
 // csvLog is an append-only CSV file shared by several processes (ledger.csv,
-// history.csv). Every method must be called with the archive's ledger lock
-// held. Rows are appended with one write on an O_APPEND descriptor followed by
-// fsync, so a crash leaves at most one torn last line; a torn line is skipped
-// when read (counted in bad) and the next row starts on a new line.
+// history.csv), written and read with encoding/csv (RFC 4180). Every method
+// must be called with the archive's ledger lock held. Rows are appended with
+// one write on an O_APPEND descriptor followed by fsync, so a crash or a full
+// disk leaves at most one incomplete last record; it is not read, and the
+// next append cuts it off before writing.
 type csvLog struct {
 	path   string
 	name   string // for messages
 	f      *os.File
 	header []string
-	off    int64 // bytes consumed (complete lines)
-	bad    int   // malformed lines seen
+	off    int64 // bytes consumed (complete records)
+	bad    int   // malformed records seen
 	onRow  func(rec []string)
 }
 
@@ -39,7 +41,7 @@ func openCSVLog(path, name string, header []string, onRow func([]string)) (*csvL
 	}
 	if st.Size() == 0 {
 		// New file: the header, written once (we hold the ledger lock).
-		if err := l.write([][]string{header}, false); err != nil {
+		if err := l.write([][]string{header}); err != nil {
 			f.Close()
 			return nil, err
 		}
@@ -54,9 +56,9 @@ func (l *csvLog) close() {
 	}
 }
 
-// refresh reads the complete lines appended since the last call (by this or
-// another process) and hands each data row to onRow. It returns whether a
-// torn (incomplete) last line follows.
+// refresh reads the complete records appended since the last call (by this
+// or another process) and hands each data row to onRow. It returns whether an
+// incomplete record follows (a write cut short by a crash or a full disk).
 func (l *csvLog) refresh() (torn bool, err error) {
 	st, err := l.f.Stat()
 	if err != nil {
@@ -66,37 +68,54 @@ func (l *csvLog) refresh() (torn bool, err error) {
 	if size <= l.off {
 		return false, nil
 	}
-	br := bufio.NewReaderSize(io.NewSectionReader(l.f, l.off, size-l.off), int(min(size-l.off, 64<<10)))
-	for {
-		line, err := br.ReadString('\n')
-		if err == io.EOF {
-			return line != "", nil
-		}
-		if err != nil {
-			return false, fmt.Errorf("nightly: reading %s: %w", l.path, err)
-		}
-		first := l.off == 0
-		l.off += int64(len(line))
-		if err := l.line(line, first); err != nil {
-			return false, err
-		}
-	}
+	end, err := l.scan(l.off, size, l.onRow)
+	l.off = end
+	return end < size, err
 }
 
-func (l *csvLog) line(line string, first bool) error {
-	rec, ok := parseLine(line)
-	if first {
-		if !ok || !sameHeader(rec, l.header) {
-			return fmt.Errorf("nightly: %s: the first line is not the header %q; is this a bandwright %s?", l.path, strings.Join(l.header, ","), l.name)
+// scan reads the records between byte offsets from and size with
+// encoding/csv, the codec the rows were written with (so a cell may hold a
+// line break, such as a file name with a newline), and hands each complete
+// data row with the header's number of fields to fn; the header (at offset
+// 0) is checked. It returns the offset after the last complete record: a
+// record is complete when a line break ends it.
+func (l *csvLog) scan(from, size int64, fn func(rec []string)) (int64, error) {
+	complete := true // the file ends with a line break
+	if size > 0 {
+		var last [1]byte
+		if _, err := l.f.ReadAt(last[:], size-1); err != nil {
+			return from, fmt.Errorf("nightly: reading %s: %w", l.path, err)
 		}
-		return nil
+		complete = last[0] == '\n'
 	}
-	if !ok || len(rec) != len(l.header) {
-		l.bad++
-		return nil
+	cr := csv.NewReader(bufio.NewReaderSize(io.NewSectionReader(l.f, from, size-from), int(min(size-from, 64<<10))))
+	cr.FieldsPerRecord = -1
+	end := from
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			return end, nil
+		}
+		at := from + cr.InputOffset()
+		if at >= size && !complete {
+			return end, nil // torn: the rest of a record is missing
+		}
+		var pe *csv.ParseError
+		if err != nil && !errors.As(err, &pe) {
+			return end, fmt.Errorf("nightly: reading %s: %w", l.path, err)
+		}
+		header := end == 0
+		end = at
+		switch {
+		case header && (err != nil || !sameHeader(rec, l.header)):
+			return end, fmt.Errorf("nightly: %s: the first line is not the header %q; is this a bandwright %s?", l.path, strings.Join(l.header, ","), l.name)
+		case header:
+		case err != nil || len(rec) != len(l.header):
+			l.bad++
+		default:
+			fn(rec)
+		}
 	}
-	l.onRow(rec)
-	return nil
 }
 
 // each reads the whole file from the start, handing each data row to fn
@@ -106,45 +125,39 @@ func (l *csvLog) each(fn func(rec []string)) error {
 	if err != nil {
 		return fmt.Errorf("nightly: %s: %w", l.path, err)
 	}
-	br := bufio.NewReaderSize(io.NewSectionReader(l.f, 0, st.Size()), int(min(st.Size()+1, 64<<10)))
-	first := true
-	for {
-		line, err := br.ReadString('\n')
-		if err == io.EOF {
-			return nil
-		}
-		if err != nil {
-			return fmt.Errorf("nightly: reading %s: %w", l.path, err)
-		}
-		if first {
-			first = false
-			continue
-		}
-		if rec, ok := parseLine(line); ok && len(rec) == len(l.header) {
-			fn(rec)
-		}
-	}
+	bad := l.bad
+	_, err = l.scan(0, st.Size(), fn)
+	l.bad = bad
+	return err
 }
 
 // append writes rows at the end in one write and syncs; the new rows are then
 // read back through refresh (so onRow sees them like rows of other processes).
+// An incomplete record at the end, left by a writer that died or ran out of
+// space in the middle of its write (all writers hold the ledger lock, so none
+// is writing now), is cut off first: it never held a finished outcome.
 func (l *csvLog) append(rows [][]string) error {
 	torn, err := l.refresh()
 	if err != nil {
 		return err
 	}
-	if err := l.write(rows, torn); err != nil {
+	if torn {
+		if err := l.f.Truncate(l.off); err != nil {
+			return fmt.Errorf("nightly: %s: removing an incomplete last row: %w", l.path, err)
+		}
+	}
+	if err := l.write(rows); err != nil {
 		return err
 	}
 	_, err = l.refresh()
 	return err
 }
 
-func (l *csvLog) write(rows [][]string, newline bool) error {
+// write appends rows with encoding/csv in one write and syncs. A failed or
+// short write leaves at most an incomplete last record, which the next append
+// cuts off.
+func (l *csvLog) write(rows [][]string) error {
 	var b bytes.Buffer
-	if newline {
-		b.WriteByte('\n')
-	}
 	w := csv.NewWriter(&b)
 	if err := w.WriteAll(rows); err != nil {
 		return fmt.Errorf("nightly: %s: %w", l.path, err)
@@ -156,22 +169,6 @@ func (l *csvLog) write(rows [][]string, newline bool) error {
 		return fmt.Errorf("nightly: syncing %s: %w", l.path, err)
 	}
 	return nil
-}
-
-// parseLine parses one CSV line (the rows bandwright writes never contain a
-// line break inside a field).
-func parseLine(line string) ([]string, bool) {
-	line = strings.TrimRight(line, "\r\n")
-	if line == "" {
-		return nil, false
-	}
-	r := csv.NewReader(strings.NewReader(line))
-	r.FieldsPerRecord = -1
-	rec, err := r.Read()
-	if err != nil {
-		return nil, false
-	}
-	return rec, true
 }
 
 func sameHeader(a, b []string) bool {

@@ -25,6 +25,7 @@
 //	ARCHIVE/results/<stem>-<sha8>/     the job's outputs plus manifest.json
 //	ARCHIVE/summary-<date>.html, .md   the files finished on that date, their constants and the drift flags
 //	ARCHIVE/.work/                     snapshots and results under construction; claims (lock files)
+//	ARCHIVE/.work/claims/<sha>.died    runs that died while the file's job ran in their own process
 //	ARCHIVE/.ledger.lock               short exclusive lock taken to append to ledger.csv and history.csv
 //	ARCHIVE/.lock-shard-K-of-N         held by the run of shard K/N for its whole duration
 //
@@ -32,14 +33,46 @@
 //
 // A worker claims the file's content hash (an exclusive lock, so that two runs
 // sharing the archive never work on the same content), copies the inbox file
-// into a private snapshot while hashing the copy, runs the Job on the snapshot
-// with an empty work folder, hashes the inbox file again, writes manifest.json
+// into a private snapshot while hashing the copy, writes the started claim
+// (started.json in its work area), runs the Job on the snapshot with an empty
+// work folder, hashes the inbox file again, writes manifest.json
 // (input hashes, program version, pipeline hash, times, outcome, the SHA-256 of
 // every file produced), syncs everything to disk and renames the work folder to
 // ARCHIVE/results/<stem>-<sha8> in one step. Only then is the ok row appended
 // to the ledger (O_APPEND, one write, fsync) and the constants to the history.
 // A failing job gets a failed row with its message on one line; a file that
 // changed while it was processed gets no row and is tried again next run.
+//
+// ledger.csv and history.csv are written and read back with encoding/csv, so
+// a name holding a line break, quote or comma is found again; a record cut
+// short (a crash, a full disk) is not read and is cut off before the next
+// append. Names are recorded with the bytes that are not UTF-8 written as
+// \xNN, and the progress log quotes names holding control characters.
+//
+// # Worker processes and the started claim
+//
+// With Options.Isolate each worker of the pool runs its jobs in a worker
+// process of its own (ServeJobs; bandwright runs itself with a hidden
+// subcommand, LimitMemory bounding its memory). A job that ends its process
+// (out of memory, killed) fails its file with DiedMessage and the reason,
+// and the next file gets a new worker process; the run goes on. Worker
+// processes ignore SIGINT and SIGTERM (the run stops them when its jobs are
+// done) and die with the run.
+//
+// The started claim (started.json in a work area) tells a later run which
+// file a dead run was doing: its work area is still there and the content's
+// claim is free. With isolation the run's own death is never a file's doing,
+// so the file is done again. Without isolation the job may have killed the
+// process; the death is counted, and the second death in a row records the
+// file as failed with DiedMessage, so that no file kills every run forever.
+//
+// # The archive's own failures
+//
+// A full disk or quota, a read-only file system or an I/O error while a file
+// is processed (work area, snapshot, the job's writes, manifest, rename) is
+// the archive's failure: the run starts no new file and returns an error
+// naming the archive (exit code 1), and the file gets no ledger row, so the
+// next run does it.
 //
 // # Crash safety
 //
@@ -177,6 +210,9 @@ type Options struct {
 	PipelineHash, Version string
 	// Job is the chain of stages (required).
 	Job Job
+	// Isolate runs each job in a worker process (nil: in this process); see
+	// Isolation.
+	Isolate *Isolation
 	// Progress receives the progress: a bar when it is a terminal, plain log
 	// lines otherwise (nil: nothing is shown).
 	Progress io.Writer

@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"runtime/debug"
 	"strings"
+	"syscall"
 	"time"
 	"unicode/utf8"
 )
@@ -21,11 +22,11 @@ var hook = func(point, name string) {}
 
 // one processes one file: claim, snapshot, job, check, manifest, rename,
 // ledger row, history rows.
-func (r *runner) one(ctx context.Context, t task) FileOutcome {
+func (r *runner) one(ctx context.Context, t task, jr *jobRunner) FileOutcome {
 	a := r.a
 	fo := FileOutcome{Input: t.name, SHA256: t.sha}
 	skip := func(msg string) FileOutcome {
-		fo.Status, fo.Message, fo.Finished = StatusSkipped, msg, r.o.Now()
+		fo.Status, fo.Message, fo.Finished = StatusSkipped, oneLine(msg), r.o.Now()
 		return fo
 	}
 	claim, err := a.claim(ctx, t.sha)
@@ -52,13 +53,15 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 
 	stage, err := r.workArea(t.sha)
 	if err != nil {
-		r.fatal(fmt.Errorf("nightly: the archive cannot be written: %w", err))
-		return skip("not started: " + err.Error())
+		return r.archiveFailed(fo, err)
 	}
 	defer os.RemoveAll(stage)
 	inDir, outDir := filepath.Join(stage, "in"), filepath.Join(stage, "out")
 	snap := filepath.Join(inDir, path.Base(t.name))
 	got, err := snapshot(t.real, snap)
+	if isArchiveFault(err) {
+		return r.archiveFailed(fo, err)
+	}
 	if err != nil {
 		return skip("could not be copied into the archive's work area (" + errText(err) + "); it will be tried again next run")
 	}
@@ -67,7 +70,10 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	}
 	hook("snapshot", t.name)
 
-	res, jerr := r.runJob(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir)}, outDir)
+	if err := r.markStarted(stage, t, fo.Started); err != nil {
+		return r.archiveFailed(fo, err)
+	}
+	res, jerr := jr.run(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir)}, outDir)
 	hook("job", t.name)
 
 	// The inbox file must not have changed while it was processed.
@@ -80,6 +86,9 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 	if jerr == nil {
 		jerr = r.seal(t, res, fo.Started, fo.Finished, outDir)
 	}
+	if isArchiveFault(jerr) {
+		return r.archiveFailed(fo, jerr)
+	}
 	if jerr != nil {
 		msg := message(jerr, snap, t.name, stage)
 		if err := r.recordFailure(t, fo.Started, fo.Finished, msg); err != nil {
@@ -87,11 +96,15 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 			return skip("not recorded: " + err.Error())
 		}
 		fo.Status, fo.Message = StatusFailed, msg
+		r.forgetDeaths(t.sha)
 		return fo
 	}
 	hook("manifest", t.name)
 
 	out, err := r.place(t, outDir, stage)
+	if isArchiveFault(err) {
+		return r.archiveFailed(fo, err)
+	}
 	if err != nil {
 		return skip("its results could not be put in place (" + err.Error() + "); it will be tried again next run")
 	}
@@ -113,7 +126,32 @@ func (r *runner) one(ctx context.Context, t task) FileOutcome {
 		return skip("not recorded: " + err.Error())
 	}
 	hook("history", t.name)
+	r.forgetDeaths(t.sha)
 	fo.Status, fo.Output, fo.Constants, fo.Drift, fo.Message = StatusOK, out, res.Constants, drift, msg
+	return fo
+}
+
+// isArchiveFault reports whether err is the archive's failure rather than the
+// input's: a full disk or quota, a read-only file system, an I/O error. Such a
+// file is not recorded as failed; it is tried again on the next run.
+func isArchiveFault(err error) bool {
+	for _, e := range []error{syscall.ENOSPC, syscall.EDQUOT, syscall.EROFS, syscall.EIO} {
+		if errors.Is(err, e) {
+			return true
+		}
+	}
+	return false
+}
+
+// archiveFailed stops the run after a fault of the archive (no new file is
+// started; the run's error makes the exit code 1) and returns the outcome of
+// the file it hit: skipped, without a ledger row, so that the next run tries
+// it again.
+func (r *runner) archiveFailed(fo FileOutcome, err error) FileOutcome {
+	why := errText(err)
+	r.fatal(fmt.Errorf("nightly: the archive %s cannot be written (%s); the files not done are tried again on the next run", r.a.shown, why))
+	fo.Status, fo.Finished = StatusSkipped, r.o.Now()
+	fo.Message = oneLine("not done: the archive cannot be written (" + why + "); it will be tried again next run")
 	return fo
 }
 
@@ -148,20 +186,29 @@ func (r *runner) removeStale(sha, keep string) {
 	old, _ := filepath.Glob(filepath.Join(r.a.dir, workDir, sha+"-*"))
 	for _, p := range old {
 		if p != keep {
+			if err := r.diedWhile(p); err != nil {
+				r.note("nightly: %v", err)
+			}
 			os.RemoveAll(p)
 		}
 	}
 }
 
-// runJob calls the job, turning a panic into an error.
-func (r *runner) runJob(in Input, out string) (res *JobResult, err error) {
+// runJob calls the job in the run's process.
+func (r *runner) runJob(in Input, out string) (*JobResult, error) {
+	return callJob(context.WithoutCancel(r.ctx), r.o.Job, in, out, func(s string) { r.note("%s", s) })
+}
+
+// callJob calls job, turning a panic into an error (and a note with the
+// stack).
+func callJob(ctx context.Context, job Job, in Input, out string, note func(string)) (res *JobResult, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			r.note("nightly: the pipeline panicked on %s: %v\n%s", in.Name, p, debug.Stack())
+			note(fmt.Sprintf("nightly: the pipeline panicked on %s: %v\n%s", shown(in.Name), p, debug.Stack()))
 			res, err = nil, fmt.Errorf("nightly: internal error in the pipeline (%v); please report it with this input file", p)
 		}
 	}()
-	res, err = r.o.Job(context.WithoutCancel(r.ctx), in, out)
+	res, err = job(ctx, in, out)
 	if err == nil && res == nil {
 		res = &JobResult{}
 	}

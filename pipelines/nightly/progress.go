@@ -39,11 +39,11 @@ func outcomeLine(fo FileOutcome) string {
 	switch fo.Status {
 	case StatusOK:
 		d := fo.Finished.Sub(fo.Started).Round(10 * time.Millisecond)
-		return fmt.Sprintf("ok      %s -> %s (%v)", fo.Input, fo.Output, d)
+		return fmt.Sprintf("ok      %s -> %s (%v)", shown(fo.Input), shown(fo.Output), d)
 	case StatusFailed:
-		return fmt.Sprintf("FAILED  %s: %s", fo.Input, fo.Message)
+		return fmt.Sprintf("FAILED  %s: %s", shown(fo.Input), fo.Message)
 	default:
-		return fmt.Sprintf("skipped %s: %s", fo.Input, fo.Message)
+		return fmt.Sprintf("skipped %s: %s", shown(fo.Input), fo.Message)
 	}
 }
 

@@ -48,6 +48,9 @@ func (r *runner) sweepWork() {
 		if !ok {
 			continue
 		}
+		if err := r.diedWhile(filepath.Join(dir, e.Name())); err != nil {
+			r.note("nightly: %v", err)
+		}
 		if err := os.RemoveAll(filepath.Join(dir, e.Name())); err != nil {
 			r.note("nightly: cannot remove the half-built %s: %v", filepath.Join(dir, e.Name()), err)
 		}
@@ -126,7 +129,7 @@ func (r *runner) adopt(out, p string, m *Manifest) error {
 		r.rep.Files = append(r.rep.Files, fo)
 		r.markDate(finished)
 		r.mu.Unlock()
-		r.note("nightly: recovered %s -> %s (completed by a run that stopped before recording it)", m.Input.Name, out)
+		r.note("nightly: recovered %s -> %s (completed by a run that stopped before recording it)", shown(m.Input.Name), out)
 		r.noteDrift(fo)
 	}
 	return nil

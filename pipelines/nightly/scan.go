@@ -10,6 +10,7 @@ import (
 	"os"
 	"path"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"sync"
 	"unicode"
@@ -39,7 +40,7 @@ func scanInbox(inbox, include string) ([]found, []Ignored) {
 		if rerr != nil {
 			return nil
 		}
-		name := filepath.ToSlash(rel)
+		name := inboxName(filepath.ToSlash(rel))
 		if err != nil {
 			ign = append(ign, Ignored{name, "cannot be read: " + errText(err)})
 			if d != nil && d.IsDir() {
@@ -109,6 +110,39 @@ func included(glob, name string) bool {
 	}
 	ok, _ := path.Match(strings.ToLower(glob), strings.ToLower(target))
 	return ok
+}
+
+// inboxName is the name under which an inbox file is recorded (ledger,
+// history, manifest, summary, messages): its path relative to the inbox with
+// '/' separators, each byte that is not part of UTF-8 text written as \xNN,
+// so that every record stays UTF-8 text. The file itself is opened by its
+// real path.
+func inboxName(rel string) string {
+	if utf8.ValidString(rel) {
+		return rel
+	}
+	var b strings.Builder
+	for i := 0; i < len(rel); {
+		r, n := utf8.DecodeRuneInString(rel[i:])
+		if r == utf8.RuneError && n <= 1 {
+			fmt.Fprintf(&b, "\\x%02X", rel[i])
+			i++
+			continue
+		}
+		b.WriteString(rel[i : i+n])
+		i += n
+	}
+	return b.String()
+}
+
+// shown is a name as a line of the progress log shows it: quoted (Go syntax)
+// when it holds a control character, so that a line break or carriage return
+// in a file name cannot split or overwrite a line of the log.
+func shown(name string) string {
+	if strings.IndexFunc(name, unicode.IsControl) >= 0 {
+		return strconv.Quote(name)
+	}
+	return name
 }
 
 func errText(err error) string {

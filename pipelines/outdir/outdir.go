@@ -5,6 +5,7 @@
 package outdir
 
 import (
+	"bandwright/internal/failure"
 	"errors"
 	"fmt"
 	"io"
@@ -45,6 +46,9 @@ func Begin(final string) (*Dir, error) {
 	abs, err := filepath.Abs(final)
 	if err != nil {
 		return nil, fmt.Errorf("outdir: %w", err)
+	}
+	if filepath.Dir(abs) == abs {
+		return nil, failure.Errorf(failure.BadInput, "outdir: --out %s: the output folder is replaced as a whole, so it cannot be a file system's root; give a folder such as %s", final, filepath.Join(abs, "results"))
 	}
 	if st, err := os.Stat(abs); err == nil && !st.IsDir() {
 		return nil, fmt.Errorf("outdir: %s exists and is not a folder", final)

@@ -38,6 +38,10 @@ type folder struct {
 	unassign  *genericCSV
 	assignMD  []byte
 	files     []fileInfo // the stage files present, with size and SHA-256
+	stale     []string   // stages made from other inputs than this folder's (see staleStages)
+	// staleThermo: the thermo files were made from another constants record
+	// and are left out.
+	staleThermo bool
 }
 
 // fileInfo is one file present in the folder.
@@ -120,6 +124,9 @@ func readFolder(dir string) (*folder, error) {
 		}
 	}
 	f.assignMD = contents[constants.AssignReportFile]
+	if f.stale, f.staleThermo = staleStages(contents, f); f.staleThermo {
+		f.thermo = nil
+	}
 	return f, nil
 }
 

@@ -83,6 +83,17 @@ func (o Options) formats() (html, md bool, err error) {
 	return html, md, nil
 }
 
+// Stale returns one sentence per stage of the folder dir whose files were
+// made from other inputs than its constants.json (their provenance hashes
+// differ); the report marks them and leaves stale thermo files out.
+func Stale(dir string) ([]string, error) {
+	f, err := readFolder(dir)
+	if err != nil {
+		return nil, err
+	}
+	return f.stale, nil
+}
+
 // Build reads the stage outputs in dir and returns the files of the report,
 // name → content: report.html and/or report.md, and with Markdown the
 // report-*.svg figures it references. Nothing is written. A folder without

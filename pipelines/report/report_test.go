@@ -2,8 +2,11 @@ package report_test
 
 import (
 	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/xml"
 	"errors"
+	"fmt"
 	"io"
 	"os"
 	"path/filepath"
@@ -604,4 +607,43 @@ func TestThermoBudgetInReport(t *testing.T) {
 		t.Fatalf("no 6000 K row with value(σ_total) and σ fit in the Markdown excerpt:\n%s", md)
 	}
 	t.Logf("6000 K: Q %s(%s), σ fit %s", row[1], row[2], row[3])
+}
+
+// TestStaleThermoLeftOut: thermo files whose provenance names another
+// constants record than the folder's constants.json (the fit was run again
+// into the folder) are not combined with the new constants: the report
+// leaves their section out and says why; Stale lists the same; files that
+// match are used.
+func TestStaleThermoLeftOut(t *testing.T) {
+	dir := fitFolder(t)
+	writeThermo(t, filepath.Join(dir, "thermo.csv"), thermoGrid(50), false, nil)
+	cons, err := os.ReadFile(filepath.Join(dir, constants.ConstantsFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256(cons)
+	for _, c := range []struct {
+		name  string
+		from  string
+		stale bool
+	}{
+		{"matching", hex.EncodeToString(sum[:]), false},
+		{"another record", strings.Repeat("ab", 32), true},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			tj := fmt.Sprintf(`{"provenance": {"inputs": [{"path": "constants.json", "sha256": %q}]}}`, c.from)
+			if err := os.WriteFile(filepath.Join(dir, constants.ThermoJSONFile), []byte(tj), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			stale, err := report.Stale(dir)
+			if err != nil {
+				t.Fatal(err)
+			}
+			md := string(build(t, dir, report.Options{Formats: []string{"md"}})[constants.ReportMarkdownFile])
+			hasThermo := strings.Contains(md, "Partition function and thermodynamic functions")
+			if c.stale != (len(stale) == 1) || hasThermo == c.stale || c.stale != strings.Contains(md, "the thermo stage is stale") {
+				t.Errorf("stale %q, thermo section %v", stale, hasThermo)
+			}
+		})
+	}
 }

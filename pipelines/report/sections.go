@@ -107,11 +107,15 @@ func glance(d *document, f *folder) {
 	if f.thermo != nil && f.thermo.n > 0 {
 		thermoGlance(s, f.thermo)
 	}
+	if len(f.stale) > 0 {
+		s.para("Stale stages — files of this folder made from other inputs than its constants.json:")
+		s.list(f.stale)
+	}
 	var missing []string
 	if f.residuals == nil {
 		missing = append(missing, "residuals.csv (fit stage): the residual and position sections are left out.")
 	}
-	if f.thermo == nil {
+	if f.thermo == nil && !f.staleThermo {
 		if f.has(constants.ThermoJSONFile) || f.has(constants.NASA7File) {
 			missing = append(missing, "thermo.csv (thermo stage; thermo.json or nasa7.json is present, but the section is built from thermo.csv): the thermodynamic section is left out.")
 		} else {
