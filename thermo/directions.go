@@ -42,11 +42,11 @@ func nextTerm(c []float64, from int) (size float64, power int, ok bool) {
 	return c[k] * c[k] / math.Abs(c[kp]), k + 1, true
 }
 
-// direction is one first-order perturbation of the level energies, δE(v, J)
-// of each manifold (nil: none there).
+// direction is one first-order perturbation of the level energies: δE of
+// level k of each manifold (nil: none there).
 type direction struct {
 	c   Contribution
-	phi func(m *manifold, v, J int) float64
+	phi func(m *manifold, k int) float64
 }
 
 // addDirections adds the budget's first-order perturbations as columns
@@ -77,11 +77,10 @@ func (sys *System) addDirections() {
 		any := false
 		zs := sys.zero.state
 		zm := sys.manifolds[sys.stateMan[zs]]
-		z := d.phi(zm, int(zm.v[sys.zero.idx]), int(zm.J[sys.zero.idx]))
+		z := d.phi(zm, sys.zero.idx)
 		for i := range col {
 			m := sys.manifolds[sys.stateMan[sys.st[i]]]
-			k := sys.lv[i]
-			col[i] = d.phi(m, int(m.v[k]), int(m.J[k])) - z
+			col[i] = d.phi(m, int(sys.lv[i])) - z
 			any = any || col[i] != 0
 		}
 		if !any {
@@ -126,18 +125,22 @@ func (sys *System) rotationalDirection() direction {
 			Alternatives: []string{"the next distortion term at its expected size beyond the observed J"},
 			Method:       methodFirstOrder,
 			Rule:         "next term c·x^n with c = a_L²/|a_(L−1)| of the record's last two terms (H ≈ D²/B after D; D = 4B³/ω_e² after B alone, the Kratzer relation), applied as c·[x^n − x_m^n − n x_m^(n−1)(x − x_m)] above x_m = J_max(J_max+1), the part a fit up to J_max cannot absorb (common practice: order of magnitude)"},
-		phi: func(m *manifold, v, J int) float64 {
-			jm := m.jObserved(v)
-			if J <= jm {
+		phi: func(m *manifold, k int) float64 {
+			v, J := int(m.v[k]), int(m.J[k])
+			jm := m.j2Observed(v)
+			if int(m.j2[k]) <= jm {
 				return 0
 			}
 			c, n := size(m, v)
 			if n == 0 {
 				return 0
 			}
+			// x = J(J+1), or N(N+1) for a fine-structure level; the edge of
+			// the data at the same quantum number of the highest J observed.
 			x, xm := float64(J)*float64(J+1), 0.0
 			if jm >= 0 {
-				xm = float64(jm) * float64(jm+1)
+				nm := float64(jm+int(m.J[k])*2-int(m.j2[k])) / 2
+				xm = math.Max(0, nm*(nm+1))
 			}
 			return c * beyond(x, xm, n)
 		},
@@ -161,7 +164,8 @@ func (sys *System) vibrationalDirection() direction {
 			Alternatives: []string{"the next term of G(v) at its expected size beyond the observed v"},
 			Method:       methodFirstOrder,
 			Rule:         "next term c·(v+½)^n with c = g_K²/|g_(K−1)| of the last two terms of G(v) (ω_e y_e ≈ (ω_e x_e)²/ω_e after ω_e x_e), applied as c·P_n(v+½; v_max+½) beyond the highest observed v (common practice: order of magnitude)"},
-		phi: func(m *manifold, v, J int) float64 {
+		phi: func(m *manifold, k int) float64 {
+			v := int(m.v[k])
 			vib := m.src.vib
 			if !vib.anharmonic || v <= m.vObsOr(vib) {
 				return 0
@@ -202,7 +206,8 @@ func (sys *System) rotVibDirection() direction {
 			Alternatives: []string{"the next term of B_v at its expected size beyond the observed v"},
 			Method:       methodFirstOrder,
 			Rule:         "next term c·(v+½)^n x with c = b_K²/|b_(K−1)| of the last two terms of B_v (γ_e ≈ α_e²/B_e after α_e; after B_e alone the Pekeris α_e), applied as c·P_n(v+½; v_max+½)·x beyond the highest observed v (common practice: order of magnitude)"},
-		phi: func(m *manifold, v, J int) float64 {
+		phi: func(m *manifold, k int) float64 {
+			v, J := int(m.v[k]), int(m.J[k])
 			vib := m.src.vib
 			if !vib.determined || len(m.src.recV) == 1 || v <= m.vObsOr(vib) {
 				return 0

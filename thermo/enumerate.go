@@ -10,8 +10,10 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"bandwright/constants"
 	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/fit/states"
 	"bandwright/units"
 )
 
@@ -57,7 +59,9 @@ func enumerate(p Problem, s Settings, tMax float64, o buildOptions) (*System, er
 	if err := b.weighStates(); err != nil {
 		return nil, err
 	}
-	b.makeSources()
+	if err := b.makeSources(); err != nil {
+		return nil, err
+	}
 	b.provisionalZero()
 	b.settleDissociation()
 	if err := b.enumerateManifolds(); err != nil {
@@ -82,6 +86,8 @@ type buildOptions struct {
 	// alternative: a level sum of the budget (no extra levels above the
 	// nominal dissociation limit).
 	alternative bool
+	// fineAlternative: see extChoice.
+	fineAlternative bool
 }
 
 func nominalBuild() buildOptions { return buildOptions{xe: xePriorCentre, alphaScale: 1} }
@@ -95,8 +101,11 @@ type levelSum struct {
 	opts buildOptions
 	// ground is the index of the ground state (term energy 0) in sys.states.
 	ground int
-	// stateBlock is the parameter block (index in sys.blocks) of each state.
-	stateBlock []int
+	// stateBlock is the parameter block (index in sys.blocks) of each state,
+	// stateSrc its level source and manifold (index in sys.sources and
+	// sys.manifolds), stateRst the index of its state in a record that
+	// resolves its fine structure (-1: none).
+	stateBlock, stateSrc, stateRst []int
 	// weights of each state.
 	weights []stateWeights
 	// gsp is the isotopologue's index in the ground-state record, vLow the
@@ -115,10 +124,12 @@ type levelSum struct {
 }
 
 // stateWeights are the electronic degeneracy g_e and the nuclear-spin weights
-// of the even-N and odd-N levels of one state.
+// of the even-N and odd-N levels of one state, and of its levels of total
+// parity + and − (the levels of a fine-structure source).
 type stateWeights struct {
-	ge        float64
-	even, odd float64
+	ge          float64
+	even, odd   float64
+	plus, minus float64
 }
 
 // sumLevel is one level of the sum before it is stored: absolute energy e
@@ -262,9 +273,28 @@ func (b *levelSum) weighStates() error {
 		if err != nil {
 			return fmt.Errorf("thermo: state %s: %w", st.Label, err)
 		}
-		b.weights[i] = stateWeights{ElectronicDegeneracy(st.Multiplicity, st.Lambda), ev, od}
+		pl, mi, err := nuclearSpinWeightsByParity(b.sys.iso, st.Symmetry, b.sys.spin)
+		if err != nil {
+			return fmt.Errorf("thermo: state %s: %w", st.Label, err)
+		}
+		b.weights[i] = stateWeights{ElectronicDegeneracy(st.Multiplicity, st.Lambda), ev, od, pl, mi}
 	}
 	return nil
+}
+
+// levelWeight returns the weight of level k of manifold m in state i: for a
+// fine-structure level (2J+1)·g_ns(parity), the level being one component
+// of its own; otherwise weight(i, J).
+func (b *levelSum) levelWeight(i int, m *manifold, k int) float64 {
+	if m.ef[k] == 0 {
+		return b.weight(i, int(m.J[k]))
+	}
+	w := b.weights[i]
+	gns := w.plus
+	if totalParity(int(m.j2[k]), states.Parity(m.ef[k])) < 0 {
+		gns = w.minus
+	}
+	return gns * float64(m.j2[k]+1)
 }
 
 // weight returns g_e·g_ns(J)·(2J+1) of level J of state i; 0 below J = Λ.
@@ -280,35 +310,80 @@ func (b *levelSum) weight(i, J int) float64 {
 	return w.ge * gns * float64(2*J+1)
 }
 
-// makeSources makes the level source of every parameter block: the record
-// of the block for the isotopologue, with the extrapolation of the levels it
-// lacks made with the build's choices (ω_e of the block's state shifted by
-// omegaShift of its σ).
-func (b *levelSum) makeSources() {
+// makeSources makes the level source of every state, the ground state's
+// first (sys.sources[0]): the state's record (its own, or the ground
+// state's) for the isotopologue, with the extrapolation of the levels it
+// lacks made with the build's choices (ω_e of the source's first state
+// shifted by omegaShift of its σ). A state whose record resolves its fine
+// structure (recordFineState) gets a fine-structure source of its own; the
+// other states of one record share the record's ¹Σ source (the model's
+// Energy; J read as N). States share a source where they share both. It also
+// sets the term energy each source's energies are shifted by: 0 for a state
+// of the ground record that the record describes (its energies include the
+// state's term value), the state's term energy otherwise.
+func (b *levelSum) makeSources() error {
 	sys := b.sys
-	sys.sources = make([]*levelSource, len(sys.blocks))
-	for i, st := range sys.states {
+	type key struct{ blk, rst int }
+	idx := map[key]int{}
+	b.stateSrc = make([]int, len(sys.states))
+	b.stateRst = make([]int, len(sys.states))
+	sys.stateTerm = make([]float64, len(sys.states))
+	for _, i := range append([]int{b.ground}, otherStates(len(sys.states), b.ground)...) {
+		st := sys.states[i]
 		blk := b.stateBlock[i]
-		if sys.sources[blk] != nil || (blk == 0 && i != b.ground) {
+		c := sys.blocks[blk].c
+		rst, fine, err := recordFineState(c, st, i == b.ground || blk != 0)
+		if err != nil {
+			return err
+		}
+		if !fine {
+			rst = -1
+		}
+		b.stateRst[i] = rst
+		sys.stateTerm[i] = st.TermEnergy
+		if fine && blk == 0 {
+			sys.stateTerm[i] = 0
+		}
+		k := key{blk, rst}
+		if j, ok := idx[k]; ok {
+			b.stateSrc[i] = j
 			continue
 		}
-		c := sys.blocks[blk].c
 		obs := b.p.Observed
 		if blk != 0 {
 			obs = st.Observed
 		}
-		ch := extChoice{xe: b.opts.xe, alphaScale: b.opts.alphaScale}
+		ch := extChoice{xe: b.opts.xe, alphaScale: b.opts.alphaScale, fineAlternative: b.opts.fineAlternative}
 		if st.OmegaE > 0 {
 			ch.omega = st.OmegaE + b.opts.omegaShift*st.OmegaESigma
 		}
 		sp := model.SpeciesIndex(c.Model, sys.iso.Label)
-		sys.sources[blk] = newLevelSource(c, sp, observedLevels(obs, sys.iso.Label), ch)
+		var src *levelSource
+		if fine {
+			src = newFineSource(c, sp, rst, observedStateLevels(obs, sys.iso.Label, rstLabel(c, rst)), ch)
+		} else {
+			src = newLevelSource(c, sp, observedLevels(obs, sys.iso.Label), ch)
+		}
+		src.blk = blk
+		idx[k] = len(sys.sources)
+		b.stateSrc[i] = len(sys.sources)
+		sys.sources = append(sys.sources, src)
 	}
+	return nil
+}
+
+// rstLabel returns the label under which the record's levels_observed name
+// state rst of the record c: "" for its ground state.
+func rstLabel(c *constants.Set, rst int) string {
+	if rst <= 0 {
+		return ""
+	}
+	return c.States()[rst].Label
 }
 
 // provisionalZero sets eRef, the model energy of the lowest weighted level of
-// the ground state (lowest v of its source, J = Λ or Λ+1), and the population
-// limit eNeg = 50·T_max/c₂.
+// the ground state (lowest v of its source, the lowest J with weight), and
+// the population limit eNeg = 50·T_max/c₂.
 func (b *levelSum) provisionalZero() {
 	src := b.sys.sources[0]
 	gc := b.p.Constants
@@ -317,63 +392,88 @@ func (b *levelSum) provisionalZero() {
 	for b.vLow < maxV && !src.has(b.vLow) {
 		b.vLow++
 	}
+	b.eNeg = cutExponent * b.tMax / units.SecondRadiation
+	if src.fine != nil {
+		b.eRef = b.lowestFineLevel(src, b.vLow)
+		return
+	}
 	jLow := b.sys.states[b.ground].Lambda
 	if b.weight(b.ground, jLow) == 0 {
 		jLow++
 	}
 	b.eRef = src.energy(b.vLow, jLow, gc.Values, nil)
-	b.eNeg = cutExponent * b.tMax / units.SecondRadiation
 }
 
-// enumerateManifolds enumerates one manifold per constants record, the ground
-// record first, up to the highest dissociation limit of the states that use
+// lowestFineLevel returns the energy of the lowest component with non-zero
+// weight of level v of the ground state's fine-structure source (J up to
+// 2Λ + 2S + 4, where the lowest level of every state lies), NaN when the
+// source has no constants for v.
+func (b *levelSum) lowestFineLevel(src *levelSource, v int) float64 {
+	f := src.fine
+	c, ok := f.constantsAt(v, src.c.Values)
+	if !ok {
+		return math.NaN()
+	}
+	w := b.weights[b.ground]
+	low := math.Inf(1)
+	for j2 := 0; j2 <= 2*f.state.Lambda+f.state.TwiceS()+8; j2++ {
+		model.EffectiveComponents(f.state, &c, v, j2, func(l model.Sublevel, _ *model.Effective) {
+			g := w.plus
+			if totalParity(l.J2, l.Parity) < 0 {
+				g = w.minus
+			}
+			if g > 0 {
+				low = math.Min(low, l.E)
+			}
+		})
+	}
+	return low
+}
+
+// enumerateManifolds enumerates one manifold per level source, the ground
+// state's first, up to the highest dissociation limit of the states that use
 // it (the budget's alternatives included), and flags its levels outside the
-// fitted data; states without a record of their own share the ground
-// manifold.
+// fitted data.
 func (b *levelSum) enumerateManifolds() error {
 	sys, p := b.sys, b.p
-	manOf := map[int]int{}
-	sys.stateMan = make([]int, len(sys.states))
-	sys.stateTerm = make([]float64, len(sys.states))
+	sys.stateMan = b.stateSrc
 	count := 0
-	for _, i := range append([]int{b.ground}, otherStates(len(sys.states), b.ground)...) {
-		st := sys.states[i]
-		blk := b.stateBlock[i]
-		sys.stateTerm[i] = st.TermEnergy
-		if mi, ok := manOf[blk]; ok {
-			sys.stateMan[i] = mi
-			continue
+	for si, src := range sys.sources {
+		first := -1
+		for i := range sys.states {
+			if b.stateSrc[i] == si && (first < 0 || i == b.ground) {
+				first = i
+			}
 		}
+		st := sys.states[first]
 		obs := p.Observed
-		if blk != 0 {
+		if src.blk != 0 {
 			obs = st.Observed
 		}
-		lim := &energyLimits{term: st.TermEnergy, eRef: b.eRef, eNeg: b.eNeg, ceiling: b.manifoldCeiling(blk),
+		lim := &energyLimits{term: sys.stateTerm[first], eRef: b.eRef, eNeg: b.eNeg, ceiling: b.manifoldCeiling(si),
 			ceilingReason: sys.dissociation.reason()}
-		m, err := enumerateManifold(sys.sources[blk], blk, lim, b.tMax, &count)
+		m, err := enumerateManifold(src, src.blk, lim, b.tMax, &count)
 		if err != nil {
 			return err
 		}
 		m.flagExtrapolated(obs, sys.iso.Label)
 		sys.warnings = append(sys.warnings, m.warn...)
-		if d := sys.dissociation; blk == 0 && d.Given && d.D0 > 0 && !math.IsInf(d.D0, 1) {
+		if d := sys.dissociation; si == 0 && d.Given && d.D0 > 0 && !math.IsInf(d.D0, 1) {
 			sys.warnings = append(sys.warnings, lowDissociationWarning(m, d.D0)...)
 		}
-		manOf[blk] = len(sys.manifolds)
-		sys.stateMan[i] = len(sys.manifolds)
 		sys.manifolds = append(sys.manifolds, m)
 	}
 	return nil
 }
 
-// manifoldCeiling returns the model-energy ceiling of the manifold of block
-// blk: the highest dissociation asymptote, eRef + d0Max + products energy −
-// term energy, of the states that use it (+Inf without a limit).
-func (b *levelSum) manifoldCeiling(blk int) float64 {
+// manifoldCeiling returns the model-energy ceiling of the manifold of source
+// si: the highest dissociation asymptote, eRef + d0Max + products energy −
+// term shift, of the states that use it (+Inf without a limit).
+func (b *levelSum) manifoldCeiling(si int) float64 {
 	c := math.Inf(-1)
 	for i, st := range b.sys.states {
-		if b.stateBlock[i] == blk {
-			c = math.Max(c, b.eRef+b.d0Max+st.ProductsEnergy-st.TermEnergy)
+		if b.stateSrc[i] == si {
+			c = math.Max(c, b.eRef+b.d0Max+st.ProductsEnergy-b.sys.stateTerm[i])
 		}
 	}
 	return c
@@ -395,7 +495,7 @@ func (b *levelSum) collectLevels() error {
 		m := sys.manifolds[sys.stateMan[i]]
 		capNom := b.eRef + b.d0 + st.ProductsEnergy
 		for k := range m.e {
-			w := b.weight(i, int(m.J[k]))
+			w := b.levelWeight(i, m, k)
 			if w == 0 {
 				continue
 			}

@@ -91,7 +91,7 @@ func TestExtrapolationShare(t *testing.T) {
 		want := 0.0
 		for _, p := range res.System.Populations(r.T) {
 			jm, ok := vmax[p.V]
-			if !ok || p.J > jm {
+			if !ok || p.J > float64(jm) {
 				want += p.Fraction
 			}
 		}
@@ -182,12 +182,12 @@ symmetry = "g-"
 	if err != nil {
 		t.Fatal(err)
 	}
-	if res.Zero.J != 1 || res.Zero.LevelAboveV0J0 < 2.8 || res.Zero.LevelAboveV0J0 > 2.9 {
-		t.Errorf("energy zero at N=%d, %.4g cm-1 above N=0 (want N=1, 2B ≈ 2.88)", res.Zero.J, res.Zero.LevelAboveV0J0)
+	if res.Zero.N != 1 || res.Zero.LevelAboveV0J0 < 2.8 || res.Zero.LevelAboveV0J0 > 2.9 {
+		t.Errorf("energy zero at N=%d, %.4g cm-1 above N=0 (want N=1, 2B ≈ 2.88)", res.Zero.N, res.Zero.LevelAboveV0J0)
 	}
 	for _, pop := range res.System.Populations(ReferenceTemperature) {
-		if pop.J%2 == 0 {
-			t.Fatalf("even N = %d in the sum of 16O2 X³Σg⁻", pop.J)
+		if pop.N%2 == 0 {
+			t.Fatalf("even N = %d in the sum of 16O2 X³Σg⁻", pop.N)
 		}
 	}
 	sv, cp := res.Rows[0].F.S, res.Rows[0].F.Cp

@@ -7,6 +7,8 @@ import (
 	"strings"
 
 	"bandwright/constants"
+	"bandwright/fit/model"
+	"bandwright/fit/states"
 )
 
 // manifold is the enumerated levels of one (constants record, isotopologue)
@@ -14,8 +16,16 @@ import (
 type manifold struct {
 	block   int
 	sp      int
-	src     *levelSource
-	v, J    []int32
+	src *levelSource
+	// v and J of each level; J is N (the rotational quantum number without
+	// electron spin, whose N(N+1) the rotational series is in) for the levels
+	// of a fine-structure source, and the model's J otherwise (read as N for
+	// a state with spin).
+	v, J []int32
+	// j2 is 2J; f the spin component (0: none) and ef the rotationless
+	// parity (+1 e, −1 f) of a fine-structure level, 0 otherwise.
+	j2      []int32
+	f, ef   []int8
 	e       []float64 // model energy, cm⁻¹ (model's own zero)
 	grad    []float64 // ∂e/∂x over the block's fitted parameters, len(e)·nfree
 	nfree   int
@@ -28,7 +38,7 @@ type manifold struct {
 	// extrapolatedV lists the enumerated vibrational levels the record lacks.
 	extrapolatedV []int
 	warn          []string
-	// The fitted data: highest J observed in each v, highest v, highest J
+	// The fitted data: highest 2J observed in each v, highest v, highest 2J
 	// in any v (-1: nothing observed).
 	jObs       map[int]int
 	vObs, jAll int
@@ -60,7 +70,13 @@ func enumerateManifold(src *levelSource, blk int, lim *energyLimits, tMax float6
 	}
 	grad := make([]float64, len(c.Values))
 	for _, v := range vs {
-		if err := m.rotationalLevels(v, v == vs[0], lim, grad, count); err != nil {
+		var err error
+		if src.fine != nil {
+			err = m.fineLevels(v, lim, count)
+		} else {
+			err = m.rotationalLevels(v, lim, grad, count)
+		}
+		if err != nil {
 			return nil, err
 		}
 		if src.extrapolated(v) {
@@ -100,7 +116,7 @@ func (m *manifold) vibrationalLevels(lim *energyLimits) ([]int, error) {
 			m.vReason = fmt.Sprintf("the record has no level v=%d and nothing to extrapolate it from", v)
 			break
 		}
-		gv := src.energy(v, 0, vals, nil)
+		gv := src.origin(v, vals)
 		if math.IsNaN(gv) || math.IsInf(gv, 0) {
 			return nil, cannot("%s: G(v=%d) is not finite", label, v)
 		}
@@ -108,11 +124,11 @@ func (m *manifold) vibrationalLevels(lim *energyLimits) ([]int, error) {
 			m.vReason = fmt.Sprintf("G(v) stops rising after v=%d", v-1)
 			break
 		}
-		if e1 := src.energy(v, 1, vals, nil); !(e1 > gv) {
+		if !src.rotationPositive(v, vals) {
 			// E(v, 1) ≤ E(v, 0): B_v is not positive here, so from this v on
 			// the constants describe no rotational structure at all.
 			if v == v0 {
-				return nil, cannot("%s: the rotational spacing E(v=%d, J=1) − E(v=%d, J=0) = %.6g cm-1 of the lowest level is not positive (B_%d ≤ 0): the constants describe no rotational levels", label, v, v, e1-gv, v)
+				return nil, cannot("%s: the rotational spacing E(v=%d, J=1) − E(v=%d, J=0) of the lowest level is not positive (B_%d ≤ 0; B_%d = %.6g cm-1): the constants describe no rotational levels", label, v, v, v, v, src.rotConstant(v))
 			}
 			m.vReason = fmt.Sprintf("B_v turns negative at v=%d (E(v, J=1) ≤ E(v, J=0)): the sum stops at v=%d", v, v-1)
 			m.warn = append(m.warn, fmt.Sprintf("%s: the rotational constant B_v turns negative at v=%d (E(v, J=1) ≤ E(v, J=0): the expansion is extrapolated beyond its range); levels from v=%d on are left out of the sum", label, v, v))
@@ -138,7 +154,7 @@ func (m *manifold) vibrationalLevels(lim *energyLimits) ([]int, error) {
 // len(c.Values)); count counts the levels of the whole sum against MaxLevels.
 // It records why the ladder stopped and, when levels entered, G_v and B_v for
 // the closed form.
-func (m *manifold) rotationalLevels(v int, lowest bool, lim *energyLimits, grad []float64, count *int) error {
+func (m *manifold) rotationalLevels(v int, lim *energyLimits, grad []float64, count *int) error {
 	src := m.src
 	c := src.c
 	ePrev := math.Inf(-1)
@@ -168,6 +184,9 @@ func (m *manifold) rotationalLevels(v int, lowest bool, lim *energyLimits, grad 
 		ePrev = e
 		m.v = append(m.v, int32(v))
 		m.J = append(m.J, int32(J))
+		m.j2 = append(m.j2, int32(2*J))
+		m.f = append(m.f, 0)
+		m.ef = append(m.ef, 0)
 		m.e = append(m.e, e)
 		for _, j := range c.Free {
 			m.grad = append(m.grad, grad[j])
@@ -185,6 +204,120 @@ func (m *manifold) rotationalLevels(v int, lowest bool, lim *energyLimits, grad 
 	return nil
 }
 
+// fineLevels appends the fine-structure and Λ-doubling components of
+// vibrational level v of a fine-structure source, J from the state's lowest
+// up, with their gradients ∂E/∂x = Σ_q ∂E/∂c_q·∂c_q/∂x over the record's
+// fitted parameters. A component enters when its energy is within the
+// ceiling and the population limit; the ladder stops at the first J none of
+// whose components enters, or where a component's energy no longer rises
+// with J (centrifugal turnover), at most maxJ.
+func (m *manifold) fineLevels(v int, lim *energyLimits, count *int) error {
+	src := m.src
+	f := src.fine
+	c, ok := f.constantsAt(v, src.c.Values)
+	if !ok {
+		return cannot("%s: state %s: no constants for v=%d", src.c.Model.Species()[m.sp], f.state.Label, v)
+	}
+	dc := f.freeGradients(src.c.Free, v)
+	n := m.nfree
+	type comp struct {
+		sl model.Sublevel
+		dE model.Effective
+	}
+	var prev [8]float64 // energy of each component (F, parity) at the previous J
+	for i := range prev {
+		prev[i] = math.Inf(-1)
+	}
+	j2 := 0
+	if f.state.HalfIntegerJ() {
+		j2 = 1
+	}
+	// The lowest J of every state is below 2Λ + 2S + 2.
+	jFirst := 2*f.state.Lambda + f.state.TwiceS() + 2
+	reason, nv := "", 0
+	var buf []comp
+	for ; ; j2 += 2 {
+		if j2 > 2*maxJ {
+			reason = fmt.Sprintf("J cap %d", maxJ)
+			break
+		}
+		buf = buf[:0]
+		model.EffectiveComponents(f.state, &c, v, j2, func(l model.Sublevel, dE *model.Effective) {
+			buf = append(buf, comp{l, *dE})
+		})
+		if len(buf) == 0 && j2 < jFirst {
+			continue
+		}
+		kept, turned, minE := 0, false, math.Inf(1)
+		for _, x := range buf {
+			e := x.sl.E
+			minE = math.Min(minE, e)
+			if math.IsNaN(e) || math.IsInf(e, 0) {
+				return cannot("E(v=%d, J=%s, F%d %s) is not finite", v, states.FormatJ(j2), x.sl.F, x.sl.Parity)
+			}
+			k := compIndex(x.sl)
+			if !(e > prev[k]) {
+				turned = true
+			}
+			prev[k] = e
+		}
+		if turned {
+			reason = "centrifugal turnover"
+			break
+		}
+		for _, x := range buf {
+			e := x.sl.E
+			if e > lim.ceiling || lim.term+e-lim.eRef > lim.eNeg {
+				continue
+			}
+			kept++
+			m.v = append(m.v, int32(v))
+			m.J = append(m.J, int32(x.sl.N))
+			m.j2 = append(m.j2, int32(j2))
+			m.f = append(m.f, int8(x.sl.F))
+			m.ef = append(m.ef, int8(x.sl.Parity))
+			m.e = append(m.e, e)
+			for k := 0; k < n; k++ {
+				g := 0.0
+				for q := 0; q < model.NumQuantities; q++ {
+					if d := x.dE[q]; d != 0 {
+						g += d * dc[q*n+k]
+					}
+				}
+				m.grad = append(m.grad, g)
+			}
+			nv++
+			*count++
+			if *count > MaxLevels {
+				return cannot("the level sum has more than %d levels; give dissociation_energy in an electronic-states file or lower the highest temperature", MaxLevels)
+			}
+		}
+		if kept == 0 {
+			reason = lim.neglReason
+			if minE > lim.ceiling {
+				reason = lim.ceilingReason
+			}
+			break
+		}
+	}
+	m.jReason[reason]++
+	if nv > 0 {
+		m.rot = append(m.rot, vibRot{v: v, g: c[qT], b: c[qB]})
+	}
+	return nil
+}
+
+// compIndex numbers the components of one J: 2(F−1) + (0 for e, 1 for f),
+// F 0 counted as 1.
+func compIndex(l model.Sublevel) int {
+	k := 2 * max(l.F-1, 0)
+	if l.Parity == states.ParityF {
+		k++
+	}
+	return k
+}
+
+
 // rotConstant returns B_v of level v: the coefficient a_1(v) of x in E(v, J)
 // (see levelForms), or (E(v, 1) − E(v, 0))/2 = B − 2D + … for other models.
 func (s *levelSource) rotConstant(v int) float64 {
@@ -196,18 +329,25 @@ func (s *levelSource) rotConstant(v int) float64 {
 
 // flagExtrapolated marks the levels outside the fitted data: v above the highest
 // observed v, or J above the highest J observed in that v (in the highest J
-// observed in any v when v itself was not observed).
+// observed in any v when v itself was not observed). The levels of a
+// fine-structure source count the data of its state only.
 func (m *manifold) flagExtrapolated(obs []constants.LevelRange, label string) {
 	m.ext = make([]bool, len(m.e))
-	jmax := map[int]int{}
+	jmax := map[int]int{} // 2J
 	vmax, jall := -1, -1
 	for _, o := range obs {
-		if o.Species != label {
+		if o.Species != label || (m.src.fine != nil && o.State != m.src.fine.label) {
 			continue
 		}
-		jmax[o.V] = max(jmax[o.V], o.JMax)
+		j2 := 2 * o.JMax
+		if o.HalfJ {
+			j2++
+		}
+		if cur, ok := jmax[o.V]; !ok || j2 > cur {
+			jmax[o.V] = j2
+		}
 		vmax = max(vmax, o.V)
-		jall = max(jall, o.JMax)
+		jall = max(jall, j2)
 	}
 	m.jObs, m.vObs, m.jAll = jmax, vmax, jall
 	if vmax < 0 {
@@ -218,12 +358,12 @@ func (m *manifold) flagExtrapolated(obs []constants.LevelRange, label string) {
 		return
 	}
 	for i := range m.e {
-		v, J := int(m.v[i]), int(m.J[i])
+		v := int(m.v[i])
 		jm, ok := jmax[v]
 		if !ok {
 			jm = jall
 		}
-		m.ext[i] = v > vmax || J > jm
+		m.ext[i] = v > vmax || int(m.j2[i]) > jm
 	}
 }
 
@@ -245,11 +385,41 @@ func (m *manifold) jSummary() string {
 	return strings.Join(parts, "; ")
 }
 
-// jObserved returns the highest J the data reach in level v (the highest in
-// any level when v was not observed; -1 when nothing was).
-func (m *manifold) jObserved(v int) int {
+// j2Observed returns twice the highest J the data reach in level v (the
+// highest in any level when v was not observed; -1 when nothing was).
+func (m *manifold) j2Observed(v int) int {
 	if j, ok := m.jObs[v]; ok {
 		return j
 	}
 	return m.jAll
+}
+
+// energiesAt stores in out the model energies of the levels of the manifold
+// used in the sum, at the record's values vals (the models evaluated
+// afresh): E(v, J) of a ¹Σ source, the component (J, F, e/f) of a
+// fine-structure source from the effective constants of its vibrational
+// level (formed once per v: the levels are stored by v).
+func (m *manifold) energiesAt(vals, out []float64) {
+	src := m.src
+	f := src.fine
+	var c model.Effective
+	cv := int32(-1)
+	for k := range m.e {
+		if !m.used[k] {
+			continue
+		}
+		if f == nil {
+			out[k] = src.energy(int(m.v[k]), int(m.J[k]), vals, nil)
+			continue
+		}
+		if m.v[k] != cv {
+			cv = m.v[k]
+			c, _ = f.constantsAt(int(cv), vals)
+		}
+		e, ok := model.EffectiveLevel(f.state, &c, model.Level{V: int(cv), J2: int(m.j2[k]), F: int(m.f[k]), Parity: states.Parity(m.ef[k])})
+		if !ok {
+			e = math.NaN()
+		}
+		out[k] = e
+	}
 }

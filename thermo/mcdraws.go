@@ -25,10 +25,11 @@ import (
 //
 // MonteCarlo counts both and Compute says so in a warning.
 
-// levelChains lists, for every state, the levels of the sum of each v (by J
-// ascending, consecutive J from the lowest, as long as the energy rises at
-// x̂), the chains by v ascending (consecutive v, as long as the lowest level
-// of each rises at x̂).
+// levelChains lists, for every state and fine-structure component (F, e/f;
+// one for a state whose components are not resolved), the levels of the sum
+// of each v (by J ascending, consecutive J from the lowest, as long as the
+// energy rises at x̂), the chains by v ascending (consecutive v, as long as
+// the lowest level of each rises at x̂).
 type levelChains [][]chain
 
 type chain struct {
@@ -37,25 +38,34 @@ type chain struct {
 }
 
 func (sys *System) levelChains() levelChains {
+	// One chain per (state, v, fine-structure component), in steps of 2J.
 	type key struct {
-		st int16
-		v  int32
+		st    int16
+		v     int32
+		f, ef int8
 	}
 	byV := map[key][]int32{}
 	for i := range sys.e {
 		m := sys.manifolds[sys.stateMan[sys.st[i]]]
-		k := key{sys.st[i], m.v[sys.lv[i]]}
+		l := sys.lv[i]
+		k := key{sys.st[i], m.v[l], m.f[l], m.ef[l]}
 		byV[k] = append(byV[k], int32(i))
 	}
-	jOf := func(i int32) int32 { return sys.manifolds[sys.stateMan[sys.st[i]]].J[sys.lv[i]] }
-	perState := map[int16][]chain{}
+	jOf := func(i int32) int32 { return sys.manifolds[sys.stateMan[sys.st[i]]].j2[sys.lv[i]] }
+	// The vibrational chains of each state and component.
+	type comp struct {
+		st    int16
+		f, ef int8
+	}
+	perState := map[comp][]chain{}
 	for k, idx := range byV {
 		sort.Slice(idx, func(a, b int) bool { return jOf(idx[a]) < jOf(idx[b]) })
 		n := 1
-		for n < len(idx) && jOf(idx[n]) == jOf(idx[n-1])+1 && sys.e[idx[n]] > sys.e[idx[n-1]] {
+		for n < len(idx) && jOf(idx[n]) == jOf(idx[n-1])+2 && sys.e[idx[n]] > sys.e[idx[n-1]] {
 			n++
 		}
-		perState[k.st] = append(perState[k.st], chain{v: k.v, idx: idx[:n:n]})
+		c := comp{k.st, k.f, k.ef}
+		perState[c] = append(perState[c], chain{v: k.v, idx: idx[:n:n]})
 	}
 	var out levelChains
 	for _, cs := range perState {

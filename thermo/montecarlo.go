@@ -46,14 +46,7 @@ func (sys *System) energiesAt(x []float64, buf *evalBuf, dst []float64) []float6
 		}
 	}
 	for mi, m := range sys.manifolds {
-		vals := buf.vals[m.block]
-		out := buf.man[mi]
-		for k := range m.e {
-			if !m.used[k] {
-				continue
-			}
-			out[k] = m.src.energy(int(m.v[k]), int(m.J[k]), vals, nil)
-		}
+		m.energiesAt(buf.vals[m.block], buf.man[mi])
 	}
 	zs := sys.zero.state
 	e0 := sys.stateTerm[zs] + buf.man[sys.stateMan[zs]][sys.zero.idx]

@@ -51,3 +51,21 @@ func ElectronicDegeneracy(multiplicity, lambda int) float64 {
 	}
 	return 2 * float64(multiplicity)
 }
+
+// nuclearSpinWeightsByParity returns the nuclear-spin weights of the levels
+// of total parity + and − of a state with symmetry sym in the given
+// convention (species.Isotopologue.NuclearSpinWeightsByParity, divided by
+// (2I_A+1)(2I_B+1) in SpinThermochemistry). A heteronuclear state needs no
+// symmetry; a homonuclear one without g/u gets 0 weights and an error only
+// when it is used (see levelSum.weighStates).
+func nuclearSpinWeightsByParity(iso species.Isotopologue, sym species.StateSymmetry, convention string) (plus, minus float64, err error) {
+	norm := 1.0
+	if convention == SpinThermochemistry {
+		norm = float64(iso.NuclearSpinStates())
+	}
+	plus, minus, err = iso.NuclearSpinWeightsByParity(sym)
+	if err != nil {
+		return 0, 0, err
+	}
+	return plus / norm, minus / norm, nil
+}

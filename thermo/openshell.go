@@ -92,7 +92,8 @@ func (sys *System) addFineStructure() {
 	fs := &fineStructure{n: make([]int, len(sys.states)), width: make([]float64, len(sys.states))}
 	known, any := false, false
 	for i, st := range sys.states {
-		if st.Multiplicity < 2 && st.Lambda == 0 {
+		if (st.Multiplicity < 2 && st.Lambda == 0) || sys.manifolds[sys.stateMan[i]].src.fine != nil {
+			// No fine structure, or every component resolved.
 			continue
 		}
 		if st.Multiplicity < 2 {
@@ -150,7 +151,7 @@ func (sys *System) fineWarning(i int, w float64, from string) string {
 	if i == sys.zero.state {
 		z := sys.zp
 		msg += fmt.Sprintf("; the energy zero sits at the centre of the lowest rotational level (v=%d, N=%d), about %.2g cm-1 above its lowest spin component: H°(T)−H°(0) is low by about %.2g kJ mol-1 once kT ≫ W",
-			z.V, z.J, a, units.GasConstant*units.SecondRadiation*a/1000)
+			z.V, z.N, a, units.GasConstant*units.SecondRadiation*a/1000)
 	}
 	return msg + "; the fine_structure entry of the uncertainty budget gives the effect on every function"
 }

@@ -6,6 +6,7 @@ import (
 
 	"gonum.org/v1/gonum/floats"
 
+	"bandwright/fit/states"
 	"bandwright/units"
 )
 
@@ -150,10 +151,15 @@ func (sys *System) ClosedForm(T float64) float64 {
 }
 
 // Population is the fraction of molecules in one rovibrational level (all its
-// 2J+1 components and nuclear-spin states together).
+// 2J+1 components and nuclear-spin states together). N is J for a level
+// whose fine structure is not resolved; F and Parity identify a
+// fine-structure component (0 and NoParity otherwise).
 type Population struct {
 	State    string
-	V, J     int
+	V, N     int
+	J        float64
+	F        int
+	Parity   states.Parity
 	Energy   float64 // cm⁻¹ above the zero
 	Fraction float64
 }
@@ -169,7 +175,7 @@ func (sys *System) Populations(T float64) []Population {
 		st := int(sys.st[i])
 		m := sys.manifolds[sys.stateMan[st]]
 		k := sys.lv[i]
-		out[i] = Population{State: sys.states[st].Label, V: int(m.v[k]), J: int(m.J[k]), Energy: e,
+		out[i] = Population{State: sys.states[st].Label, V: int(m.v[k]), N: int(m.J[k]), J: float64(m.j2[k]) / 2, F: int(m.f[k]), Parity: states.Parity(m.ef[k]), Energy: e,
 			Fraction: sys.w[i] * math.Exp(-beta*e) / acc.a0}
 	}
 	return out

@@ -106,6 +106,10 @@ type extChoice struct {
 	xe         float64 // x_e of the prior (records with one or two vibrational levels)
 	omega      float64 // ω_e, cm⁻¹, from the electronic-states file (one vibrational level)
 	alphaScale float64 // factor on the Pekeris estimate of α_e (one vibrational level)
+	// fineAlternative: the fine-structure constants of the levels a
+	// fine-structure record lacks are extrapolated (the budget's
+	// alternative) instead of held at the nearest record level.
+	fineAlternative bool
 }
 
 // vibStructure is the vibrational structure of a manifold at the record's
@@ -131,6 +135,13 @@ type vibStructure struct {
 type levelSource struct {
 	c  *constants.Set
 	sp int
+	// blk is the parameter block of the record (index in System.blocks).
+	blk int
+	// fine is set when the record resolves the state's fine structure: the
+	// levels are its components (see fineLevels); nil: the levels of the
+	// model's Energy, E(v, J) of a ¹Σ state (J read as N for a state with
+	// spin).
+	fine *fineLevels
 	// record lists the vibrational levels the record describes; nil: every v
 	// (a Dunham model with an anharmonic term).
 	record map[int]bool
@@ -186,16 +197,59 @@ func (s *levelSource) energy(v, J int, vals, grad []float64) float64 {
 	return e
 }
 
-// forms returns the coefficients a_l(v) of level v (nil when not available).
+// forms returns the coefficients a_l(v) of level v (nil when not available);
+// for a fine-structure source those of its rotational constants (T, B, −D,
+// H, L).
 func (s *levelSource) forms(v int) []linForm {
-	if s.extrapolated(v) {
+	if s.extrapolated(v) && s.fine == nil {
 		return s.ext[v]
+	}
+	if s.fine != nil {
+		if !s.fine.ensure(s, v) {
+			return nil
+		}
+		return polyForms(s.fine.eff[v])
 	}
 	f, ok := levelForms(s.c, s.sp, v)
 	if !ok {
 		return nil
 	}
 	return f
+}
+
+// recordForms returns the coefficients a_l(v) of record level v (see
+// forms); ok is false when they cannot be had.
+func (s *levelSource) recordForms(v int) ([]linForm, bool) {
+	if s.fine != nil {
+		eff := s.fine.recordEffective(s.c, s.sp, v)
+		if eff == nil {
+			return nil, false
+		}
+		return polyForms(eff), true
+	}
+	return levelForms(s.c, s.sp, v)
+}
+
+// origin returns the vibrational term of level v at the record's values
+// vals: E(v, J=0) of a ¹Σ source, the vibronic term value T_v of a
+// fine-structure source; NaN for a level the source does not have.
+func (s *levelSource) origin(v int, vals []float64) float64 {
+	if s.fine != nil {
+		if !s.has(v) || !s.fine.ensure(s, v) {
+			return math.NaN()
+		}
+		return s.fine.eff[v][qT].eval(vals)
+	}
+	return s.energy(v, 0, vals, nil)
+}
+
+// rotationPositive reports whether level v has a rotational structure:
+// E(v, J=1) > E(v, J=0) of a ¹Σ source, B_v > 0 of a fine-structure source.
+func (s *levelSource) rotationPositive(v int, vals []float64) bool {
+	if s.fine != nil {
+		return s.fine.ensure(s, v) && s.fine.eff[v][qB].eval(vals) > 0
+	}
+	return s.energy(v, 1, vals, nil) > s.energy(v, 0, vals, nil)
 }
 
 // newLevelSource makes the level source of species sp in the record c of a
@@ -299,7 +353,7 @@ func dunhamVibration(m *model.Dunham, sp int, vals []float64, obs []int) vibStru
 func (s *levelSource) extendVibration() {
 	rec := make([][]linForm, len(s.recV))
 	for i, v := range s.recV {
-		f, ok := levelForms(s.c, s.sp, v)
+		f, ok := s.recordForms(v)
 		if !ok {
 			s.vib.determined = true // cannot extrapolate this model
 			return
@@ -480,12 +534,19 @@ func meanForms(rec [][]linForm) []linForm {
 	return out
 }
 
-// observedLevels returns the vibrational levels of species label in obs, sorted.
+// observedLevels returns the vibrational levels of species label in obs of
+// the record's ground state, sorted.
 func observedLevels(obs []constants.LevelRange, label string) []int {
+	return observedStateLevels(obs, label, "")
+}
+
+// observedStateLevels returns the vibrational levels of species label in obs
+// of the record's state labelled state ("": its ground state), sorted.
+func observedStateLevels(obs []constants.LevelRange, label, state string) []int {
 	seen := map[int]bool{}
 	var out []int
 	for _, o := range obs {
-		if o.Species == label && !seen[o.V] {
+		if o.Species == label && o.State == state && !seen[o.V] {
 			seen[o.V] = true
 			out = append(out, o.V)
 		}

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"bandwright/fit/model"
+	"bandwright/fit/states"
 )
 
 // StateLevels summarises the levels of one electronic state in the sum.
@@ -20,8 +21,13 @@ type StateLevels struct {
 	Levels      int        `json:"levels"`
 	VMin        int        `json:"v_min"`
 	VMax        int        `json:"v_max"`
-	JMax        int        `json:"J_max"`
-	JMaxV0      int        `json:"J_max_lowest_v"`
+	JMax        float64    `json:"J_max"`
+	JMaxV0      float64    `json:"J_max_lowest_v"`
+	// FineStructure says how the state's levels are counted: "resolved"
+	// (every fine-structure and Λ-doubling component from the record's
+	// effective Hamiltonian), or, for a state with spin or Λ > 0 whose
+	// components the record does not describe, "neglected".
+	FineStructure string `json:"fine_structure,omitempty"`
 	EMax        float64    `json:"highest_level_cm-1"`
 	VTruncation string     `json:"v_truncation"`
 	JTruncation string     `json:"J_truncation"`
@@ -34,17 +40,25 @@ type StateLevels struct {
 
 // ZeroPoint states the energy zero of the sum.
 type ZeroPoint struct {
-	// Level is the lowest level: the energy zero of Q and of H°(0).
-	State string `json:"state"`
-	V     int    `json:"v"`
-	J     int    `json:"J"`
+	// Level is the lowest level: the energy zero of Q and of H°(0); J may
+	// be a half-integer. N, F and Parity identify a fine-structure
+	// component (0 and "" where the levels are not resolved).
+	State  string  `json:"state"`
+	V      int     `json:"v"`
+	J      float64 `json:"J"`
+	N      int     `json:"N"`
+	F      int     `json:"F,omitempty"`
+	Parity string  `json:"parity,omitempty"`
 	// ZPE is E(v=0, J=0) of the ground state above the potential minimum (Dunham
 	// models only) with its 1σ, cm⁻¹; nil for a term-values model, whose zero is the
 	// lowest vibrational level of the record.
 	ZPE      *float64 `json:"zero_point_energy_cm-1,omitempty"`
 	ZPESigma *float64 `json:"zero_point_energy_sigma_cm-1,omitempty"`
-	// LevelAboveV0J0 is the energy of the zero level above (v=0, J=0) of the
-	// ground state, cm⁻¹ (non-zero when J=0 has no nuclear-spin weight, as in 16O2).
+	// LevelAboveV0J0 is the energy of the zero level above (v, J=0) of the
+	// lowest vibrational level of the ground state, cm⁻¹ (non-zero when J=0
+	// has no nuclear-spin weight, as in 16O2); where the fine structure is
+	// resolved, above that level's vibronic term value T_v (the zero of its
+	// effective Hamiltonian).
 	LevelAboveV0J0 float64 `json:"zero_level_above_v0_J0_cm-1"`
 	Note           string  `json:"note"`
 }
@@ -113,6 +127,12 @@ func (b *levelSum) stateSummary(i int) StateLevels {
 	default:
 		sl.Source = fmt.Sprintf("ground-state levels shifted by %g cm-1 (no constants of its own)", st.TermEnergy)
 	}
+	switch {
+	case m.src.fine != nil:
+		sl.FineStructure = "resolved: every fine-structure and Λ-doubling component (J, F, e/f) from the effective Hamiltonian of the constants record"
+	case st.Multiplicity > 1 || st.Lambda > 0:
+		sl.FineStructure = "neglected: each rotational level's spin and Λ components at one energy (see the fine_structure entry of the uncertainty budget)"
+	}
 	if len(m.extrapolatedV) > 0 {
 		sl.ExtrapolatedV = compressInts(m.extrapolatedV)
 		sl.ExtrapolationNote = m.src.note
@@ -122,7 +142,7 @@ func (b *levelSum) stateSummary(i int) StateLevels {
 		if l.st != i {
 			continue
 		}
-		v, J := int(m.v[l.idx]), int(m.J[l.idx])
+		v, J := int(m.v[l.idx]), float64(m.j2[l.idx])/2
 		sl.Levels++
 		minV = min(minV, v)
 		sl.VMax = max(sl.VMax, v)
@@ -136,7 +156,7 @@ func (b *levelSum) stateSummary(i int) StateLevels {
 		sl.VMin = minV
 		for _, l := range b.levels {
 			if l.st == i && int(m.v[l.idx]) == minV {
-				sl.JMaxV0 = max(sl.JMaxV0, int(m.J[l.idx]))
+				sl.JMaxV0 = max(sl.JMaxV0, float64(m.j2[l.idx])/2)
 			}
 		}
 	}
@@ -152,8 +172,11 @@ func (b *levelSum) describeZero() {
 	gc := b.p.Constants
 	z := b.levels[0]
 	zm := sys.manifolds[sys.stateMan[z.st]]
-	sys.zp = &ZeroPoint{State: sys.states[z.st].Label, V: int(zm.v[z.idx]), J: int(zm.J[z.idx])}
-	e00 := sys.sources[0].energy(b.vLow, 0, gc.Values, nil)
+	sys.zp = &ZeroPoint{State: sys.states[z.st].Label, V: int(zm.v[z.idx]), J: float64(zm.j2[z.idx]) / 2, N: int(zm.J[z.idx])}
+	if zm.ef[z.idx] != 0 {
+		sys.zp.F, sys.zp.Parity = int(zm.f[z.idx]), states.Parity(zm.ef[z.idx]).String()
+	}
+	e00 := sys.sources[0].origin(b.vLow, gc.Values)
 	sys.zp.LevelAboveV0J0 = sys.e0 - e00
 	if _, ok := gc.Model.(*model.Dunham); ok {
 		grad := make([]float64, len(gc.Values))
@@ -171,4 +194,18 @@ func (b *levelSum) describeZero() {
 	if b.vLow > 0 {
 		sys.warnings = append(sys.warnings, fmt.Sprintf("the record's lowest vibrational level of %s is v=%d: levels below it are missing, and the energy zero is not the lowest level of the molecule", sys.iso.Label, b.vLow))
 	}
+}
+
+// Describe writes the level as outputs name it: "v=0, J=0.5, F1e" (N added
+// where the components are resolved: "v=0, N=1, J=0, F3").
+func (z ZeroPoint) Describe() string {
+	j := strconv.FormatFloat(z.J, 'f', -1, 64)
+	if z.Parity == "" && z.F == 0 {
+		return fmt.Sprintf("v=%d, J=%s", z.V, j)
+	}
+	f := ""
+	if z.F > 0 {
+		f = fmt.Sprintf(", F%d", z.F)
+	}
+	return fmt.Sprintf("v=%d, N=%d, J=%s%s%s", z.V, z.N, j, f, z.Parity)
 }

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"bandwright/constants"
+	"bandwright/fit/states"
 )
 
 // Composition conventions of the translational part.
@@ -337,7 +338,7 @@ func (sys *System) conventions(s Settings) Conventions {
 		c.NuclearSpinNote = fmt.Sprintf("line-intensity convention: full nuclear-spin degeneracy included ((2I_A+1)(2I_B+1) = %d in total); Q for line intensities, S includes R ln of the spin states", iso.NuclearSpinStates())
 	}
 	z := sys.zp
-	c.EnergyZero = fmt.Sprintf("lowest level (state %s, v=%d, J=%d); H°(0) with every molecule in it", z.State, z.V, z.J)
+	c.EnergyZero = fmt.Sprintf("lowest level (state %s, %s); H°(0) with every molecule in it", z.State, z.Describe())
 	if z.ZPE != nil {
 		c.EnergyZero += fmt.Sprintf("; zero-point energy E(0,0) = %.6f(σ %.2g) cm-1 above the potential minimum", *z.ZPE, *z.ZPESigma)
 	}
@@ -393,13 +394,13 @@ func (sys *System) observedRange() string {
 	for k := range m.e {
 		if !m.ext[k] {
 			vmax = max(vmax, int(m.v[k]))
-			jmax = max(jmax, int(m.J[k]))
+			jmax = max(jmax, int(m.j2[k]))
 		}
 	}
 	if vmax < 0 {
 		return "the record lists no observed levels"
 	}
-	return fmt.Sprintf("the data reach v ≤ %d, J ≤ %d", vmax, jmax)
+	return fmt.Sprintf("the data reach v ≤ %d, J ≤ %s", vmax, states.FormatJ(jmax))
 }
 
 // checkFinite refuses a result with a NaN or Inf anywhere.

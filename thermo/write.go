@@ -67,7 +67,10 @@ func (r *Result) WriteCSV(w io.Writer) error {
 	}
 	csvComment(bw, "closed form: %s", c.ClosedForm)
 	for _, s := range r.States {
-		csvComment(bw, "levels: state %s: %d levels, v %d–%d, J ≤ %d; v: %s; J: %s", s.Term, s.Levels, s.VMin, s.VMax, s.JMax, s.VTruncation, s.JTruncation)
+		csvComment(bw, "levels: state %s: %d levels, v %d–%d, J ≤ %g; v: %s; J: %s", s.Term, s.Levels, s.VMin, s.VMax, s.JMax, s.VTruncation, s.JTruncation)
+		if s.FineStructure != "" {
+			csvComment(bw, "levels: state %s: fine structure %s", s.State, s.FineStructure)
+		}
 		if s.ExtrapolatedV != "" {
 			csvComment(bw, "levels: state %s: v = %s extrapolated (%s)", s.State, s.ExtrapolatedV, s.ExtrapolationNote)
 		}

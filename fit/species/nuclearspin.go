@@ -118,3 +118,36 @@ func (m Isotopologue) NuclearSpinWeights(lambda int, sym StateSymmetry) (even, o
 	}
 	return ga, gs, nil
 }
+
+// NuclearSpinWeightsByParity returns the nuclear-spin weights g_ns of the
+// levels of total parity + and of total parity − of an electronic state with
+// symmetry sym, counting every nuclear-spin state as NuclearSpinWeights
+// does. This is the rule for a level whose parity is known — every level of
+// a state whose fine-structure and Λ-doubling components are resolved: a
+// level of a homonuclear molecule is symmetric under exchange of the nuclei
+// when its parity is + in a g state or − in a u state, antisymmetric
+// otherwise, and takes the weight of its kind (bosons: (2I+1)(I+1) for
+// symmetric, (2I+1)I for antisymmetric levels; fermions the reverse). In a
+// Σ state this is NuclearSpinWeights with the parity of N; in a Π or Δ state
+// the two Λ components of each J, of opposite parity, take different
+// weights (the ones of a ¹Δg state of 16O2 one e or f level per J, not the
+// mean). Heteronuclear molecules: (2I_A+1)(2I_B+1) for every level. A
+// homonuclear state needs its g/u symmetry.
+func (m Isotopologue) NuclearSpinWeightsByParity(sym StateSymmetry) (plus, minus float64, err error) {
+	symStates, antiStates, homonuclear := m.SpinExchangeStates()
+	if !homonuclear {
+		total := float64(m.NuclearSpinStates())
+		return total, total, nil
+	}
+	if sym.Parity == 0 {
+		return 0, 0, fmt.Errorf("%s is homonuclear: the state needs its g/u symmetry", m.Label)
+	}
+	gs, ga := float64(symStates), float64(antiStates)
+	if !m.A.IsBoson() {
+		gs, ga = ga, gs
+	}
+	if sym.Parity == 'g' {
+		return gs, ga, nil
+	}
+	return ga, gs, nil
+}

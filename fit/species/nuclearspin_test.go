@@ -138,3 +138,52 @@ func ExampleIsotopologue_NuclearSpinWeights() {
 	fmt.Println(even, odd)
 	// Output: 0 1
 }
+
+// TestNuclearSpinWeightsByParity: the weights by total parity agree with the
+// weights by N in every Σ state (parity (−1)^N in Σ⁺, −(−1)^N in Σ⁻), and in
+// a Λ > 0 state the two parities share the spin states, their mean the
+// per-component weight of NuclearSpinWeights (common practice).
+func TestNuclearSpinWeightsByParity(t *testing.T) {
+	for _, label := range []string{"14N14N", "1H1H", "16O16O", "35Cl35Cl", "1H35Cl", "14N15N"} {
+		iso, err := Parse(label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, s := range []string{"g+", "g-", "u+", "u-"} {
+			y, _ := ParseStateSymmetry(s)
+			if !iso.SameElement() {
+				y.Parity = 0
+			}
+			plus, minus, err := iso.NuclearSpinWeightsByParity(y)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ev, od, err := iso.NuclearSpinWeights(0, y)
+			if err != nil {
+				t.Fatal(err)
+			}
+			wantEven, wantOdd := plus, minus // Σ⁺: even N has parity +
+			if y.Reflection == '-' {
+				wantEven, wantOdd = minus, plus
+			}
+			if ev != wantEven || od != wantOdd {
+				t.Errorf("%s %s: by parity +%g −%g, by N even %g odd %g", label, s, plus, minus, ev, od)
+			}
+			y.Reflection = 0
+			mean, _, err := iso.NuclearSpinWeights(1, y)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if p2, m2, _ := iso.NuclearSpinWeightsByParity(y); (p2+m2)/2 != mean {
+				t.Errorf("%s %s Λ>0: (%g + %g)/2, mean per component %g", label, s, p2, m2, mean)
+			}
+		}
+	}
+	o2, _ := Parse("16O16O")
+	if p, m, _ := o2.NuclearSpinWeightsByParity(StateSymmetry{Parity: 'g'}); p != 1 || m != 0 {
+		t.Errorf("16O2 g state: + %g, − %g; want 1 and 0 (a¹Δg: one Λ component per J)", p, m)
+	}
+	if _, _, err := o2.NuclearSpinWeightsByParity(StateSymmetry{}); err == nil {
+		t.Error("homonuclear state without g/u accepted")
+	}
+}
