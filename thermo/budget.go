@@ -26,6 +26,9 @@ const (
 	ContribOmega = "omega_e"
 	// ContribFineStructure: the fine structure the models neglect.
 	ContribFineStructure = "fine_structure"
+	// ContribFineConstants: the fine-structure constants of the vibrational
+	// levels a record that resolves the fine structure lacks.
+	ContribFineConstants = "fine_structure_constants"
 )
 
 // Contribution is one named entry of the model part of the uncertainty
@@ -111,11 +114,12 @@ func (sys *System) buildBudget(p Problem, s Settings, tMax float64) error {
 // from that relation, ω_e ± σ where it comes from the electronic-states file.
 func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error {
 	bu := sys.budget
-	var usesPrior, usesPekeris, usesOmega bool
+	var usesPrior, usesPekeris, usesOmega, usesFine bool
 	for _, src := range sys.sources {
 		if src == nil || !src.vib.determined || src.record == nil {
 			continue
 		}
+		usesFine = usesFine || (src.fine != nil && len(src.ext) > 0 && src.fine.hasFineConstants())
 		usesPrior = usesPrior || !src.vib.anharmonic
 		usesPekeris = usesPekeris || len(src.recV) == 1
 		usesOmega = usesOmega || len(src.recV) == 1
@@ -149,6 +153,15 @@ func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error
 			Method:       methodRecomputed,
 			Rule:         "omega_e ± omega_e_sigma of the electronic-states file"},
 			[]buildOptions{{xe: xePriorCentre, alphaScale: 1, omegaShift: -1}, {xe: xePriorCentre, alphaScale: 1, omegaShift: 1}}})
+	}
+	if usesFine {
+		alts = append(alts, alt{Contribution{Name: ContribFineConstants,
+			What:         "the fine-structure constants (A, γ, λ, p, q, …) of the vibrational levels the data do not reach",
+			Alternatives: []string{"extrapolated in v instead of held at the nearest observed level"},
+			Method:       methodRecomputed,
+			Rule: fmt.Sprintf("nominal: the constants of the nearest vibrational level of the record; alternative: the least-squares line in v through the record's levels (two or more), else the nearest level's constants changed by %g %% per vibrational quantum (the spin–orbit constants of NO and OH change by about 0.2 %% per quantum; Huber & Herzberg 1979, from memory)",
+				100*fineDriftPerV)},
+			[]buildOptions{{xe: xePriorCentre, alphaScale: 1, fineAlternative: true}}})
 	}
 	for _, a := range alts {
 		ci := bu.addContribution(a.c)

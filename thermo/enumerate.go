@@ -154,6 +154,9 @@ func newLevelSum(p Problem, s Settings, tMax float64) (*levelSum, error) {
 	}
 	states := p.States
 	if len(states) == 0 {
+		states = recordStates(p.Constants, iso)
+	}
+	if len(states) == 0 {
 		states = defaultStates(iso)
 	}
 	ground, err := groundState(iso, states)
@@ -410,6 +413,7 @@ func (b *levelSum) provisionalZero() {
 // source has no constants for v.
 func (b *levelSum) lowestFineLevel(src *levelSource, v int) float64 {
 	f := src.fine
+	f.ensure(src, v)
 	c, ok := f.constantsAt(v, src.c.Values)
 	if !ok {
 		return math.NaN()

@@ -235,7 +235,9 @@ func (f *fineLevels) fineExtrapolated(s *levelSource, q, v, a int) linForm {
 }
 
 // constantsAt returns the effective constants of level v at the record's
-// values vals (the forms evaluated).
+// values vals (the forms evaluated); the level's forms must have been made
+// (extendFine, ensure), as they are for every level enumerated: the Monte
+// Carlo draws read them concurrently.
 func (f *fineLevels) constantsAt(v int, vals []float64) (model.Effective, bool) {
 	var c model.Effective
 	if v < 0 || v >= len(f.eff) || f.eff[v] == nil {
@@ -282,4 +284,10 @@ func totalParity(j2 int, ef states.Parity) int8 {
 		sign = -1
 	}
 	return sign * int8(ef)
+}
+
+// hasFineConstants reports whether the state's case has fine-structure
+// constants (a ¹Σ state of a record with states has none).
+func (f *fineLevels) hasFineConstants() bool {
+	return f.state.Multiplicity > 1 || f.state.Lambda > 0
 }

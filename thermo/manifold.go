@@ -14,9 +14,9 @@ import (
 // manifold is the enumerated levels of one (constants record, isotopologue)
 // before electronic and nuclear-spin weights are applied.
 type manifold struct {
-	block   int
-	sp      int
-	src *levelSource
+	block int
+	sp    int
+	src   *levelSource
 	// v and J of each level; J is N (the rotational quantum number without
 	// electron spin, whose N(N+1) the rotational series is in) for the levels
 	// of a fine-structure source, and the model's J otherwise (read as N for
@@ -214,6 +214,7 @@ func (m *manifold) rotationalLevels(v int, lim *energyLimits, grad []float64, co
 func (m *manifold) fineLevels(v int, lim *energyLimits, count *int) error {
 	src := m.src
 	f := src.fine
+	f.ensure(src, v)
 	c, ok := f.constantsAt(v, src.c.Values)
 	if !ok {
 		return cannot("%s: state %s: no constants for v=%d", src.c.Model.Species()[m.sp], f.state.Label, v)
@@ -316,7 +317,6 @@ func compIndex(l model.Sublevel) int {
 	}
 	return k
 }
-
 
 // rotConstant returns B_v of level v: the coefficient a_1(v) of x in E(v, J)
 // (see levelForms), or (E(v, 1) − E(v, 0))/2 = B − 2D + … for other models.

@@ -64,7 +64,7 @@ func OpenShellGround(iso species.Isotopologue) (OpenShell, bool) {
 // whose ground state is known not to be ¹Σ⁺: the level sum would silently
 // treat it as closed-shell (wrong degeneracy, levels that do not exist).
 func checkClosedShell(p Problem, iso species.Isotopologue) error {
-	if len(p.States) > 0 {
+	if len(p.States) > 0 || len(recordStates(p.Constants, iso)) > 0 {
 		return nil
 	}
 	o, ok := OpenShellGround(iso)

@@ -1,8 +1,12 @@
 package thermo
 
 import (
+	"math"
+
 	"bandwright/constants"
+	"bandwright/fit/model"
 	"bandwright/fit/species"
+	"bandwright/fit/states"
 )
 
 // State is one electronic state of the level sum.
@@ -47,8 +51,10 @@ type Problem struct {
 	Observed []constants.LevelRange
 	// Source names the constants record in messages and outputs.
 	Source string
-	// States lists the electronic states; nil means one ¹Σ⁺ state (¹Σg⁺ for a
-	// homonuclear molecule). Exactly one state has TermEnergy 0.
+	// States lists the electronic states; nil means the states of the
+	// constants record where it resolves their fine structure (see
+	// recordStates), else one ¹Σ⁺ state (¹Σg⁺ for a homonuclear molecule).
+	// Exactly one state has TermEnergy 0.
 	States []State
 	// DissociationEnergy is D0 in cm⁻¹ above the lowest level; 0 when unknown
 	// (then it is estimated, see the package doc).
@@ -64,4 +70,43 @@ func defaultStates(iso species.Isotopologue) []State {
 		s.Symmetry.Parity = 'g'
 	}
 	return []State{s}
+}
+
+// recordStates returns the states of a constants record that resolves their
+// fine structure (a fit with an electronic-states file), as the sum takes
+// them without an electronic-states file: the record's ground state with
+// term energy 0, each other state with the term value T_v of its lowest
+// vibrational level of the isotopologue (the record's energies include it;
+// the term energy only tells the ground state from the others). nil for a
+// record without states or with a ¹Σ state alone, or whose states describe
+// no level of iso.
+func recordStates(c *constants.Set, iso species.Isotopologue) []State {
+	if c == nil || constants.RecordStates(c.Model) == nil {
+		return nil
+	}
+	lm, ok := c.Model.(model.LevelModel)
+	sp := model.SpeciesIndex(c.Model, iso.Label)
+	if !ok || sp < 0 {
+		return nil
+	}
+	if sts := lm.States(); len(sts) == 1 && sts[0].Case() == states.Singlet {
+		return nil // no fine structure: the closed-shell rules apply
+	}
+	var out []State
+	for i, st := range lm.States() {
+		s := State{Label: st.Label, Multiplicity: st.Multiplicity, Lambda: st.Lambda, Symmetry: st.Symmetry}
+		if i > 0 {
+			for v := 0; v <= maxV; v++ {
+				if e, ok := model.VibronicConstants(lm, sp, i, v, c.Values); ok {
+					s.TermEnergy = math.Max(e[qT], math.SmallestNonzeroFloat64)
+					break
+				}
+			}
+			if s.TermEnergy == 0 {
+				continue
+			}
+		}
+		out = append(out, s)
+	}
+	return out
 }

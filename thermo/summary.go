@@ -27,10 +27,10 @@ type StateLevels struct {
 	// (every fine-structure and Λ-doubling component from the record's
 	// effective Hamiltonian), or, for a state with spin or Λ > 0 whose
 	// components the record does not describe, "neglected".
-	FineStructure string `json:"fine_structure,omitempty"`
-	EMax        float64    `json:"highest_level_cm-1"`
-	VTruncation string     `json:"v_truncation"`
-	JTruncation string     `json:"J_truncation"`
+	FineStructure string  `json:"fine_structure,omitempty"`
+	EMax          float64 `json:"highest_level_cm-1"`
+	VTruncation   string  `json:"v_truncation"`
+	JTruncation   string  `json:"J_truncation"`
 	// ExtrapolatedV lists the vibrational levels the record lacks, and
 	// ExtrapolationNote how they were extrapolated into the sum.
 	ExtrapolatedV     string `json:"extrapolated_v,omitempty"`
