@@ -357,8 +357,13 @@ func (b *levelSum) makeSources() error {
 			obs = st.Observed
 		}
 		ch := extChoice{xe: b.opts.xe, alphaScale: b.opts.alphaScale, fineAlternative: b.opts.fineAlternative}
-		if st.OmegaE > 0 {
-			ch.omega = st.OmegaE + b.opts.omegaShift*st.OmegaESigma
+		om := st
+		if st.OmegaE == 0 && blk == 0 {
+			// States shifted from the ground record take its ω_e.
+			om = sys.states[b.ground]
+		}
+		if om.OmegaE > 0 {
+			ch.omega = om.OmegaE + b.opts.omegaShift*om.OmegaESigma
 		}
 		sp := model.SpeciesIndex(c.Model, sys.iso.Label)
 		var src *levelSource

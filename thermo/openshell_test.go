@@ -3,6 +3,7 @@ package thermo
 import (
 	"math"
 	"math/rand/v2"
+	"os"
 	"sort"
 	"strings"
 	"testing"
@@ -565,5 +566,109 @@ func TestSigmaStatesHighTemperatureLimit(t *testing.T) {
 				t.Errorf("%s %g K: Q = %.8g, high-temperature limit %.8g", c.label, r.T, r.F.Q, q)
 			}
 		}
+	}
+}
+
+// oxygenStatesFile: 16O2 X³Σg⁻, a¹Δg and b¹Σg⁺ with the term energies T_e of
+// Huber & Herzberg (1979, from memory: 7918.1 and 13195.1 cm⁻¹), ω_e of the
+// ground state (1580.193 cm⁻¹) for the levels v ≥ 1 that the 60 GHz lines do
+// not reach, and D0 = 41 260 cm⁻¹ (5.116 eV; from memory); the excited states
+// are the ground-state levels shifted by T_e.
+const oxygenStatesFile = `
+species = "16O2"
+dissociation_energy = 41260.0
+dissociation_energy_sigma = 15.0
+[[state]]
+label = "X"
+term_energy = 0.0
+spin_multiplicity = 3
+lambda = 0
+symmetry = "g-"
+omega_e = 1580.193
+omega_e_sigma = 0.5
+[[state]]
+label = "a"
+term_energy = 7918.1
+spin_multiplicity = 1
+lambda = 2
+symmetry = "g"
+[[state]]
+label = "b"
+term_energy = 13195.1
+spin_multiplicity = 1
+lambda = 0
+symmetry = "g+"
+`
+
+// TestOxygenFromFineStructureFit runs fit → thermo on the recalled 16O2
+// lines of testdata/o2-60ghz.csv (the fine structure of v = 0: B, λ, λ_D,
+// γ, γ_D fitted, D held at 145.1 kHz, from memory) with the states of
+// oxygenStatesFile: the energy zero is the true lowest level, N = 1, J = 0
+// (F3), and H°(298.15 K) − H°(0) must come within 0.005 kJ mol⁻¹ of the CODATA
+// key value 8.680 (Cox, Wagman & Medvedev 1989, from memory), S° within 0.02
+// of 205.152 and Cp° within 0.02 of JANAF's 29.376 (Chase 1998, from memory),
+// natural composition; the warning about neglected fine structure is gone for
+// X, and stays (Λ-doubling) for a¹Δg, whose levels come from the ground state.
+func TestOxygenFromFineStructureFit(t *testing.T) {
+	f, err := os.Open("testdata/o2-60ghz.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	list, err := linelist.Read(f, "o2-60ghz.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	file, err := states.Read(strings.NewReader(oxygenStatesFile), "o2.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	x := file.States[0]
+	x.TermEnergy, x.OmegaE, x.OmegaESigma = 0, 0, 0
+	if err := linelist.CheckStates(list, []states.State{x}); err != nil {
+		t.Fatal(err)
+	}
+	const mhz = 1 / 29979.2458
+	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "lambda", "lambda_D", "gamma", "gamma_D"},
+		Fixes: []model.Fix{{Name: "D", V: -1, Value: 0.1451 * mhz}}, States: []states.State{x}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fr, err := fit.Fit(fit.Problem{Lines: list.Lines, Model: m}, fit.Settings{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := fit.NewRecord(fr)
+	cs, err := rec.Constants()
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := Problem{Constants: cs, Observed: rec.Observed, DissociationEnergy: file.DissociationEnergy, DissociationSigma: file.DissociationSigma}
+	for _, s := range file.States {
+		p.States = append(p.States, State{Label: s.Label, TermEnergy: s.TermEnergy, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry,
+			OmegaE: s.OmegaE, OmegaESigma: s.OmegaESigma, FineStructureWidth: s.FineStructureWidth, ProductsEnergy: s.ProductsEnergy})
+	}
+	res, err := Compute(p, Settings{Temperatures: []float64{ReferenceTemperature, 1000, 3000}, Composition: CompositionNatural})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := res.Rows[0]
+	t.Logf("16O2 (fit s = %.3f): H°(298.15 K) − H°(0) = %.4f kJ/mol (CODATA 8.680, Δ %+.4f), σ_total %.2g; S° = %.4f (205.152, Δ %+.4f), Cp° = %.4f (29.376, Δ %+.4f); zero %s, %.4f cm-1 above T_0",
+		fr.Stats.Sigma, r.F.HmH0, r.F.HmH0-8.680, r.SigmaTotal.HmH0, r.F.S, r.F.S-205.152, r.F.Cp, r.F.Cp-29.376, res.Zero.Describe(), res.Zero.LevelAboveV0J0)
+	if d := math.Abs(r.F.HmH0 - 8.680); d > 0.005 || d > 2.5*math.Hypot(r.SigmaTotal.HmH0, 0.002) {
+		t.Errorf("H°(298.15 K) − H°(0) = %.4f ± %.2g kJ/mol, CODATA 8.680(2)", r.F.HmH0, r.SigmaTotal.HmH0)
+	}
+	if math.Abs(r.F.S-205.152) > 0.02 || math.Abs(r.F.Cp-29.376) > 0.02 {
+		t.Errorf("S° = %.4f (CODATA 205.152), Cp° = %.4f (JANAF 29.376)", r.F.S, r.F.Cp)
+	}
+	if res.Zero.N != 1 || res.Zero.J != 0 || res.Zero.F != 3 {
+		t.Errorf("energy zero %s, want N=1, J=0, F3", res.Zero.Describe())
+	}
+	w := strings.Join(res.Warnings, "\n")
+	if strings.Contains(w, "state X (2S+1 = 3): fine structure neglected") || !strings.Contains(w, "state a: Λ-doubling neglected") {
+		t.Errorf("warnings:\n%s", w)
+	}
+	for _, row := range res.Rows {
+		t.Logf("%g K: H−H0 %.4f ± %.2g, S %.4f ± %.2g, Cp %.4f ± %.2g", row.T, row.F.HmH0, row.SigmaTotal.HmH0, row.F.S, row.SigmaTotal.S, row.F.Cp, row.SigmaTotal.Cp)
 	}
 }
