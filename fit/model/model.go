@@ -358,17 +358,27 @@ func xPow(J int, n int, dst []float64) {
 }
 
 // CheckTerm returns nil when name is a term the model of the given kind
-// takes in its list of terms (term values: T, B, D, H, L; Dunham: Y<k><l>),
-// and otherwise the error NewTermValues or NewDunham would give, so that a
-// pipeline file can name the file and line of a bad term before any fit.
+// takes in its list of terms (term values: T, B, D, H, L and the
+// fine-structure constants A, A_D, gamma, gamma_D, lambda, lambda_D, p, q,
+// p_D, q_D; Dunham: Y<k><l> and the fine-structure expansions A_e, alpha_A,
+// A_D, …; either with a "STATE:" prefix), and otherwise the error
+// NewTermValues or NewDunham would give, so that a pipeline file can name
+// the file and line of a bad term before any fit. Whether a constant suits
+// the case of its state is checked when the model is built.
 func CheckTerm(kind, name string) error {
 	name = strings.TrimSpace(name)
+	if _, rest, ok := strings.Cut(name, ":"); ok {
+		name = strings.TrimSpace(rest)
+	}
 	switch kind {
 	case KindTermValues:
-		if name != "T" && !contains(rotTerms, name) {
-			return fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L)", name)
+		if q := quantityOf(name); q < 0 {
+			return fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L and the fine-structure constants A, A_D, gamma, gamma_D, lambda, lambda_D, p, q, p_D, q_D)", name)
 		}
 	case KindDunham:
+		if _, _, ok := parseFineDunham(name); ok {
+			return nil
+		}
 		_, _, err := ParseDunhamTerm(name)
 		return err
 	}
