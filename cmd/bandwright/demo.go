@@ -13,7 +13,7 @@ func init() { register(90, demoCommand) }
 func demoCommand() *cli.Command {
 	return &cli.Command{
 		Name:         "demo",
-		Usage:        "run the whole chain on the bundled demo (an invented CO gas-cell peak list)",
+		Usage:        "run the whole chain on the bundled demo (invented: a CO gas-cell peak list, and an NO gas-cell line list with fine structure)",
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "out", Value: "bandwright-demo", Usage: "output folder"},
@@ -25,6 +25,10 @@ func demoCommand() *cli.Command {
 			}
 			fmt.Fprintf(c.App.Writer, "demo: invented scenario (Larkspur Ridge gas-cell laboratory, fictional); inputs copied to %s\n", oc.Inputs)
 			printChain(c, oc.Chain)
+			if s := oc.OpenShell; s != nil {
+				fmt.Fprintf(c.App.Writer, "\ndemo: second invented scenario, a hot NO cell (open shell, X²Π fine structure); inputs copied to %s\n", s.Inputs)
+				printChain(c, s.Chain)
+			}
 			return nil
 		},
 	}
