@@ -50,3 +50,28 @@ func BenchmarkMonteCarloCO(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkTableNitricOxide: 10–6000 K in 1 K steps with linear σ for a ²Π
+// term-values fit of 14N16O (bands 1-0 and 2-0, v = 0–2 fitted, the others
+// extrapolated; target: under 5 s per run). Each run includes the level
+// enumeration (every spin–orbit and Λ-doubling component, with gradients),
+// the budget's recomputed alternatives and the NASA-7 fit.
+func BenchmarkTableNitricOxide(b *testing.B) {
+	o := nitricOxide()
+	lines := o.openLines(b, [][2]int{{1, 0}, {2, 0}}, 61, 0.001, 3)
+	rec, cs := fitOpenRecord(b, lines, o.state, []string{"B", "D", "A", "gamma", "p", "q"})
+	temps := rangeTemps(10, 6000, 1)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		res, err := Compute(Problem{Constants: cs, Observed: rec.Observed}, Settings{Temperatures: temps})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if len(res.Rows) != 5991 {
+			b.Fatal(len(res.Rows))
+		}
+		if i == 0 {
+			b.ReportMetric(float64(res.System.NumLevels()), "levels")
+		}
+	}
+}
