@@ -12,11 +12,16 @@
 // E_i in cm⁻¹ above the energy zero (the lowest level with non-zero weight), T in K,
 // c₂ = hc/k in cm·K computed from the CODATA constants of
 // gonum.org/v1/gonum/unit/constant. g_e = (2S+1)(2 − δ_Λ0) is the electronic
-// degeneracy and g_ns the nuclear-spin weight (see NuclearSpinWeights). The models of
-// package fit/model describe ¹Σ levels, E = E(v, x) with x = J(J+1); for a state
-// with electron spin (S > 0) the model's J is read as N, the rotational quantum
-// number without electron spin, and each N carries 2S+1 spin components (fine
-// structure neglected); for Λ > 0 the sum starts at N = Λ.
+// degeneracy and g_ns the nuclear-spin weight (see NuclearSpinWeights). For a
+// state whose fine structure the constants record resolves (see Open shells)
+// the sum runs over the components themselves, each with g_e = 1:
+//
+//	Q(T) = Σ_i g_ns(±_i) · (2J_i+1) · exp(−c₂·E_i/T).
+//
+// Otherwise the model describes ¹Σ levels, E = E(v, x) with x = J(J+1); for a
+// state with electron spin (S > 0) the model's J is read as N, the rotational
+// quantum number without electron spin, and each N carries 2S+1 spin
+// components (fine structure neglected); for Λ > 0 the sum starts at N = Λ.
 //
 // Levels are enumerated once (see NewSystem) and stored with E and ∂E/∂p for every
 // fitted parameter p. For each temperature one pass over the levels accumulates
@@ -128,9 +133,14 @@
 //   - dissociation: D0 − σ and D0 + σ (the levels between the limits
 //     removed or added: the sum is enumerated once to the highest limit);
 //   - omega_e: ω_e ± σ of the electronic-states file (one level);
-//   - fine_structure: the spin components of an open-shell state split over
-//     its width W (fine_structure_width, or the embedded list of open-shell
-//     ground states), energies from the new lowest level.
+//   - fine_structure: the spin components of an open-shell state whose fine
+//     structure the record does not describe split over its width W
+//     (fine_structure_width, or the embedded list of open-shell ground
+//     states), energies from the new lowest level;
+//   - fine_structure_constants: for a state whose fine structure the record
+//     resolves, the fine-structure constants of the vibrational levels it
+//     lacks extrapolated linearly in v from the record's levels (one level:
+//     changed by 1 % per quantum) instead of held at the nearest level.
 //
 // The next term of a series is estimated from its last two, c_(K+1) ≈
 // c_K²/c_(K−1) (common practice: an order of magnitude), and applied only
@@ -145,13 +155,43 @@
 //
 // # Open shells
 //
-// The models describe ¹Σ levels. A molecule of the embedded list of
-// diatomics whose ground state is not ¹Σ⁺ (O2, NO, OH, CH, CN, SO, ClO, NS,
-// NH, SH, S2, CF, BrO, any isotopologue; OpenShellGround) is refused without
-// electronic states (an error of kind failure.BadInput naming --states).
-// With them, the model's J is read as N and each N carries its 2S+1 spin
-// components at one energy; the fine-structure entry of the budget and a
-// warning state the size of what that neglects (for 16O2 the energy zero
-// sits at the centre of N = 1, about 2.6 cm⁻¹ above its lowest spin
-// component, so H°(T) − H°(0) is low by about 0.03 kJ mol⁻¹).
+// A constants record fitted with an electronic-states file lists its states,
+// and its model (fit/model.LevelModel) gives every fine-structure and
+// Λ-doubling component of every vibronic level. A state of the sum whose
+// label is a state of that record (the ground state takes the record's ground
+// state; the terms must agree) gets a fine-structure source (fineLevels): its
+// levels are the components (v, J, F, e/f) of the state's effective
+// Hamiltonian evaluated from the effective constants of each vibronic level
+// (model.EffectiveComponents), with ∂E/∂x = Σ_q ∂E/∂c_q·∂c_q/∂x
+// (Hellmann–Feynman) for the statistical σ; the levels of a vibronic level
+// enumerate J upwards while every component still rises with J. The
+// vibrational levels the record lacks are extrapolated as above, their
+// fine-structure constants taken from the nearest level of the record (the
+// budget's fine_structure_constants entry extrapolates them instead). The
+// energy zero is the lowest component with non-zero weight (16O2 X³Σg⁻: N = 1,
+// J = 0, F3). Without an electronic-states file the sum takes the record's
+// states (recordStates).
+//
+// Nuclear-spin weights of components (species.NuclearSpinWeightsByParity): a
+// level of a homonuclear molecule is symmetric under exchange of the nuclei
+// when its total parity is + in a g state or − in a u state, and takes the
+// weight of symmetric or antisymmetric levels by the spin statistics; its
+// total parity follows from its e/f label, +(−1)^(J−½) (half-integer J) or
+// +(−1)^J (integer J) for e, the opposite for f (Brown et al., J. Mol.
+// Spectrosc. 55, 500 (1975)). In a Σ state this is the rule by the parity of
+// N; in a Π or Δ state the two Λ components of a J take different weights
+// (a¹Δg of 16O2 keeps one of them).
+//
+// A record fitted without states describes ¹Σ levels. A molecule of the
+// embedded list of diatomics whose ground state is not ¹Σ⁺ (O2, NO, OH, CH,
+// CN, SO, ClO, NS, NH, SH, S2, CF, BrO, any isotopologue; OpenShellGround) is
+// then refused without electronic states (an error of kind failure.BadInput
+// naming --states). With them, and for every state the record does not
+// describe (an excited state without constants of its own is the ground
+// record's spin-free manifold shifted by its term energy), the model's J is
+// read as N and each N carries its 2S+1 spin components at one energy; the
+// fine-structure entry of the budget and a warning state the size of what
+// that neglects (for 16O2 the energy zero sits at the centre of N = 1, about
+// 2.6 cm⁻¹ above its lowest spin component, so H°(T) − H°(0) is low by about
+// 0.03 kJ mol⁻¹).
 package thermo
