@@ -165,3 +165,17 @@ func TestDiverging(t *testing.T) {
 		}
 	}
 }
+
+// TestJText: the bands and levels of an open-shell record carry J − ½ with
+// the half-integer flag; the report writes J itself.
+func TestJText(t *testing.T) {
+	for _, c := range []struct {
+		j    int
+		half bool
+		want string
+	}{{0, false, "0"}, {47, false, "47"}, {0, true, "0.5"}, {47, true, "47.5"}} {
+		if got := jText(c.j, c.half); got != c.want {
+			t.Errorf("jText(%d, %v) = %q, want %q", c.j, c.half, got, c.want)
+		}
+	}
+}

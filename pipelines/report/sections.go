@@ -8,6 +8,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/fit/states"
 )
 
 // buildDocument lays out the report of one folder.
@@ -87,14 +88,14 @@ func glance(d *document, f *folder) {
 	if len(rec.Bands) > 0 {
 		t := &table{Caption: "Bands among the lines used (v′ = v″: pure rotation).", Head: []string{"species", "band v′–v″", "lines used", "J range"}, Numeric: []bool{false, false, true, false}}
 		for _, b := range rec.Bands {
-			t.Rows = append(t.Rows, []string{b.Species, linelist.BandLabel(b.VUp, b.VLo), strconv.Itoa(b.Lines), sprintf("%d–%d", b.JMin, b.JMax)})
+			t.Rows = append(t.Rows, []string{b.Species, linelist.BandLabel(b.VUp, b.VLo), strconv.Itoa(b.Lines), jText(b.JMin, b.HalfJ) + "–" + jText(b.JMax, b.HalfJ)})
 		}
 		d.table(s, t)
 	}
 	if len(rec.Observed) > 0 {
 		var lv []string
 		for _, l := range rec.Observed {
-			lv = append(lv, sprintf("%s v=%d up to J=%d", l.Species, l.V, l.JMax))
+			lv = append(lv, sprintf("%s v=%d up to J=%s", l.Species, l.V, jText(l.JMax, l.HalfJ)))
 		}
 		s.para("Levels reached by the lines used (beyond them every calculated level is an extrapolation): %s.", strings.Join(lv, "; "))
 	}
@@ -189,4 +190,13 @@ func constantsSection(d *document, f *folder) {
 	} else {
 		s.para("The fit derived no further constants.")
 	}
+}
+
+// jText writes a J of a record's bands and levels: j, or j + ½ where the
+// record flags half-integer J (states.FormatJ: "3", "3.5").
+func jText(j int, half bool) string {
+	if half {
+		return states.FormatJ(2*j + 1)
+	}
+	return states.FormatJ(2 * j)
 }
