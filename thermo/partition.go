@@ -126,7 +126,10 @@ func (sys *System) accumulateAt(e []float64, beta float64, acc *moments) {
 // convention, over the same vibrational levels v as the exact sum (G_v = E(v, J=0),
 // B_v the rotational constant of level v). It differs from the exact Q only in
 // the rotational sum, so its relative error shows where the rigid-rotor integral
-// fails: low T, light molecules, strong centrifugal distortion at high T.
+// fails: low T, light molecules, strong centrifugal distortion at high T. For a
+// state whose fine structure is resolved G_v is the vibronic term value T_v and
+// its g_e components sit there: the form then also fails where kT is not large
+// against the fine-structure splitting (NO ²Π below about 1000 K).
 func (sys *System) ClosedForm(T float64) float64 {
 	beta := units.SecondRadiation / T
 	eNeg := cutExponent * sys.tMax / units.SecondRadiation

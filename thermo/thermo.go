@@ -345,7 +345,7 @@ func (sys *System) conventions(s Settings) Conventions {
 	c.Uncertainty = "<f>_sigma: statistical, linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + constants.CovarianceConvention +
 		". <f>_sigma_model: what the data do not constrain (levels beyond the data, the dissociation limit, truncated series, neglected fine structure), from named alternatives recomputed against the nominal table (contributions in thermo.json); " + BudgetRule
 	c.Caution = Caution
-	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T (rigid rotor with Mulholland's series, same v as the exact sum); Q_closed_form_error = Q_closed_form/Q − 1"
+	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T (rigid rotor with Mulholland's series, same v as the exact sum; where the fine structure is resolved, all g_e components of a level at the vibronic term value G_v = T_v, so the form fails where kT is not large against the spin–orbit or spin splitting); Q_closed_form_error = Q_closed_form/Q − 1"
 	return c
 }
 
