@@ -46,7 +46,6 @@ const fineDriftPerV = 0.01
 var (
 	qT = model.QuantityIndex("T")
 	qB = model.QuantityIndex("B")
-	qD = model.QuantityIndex("D")
 	qA = model.QuantityIndex("A")
 )
 
