@@ -12,6 +12,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/internal/csvcell"
+	"bandwright/internal/mdtext"
 )
 
 // assignColumns are the assignment's own columns of lines.csv, after the
@@ -171,8 +172,8 @@ func WriteReport(w io.Writer, res *Result, info ReportInfo) error {
 	var b strings.Builder
 	p := res.Problem
 	fmt.Fprintf(&b, "# Assignment\n\n")
-	fmt.Fprintf(&b, "- peak list: `%s` (%d peaks)\n", info.Peaks, len(p.Peaks.Peaks))
-	fmt.Fprintf(&b, "- starting constants: `%s`\n", info.Start)
+	fmt.Fprintf(&b, "- peak list: %s (%d peaks)\n", mdtext.Escape(info.Peaks), len(p.Peaks.Peaks))
+	fmt.Fprintf(&b, "- starting constants: %s\n", mdtext.Escape(info.Start))
 	var sps []string
 	for _, s := range p.Start.Species {
 		x := fmt.Sprintf("%s (abundance %.4g", s.Label, s.Abundance)
@@ -242,7 +243,7 @@ func WriteReport(w io.Writer, res *Result, info ReportInfo) error {
 	if len(failed) > 0 {
 		b.WriteString("\n## Bands not locked\n\n")
 		for _, x := range failed {
-			fmt.Fprintf(&b, "- **%s**: %s (predicted strongest line %.3g relative to the strongest of all bands)\n", x.Label(), x.Lock.Reason, x.MaxPredict/maxPredict(res))
+			fmt.Fprintf(&b, "- **%s**: %s (predicted strongest line %.3g relative to the strongest of all bands)\n", x.Label(), mdtext.Escape(x.Lock.Reason), x.MaxPredict/maxPredict(res))
 		}
 	}
 	var drops []Leftover
@@ -253,13 +254,13 @@ func WriteReport(w io.Writer, res *Result, info ReportInfo) error {
 		b.WriteString("\n## Lines dropped by the checks\n\n")
 		b.WriteString("| peak | position | dropped | reason |\n|---|---|---|---|\n")
 		for _, d := range drops {
-			fmt.Fprintf(&b, "| %d | %s %s | %s | %s |\n", d.Peak.Index, d.Peak.Text, d.Peak.Unit, d.Dropped.Label(), mdCell(d.Reason))
+			fmt.Fprintf(&b, "| %d | %s %s | %s | %s |\n", d.Peak.Index, d.Peak.Text, d.Peak.Unit, d.Dropped.Label(), mdtext.Escape(d.Reason))
 		}
 	}
 	if len(res.Warnings) > 0 {
 		b.WriteString("\n## Warnings\n\n")
 		for _, w := range res.Warnings {
-			fmt.Fprintf(&b, "- %s\n", mdCell(w))
+			fmt.Fprintf(&b, "- %s\n", mdtext.Escape(w))
 		}
 	}
 	if res.Fit != nil {
@@ -290,8 +291,4 @@ func maxPredict(res *Result) float64 {
 		return 1
 	}
 	return m
-}
-
-func mdCell(s string) string {
-	return strings.ReplaceAll(strings.ReplaceAll(s, "|", "\\|"), "\n", " ")
 }

@@ -12,6 +12,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/internal/csvcell"
+	"bandwright/internal/mdtext"
 )
 
 // WriteResiduals writes residuals.csv: every input line with its observed and
@@ -166,13 +167,13 @@ func WriteSummary(w io.Writer, p Problem, r *Result, rec *constants.Record) erro
 		b.WriteString("None.\n")
 	}
 	for _, s := range r.Warnings {
-		fmt.Fprintf(&b, "- %s\n", mdEscape(s))
+		fmt.Fprintf(&b, "- %s\n", mdtext.Escape(s))
 	}
 	summaryResiduals(&b, p, r)
 	if len(rec.Provenance.Inputs) > 0 {
 		b.WriteString("\n## Inputs\n\n")
 		for _, in := range rec.Provenance.Inputs {
-			fmt.Fprintf(&b, "- `%s` sha256 %s\n", strings.ReplaceAll(in.Path, "`", "'"), in.SHA256)
+			fmt.Fprintf(&b, "- %s sha256 %s\n", mdtext.Escape(in.Path), in.SHA256)
 		}
 		fmt.Fprintf(&b, "\nbandwright %s, %s\n", rec.Provenance.Version, rec.Provenance.Created)
 	}
@@ -226,7 +227,7 @@ func summaryConstants(b *strings.Builder, r *Result, rec *constants.Record) {
 			note = "fixed"
 		}
 		text, unit := rec.ParamText(q)
-		fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", mdEscape(q.ID()), mdEscape(sp), text, unit, note)
+		fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", mdtext.Escape(q.ID()), mdtext.Escape(sp), text, unit, note)
 	}
 	if r.Rounding != nil {
 		fmt.Fprintf(b, "\nValues rounded by sequential rounding and refitting (Le Roy 1998; rounding units from Watson's parameter sensitivity, 1977), written with every digit the rounding kept; χ² %.6g before, %.6g after rounding. σ are those of the unrounded fit.\n", r.Rounding.Chi2Before, r.Rounding.Chi2After)
@@ -235,7 +236,7 @@ func summaryConstants(b *strings.Builder, r *Result, rec *constants.Record) {
 		b.WriteString("\n## Derived constants\n\n| constant | species | value | unit | note |\n|---|---|---|---|---|\n")
 		for _, d := range rec.Derived {
 			text, unit := rec.DerivedText(d)
-			fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", d.Name, mdEscape(d.Species), text, unit, mdEscape(d.Note))
+			fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", mdtext.Escape(d.Name), mdtext.Escape(d.Species), text, unit, mdtext.Escape(d.Note))
 		}
 	}
 }
@@ -251,7 +252,7 @@ func summaryResiduals(b *strings.Builder, p Problem, r *Result) {
 			st = "rejected"
 		}
 		omc := r.Unit.FromWavenumber(l.Unit.ToWavenumber(lr.OmC))
-		fmt.Fprintf(b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdEscape(l.File), l.Row, l.Species, mdEscape(linelist.LineLabel(&l)), omc, r.Unit, lr.Norm, st)
+		fmt.Fprintf(b, "| %s:%d | %s | %s | %.4g %s | %.2f | %s |\n", mdtext.Escape(l.File), l.Row, l.Species, mdtext.Escape(linelist.LineLabel(&l)), omc, r.Unit, lr.Norm, st)
 	}
 }
 
@@ -282,13 +283,6 @@ func largestResiduals(ls []LineResult, k int) []int {
 	return top
 }
 
-// mdEscape escapes text for a Markdown table cell: pipes, markup characters
-// and HTML are neutralised.
-func mdEscape(s string) string {
-	r := strings.NewReplacer("|", `\|`, "<", "&lt;", ">", "&gt;", "&", "&amp;", "*", `\*`, "_", `\_`, "`", "\\`", "[", `\[`, "]", `\]`, "\n", " ", "\r", " ")
-	return r.Replace(s)
-}
-
 // writeStates names the electronic states of a model that has more than a ¹Σ⁺
 // ground state.
 func writeStates(b *strings.Builder, r *Result) {
@@ -298,7 +292,7 @@ func writeStates(b *strings.Builder, r *Result) {
 	}
 	var terms []string
 	for _, s := range r.Model.(model.LevelModel).States() {
-		terms = append(terms, mdEscape(s.Term()))
+		terms = append(terms, mdtext.Escape(s.Term()))
 	}
 	fmt.Fprintf(b, "Electronic states: %s (the first is the ground state; parameters of the others carry their label, A:B_v0). Fine structure and Λ-doubling: the effective Hamiltonians of the model package documentation.\n\n", strings.Join(terms, ", "))
 }

@@ -11,7 +11,6 @@ func SetHook(f func(point, name string)) (restore func()) {
 }
 
 var (
-	MdEscape   = mdEscape
 	FolderStem = folderStem
 	OneLine    = oneLine
 )

@@ -178,21 +178,6 @@ func TestLedgerWithWrongHeaderRefused(t *testing.T) {
 	}
 }
 
-func TestMarkdownEscape(t *testing.T) {
-	for in, want := range map[string]string{
-		"<script>alert(1)</script>": `\<script\>alert(1)\</script\>`,
-		"a|b":                       `a\|b`,
-		"[x](javascript:y)":         `\[x\](javascript:y)`,
-		"two\nlines":                "two lines",
-		"under_score*star`tick":     "under\\_score\\*star\\`tick",
-		"plain name 1.csv":          "plain name 1.csv",
-	} {
-		if got := mdEscape(in); got != want {
-			t.Errorf("mdEscape(%q) = %q, want %q", in, got, want)
-		}
-	}
-}
-
 func TestFolderStem(t *testing.T) {
 	for in, want := range map[string]string{
 		"a.csv":                "a",

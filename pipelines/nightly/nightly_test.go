@@ -521,7 +521,7 @@ func TestSummaryEscapesUserText(t *testing.T) {
 		t.Errorf("HTML summary does not escape the file name:\n%s", html)
 	}
 	md, _ := os.ReadFile(rep.SummaryMarkdown)
-	if strings.Contains(string(md), "<script>") || !strings.Contains(string(md), `\<script\>alert(1)\<script\>.csv`) {
+	if strings.Contains(string(md), "<script>") || !strings.Contains(string(md), "&lt;script&gt;alert(1)&lt;script&gt;.csv") {
 		t.Errorf("Markdown summary does not escape the file name:\n%s", md)
 	}
 	// CSV cells that start with = are neutralised.

@@ -14,6 +14,7 @@ import (
 	"github.com/google/renameio/v2"
 
 	"bandwright/constants"
+	"bandwright/internal/mdtext"
 )
 
 // SummaryName returns the base name (without extension) of the summary of a
@@ -220,27 +221,8 @@ tr.failed td, tr.drift td { background: #fde8e8; }
 </html>
 `))
 
-// mdEscape escapes text from users (file names, messages) for Markdown: a
-// backslash before every character that Markdown or inline HTML could
-// interpret, and line breaks turned into spaces.
-func mdEscape(s string) string {
-	var b strings.Builder
-	for _, r := range s {
-		switch r {
-		case '\\', '`', '*', '_', '[', ']', '<', '>', '!', '|', '~', '&':
-			b.WriteByte('\\')
-			b.WriteRune(r)
-		case '\n', '\r', '\t':
-			b.WriteByte(' ')
-		default:
-			b.WriteRune(r)
-		}
-	}
-	return b.String()
-}
-
 func writeMarkdown(b *bytes.Buffer, d summaryData) {
-	e := mdEscape
+	e := mdtext.Escape
 	fmt.Fprintf(b, "# Nightly summary %s\n\n", d.Date)
 	fmt.Fprintf(b, "Archive %s · generated %s · bandwright %s", e(d.Archive), d.Generated, e(d.Version))
 	if d.Pipeline != "" {

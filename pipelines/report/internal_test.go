@@ -8,38 +8,6 @@ import (
 	"gonum.org/v1/plot/plotter"
 )
 
-// Markdown escaping: markup becomes entities, characters that start inline
-// constructs are backslash-escaped, block markers at the start of a line are
-// escaped, and newlines cannot start a new block (CommonMark 0.31, sections
-// 2.4 backslash escapes and 4–5 block structure; common practice).
-func TestMarkdownEscaping(t *testing.T) {
-	cases := []struct{ in, want string }{
-		{"<script>alert(1)</script>", "&lt;script&gt;alert(1)&lt;/script&gt;"},
-		{"a | b", `a \| b`},
-		{"*x* _y_ `z` [l](u) ~s~", `\*x\* \_y\_ \` + "`" + `z\` + "`" + ` \[l\](u) \~s\~`},
-		{"# heading", `\# heading`},
-		{"- item", `\- item`},
-		{"12. item", `12\. item`},
-		{"3) item", `3\) item`},
-		{"line\nnext\r\n# more", "line next # more"},
-		{`back\slash`, `back\\slash`},
-		{"&amp;", "&amp;amp;"},
-		{"2169.75(3)", "2169.75(3)"},
-		{"-13.2", "-13.2"},
-		{"---", `\---`},
-		{"#tag", `\#tag`},
-	}
-	for _, c := range cases {
-		if got := mdText(c.in); got != c.want {
-			t.Errorf("mdText(%q) = %q, want %q", c.in, got, c.want)
-		}
-	}
-	// In a table cell a leading number or sign stays as it is.
-	if got := mdCell("-13.24150(10)"); got != "-13.24150(10)" {
-		t.Errorf("mdCell = %q", got)
-	}
-}
-
 // No NaN or Inf is ever printed.
 func TestNumberFormatting(t *testing.T) {
 	for _, x := range []float64{math.NaN(), math.Inf(1), math.Inf(-1)} {

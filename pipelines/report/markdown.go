@@ -4,6 +4,8 @@ import (
 	"bufio"
 	"io"
 	"strings"
+
+	"bandwright/internal/mdtext"
 )
 
 // The Markdown report carries the same sections and tables as the HTML page;
@@ -12,52 +14,8 @@ import (
 // characters that start Markdown constructs are backslash-escaped, so a
 // comment can neither inject HTML nor format the page.
 
-var mdReplacer = strings.NewReplacer(
-	`\`, `\\`, "`", "\\`", "*", `\*`, "_", `\_`, "[", `\[`, "]", `\]`,
-	"|", `\|`, "~", `\~`, "&", "&amp;", "<", "&lt;", ">", "&gt;",
-	"\r\n", " ", "\n", " ", "\r", " ", "\t", " ",
-)
-
-// mdText escapes plain text for Markdown inline content (paragraphs, list
-// items, table cells, image descriptions).
-func mdText(s string) string {
-	s = mdReplacer.Replace(s)
-	// Block markers that only count at the start of a line.
-	return blockSafe(s)
-}
-
-// mdCell escapes text for a table cell, where block markers do not count.
-func mdCell(s string) string { return mdReplacer.Replace(s) }
-
-// blockSafe escapes a marker at the start of s that would open a heading, a
-// list item or a thematic break (CommonMark: "# ", "- ", "+ ", "---",
-// "1. ", "1) ").
-func blockSafe(s string) string {
-	if s == "" {
-		return s
-	}
-	spaceOrEnd := func(i int) bool { return i >= len(s) || s[i] == ' ' || s[i] == '\t' }
-	switch s[0] {
-	case '#':
-		return `\` + s
-	case '+':
-		if spaceOrEnd(1) {
-			return `\` + s
-		}
-	case '-':
-		if spaceOrEnd(1) || s[1] == '-' {
-			return `\` + s
-		}
-	}
-	i := 0
-	for i < len(s) && s[i] >= '0' && s[i] <= '9' {
-		i++
-	}
-	if i > 0 && i < len(s) && (s[i] == '.' || s[i] == ')') && spaceOrEnd(i+1) {
-		return s[:i] + `\` + s[i:]
-	}
-	return s
-}
+// mdText escapes text for Markdown by the one rule of package mdtext.
+func mdText(s string) string { return mdtext.Escape(s) }
 
 func writeMarkdown(w io.Writer, d *document) error {
 	b := bufio.NewWriter(w)
@@ -114,7 +72,7 @@ func writeMarkdown(w io.Writer, d *document) error {
 func mdTable(p func(...string), t *table) {
 	p(sprintf("*Table %d.* ", t.Num), mdText(t.Caption), "\n\n")
 	cell := func(s string) string {
-		s = mdCell(s)
+		s = mdText(s)
 		if s == "" {
 			return " "
 		}
