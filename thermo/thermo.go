@@ -333,19 +333,19 @@ func (sys *System) conventions(s Settings) Conventions {
 		c.CompositionNote = fmt.Sprintf("isotopologue convention: translation and internal levels of %s, molar mass %.6f g/mol (AME2020 atomic masses)", iso.Label, sys.molarMass)
 	}
 	if sys.spin == SpinThermochemistry {
-		c.NuclearSpinNote = fmt.Sprintf("thermochemistry convention: nuclear-spin degeneracy (2I_A+1)(2I_B+1) = %d divided out; homonuclear even/odd-J weights from the spin statistics (equivalent to σ = %d at high T); nuclear-spin entropy excluded", iso.NuclearSpinStates(), sys.sigmaNumber)
+		c.NuclearSpinNote = fmt.Sprintf("thermochemistry convention: nuclear-spin degeneracy (2I_A+1)(2I_B+1) = %d divided out; homonuclear even/odd-J weights from the spin statistics (equivalent to the symmetry number σ_sym = %d at high T); nuclear-spin entropy excluded", iso.NuclearSpinStates(), sys.sigmaNumber)
 	} else {
 		c.NuclearSpinNote = fmt.Sprintf("line-intensity convention: full nuclear-spin degeneracy included ((2I_A+1)(2I_B+1) = %d in total); Q for line intensities, S includes R ln of the spin states", iso.NuclearSpinStates())
 	}
 	z := sys.zp
 	c.EnergyZero = fmt.Sprintf("lowest level (state %s, %s); H°(0) with every molecule in it", z.State, z.Describe())
 	if z.ZPE != nil {
-		c.EnergyZero += fmt.Sprintf("; zero-point energy E(0,0) = %.6f(σ %.2g) cm-1 above the potential minimum", *z.ZPE, *z.ZPESigma)
+		c.EnergyZero += fmt.Sprintf("; zero-point energy E(0,0) = %s cm-1 above the potential minimum", constants.FormatParen(*z.ZPE, *z.ZPESigma))
 	}
 	c.Uncertainty = "<f>_sigma: statistical, linear propagation of the full covariance of the fitted parameters (analytic derivatives of every function); the covariance is " + constants.CovarianceConvention +
 		". <f>_sigma_model: what the data do not constrain (levels beyond the data, the dissociation limit, truncated series, neglected fine structure), from named alternatives recomputed against the nominal table (contributions in thermo.json); " + BudgetRule
 	c.Caution = Caution
-	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T (rigid rotor with Mulholland's series, same v as the exact sum; where the fine structure is resolved, all g_e components of a level at the vibronic term value G_v = T_v, so the form fails where kT is not large against the spin–orbit or spin splitting); Q_closed_form_error = Q_closed_form/Q − 1"
+	c.ClosedForm = "Q_closed_form = Σ_states Σ_v g_e f_ns exp(−c2 (T_s + G_v − E0)/T) · T/(σ_sym c2 B_v) · (1 + u/3 + u²/15 + 4u³/315), u = c2 B_v/T, σ_sym the symmetry number (rigid rotor with Mulholland's series, same v as the exact sum; where the fine structure is resolved, all g_e components of a level at the vibronic term value G_v = T_v, so the form fails where kT is not large against the spin–orbit or spin splitting); Q_closed_form_error = Q_closed_form/Q − 1"
 	return c
 }
 

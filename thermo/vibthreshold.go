@@ -5,6 +5,7 @@ import (
 	"math"
 	"strings"
 
+	"bandwright/constants"
 	"bandwright/units"
 )
 
@@ -70,10 +71,10 @@ func (sys *System) omegaLowerBound(mi int) (float64, string) {
 	}
 	sd := math.Sqrt(math.Max(0, quad(c.Cov, gf)))
 	if !(b > 0) || !(d > 3*sd) {
-		return omegaFloor, fmt.Sprintf("D = %.4g(σ %.2g) cm-1 is not determined, so no bound from the Kratzer relation: %g cm-1, below every chemically bound ground state", d, sd, omegaFloor)
+		return omegaFloor, fmt.Sprintf("D = %s cm-1 is not determined, so no bound from the Kratzer relation: %g cm-1, below every chemically bound ground state", constants.FormatParen(d, sd), omegaFloor)
 	}
 	w := math.Sqrt(4*b*b*b/(d+3*sd)) / kratzerFactor
-	return math.Max(w, omegaFloor), fmt.Sprintf("the Kratzer estimate √(4B³/(D + 3σ_D)) with B = %.8g, D = %.4g(σ %.2g) cm-1, divided by %g", b, d, sd, kratzerFactor)
+	return math.Max(w, omegaFloor), fmt.Sprintf("the Kratzer estimate √(4B³/(D + 3σ_D)) with B = %.8g, D = %s cm-1, divided by %g", b, constants.FormatParen(d, sd), kratzerFactor)
 }
 
 // harmonicCpX returns the x = c₂ω/T at which the harmonic oscillator's

@@ -20,7 +20,7 @@ import (
 // them (TestInternalPackagesListed keeps the list complete).
 var internalPackages = []string{
 	"assign", "codeshape", "constants", "csvcell", "failure", "fit", "linelist", "lsq", "mdtext", "model",
-	"nightly", "outdir", "parallel", "pipelines", "report", "species", "states", "synth", "textcheck",
+	"nightly", "outdir", "parallel", "pipelines", "report", "species", "states", "synth", "textcheck", "typeset",
 	"thermo", "units",
 }
 

@@ -7,6 +7,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/internal/typeset"
 )
 
 // assignSection summarises the assign stage's files.
@@ -49,7 +50,7 @@ func assignSection(d *document, f *folder) {
 			}
 			return a.vUp < b.vUp
 		})
-		t := &table{Caption: sprintf("Assigned lines in lines.csv (%d), by band.", len(f.lines)), Head: []string{"species", "band v′–v″", "lines", "by branch", "J″ range"}, Numeric: []bool{false, false, true, false, false}}
+		t := &table{Caption: sprintf("Assigned lines in lines.csv (%d), by band.", len(f.lines)), Head: []string{"species", "band v′–v″", "lines", "by branch", "J″ range"}, Numeric: []bool{false, false, true, false, false}, Kind: []cellKind{cellSpecies}}
 		for _, k := range keys {
 			a := m[k]
 			var bs []string
@@ -69,21 +70,97 @@ func assignSection(d *document, f *folder) {
 		if len(u.rows) == 0 {
 			s.para("unassigned.csv lists no peaks: every peak was assigned.")
 		} else {
-			const maxRows = 25
-			t := &table{Caption: sprintf("Peaks left unassigned (unassigned.csv, %d peaks).", len(u.rows)), Head: u.head}
-			for _, r := range u.rows[:min(len(u.rows), maxRows)] {
-				row := make([]string, len(u.head))
-				copy(row, r)
-				t.Rows = append(t.Rows, row)
-			}
-			if len(u.rows) > maxRows {
-				t.Note = sprintf("The first %d of %d; the rest are in unassigned.csv.", maxRows, len(u.rows))
-			}
-			d.table(s, t)
+			d.table(s, unassignedTable(u))
 		}
 	}
 	if f.assignMD != nil {
-		s.para("The assign stage's own summary, assign.md:")
+		s.para("The assign stage's own summary, assign.md (in the HTML report shown below; beside the Markdown report as its own file):")
 		s.file(constants.AssignReportFile, string(f.assignMD))
 	}
+}
+
+// unassignedColumns are the columns of unassigned.csv (assign.WriteUnassigned)
+// as the report heads them; withUnit marks those in the peak list's unit.
+var unassignedColumns = map[string]struct {
+	head     string
+	numeric  bool
+	withUnit bool
+}{
+	"peak_index":       {"peak", true, false},
+	"position":         {"position", true, true},
+	"unc":              {"unc", true, true},
+	"intensity":        {"intensity", true, false},
+	"nearest":          {"nearest prediction", false, false},
+	"nearest_position": {"its position", true, true},
+	"distance":         {"distance", true, true},
+	"dropped":          {"dropped by a check as", false, false},
+	"reason":           {"why it is left over", false, false},
+}
+
+// unassignedTable shows unassigned.csv with headers and units: the unit
+// column goes into the headers when every peak has the same unit, columns
+// bandwright does not know keep their names, and empty columns are left out
+// (document.table).
+func unassignedTable(u *genericCSV) *table {
+	const maxRows = 25
+	unitCol, unit := -1, ""
+	for j, h := range u.head {
+		if strings.EqualFold(strings.TrimSpace(h), "unit") {
+			unitCol = j
+		}
+	}
+	if unitCol >= 0 {
+		unit = cellOf(u.rows[0], unitCol)
+		for _, r := range u.rows {
+			if cellOf(r, unitCol) != unit {
+				unitCol, unit = -1, ""
+				break
+			}
+		}
+	}
+	t := &table{Caption: sprintf("Peaks left unassigned (unassigned.csv, %d peaks).", len(u.rows))}
+	var cols []int
+	for j, h := range u.head {
+		if j == unitCol {
+			continue
+		}
+		key := strings.ToLower(strings.TrimSpace(h))
+		c, known := unassignedColumns[key]
+		head := strings.ReplaceAll(h, "_", " ")
+		if known {
+			head = c.head
+			if c.withUnit && unitCol >= 0 {
+				head += " / " + unitName(unit)
+			}
+		}
+		if key == "unit" {
+			t.Kind = append(t.Kind, cellUnit)
+		} else {
+			t.Kind = append(t.Kind, cellText)
+		}
+		cols = append(cols, j)
+		t.Head = append(t.Head, head)
+		t.Numeric = append(t.Numeric, known && c.numeric)
+	}
+	for _, r := range u.rows[:min(len(u.rows), maxRows)] {
+		row := make([]string, len(cols))
+		for k, j := range cols {
+			row[k] = cellOf(r, j)
+			if t.Numeric[k] {
+				row[k] = typeset.Number(row[k])
+			}
+		}
+		t.Rows = append(t.Rows, row)
+	}
+	if len(u.rows) > maxRows {
+		t.Note = sprintf("The first %d of %d; the rest are in unassigned.csv.", maxRows, len(u.rows))
+	}
+	return t
+}
+
+func cellOf(r []string, j int) string {
+	if j < len(r) {
+		return strings.TrimSpace(r[j])
+	}
+	return ""
 }

@@ -33,7 +33,7 @@ func correlations(d *document, f *folder) {
 	}
 	s.para("Correlation coefficients ρ_ij = C_ij/(σ_i σ_j) of the %d fitted parameters, from the covariance in constants.json. Blue is negative, vermillion positive; |ρ| close to 1 means the data hardly tell the two parameters apart.", n)
 	fig := &figure{Name: "report-correlation.svg", Alt: "correlation matrix of the fitted parameters as a heat map",
-		Caption: sprintf("Correlation matrix of the %d fitted parameters (row i, column j), from −1 (blue) through 0 (white) to +1 (vermillion).", n)}
+		Caption: sprintf("Correlation matrix of the %d fitted parameters (row i, column j), from −1 (blue) through 0 (white) to +1 (vermillion).", n), Square: true}
 	p := newBarePlot("Correlation of the fitted parameters", "", "")
 	p.Add(&corrHeat{r: rec.Correlation, labels: n <= 12, style: cellStyle(p, n)})
 	p.NominalX(names...)
@@ -80,7 +80,7 @@ func correlations(d *document, f *folder) {
 		s.list(items)
 	}
 	if n <= 16 {
-		t := &table{Caption: "Correlation matrix.", Head: append([]string{""}, names...)}
+		t := &table{Caption: "Correlation matrix.", Head: append([]string{"ρ"}, names...), Kind: []cellKind{cellName}}
 		t.Numeric = make([]bool, n+1)
 		for j := 1; j <= n; j++ {
 			t.Numeric[j] = true

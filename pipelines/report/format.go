@@ -8,10 +8,13 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/internal/typeset"
 )
 
 // Number formatting. Nothing non-finite is ever printed: NaN and ±Inf become
-// a dash.
+// a dash. Every number of the report is typeset (typeset.Number: a true
+// minus, exponents as ×10ⁿ) in both formats; the files keep the plain
+// spellings.
 
 const dash = "—"
 
@@ -22,7 +25,7 @@ func num(x float64, prec int) string {
 	if !finite(x) {
 		return dash
 	}
-	return strconv.FormatFloat(x, 'g', prec, 64)
+	return typeset.Number(strconv.FormatFloat(x, 'g', prec, 64))
 }
 
 // fixed formats x with dec decimals.
@@ -34,7 +37,7 @@ func fixed(x float64, dec int) string {
 	if strings.HasPrefix(s, "-") && strings.Trim(s[1:], "0.") == "" {
 		s = s[1:]
 	}
-	return s
+	return typeset.Number(s)
 }
 
 // paren formats value(σ) in the parenthetical notation (constants.FormatParen);
@@ -44,9 +47,9 @@ func paren(v, s float64) string {
 		return dash
 	}
 	if !finite(s) || s <= 0 {
-		return strconv.FormatFloat(v, 'g', 10, 64)
+		return typeset.Number(strconv.FormatFloat(v, 'g', 10, 64))
 	}
-	return constants.FormatParen(v, s)
+	return typeset.Number(constants.FormatParen(v, s))
 }
 
 // Text helpers.
@@ -61,19 +64,11 @@ func orDefault(s, def string) string {
 
 func sprintf(format string, a ...any) string { return fmt.Sprintf(format, a...) }
 
-// unitName writes a unit of the files for reading: the line-list units as
-// linelist.Unit.Pretty writes them ("" is the default unit, that of line
-// lists that give none), angstrom as Å, and cm-1 inside a compound unit
-// ("cm-1 u^0.5") as cm⁻¹.
+// unitName writes a unit of the files for reading (typeset.Unit: cm⁻¹, Å,
+// J mol⁻¹ K⁻¹); "" is the default unit, that of line lists that give none.
 func unitName(u string) string {
 	if u == "" {
-		return linelist.DefaultUnit.Pretty()
+		u = linelist.DefaultUnit.String()
 	}
-	if lu, err := linelist.ParseUnit(u); err == nil {
-		return lu.Pretty()
-	}
-	if u == "angstrom" {
-		return "Å"
-	}
-	return strings.ReplaceAll(u, linelist.Wavenumber.String(), linelist.Wavenumber.Pretty())
+	return typeset.Unit(u)
 }

@@ -1,10 +1,12 @@
 package report
 
 import (
+	"image/color"
 	"math"
 	"strings"
 	"testing"
 
+	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 )
 
@@ -73,7 +75,7 @@ func TestLogTicks(t *testing.T) {
 			labels = append(labels, tk.Label)
 		}
 	}
-	want := "5e-07 1e-06 2e-06 5e-06 1e-05 2e-05"
+	want := "5×10⁻⁷ 1×10⁻⁶ 2×10⁻⁶ 5×10⁻⁶ 1×10⁻⁵ 2×10⁻⁵"
 	if got := strings.Join(labels, " "); got != want {
 		t.Errorf("labels %q, want %q", got, want)
 	}
@@ -145,5 +147,48 @@ func TestJText(t *testing.T) {
 		if got := jText(c.j, c.half); got != c.want {
 			t.Errorf("jText(%d, %v) = %q, want %q", c.j, c.half, got, c.want)
 		}
+	}
+}
+
+// Marker and line colours keep at least 3:1 contrast against white (WCAG
+// 2.1, success criterion 1.4.11, non-text contrast); orange (#E69F00) of
+// Okabe–Ito has about 2.0:1 and is used for shaded bands only.
+func TestMarkerContrast(t *testing.T) {
+	contrast := func(c color.Color) float64 { return 1.05 / (luminance(c) + 0.05) }
+	for b, st := range branchStyles {
+		if r := contrast(st.color); r < 3 {
+			t.Errorf("branch %s: contrast %.2f:1", b, r)
+		}
+	}
+	for i, st := range append(fileStyles, rejectedStyle) {
+		if r := contrast(st.color); r < 3 {
+			t.Errorf("style %d: contrast %.2f:1", i, r)
+		}
+	}
+	if r := contrast(okOrange); r > 2.5 {
+		t.Errorf("orange has %.2f:1, the test's premise is wrong", r)
+	}
+}
+
+// Ticks at round steps, integers on counting axes.
+func TestTicks(t *testing.T) {
+	labels := func(ts []plot.Tick) string {
+		var out []string
+		for _, tk := range ts {
+			out = append(out, tk.Label)
+		}
+		return strings.Join(out, " ")
+	}
+	if got := labels(intTicks{}.Ticks(-0.5, 25.5)); got != "0 5 10 15 20 25" {
+		t.Errorf("J ticks %q", got)
+	}
+	if got := labels(intTicks{}.Ticks(5.5, 9.5)); got != "6 7 8 9" {
+		t.Errorf("short J ticks %q", got)
+	}
+	if got := labels(niceTicks{}.Ticks(100, 3000)); got != "500 1000 1500 2000 2500 3000" {
+		t.Errorf("T ticks %q", got)
+	}
+	if got := labels(niceTicks{}.Ticks(-3.9, 3.9)); got != "−2 0 2" {
+		t.Errorf("residual ticks %q", got)
 	}
 }

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"bandwright/internal/mdtext"
+	"bandwright/internal/typeset"
 )
 
 // The Markdown report carries the same sections and tables as the HTML page;
@@ -25,6 +26,9 @@ func writeMarkdown(w io.Writer, d *document) error {
 		}
 	}
 	p("# ", mdText(d.Title), "\n\n", mdText(d.Lead), "\n\n")
+	if d.Flag != "" {
+		p("**", mdText(d.Flag), "**\n\n")
+	}
 	var st []string
 	for _, s := range d.Stages {
 		if s.Present {
@@ -47,7 +51,10 @@ func writeMarkdown(w io.Writer, d *document) error {
 				p(mdText(bl.Text), "\n\n")
 			case kindList:
 				for _, it := range bl.Items {
-					p("- ", mdText(it), "\n")
+					p("- ", mdText(it.Text), "\n")
+					for _, sub := range it.Sub {
+						p("  - ", mdText(sub), "\n")
+					}
 				}
 				p("\n")
 			case kindTable:
@@ -78,12 +85,18 @@ func mdTable(p func(...string), t *table) {
 		}
 		return s
 	}
+	var cols []int
+	for j := range t.Head {
+		if j >= len(t.HTMLOnly) || !t.HTMLOnly[j] {
+			cols = append(cols, j)
+		}
+	}
 	p("|")
-	for _, h := range t.Head {
-		p(" ", cell(h), " |")
+	for _, j := range cols {
+		p(" ", cell(t.Head[j]), " |")
 	}
 	p("\n|")
-	for j := range t.Head {
+	for _, j := range cols {
 		if t.Align(j) == "num" {
 			p("---:|")
 		} else {
@@ -93,10 +106,13 @@ func mdTable(p func(...string), t *table) {
 	p("\n")
 	for _, r := range t.Rows {
 		p("|")
-		for j := range t.Head {
+		for _, j := range cols {
 			c := ""
 			if j < len(r) {
 				c = r[j]
+			}
+			if j < len(t.Kind) && t.Kind[j] == cellUnit {
+				c = typeset.Unit(c)
 			}
 			p(" ", cell(c), " |")
 		}

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"sort"
 	"strconv"
+	"strings"
 	"time"
 )
 
@@ -17,9 +18,10 @@ func conventions(d *document, f *folder) {
 	}
 	items := []string{
 		unit + "; 1 cm⁻¹ = 29 979.2458 MHz exactly.",
-		"Uncertainties are 1σ. Parenthetical notation: 1.922529(3) means 1.922529 ± 0.000003; 6.1215(12)e-06 means (6.1215 ± 0.0012)×10⁻⁶.",
+		"Uncertainties are 1σ, written in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003; 6.1215(12)×10⁻⁶ means (6.1215 ± 0.0012)×10⁻⁶. A bare σ is always a standard uncertainty. The files keep the plain spellings (6.1215(12)e-06, cm-1, omega_e_x_e).",
 		"Covariance and σ of the constants: " + rec.CovarianceConvention + ".",
-		"o − c is observed minus calculated, in the unit of residuals.csv; (o − c)/σ divides by the line's stated uncertainty.",
+		"o − c is observed minus calculated, in the unit of residuals.csv; unc is the 1σ uncertainty the line list gives for a position, and (o − c)/unc, the quantity of every o − c figure, divides the residual by it.",
+		"Names of constants as the trade writes them (ωe = omega_e, ωexe = omega_e_x_e, Be, αe, Y10 …, Bv of level v, an electronic state's label before a colon), each beside its name in constants.json; σ_sym is the rotational symmetry number (1 for heteronuclear, 2 for homonuclear molecules).",
 		"Quantum numbers: v′, J′ of the upper level, v″, J″ of the lower; branches O, P, Q, R, S for ΔJ = J′ − J″ = −2 … +2.",
 	}
 	if f.thermo != nil {
@@ -57,7 +59,7 @@ func provenance(d *document, f *folder, o Options) {
 	pv := rec.Provenance
 	s := d.section("provenance", "Provenance")
 	if len(pv.Inputs) > 0 {
-		t := &table{Caption: "Line lists the fit read, with their SHA-256.", Head: []string{"input", "SHA-256"}, Wrap: []bool{true, true}}
+		t := &table{Caption: "Line lists the fit read, with their SHA-256.", Head: []string{"input", "SHA-256"}, Wrap: []bool{false, true}}
 		for _, in := range pv.Inputs {
 			t.Rows = append(t.Rows, []string{in.Path, in.SHA256})
 		}
@@ -70,11 +72,12 @@ func provenance(d *document, f *folder, o Options) {
 			keys = append(keys, k)
 		}
 		sort.Strings(keys)
-		t := &table{Caption: "Options of the fit.", Head: []string{"option", "value"}, Wrap: []bool{false, true}}
+		s.para("Options of the fit:")
+		var items []item
 		for _, k := range keys {
-			t.Rows = append(t.Rows, []string{k, optionValue(pv.Options[k])})
+			items = append(items, optionItem(k, pv.Options[k]))
 		}
-		d.table(s, t)
+		s.nested(items)
 	}
 	t := &table{Caption: "Files of this folder the report was built from.", Head: []string{"stage", "file", "bytes", "SHA-256"}, Numeric: []bool{false, false, true, false}, Wrap: []bool{false, false, false, true}}
 	for _, fi := range f.files {
@@ -92,18 +95,53 @@ func provenance(d *document, f *folder, o Options) {
 	s.para("This report was built by bandwright %s at %s.", ver, o.Now().UTC().Format(time.RFC3339))
 }
 
+// optionItem writes an option of the fit as a list item: "name: value", a
+// list of values (the log of the automatic model choice, say) as a list
+// under it, an object as "key: value" lines under it.
+func optionItem(k string, v any) item {
+	switch x := v.(type) {
+	case []any:
+		it := item{Text: k + ":"}
+		for _, e := range x {
+			it.Sub = append(it.Sub, strings.TrimSpace(optionValue(e)))
+		}
+		if len(it.Sub) == 0 {
+			it.Text = k + ": none"
+		}
+		return it
+	case map[string]any:
+		it := item{Text: k + ":"}
+		var keys []string
+		for kk := range x {
+			keys = append(keys, kk)
+		}
+		sort.Strings(keys)
+		for _, kk := range keys {
+			it.Sub = append(it.Sub, kk+": "+optionValue(x[kk]))
+		}
+		return it
+	}
+	return item{Text: k + ": " + optionValue(v)}
+}
+
+// optionValue writes an option's value as text (JSON for nested values,
+// without HTML escapes: the writers escape).
 func optionValue(v any) string {
 	switch x := v.(type) {
 	case string:
 		return x
 	case nil:
 		return dash
+	case bool:
+		return strconv.FormatBool(x)
 	case float64:
 		return num(x, 10)
 	}
-	b, err := json.Marshal(v)
-	if err != nil {
+	var b strings.Builder
+	enc := json.NewEncoder(&b)
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(v); err != nil {
 		return sprintf("%v", v)
 	}
-	return string(b)
+	return strings.TrimSpace(b.String())
 }

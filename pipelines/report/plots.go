@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"image/color"
 	"math"
-	"strconv"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -18,25 +17,28 @@ import (
 	"gonum.org/v1/plot/vg/vgsvg"
 )
 
-// Palette: the eight colours of Okabe & Ito, "Color Universal Design" (2002),
-// chosen to stay distinct for the common forms of colour-vision deficiency.
-// Every series also differs in glyph shape or dash pattern, so the plots read
-// in greyscale print too.
+// Palette: colours of Okabe & Ito, "Color Universal Design" (2002), chosen to
+// stay distinct for the common forms of colour-vision deficiency. Markers and
+// lines use only those with at least 3:1 contrast against white (WCAG 2.1,
+// non-text contrast; see TestMarkerContrast): blue, bluish green, vermillion,
+// black. Orange and sky blue (about 2.2:1) only fill bands. Every series also
+// differs in glyph shape or dash pattern, so the plots read in greyscale too.
 var (
-	okBlack         = color.RGBA{0x00, 0x00, 0x00, 0xff}
-	okOrange        = color.RGBA{0xe6, 0x9f, 0x00, 0xff}
-	okSkyBlue       = color.RGBA{0x56, 0xb4, 0xe9, 0xff}
-	okBluishGreen   = color.RGBA{0x00, 0x9e, 0x73, 0xff}
-	okYellow        = color.RGBA{0xf0, 0xe4, 0x42, 0xff}
-	okBlue          = color.RGBA{0x00, 0x72, 0xb2, 0xff}
-	okVermillion    = color.RGBA{0xd5, 0x5e, 0x00, 0xff}
-	okReddishPurple = color.RGBA{0xcc, 0x79, 0xa7, 0xff}
-	guideGrey       = color.RGBA{0x55, 0x55, 0x55, 0xff}
-	gridGrey        = color.RGBA{0xdd, 0xdd, 0xdd, 0xff}
+	okBlack       = color.RGBA{0x00, 0x00, 0x00, 0xff}
+	okOrange      = color.RGBA{0xe6, 0x9f, 0x00, 0xff}
+	okSkyBlue     = color.RGBA{0x56, 0xb4, 0xe9, 0xff}
+	okBluishGreen = color.RGBA{0x00, 0x9e, 0x73, 0xff}
+	okBlue        = color.RGBA{0x00, 0x72, 0xb2, 0xff}
+	okVermillion  = color.RGBA{0xd5, 0x5e, 0x00, 0xff}
+	// darkPurple is the reddish purple of Okabe–Ito (#CC79A7, 2.9:1)
+	// darkened to 4.9:1.
+	darkPurple = color.RGBA{0xa8, 0x4d, 0x86, 0xff}
+	guideGrey  = color.RGBA{0x55, 0x55, 0x55, 0xff}
+	gridGrey   = color.RGBA{0xdd, 0xdd, 0xdd, 0xff}
 )
 
 // paletteName is printed in the conventions section.
-const paletteName = "Okabe–Ito (2002) colour-blind-safe palette; correlations on a blue–white–vermillion diverging scale built from it"
+const paletteName = "Okabe–Ito (2002) colour-blind-safe palette (markers and lines in blue, bluish green, vermillion and black; orange and sky blue only as shaded bands); correlations on a blue–white–vermillion diverging scale built from it"
 
 // seriesStyle is the look of one point series.
 type seriesStyle struct {
@@ -44,32 +46,45 @@ type seriesStyle struct {
 	shape draw.GlyphDrawer
 }
 
-// branchStyles: each branch its own colour and glyph.
+// branchStyles: each branch its own colour and glyph. Triangles are kept
+// for the marker of a rejected line beyond the plotted range (offScaleGlyph),
+// crosses for rejected lines.
 var branchStyles = map[string]seriesStyle{
 	"P": {okBlue, draw.CircleGlyph{}},
-	"R": {okOrange, draw.PyramidGlyph{}},
-	"Q": {okBluishGreen, draw.BoxGlyph{}},
-	"O": {okReddishPurple, draw.RingGlyph{}},
-	"S": {okSkyBlue, draw.SquareGlyph{}},
+	"R": {okBluishGreen, draw.BoxGlyph{}},
+	"Q": {okBlack, diamondGlyph{}},
+	"O": {darkPurple, draw.RingGlyph{}},
+	"S": {okBlack, draw.SquareGlyph{}},
 }
 
-// fileStyles cycle over input files (vermillion is kept for rejected lines).
+// rejectedStyle is the look of a rejected line.
+var rejectedStyle = seriesStyle{okVermillion, draw.CrossGlyph{}}
+
+// fileStyles cycle over input files and bands (vermillion is kept for
+// rejected lines).
 var fileStyles = []seriesStyle{
 	{okBlue, draw.CircleGlyph{}},
-	{okOrange, draw.PyramidGlyph{}},
 	{okBluishGreen, draw.BoxGlyph{}},
-	{okReddishPurple, draw.RingGlyph{}},
-	{okSkyBlue, draw.SquareGlyph{}},
-	{okBlack, draw.TriangleGlyph{}},
-	{okYellow, draw.PlusGlyph{}},
+	{okBlack, diamondGlyph{}},
+	{darkPurple, draw.RingGlyph{}},
+	{okBlue, draw.SquareGlyph{}},
+	{okBlack, draw.PlusGlyph{}},
+	{okBluishGreen, draw.RingGlyph{}},
 }
 
 var sansFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
 
-// Figure sizes (points).
+// Figure size (points) and text sizes. A figure is shown at most 36rem
+// (576 px) wide and scales down with the column; at a phone's column of
+// about 350 px it is shown at 350/480 of its size, where 10 pt tick labels
+// are 9.7 px high (the report keeps text at 9 px or more).
 const (
-	figWidth  = 6.4 * vg.Inch
-	figHeight = 3.0 * vg.Inch
+	figWidth  = 5.0 * vg.Inch
+	figHeight = 2.8 * vg.Inch
+
+	titleSize = 11.5
+	labelSize = 10.5
+	tickSize  = 10
 )
 
 // newPlot returns a plot in the report's look: sans-serif text, light grid.
@@ -91,12 +106,13 @@ func newBarePlot(title, xLabel, yLabel string) *plot.Plot {
 	for _, st := range []*text.Style{&p.Title.TextStyle, &p.X.Label.TextStyle, &p.Y.Label.TextStyle, &p.X.Tick.Label, &p.Y.Tick.Label, &p.Legend.TextStyle} {
 		st.Font = font.From(sansFont, st.Font.Size)
 	}
-	p.Title.TextStyle.Font.Size = 11
-	p.X.Label.TextStyle.Font.Size = 10
-	p.Y.Label.TextStyle.Font.Size = 10
-	p.Legend.TextStyle.Font.Size = 9
-	p.X.Tick.Label.Font.Size = 9
-	p.Y.Tick.Label.Font.Size = 9
+	p.Title.TextStyle.Font.Size = titleSize
+	p.X.Label.TextStyle.Font.Size = labelSize
+	p.Y.Label.TextStyle.Font.Size = labelSize
+	p.Legend.TextStyle.Font.Size = tickSize
+	p.X.Tick.Label.Font.Size = tickSize
+	p.Y.Tick.Label.Font.Size = tickSize
+	p.X.Tick.Marker, p.Y.Tick.Marker = niceTicks{}, niceTicks{}
 	p.Legend.Top = true
 	p.Legend.ThumbnailWidth = 0.3 * vg.Inch
 	p.Legend.Padding = 2
@@ -209,20 +225,36 @@ func hline(y, x0, x1 float64, clr color.Color, dashed bool, width vg.Length) (*p
 	return l, nil
 }
 
-// arrowGlyph marks a point that lies beyond the plotted range: a filled
-// triangle pointing up (beyond the top) or down (beyond the bottom).
-type arrowGlyph struct{ up bool }
+// offScaleGlyph marks a rejected line beyond the plotted range: an arrow
+// (a stem and a head) pointing up (beyond the top) or down, a shape no series
+// uses.
+type offScaleGlyph struct{ up bool }
 
-func (a arrowGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
-	r := sty.Radius * 1.3
+func (a offScaleGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	r := sty.Radius * 1.6
 	s := vg.Length(1)
 	if !a.up {
 		s = -1
 	}
+	var head vg.Path
+	head.Move(vg.Point{X: pt.X, Y: pt.Y + s*r})
+	head.Line(vg.Point{X: pt.X - r*0.6, Y: pt.Y + s*r*0.2})
+	head.Line(vg.Point{X: pt.X + r*0.6, Y: pt.Y + s*r*0.2})
+	head.Close()
+	c.Fill(head)
+	c.StrokeLine2(draw.LineStyle{Color: sty.Color, Width: 1.2}, pt.X, pt.Y+s*r*0.3, pt.X, pt.Y-s*r)
+}
+
+// diamondGlyph is a filled diamond.
+type diamondGlyph struct{}
+
+func (diamondGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	r := sty.Radius * 1.25
 	var p vg.Path
-	p.Move(vg.Point{X: pt.X, Y: pt.Y + s*r})
-	p.Line(vg.Point{X: pt.X - r*0.8, Y: pt.Y - s*r*0.6})
-	p.Line(vg.Point{X: pt.X + r*0.8, Y: pt.Y - s*r*0.6})
+	p.Move(vg.Point{X: pt.X, Y: pt.Y + r})
+	p.Line(vg.Point{X: pt.X + r, Y: pt.Y})
+	p.Line(vg.Point{X: pt.X, Y: pt.Y - r})
+	p.Line(vg.Point{X: pt.X - r, Y: pt.Y})
 	p.Close()
 	c.Fill(p)
 }
@@ -285,7 +317,7 @@ func (logTicks) Ticks(lo, hi float64) []plot.Tick {
 			}
 			t := plot.Tick{Value: v}
 			if (k == 1 && (e-e0)%every == 0) || (span <= 2 && (k == 2 || k == 5)) {
-				t.Label = strconv.FormatFloat(v, 'g', 3, 64)
+				t.Label = num(v, 3)
 			}
 			out = append(out, t)
 		}
@@ -339,48 +371,136 @@ func fileSafe(s string) string {
 	return out
 }
 
-// addRejected draws rejected lines as crosses, or as triangles on the edge of
-// the range when they lie beyond ±yLim.
-func addRejected(p *plot.Plot, xy plotter.XYs, yLim float64) error {
-	var in, above, below plotter.XYs
-	for _, q := range xy {
-		switch {
-		case q.Y > yLim:
-			above = append(above, plotter.XY{X: q.X, Y: yLim * 0.96})
-		case q.Y < -yLim:
-			below = append(below, plotter.XY{X: q.X, Y: -yLim * 0.96})
-		default:
-			in = append(in, q)
-		}
-	}
+// offScale is a rejected line beyond the plotted range: where it is (x),
+// its value and its name.
+type offScale struct {
+	x, y  float64
+	label string
+}
+
+// addRejected draws rejected lines as crosses; those beyond ±yLim as arrows
+// on the edge of the range with their value written beside them (at most
+// maxOffScaleLabels; the caption lists every one).
+func addRejected(p *plot.Plot, in plotter.XYs, off []offScale, yLim float64) error {
 	if len(in) > 0 {
-		sc, err := scatter(in, seriesStyle{okVermillion, draw.CrossGlyph{}}, 3)
+		sc, err := scatter(in, rejectedStyle, 3)
 		if err != nil {
 			return err
 		}
-		sc.GlyphStyle.Radius = 3
 		p.Add(sc)
 		p.Legend.Add("rejected", sc)
 	}
-	if len(above)+len(below) > 0 {
-		var first *plotter.Scatter
-		for _, set := range []struct {
-			xy plotter.XYs
-			up bool
-		}{{above, true}, {below, false}} {
-			if len(set.xy) == 0 {
-				continue
-			}
-			sc, err := scatter(set.xy, seriesStyle{okVermillion, arrowGlyph{up: set.up}}, 3)
-			if err != nil {
-				return err
-			}
-			p.Add(sc)
-			if first == nil {
-				first = sc
+	if len(off) == 0 {
+		return nil
+	}
+	var first *plotter.Scatter
+	var labels plotter.XYLabels
+	for _, up := range []bool{true, false} {
+		var xy plotter.XYs
+		for _, o := range off {
+			if (o.y > 0) == up {
+				y := yLim * 0.9
+				if !up {
+					y = -y
+				}
+				xy = append(xy, plotter.XY{X: o.x, Y: y})
+				if len(labels.XYs) < maxOffScaleLabels {
+					labels.XYs = append(labels.XYs, plotter.XY{X: o.x, Y: y})
+					labels.Labels = append(labels.Labels, num(o.y, 3))
+				}
 			}
 		}
-		p.Legend.Add(sprintf("rejected, off scale (%d)", len(above)+len(below)), first)
+		if len(xy) == 0 {
+			continue
+		}
+		sc, err := scatter(xy, seriesStyle{okVermillion, offScaleGlyph{up: up}}, 3)
+		if err != nil {
+			return err
+		}
+		p.Add(sc)
+		if first == nil {
+			first = sc
+		}
 	}
+	p.Legend.Add(sprintf("rejected, off scale (%d)", len(off)), first)
+	lb, err := plotter.NewLabels(labels)
+	if err != nil {
+		return err
+	}
+	for i := range lb.TextStyle {
+		lb.TextStyle[i].Font = font.From(sansFont, tickSize)
+		lb.TextStyle[i].Color = okVermillion
+		lb.TextStyle[i].XAlign = draw.XLeft
+		lb.TextStyle[i].YAlign = draw.YCenter
+	}
+	lb.Offset = vg.Point{X: 6}
+	p.Add(lb)
 	return nil
+}
+
+// maxOffScaleLabels is the most off-scale values written in a figure.
+const maxOffScaleLabels = 6
+
+// offScaleCaption lists the off-scale lines of a figure for its caption.
+func offScaleCaption(off []offScale, quantity string) string {
+	if len(off) == 0 {
+		return ""
+	}
+	var parts []string
+	for _, o := range off {
+		parts = append(parts, o.label+": "+num(o.y, 4))
+	}
+	return sprintf(" Off scale (arrows at the edge, value beside them), %s: %s.", quantity, strings.Join(parts, "; "))
+}
+
+// niceTicks marks a linear axis at round steps (1, 2 or 5 times a power of
+// ten, 4–8 labelled ticks), labelled with the decimals the step needs and a
+// true minus; integer steps when the axis counts something (J, T).
+type niceTicks struct{}
+
+func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !finite(lo) || !finite(hi) || !(hi > lo) {
+		return nil
+	}
+	step := niceStep((hi - lo) / 6)
+	dec := max(0, -int(math.Floor(math.Log10(step)+1e-9)))
+	var out []plot.Tick
+	for v := math.Ceil(lo/step-1e-9) * step; v <= hi+step*1e-9; v += step {
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		label := fixed(v, dec)
+		if math.Abs(v) >= 1e6 || (v != 0 && math.Abs(v) < 1e-4) {
+			label = num(v, 3)
+		}
+		out = append(out, plot.Tick{Value: v, Label: label})
+	}
+	return out
+}
+
+// niceStep returns the smallest of 1, 2, 5 times a power of ten at least x.
+func niceStep(x float64) float64 {
+	p := math.Pow(10, math.Floor(math.Log10(x)))
+	for _, m := range []float64{1, 2, 5, 10} {
+		if m*p >= x*(1-1e-9) {
+			return m * p
+		}
+	}
+	return 10 * p
+}
+
+// intTicks marks an axis of integers (J, m) at integer steps of 1, 2, 5,
+// 10, … with at most 10 labelled ticks.
+type intTicks struct{}
+
+func (intTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !finite(lo) || !finite(hi) || !(hi > lo) {
+		return nil
+	}
+	step := math.Max(1, niceStep((hi-lo)/8))
+	var out []plot.Tick
+	for v := math.Ceil(lo/step) * step; v <= hi; v += step {
+		out = append(out, plot.Tick{Value: v, Label: fixed(v, 0)})
+	}
+	return out
 }

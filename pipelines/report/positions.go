@@ -1,19 +1,23 @@
 package report
 
 import (
-	"bandwright/fit/linelist"
 	"math"
 	"path/filepath"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/vg/draw"
+
+	"bandwright/fit/linelist"
+	"bandwright/internal/typeset"
 )
 
-// positionSection compares observed and calculated positions, per unit.
+// positionSection shows the lines against their positions, per unit: the
+// Fortrat diagram of the assignment, and (o − c)/unc against position by
+// input file.
 func positionSection(d *document, f *folder) {
-	s := d.section("positions", "Observed and calculated positions")
-	s.para("For each unit of the line lists: the calculated position against the observed one, on the line of equality, and o − c against the observed position with one colour and glyph per input file; an offset or a slope between files points to a difference in calibration.")
+	s := d.section("positions", "Lines against position")
+	s.para("For each unit of the line lists: the Fortrat diagram — every line at its observed position against its running number m, one colour and glyph per band — where each branch of a band draws a smooth curve, so that a gap marks a line not found and a point off its curve a doubtful assignment; and (o − c)/unc against the observed position, one colour and glyph per input file, where an offset or a slope between files points to a difference in calibration.")
 	units := map[string][]int{}
 	var order []string
 	for i, r := range f.residuals {
@@ -27,7 +31,7 @@ func positionSection(d *document, f *folder) {
 	files := distinctFiles(f.residuals)
 	for _, u := range order {
 		idx := units[u]
-		d.figure(s, obsCalcFigure(f, u, idx))
+		d.figure(s, fortratFigure(f, u, idx))
 		d.figure(s, ocPositionFigure(f, u, idx, files))
 	}
 }
@@ -44,54 +48,77 @@ func distinctFiles(rs []residual) []string {
 	return out
 }
 
-func obsCalcFigure(f *folder, unit string, idx []int) *figure {
-	un := unitName(unit)
-	fig := &figure{Name: "report-obs-calc-" + fileSafe(unit) + ".svg", Alt: "calculated against observed positions in " + un}
-	var used, rej xyCollector
-	for _, i := range idx {
-		r := f.residuals[i]
-		if r.used {
-			used.add(r.obs, r.calc)
-		} else {
-			rej.add(r.obs, r.calc)
-		}
+// runningNumber is the m of a line in a Fortrat diagram: J″ + 1 in the R
+// branch (ΔJ = +1), −J″ in the P branch, J″ in the Q branch; J″ + 2 (S) and
+// −J″ + 1 (O) for the Raman branches (common practice).
+func runningNumber(r residual) float64 {
+	switch d := r.jUp - r.jLo; {
+	case d > 1.5:
+		return r.jLo + 2
+	case d > 0.5:
+		return r.jLo + 1
+	case d < -1.5:
+		return -r.jLo + 1
+	case d < -0.5:
+		return -r.jLo
 	}
-	all := append(append(plotter.XYs{}, used.xy...), rej.xy...)
-	fig.Caption = sprintf("Calculated against observed positions (%s), %d lines; the line is calculated = observed.", un, len(all))
+	return r.jLo
+}
+
+// fortratFigure draws the lines of one unit at their observed position
+// against their running number m, one series per band.
+func fortratFigure(f *folder, unit string, idx []int) *figure {
+	un := unitName(unit)
+	fig := &figure{Name: "report-fortrat-" + fileSafe(unit) + ".svg", Alt: "Fortrat diagram: running number m against observed position in " + un}
+	keys, groups := groupBands(f)
+	inUnit := map[int]bool{}
+	for _, i := range idx {
+		inUnit[i] = true
+	}
+	p := newPlot("Fortrat diagram ("+un+")", "observed position / "+un, "m")
+	p.Y.Tick.Marker = intTicks{}
+	var all plotter.XYs
+	var rej xyCollector
+	nb := 0
+	for _, k := range keys {
+		var c xyCollector
+		for _, i := range groups[k] {
+			if !inUnit[i] {
+				continue
+			}
+			r := f.residuals[i]
+			if r.used {
+				c.add(r.obs, runningNumber(r))
+			} else {
+				rej.add(r.obs, runningNumber(r))
+			}
+		}
+		if len(c.xy) == 0 {
+			continue
+		}
+		sc, err := scatter(c.xy, fileStyles[nb%len(fileStyles)], 2)
+		if err != nil {
+			fig.Missing = "Not plotted: " + err.Error()
+			return fig
+		}
+		p.Add(sc)
+		if nb < maxLegendSeries {
+			p.Legend.Add(bandTitleShort(k), sc)
+		}
+		nb++
+		all = append(all, c.xy...)
+	}
+	all = append(all, rej.xy...)
+	fig.Caption = sprintf("Fortrat diagram (%s): %d lines of %d band(s) at their observed position against m = J″ + 1 (R branch), −J″ (P), J″ (Q); rejected lines as vermillion crosses.", un, len(all), nb)
 	if !distinctX(all) {
 		fig.Missing = sprintf("Not plotted: %d line(s) in %s at a single position; a plot needs at least two.", len(all), un)
 		return fig
 	}
-	p := newPlot("Calculated against observed ("+un+")", "observed / "+un, "calculated / "+un)
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, q := range all {
-		lo, hi = math.Min(lo, math.Min(q.X, q.Y)), math.Max(hi, math.Max(q.X, q.Y))
-	}
-	eq, err := plotter.NewLine(plotter.XYs{{X: lo, Y: lo}, {X: hi, Y: hi}})
-	if err != nil {
-		fig.Missing = "Not plotted: " + err.Error()
-		return fig
-	}
-	eq.LineStyle.Color, eq.LineStyle.Width = guideGrey, 0.8
-	p.Add(eq)
-	p.Legend.Add("calculated = observed", eq)
-	if len(used.xy) > 0 {
-		sc, err := scatter(used.xy, seriesStyle{okBlue, draw.CircleGlyph{}}, 2)
-		if err != nil {
-			fig.Missing = "Not plotted: " + err.Error()
-			return fig
-		}
-		p.Add(sc)
-		p.Legend.Add("used", sc)
-	}
 	if len(rej.xy) > 0 {
-		sc, err := scatter(rej.xy, seriesStyle{okVermillion, draw.CrossGlyph{}}, 3)
-		if err != nil {
+		if err := addRejected(p, rej.xy, nil, 0); err != nil {
 			fig.Missing = "Not plotted: " + err.Error()
 			return fig
 		}
-		p.Add(sc)
-		p.Legend.Add("rejected", sc)
 	}
 	svg, err := render(p, figWidth, figHeight)
 	if err != nil {
@@ -99,76 +126,82 @@ func obsCalcFigure(f *folder, unit string, idx []int) *figure {
 		return fig
 	}
 	fig.SVG = svg
+	if nb > maxLegendSeries {
+		fig.Caption += sprintf(" The legend names the first %d bands.", maxLegendSeries)
+	}
 	return fig
 }
 
+// maxLegendSeries is the most series a legend names.
+const maxLegendSeries = 12
+
+// bandTitleShort names a band in a legend: "12C16O 1-0".
+func bandTitleShort(k bandKey) string { return typesetSpecies(bandName(k), k.species) }
+
+// ocPositionFigure draws (o − c)/unc against the observed position, one
+// series per input file.
 func ocPositionFigure(f *folder, unit string, idx []int, files []string) *figure {
 	un := unitName(unit)
-	fig := &figure{Name: "report-oc-position-" + fileSafe(unit) + ".svg", Alt: "o − c against observed position in " + un + ", by input file"}
+	fig := &figure{Name: "report-oc-position-" + fileSafe(unit) + ".svg", Alt: "(o − c)/unc against observed position in " + un + ", by input file"}
 	perFile := map[int]*xyCollector{}
-	var rej xyCollector
+	var rej []labelled
 	yMax := 0.0
 	for _, i := range idx {
 		r := f.residuals[i]
 		if !r.used {
-			rej.add(r.obs, r.oc)
+			if finite(r.obs) && finite(r.norm) {
+				rej = append(rej, labelled{plotter.XY{X: r.obs, Y: r.norm}, bandName(bandKey{r.species, r.vUp, r.vLo, r.stUp, r.stLo}) + " " + branchLabel(r)})
+			}
 			continue
 		}
 		if perFile[r.fileIndex] == nil {
 			perFile[r.fileIndex] = &xyCollector{}
 		}
-		perFile[r.fileIndex].add(r.obs, r.oc)
-		if finite(r.oc) {
-			yMax = math.Max(yMax, math.Abs(r.oc))
+		perFile[r.fileIndex].add(r.obs, r.norm)
+		if finite(r.norm) {
+			yMax = math.Max(yMax, math.Abs(r.norm))
 		}
 	}
 	var all plotter.XYs
 	for _, c := range perFile {
 		all = append(all, c.xy...)
 	}
-	all = append(all, rej.xy...)
-	fig.Caption = sprintf("o − c (%s) against observed position, one colour and glyph per input file (%d file(s)).", un, len(perFile))
+	for _, q := range rej {
+		all = append(all, q.XY)
+	}
+	fig.Caption = sprintf("(o − c)/unc against observed position (%s), one colour and glyph per input file (%d file(s)).", un, len(perFile))
 	if !distinctX(all) {
 		fig.Missing = sprintf("Not plotted: %d line(s) in %s at a single position; a plot needs at least two.", len(all), un)
 		return fig
 	}
-	if yMax == 0 {
-		for _, q := range rej.xy {
-			yMax = math.Max(yMax, math.Abs(q.Y))
-		}
-	}
-	yLim := 1.3 * yMax
-	if !(yLim > 0) {
-		yLim = 1
-	}
-	p := newPlot("o − c against position ("+un+")", "observed / "+un, "o − c / "+un)
+	yLim := 1.3 * math.Max(yMax, residualGuide)
+	p := newPlot("(o − c)/unc against position ("+un+")", "observed position / "+un, "(o − c)/unc")
 	p.Y.Min, p.Y.Max = -yLim, yLim
 	xMin, xMax := math.Inf(1), math.Inf(-1)
 	for _, q := range all {
 		xMin, xMax = math.Min(xMin, q.X), math.Max(xMax, q.X)
 	}
-	zero, err := hline(0, xMin, xMax, guideGrey, false, 0.6)
-	if err != nil {
+	if err := addGuides(p, xMin, xMax); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
-	p.Add(zero)
 	for k := range files {
 		c := perFile[k]
 		if c == nil || len(c.xy) == 0 {
 			continue
 		}
-		sc, err := scatter(c.xy, fileStyles[k%len(fileStyles)], 2.2)
+		sc, err := scatter(c.xy, fileStyles[k%len(fileStyles)], 2)
 		if err != nil {
 			fig.Missing = "Not plotted: " + err.Error()
 			return fig
 		}
 		p.Add(sc)
-		if k < 12 {
+		if k < maxLegendSeries {
 			p.Legend.Add(filepath.Base(files[k]), sc)
 		}
 	}
-	if err := addRejected(p, rej.xy, yLim); err != nil {
+	in, off := splitOffScale(rej, yLim)
+	if err := addRejected(p, in, off, yLim); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
@@ -178,8 +211,15 @@ func ocPositionFigure(f *folder, unit string, idx []int, files []string) *figure
 		return fig
 	}
 	fig.SVG = svg
-	if len(files) > 12 {
-		fig.Caption += " The legend names the first 12 files."
+	fig.Caption += offScaleCaption(off, "(o − c)/unc")
+	if len(files) > maxLegendSeries {
+		fig.Caption += sprintf(" The legend names the first %d files.", maxLegendSeries)
 	}
 	return fig
+}
+
+// typesetSpecies writes the isotopologue label of a band's name with its
+// mass numbers as superscripts, for the text of a figure.
+func typesetSpecies(name, species string) string {
+	return strings.Replace(name, species, typeset.SpeciesText(species), 1)
 }

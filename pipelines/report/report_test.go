@@ -137,22 +137,27 @@ func TestHTMLCarriesPlots(t *testing.T) {
 		t.Fatalf("report.html has %d <svg> elements, want %d", got, want)
 	}
 	band10 := p.svgs[0]
-	for _, want := range []string{"v′=1 ← v″=0", "J″ (lower level)", "o − c / cm⁻¹", "P branch", "R branch", "±3σ", "rejected"} {
+	for _, want := range []string{"v′=1 ← v″=0", "J″ (lower level)", "(o − c)/unc", "P branch", "R branch", "±3", "rejected, off scale (1)"} {
 		if !band10.hasText(want) {
 			t.Errorf("residual plot of 1-0 lacks %q; texts %q", want, band10.texts)
 		}
 	}
 	// Series: 26 R and 25 P lines less the rejected one, each a glyph in its
-	// Okabe–Ito colour (blue #0072B2 for P, orange #E69F00 for R), plus the
-	// legend thumbnail.
+	// Okabe–Ito colour (blue #0072B2 for P, bluish green #009E73 for R), plus
+	// the legend thumbnail.
 	if n := band10.fills["#0072B2"]; n < 20 {
 		t.Errorf("residual plot of 1-0 has %d P-branch glyphs", n)
 	}
-	if n := band10.fills["#E69F00"]; n < 20 {
+	if n := band10.fills["#009E73"]; n < 20 {
 		t.Errorf("residual plot of 1-0 has %d R-branch glyphs", n)
 	}
 	if n := band10.fills["#D55E00"]; n < 2 {
 		t.Errorf("residual plot of 1-0 marks %d rejected glyphs (want the line and its legend entry)", n)
+	}
+	// The rejected line is far off scale: an arrow on the edge with its value
+	// beside it (the J axis is marked at integers).
+	if !band10.hasText("×10³") || band10.hasText("2.5") {
+		t.Errorf("residual plot of 1-0: the off-scale value is not written, or J ticks are not integers: %q", band10.texts)
 	}
 	if !p.svgs[1].hasText("v′=2 ← v″=1") {
 		t.Errorf("second plot is not the 2-1 band: %q", p.svgs[1].texts)
@@ -160,12 +165,12 @@ func TestHTMLCarriesPlots(t *testing.T) {
 	if !strings.Contains(p.text, "Not plotted: 12C16O 3-2 has 1 line(s)") {
 		t.Error("the one-line band 3-2 is not explained")
 	}
-	for _, want := range []string{"observed / cm⁻¹", "calculated / cm⁻¹", "calculated = observed"} {
+	for _, want := range []string{"Fortrat diagram (cm⁻¹)", "observed position / cm⁻¹", "m", "¹²C¹⁶O 1-0"} {
 		if !p.svgs[2].hasText(want) {
-			t.Errorf("observed/calculated plot lacks %q", want)
+			t.Errorf("Fortrat diagram lacks %q: %q", want, p.svgs[2].texts)
 		}
 	}
-	if !p.svgs[3].hasText("lines-in.csv") || !p.svgs[3].hasText("o − c / cm⁻¹") {
+	if !p.svgs[3].hasText("lines-in.csv") || !p.svgs[3].hasText("(o − c)/unc") {
 		t.Errorf("o−c against position lacks its file legend or axis: %q", p.svgs[3].texts)
 	}
 	corr := p.svgs[4]

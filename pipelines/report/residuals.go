@@ -1,6 +1,7 @@
 package report
 
 import (
+	"errors"
 	"math"
 	"path/filepath"
 	"sort"
@@ -11,6 +12,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"bandwright/fit/linelist"
+	"bandwright/internal/typeset"
 )
 
 // bandKey identifies a band of one isotopologue in residuals.csv.
@@ -72,7 +74,7 @@ func bandName(k bandKey) string {
 // need a look.
 func residualSection(d *document, f *folder) {
 	s := d.section("residuals", "Residuals by band")
-	s.para("One figure per band. Horizontal axis: J″, the rotational quantum number of the lower level. Vertical axis: o − c (observed minus calculated) in the band's unit when all its lines carry the same uncertainty σ, with dashed guides at ±3σ; otherwise (o − c)/σ with guides at ±3. Each branch has its own colour and glyph; rejected lines are vermillion crosses, and those beyond the plotted range sit on its edge as triangles pointing outwards.")
+	s.para("One figure per band. Horizontal axis: J″, the rotational quantum number of the lower level. Vertical axis: (o − c)/unc, the residual (observed minus calculated) divided by the line's stated uncertainty unc, the quantity every o − c figure of this report shows, with dashed guides at ±3. Each branch has its own colour and glyph; rejected lines are vermillion crosses, and those beyond the plotted range are vermillion arrows on its edge with their value beside them.")
 	keys, groups := groupBands(f)
 	for _, k := range keys {
 		d.figure(s, bandFigure(f, k, groups[k]))
@@ -88,7 +90,7 @@ func residualSection(d *document, f *folder) {
 		return math.Abs(f.residuals[used[a]].norm) > math.Abs(f.residuals[used[b]].norm)
 	})
 	if len(used) > 0 {
-		t := lineTable("Used lines with the largest |o − c|/σ.")
+		t := lineTable("Used lines with the largest |o − c|/unc.")
 		for _, i := range used[:min(len(used), 12)] {
 			t.Rows = append(t.Rows, lineRow(f.residuals[i]))
 		}
@@ -118,8 +120,9 @@ func residualSection(d *document, f *folder) {
 
 func lineTable(caption string) *table {
 	return &table{Caption: caption,
-		Head:    []string{"file:row", "species", "transition", "observed", "o − c", "unit", "(o − c)/σ", "status", "note", "comment"},
-		Numeric: []bool{false, false, false, true, true, false, true, false, false, false}}
+		Head:    []string{"file:row", "species", "transition", "observed", "o − c", "unit", "(o − c)/unc", "status", "note", "comment"},
+		Numeric: []bool{false, false, false, true, true, false, true, false, false, false},
+		Kind:    []cellKind{cellText, cellSpecies, cellText, cellText, cellText, cellUnit}}
 }
 
 func lineRow(r residual) []string {
@@ -134,13 +137,13 @@ func lineRow(r residual) []string {
 	return []string{
 		sprintf("%s:%d", filepath.Base(r.file), r.row), r.species,
 		linelist.Band{VUp: r.vUp, VLo: r.vLo, StateUp: r.stUp, StateLo: r.stLo}.String() + sprintf(" %s(%g)", br, r.jLo),
-		num(r.obs, 12), num(r.oc, 4), unitName(r.unit), fixed(r.norm, 2), status, r.note, r.comment,
+		num(r.obs, 12), num(r.oc, 4), orDefault(r.unit, linelist.DefaultUnit.String()), fixed(r.norm, 2), status, r.note, r.comment,
 	}
 }
 
-// bandFigure draws the residuals of one band against J″: one series per
-// branch, rejected lines as crosses (see addRejected), a zero line and
-// dashed guides at ±3σ (±3 on the normalised scale).
+// bandFigure draws the residuals (o − c)/unc of one band against J″: one
+// series per branch, rejected lines as crosses or, off scale, as arrows with
+// their value (see addRejected), a zero line and dashed guides at ±3.
 func bandFigure(f *folder, k bandKey, idx []int) *figure {
 	state := func(st string) string {
 		if st == "" {
@@ -150,44 +153,32 @@ func bandFigure(f *folder, k bandKey, idx []int) *figure {
 	}
 	name := sprintf("report-residuals-%s-%s%d-%s%d.svg", fileSafe(k.species), state(k.stUp), k.vUp, state(k.stLo), k.vLo)
 	fig := &figure{Name: name, Alt: "residuals of " + bandName(k) + " against J″"}
-	sc := newBandScale(f.residuals, idx)
-	pts := collectBand(f.residuals, idx, sc)
+	pts := collectBand(f.residuals, idx)
 	all := pts.all()
-	fig.Caption = sprintf("Residuals of %s against J″ (%d lines used, %d rejected).", bandName(k), pts.nUsed, pts.nRejected)
+	fig.Caption = sprintf("Residuals (o − c)/unc of %s against J″ (%d lines used, %d rejected).", bandName(k), pts.nUsed, pts.nRejected)
 	if !distinctX(all) {
 		fig.Missing = sprintf("Not plotted: %s has %d line(s) with a finite residual at a single J″; a plot needs at least two.", bandName(k), len(all))
 		return fig
 	}
-	yLim := 1.3 * math.Max(pts.yMax(), sc.guide())
-	if !(yLim > 0) {
-		yLim = 1
-	}
-	p := newPlot(bandTitle(k), "J″ (lower level)", sc.label())
+	yLim := 1.3 * math.Max(pts.yMax(), residualGuide)
+	p := newPlot(bandTitle(k), "J″ (lower level)", "(o − c)/unc")
+	p.X.Tick.Marker = intTicks{}
 	xMin, xMax := math.Inf(1), math.Inf(-1)
 	for _, q := range all {
 		xMin, xMax = math.Min(xMin, q.X), math.Max(xMax, q.X)
 	}
 	p.X.Min, p.X.Max = xMin-0.5, xMax+0.5
 	p.Y.Min, p.Y.Max = -yLim, yLim
-	zero, err := hline(0, p.X.Min, p.X.Max, guideGrey, false, 0.6)
-	if err != nil {
+	if err := addGuides(p, p.X.Min, p.X.Max); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
-	p.Add(zero)
-	up, err1 := hline(sc.guide(), p.X.Min, p.X.Max, guideGrey, true, 1)
-	dn, err2 := hline(-sc.guide(), p.X.Min, p.X.Max, guideGrey, true, 1)
-	if err1 != nil || err2 != nil {
-		fig.Missing = "Not plotted: the ±3σ guides could not be drawn."
-		return fig
-	}
-	p.Add(up, dn)
-	p.Legend.Add(sc.guideLabel(), up)
 	if err := pts.addBranches(p); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
-	if err := addRejected(p, pts.rejected.xy, yLim); err != nil {
+	in, off := splitOffScale(pts.rejected, yLim)
+	if err := addRejected(p, in, off, yLim); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
@@ -197,95 +188,84 @@ func bandFigure(f *folder, k bandKey, idx []int) *figure {
 		return fig
 	}
 	fig.SVG = svg
-	if sc.plain {
-		fig.Caption += sprintf(" Guides at ±3σ, σ = %s %s.", num(sc.sigma, 4), unitName(sc.unit))
-	}
+	fig.Caption += offScaleCaption(off, "(o − c)/unc")
 	return fig
+}
+
+// residualGuide is the height of the guides of the residual figures: 3 in
+// units of the line's uncertainty, the usual rejection threshold
+// (fit.DefaultReject).
+const residualGuide = 3
+
+// addGuides adds the zero line and the dashed guides at ±residualGuide.
+func addGuides(p *plot.Plot, x0, x1 float64) error {
+	zero, err := hline(0, x0, x1, guideGrey, false, 0.6)
+	if err != nil {
+		return err
+	}
+	up, err1 := hline(residualGuide, x0, x1, guideGrey, true, 1)
+	dn, err2 := hline(-residualGuide, x0, x1, guideGrey, true, 1)
+	if err1 != nil || err2 != nil {
+		return errors.New("the ±3 guides could not be drawn")
+	}
+	p.Add(zero, up, dn)
+	p.Legend.Add("±3", up)
+	return nil
+}
+
+// labelled is a point with the name of its line.
+type labelled struct {
+	plotter.XY
+	label string
+}
+
+// splitOffScale splits rejected points into those within ±yLim and those
+// beyond it.
+func splitOffScale(pts []labelled, yLim float64) (plotter.XYs, []offScale) {
+	var in plotter.XYs
+	var off []offScale
+	for _, q := range pts {
+		if math.Abs(q.Y) > yLim {
+			off = append(off, offScale{q.X, q.Y, q.label})
+		} else {
+			in = append(in, q.XY)
+		}
+	}
+	return in, off
 }
 
 // bandTitle is the title of a band's residual figure.
 func bandTitle(k bandKey) string {
+	sp := typeset.SpeciesText(k.species)
+	if k.stUp != k.stLo {
+		return sp + "   " + linelist.Band{VUp: k.vUp, VLo: k.vLo, StateUp: k.stUp, StateLo: k.stLo}.String()
+	}
 	if k.vUp == k.vLo {
-		return sprintf("%s   pure rotation, v=%d", k.species, k.vUp)
+		return sprintf("%s   pure rotation, v=%d", sp, k.vUp)
 	}
-	return sprintf("%s   v′=%d ← v″=%d", k.species, k.vUp, k.vLo)
-}
-
-// bandScale is the vertical axis of a band's residual figure: plain o − c
-// when every line of the band has the same finite, positive σ (to 1 part in
-// 10⁹) and the same unit; o − c divided by each line's σ otherwise.
-type bandScale struct {
-	plain bool
-	sigma float64 // the common σ (plain only)
-	unit  string  // the common unit, "" for cm-1 (plain only)
-}
-
-func newBandScale(rs []residual, idx []int) bandScale {
-	sc := bandScale{plain: true, sigma: math.NaN()}
-	for n, i := range idx {
-		r := rs[i]
-		if n == 0 {
-			sc.sigma, sc.unit = r.unc, r.unit
-			continue
-		}
-		if !finite(r.unc) || math.Abs(r.unc-sc.sigma) > 1e-9*math.Abs(sc.sigma) || r.unit != sc.unit {
-			sc.plain = false
-		}
-	}
-	if !finite(sc.sigma) || !(sc.sigma > 0) {
-		sc.plain = false
-	}
-	return sc
-}
-
-// y is the plotted value of a line.
-func (sc bandScale) y(r residual) float64 {
-	if sc.plain {
-		return r.oc
-	}
-	return r.norm
-}
-
-// guide is the height of the guides: 3σ, or 3 on the normalised scale.
-func (sc bandScale) guide() float64 {
-	if sc.plain {
-		return 3 * sc.sigma
-	}
-	return 3
-}
-
-func (sc bandScale) label() string {
-	if sc.plain {
-		return "o − c / " + unitName(sc.unit)
-	}
-	return "(o − c)/σ"
-}
-
-func (sc bandScale) guideLabel() string {
-	if sc.plain {
-		return "±3σ"
-	}
-	return "±3"
+	return sprintf("%s   v′=%d ← v″=%d", sp, k.vUp, k.vLo)
 }
 
 // bandPoints are the finite points of a band's figure, used lines by branch
 // letter ("?" for none or an unknown one), with the counts of all its lines.
 type bandPoints struct {
 	byBranch         map[string]*xyCollector
-	rejected         xyCollector
+	rejected         []labelled
 	nUsed, nRejected int
 }
 
 // branchOrder is the order of the branch series in a figure's legend.
 var branchOrder = []string{"P", "Q", "R", "O", "S", "?"}
 
-func collectBand(rs []residual, idx []int, sc bandScale) *bandPoints {
+func collectBand(rs []residual, idx []int) *bandPoints {
 	pts := &bandPoints{byBranch: map[string]*xyCollector{}}
 	for _, i := range idx {
 		r := rs[i]
 		if !r.used {
 			pts.nRejected++
-			pts.rejected.add(r.jLo, sc.y(r))
+			if finite(r.jLo) && finite(r.norm) {
+				pts.rejected = append(pts.rejected, labelled{plotter.XY{X: r.jLo, Y: r.norm}, branchLabel(r)})
+			}
 			continue
 		}
 		pts.nUsed++
@@ -296,9 +276,18 @@ func collectBand(rs []residual, idx []int, sc bandScale) *bandPoints {
 		if pts.byBranch[b] == nil {
 			pts.byBranch[b] = &xyCollector{}
 		}
-		pts.byBranch[b].add(r.jLo, sc.y(r))
+		pts.byBranch[b].add(r.jLo, r.norm)
 	}
 	return pts
+}
+
+// branchLabel names a line by branch and J″: "R(23)".
+func branchLabel(r residual) string {
+	br := r.branch
+	if br == "" {
+		br = "?"
+	}
+	return sprintf("%s(%g)", br, r.jLo)
 }
 
 // all returns every point, used then rejected.
@@ -307,7 +296,10 @@ func (pts *bandPoints) all() plotter.XYs {
 	for _, c := range pts.byBranch {
 		all = append(all, c.xy...)
 	}
-	return append(all, pts.rejected.xy...)
+	for _, q := range pts.rejected {
+		all = append(all, q.XY)
+	}
+	return all
 }
 
 // yMax is the largest |y| of the used lines, or of the rejected ones when no
@@ -320,7 +312,7 @@ func (pts *bandPoints) yMax() float64 {
 		}
 	}
 	if pts.nUsed == 0 {
-		for _, p := range pts.rejected.xy {
+		for _, p := range pts.rejected {
 			yMax = math.Max(yMax, math.Abs(p.Y))
 		}
 	}
@@ -336,7 +328,7 @@ func (pts *bandPoints) addBranches(p *plot.Plot) error {
 		}
 		st, ok := branchStyles[b]
 		if !ok {
-			st = seriesStyle{okBlack, draw.RingGlyph{}}
+			st = seriesStyle{darkPurple, draw.RingGlyph{}}
 		}
 		sc, err := scatter(c.xy, st, 2.4)
 		if err != nil {

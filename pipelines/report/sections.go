@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -9,6 +10,7 @@ import (
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
 	"bandwright/fit/states"
+	"bandwright/internal/typeset"
 )
 
 // buildDocument lays out the report of one folder.
@@ -19,6 +21,16 @@ func buildDocument(f *folder, o Options) *document {
 		d.Title = "bandwright report — " + strings.Join(rec.Species, ", ")
 	}
 	d.Lead = sprintf("%s fit of %s · status %s · report built %s", modelName(rec.Model), strings.Join(rec.Species, ", "), rec.Status, o.Now().UTC().Format("2006-01-02 15:04 MST"))
+	d.Flag = o.Flag
+	input := o.Input
+	if input == "" {
+		var names []string
+		for _, in := range rec.Provenance.Inputs {
+			names = append(names, filepath.Base(in.Path))
+		}
+		input = strings.Join(names, ", ")
+	}
+	d.Running = strings.Join(nonEmpty(d.Title, input, o.Now().UTC().Format("2006-01-02")), " · ")
 	for _, sf := range stageFiles {
 		var names []string
 		for _, n := range sf.files {
@@ -45,6 +57,17 @@ func buildDocument(f *folder, o Options) *document {
 	cautions(d, f)
 	provenance(d, f, o)
 	return d
+}
+
+// nonEmpty returns the strings that are not empty.
+func nonEmpty(ss ...string) []string {
+	var out []string
+	for _, s := range ss {
+		if s != "" {
+			out = append(out, s)
+		}
+	}
+	return out
 }
 
 func modelName(kind string) string {
@@ -86,7 +109,7 @@ func glance(d *document, f *folder) {
 	}
 	d.table(s, &table{Caption: "Fit statistics.", Head: []string{"quantity", "value"}, Numeric: []bool{false, true}, Rows: rows})
 	if len(rec.Bands) > 0 {
-		t := &table{Caption: "Bands among the lines used (v′ = v″: pure rotation).", Head: []string{"species", "band v′–v″", "lines used", "J range"}, Numeric: []bool{false, false, true, false}}
+		t := &table{Caption: "Bands among the lines used (v′ = v″: pure rotation).", Head: []string{"species", "band v′–v″", "lines used", "J range"}, Numeric: []bool{false, false, true, false}, Kind: []cellKind{cellSpecies}}
 		for _, b := range rec.Bands {
 			t.Rows = append(t.Rows, []string{b.Species, linelist.BandLabel(b.VUp, b.VLo), strconv.Itoa(b.Lines), jText(b.JMin, b.HalfJ) + "–" + jText(b.JMax, b.HalfJ)})
 		}
@@ -140,16 +163,11 @@ func constantsSection(d *document, f *folder) {
 	if u := rec.ShownIn(); u.IsFrequency() {
 		units = fmt.Sprintf("%s, kHz or Hz (each constant in the largest in which it is at least 1; constants.json keeps %s)", u, unitName(rec.Unit))
 	}
-	s.para("Values in %s with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003. σ and the covariance are %s.", units, rec.CovarianceConvention)
-	t := &table{Caption: "Fitted and fixed parameters.", Head: []string{"parameter", "level or indices", "applies to", "value (1σ)", "unit", "role"}, Numeric: []bool{false, false, false, true, false, false}}
+	s.para("Values in %s with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003, and 6.1215(12)×10⁻⁶ means (6.1215 ± 0.0012)×10⁻⁶. σ and the covariance are %s. Each constant is named as the trade writes it and, beside it, as constants.json and --fix name it.", units, rec.CovarianceConvention)
+	t := &table{Caption: "Fitted and fixed parameters.", Head: []string{"constant", "name in the files", "applies to", "value (1σ)", "unit", "role"},
+		Numeric: []bool{false, false, false, true, false, false}, Kind: []cellKind{cellName, cellText, cellSpecies, cellText, cellUnit}, HTMLOnly: []bool{true}}
 	for _, p := range rec.Parameters {
-		idx, to, role := "", p.Species, "fitted"
-		switch {
-		case p.V != nil:
-			idx = sprintf("v = %d", *p.V)
-		case p.K != nil && p.L != nil:
-			idx = sprintf("k = %d, l = %d", *p.K, *p.L)
-		}
+		to, role := p.Species, "fitted"
 		if p.Element != "" {
 			to = "element " + p.Element + " (Born–Oppenheimer breakdown)"
 		}
@@ -169,22 +187,23 @@ func constantsSection(d *document, f *folder) {
 				role = "calibration factor, fitted"
 			}
 		}
-		t.Rows = append(t.Rows, []string{name, idx, to, text, unitName(unit), role})
+		t.Rows = append(t.Rows, []string{name, name, to, typeset.Number(text), unit, role})
 	}
 	d.table(s, t)
 	if r := rec.Rounding; r != nil {
 		s.para("The values were rounded one after another (sequential rounding and refitting, Le Roy 1998, with rounding units from Watson's parameter sensitivity, 1977); χ² %s before rounding and %s after. σ are those of the unrounded fit.", num(r.Chi2Before, 7), num(r.Chi2After, 7))
-		rt := &table{Caption: "Rounding, in the order it was done (values of constants.json, " + unitName(rec.Unit) + ").", Head: []string{"parameter", "unrounded", "rounded", "rounding unit", "conditional σ"}, Numeric: []bool{false, true, true, true, true}}
+		rt := &table{Caption: "Rounding, in the order it was done (values of constants.json, " + unitName(rec.Unit) + ").", Head: []string{"constant", "unrounded", "rounded", "rounding unit", "conditional σ"}, Numeric: []bool{false, true, true, true, true}, Kind: []cellKind{cellName}}
 		for _, st := range r.Steps {
 			rt.Rows = append(rt.Rows, []string{st.Param, num(st.Unrounded, 12), num(st.Rounded, 12), num(st.Unit, 3), num(st.CondSigma, 3)})
 		}
 		d.table(s, rt)
 	}
 	if len(rec.Derived) > 0 {
-		dt := &table{Caption: "Derived constants, σ propagated through the full covariance (σ² = gᵀCg).", Head: []string{"constant", "species", "value (1σ)", "unit", "how"}, Numeric: []bool{false, false, true, false, false}}
+		dt := &table{Caption: "Derived constants, σ propagated through the full covariance (σ² = gᵀCg).", Head: []string{"constant", "name in the files", "species", "value (1σ)", "unit", "how"},
+			Numeric: []bool{false, false, false, true, false, false}, Kind: []cellKind{cellName, cellText, cellSpecies, cellText, cellUnit}, HTMLOnly: []bool{true}}
 		for _, x := range rec.Derived {
 			text, unit := rec.DerivedText(x)
-			dt.Rows = append(dt.Rows, []string{x.Name, x.Species, text, unitName(unit), x.Note})
+			dt.Rows = append(dt.Rows, []string{x.Name, x.Name, x.Species, typeset.Number(text), unit, x.Note})
 		}
 		d.table(s, dt)
 	} else {

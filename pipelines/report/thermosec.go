@@ -9,8 +9,10 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
 
 	"bandwright/constants"
+	"bandwright/internal/typeset"
 )
 
 // thermoSection shows the thermodynamic table: an excerpt with σ_total,
@@ -74,7 +76,7 @@ func thermoSection(d *document, f *folder) {
 	d.figure(s, bandPlot(T, th.get("Q"), th.get("Q_sigma"), qTot, th.get("Q_closed_form"),
 		"report-thermo-q.svg", "Partition function", "Q", "Q(T), internal partition function", "level sum"))
 	d.figure(s, bandPlot(T, th.get("Cp"), th.get("Cp_sigma"), cpTot, nil,
-		"report-thermo-cp.svg", "Heat capacity", "Cp° / J mol⁻¹ K⁻¹", "Cp°(T), ideal gas at the standard pressure", "Cp°"))
+		"report-thermo-cp.svg", "Heat capacity", "Cp° / "+typeset.Unit("J mol-1 K-1"), "Cp°(T), ideal gas at the standard pressure", "Cp°"))
 	if th.get("Q_closed_form") != nil {
 		d.figure(s, closedFormFigure(T, th.get("Q"), th.get("Q_closed_form")))
 	}
@@ -93,7 +95,8 @@ func excerptTables(d *document, s *section, th *thermoTable, rows []int) {
 		cell func(i int) string
 	}
 	var cols [][]col // one group per quantity
-	units := map[string]string{"Q": "", "Cp": " / J mol⁻¹ K⁻¹", "S": " / J mol⁻¹ K⁻¹", "H_minus_H0": " / kJ mol⁻¹", "H_minus_H298": " / kJ mol⁻¹", "gef": " / J mol⁻¹ K⁻¹"}
+	jmk, kjm := " / "+typeset.Unit("J mol-1 K-1"), " / "+typeset.Unit("kJ mol-1")
+	units := map[string]string{"Q": "", "Cp": jmk, "S": jmk, "H_minus_H0": kjm, "H_minus_H298": kjm, "gef": jmk}
 	for _, fn := range thermoFunctions {
 		v := th.get(fn.key)
 		if v == nil {
@@ -371,17 +374,20 @@ func widthFigure(th *thermoTable) *figure {
 	fig := &figure{Name: "report-thermo-sigma.svg", Alt: "relative 2σ of Q, Cp° and S° against temperature",
 		Caption: "Relative width 2σ/value of Q, Cp° and S° against T (log scale): where the uncertainty inherited from the fit grows, and (Cp° total) where the model part of the budget takes over."}
 	T := th.get("T_K")
+	// Lines for the linear σ, solid or clearly dashed; Monte Carlo σ as
+	// markers on the line of its linear σ, so no two series share a pattern.
 	series := []struct {
 		key, sig, label string
 		st              seriesStyle
 		dash            []vg.Length
+		width           vg.Length
 	}{
-		{"Q", "Q_sigma", "Q", seriesStyle{color: okBlue}, nil},
-		{"Cp", "Cp_sigma", "Cp°", seriesStyle{color: okOrange}, []vg.Length{vg.Points(6), vg.Points(3)}},
-		{"S", "S_sigma", "S°", seriesStyle{color: okBluishGreen}, []vg.Length{vg.Points(2), vg.Points(2)}},
-		{"Q", "Q_sigma_mc", "Q (Monte Carlo)", seriesStyle{color: okReddishPurple}, []vg.Length{vg.Points(1), vg.Points(3)}},
-		{"Cp", "Cp_sigma_mc", "Cp° (Monte Carlo)", seriesStyle{color: okBlack}, []vg.Length{vg.Points(8), vg.Points(2), vg.Points(2), vg.Points(2)}},
-		{"Cp", "Cp_sigma_total", "Cp° total", seriesStyle{color: okVermillion}, nil},
+		{"Q", "Q_sigma", "Q", seriesStyle{color: okBlue}, nil, 1.4},
+		{"Cp", "Cp_sigma", "Cp°", seriesStyle{color: okBlack}, []vg.Length{vg.Points(7), vg.Points(3)}, 1.3},
+		{"S", "S_sigma", "S°", seriesStyle{color: okBluishGreen}, []vg.Length{vg.Points(2), vg.Points(2.5)}, 1.6},
+		{"Cp", "Cp_sigma_total", "Cp° total", seriesStyle{color: okVermillion}, []vg.Length{vg.Points(9), vg.Points(2.5), vg.Points(2), vg.Points(2.5)}, 1.6},
+		{"Q", "Q_sigma_mc", "Q (Monte Carlo)", seriesStyle{okBlue, draw.RingGlyph{}}, nil, 0},
+		{"Cp", "Cp_sigma_mc", "Cp° (Monte Carlo)", seriesStyle{okBlack, draw.SquareGlyph{}}, nil, 0},
 	}
 	p := newPlot("Relative uncertainty 2σ/value (log scale)", "T / K", "")
 	p.Y.Scale = plot.LogScale{}
@@ -401,11 +407,21 @@ func widthFigure(th *thermoTable) *figure {
 		if !distinctX(c.xy) {
 			continue
 		}
+		if sr.st.shape != nil {
+			sc, err := scatter(decimate(c.xy, 24, false), sr.st, 2.2)
+			if err != nil {
+				continue
+			}
+			p.Add(sc)
+			p.Legend.Add(sr.label, sc)
+			drawn++
+			continue
+		}
 		l, err := plotter.NewLine(decimate(c.xy, maxCurvePoints, false))
 		if err != nil {
 			continue
 		}
-		l.LineStyle.Color, l.LineStyle.Width, l.LineStyle.Dashes = sr.st.color, 1.3, sr.dash
+		l.LineStyle.Color, l.LineStyle.Width, l.LineStyle.Dashes = sr.st.color, sr.width, sr.dash
 		p.Add(l)
 		p.Legend.Add(sr.label, l)
 		drawn++
