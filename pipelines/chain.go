@@ -42,6 +42,17 @@ type ChainOptions struct {
 	// error.
 	States string
 	Out    string
+	// Report labels the report of a nightly result (nil: the pipeline's name
+	// as its title).
+	Report *ReportLabels
+}
+
+// ReportLabels are what the report of a nightly result is titled with: the
+// input file, its SHA-8 and date in the title, and a flag line made from the
+// outcome once the fit is done (the drift test of the result).
+type ReportLabels struct {
+	Title, Input string
+	Flag         func(*ChainOutcome) string
 }
 
 // ChainOutcome is what a chain produced.
@@ -318,7 +329,14 @@ func (c *chainRun) report() error {
 	if c.p.Path != "" {
 		notes = append([]string{fmt.Sprintf("pipeline file %s (sha256 %s)", filepath.Base(c.p.Path), c.p.Hash)}, notes...)
 	}
-	files, err := report.Build(c.d.TempPath(""), report.Options{Formats: formats, Version: Version, Notes: notes, Title: c.p.Name})
+	ro := report.Options{Formats: formats, Version: Version, Notes: notes, Title: c.p.Name}
+	if l := c.o.Report; l != nil {
+		ro.Title, ro.Input = l.Title, l.Input
+		if l.Flag != nil {
+			ro.Flag = l.Flag(c.oc)
+		}
+	}
+	files, err := report.Build(c.d.TempPath(""), ro)
 	if err != nil {
 		return err
 	}

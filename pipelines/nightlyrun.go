@@ -6,6 +6,7 @@ import (
 	"io"
 	"os/exec"
 	"runtime"
+	"strings"
 
 	"bandwright/internal/failure"
 	"bandwright/pipelines/nightly"
@@ -110,18 +111,31 @@ func nightlyJob(p *Pipeline) nightly.Job {
 			return nil, err
 		}
 		defer d.Abort()
-		oc, err := chainInto(d, ChainOptions{Inputs: []string{in.Path}, Names: []string{in.Name}, Pipeline: p})
+		var cs []nightly.Constant
+		var offer *nightly.ReferenceOffer
+		var notes []string
+		labels := &ReportLabels{
+			Title: fmt.Sprintf("%s · %s · %s", in.Name, shortSHA(in.SHA256), in.Started.Format("2006-01-02")),
+			Input: in.Name,
+			Flag: func(oc *ChainOutcome) string {
+				cs, offer, notes = nightlyOutcomeConstants(oc, in.ReferenceDir)
+				return driftFlag(in, cs)
+			},
+		}
+		if p.Name != "" {
+			labels.Title = p.Name + " — " + labels.Title
+		}
+		oc, err := chainInto(d, ChainOptions{Inputs: []string{in.Path}, Names: []string{in.Name}, Pipeline: p, Report: labels})
 		if err != nil {
 			return nil, err
+		}
+		if cs == nil {
+			// The pipeline writes no report: the constants all the same.
+			cs, offer, notes = nightlyOutcomeConstants(oc, in.ReferenceDir)
 		}
 		if err := d.Commit(); err != nil {
 			return nil, err
 		}
-		used := make([]bool, len(oc.Fit.Result.Lines))
-		for i, lr := range oc.Fit.Result.Lines {
-			used[i] = lr.Used
-		}
-		cs, offer, notes := nightlyConstants(oc.Fit.Record, oc.Fit.Problem.Lines, used, in.ReferenceDir)
 		jr := &nightly.JobResult{Constants: cs, Reference: offer}
 		st := oc.Fit.Result.Stats
 		jr.Notes = append(jr.Notes, fmt.Sprintf("%s model, %d lines (%d used, %d rejected), s = %.3g", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma))
@@ -147,4 +161,51 @@ func isolation(o NightlyOptions, p *Pipeline) *nightly.Isolation {
 	}
 	a := WorkerArgs{Pipeline: p.Path, SHA256: p.Hash, Memory: o.JobMemory, Procs: max(1, runtime.NumCPU()/workers)}
 	return &nightly.Isolation{Command: func() *exec.Cmd { return o.WorkerCommand(a) }}
+}
+
+// nightlyOutcomeConstants are the constants a nightly result records
+// (nightlyConstants) from the chain's fit.
+func nightlyOutcomeConstants(oc *ChainOutcome, refDir string) ([]nightly.Constant, *nightly.ReferenceOffer, []string) {
+	used := make([]bool, len(oc.Fit.Result.Lines))
+	for i, lr := range oc.Fit.Result.Lines {
+		used[i] = lr.Used
+	}
+	cs, offer, notes := nightlyConstants(oc.Fit.Record, oc.Fit.Problem.Lines, used, refDir)
+	if cs == nil {
+		cs = []nightly.Constant{}
+	}
+	return cs, offer, notes
+}
+
+// driftFlag is the flag line of a nightly result's report: its drift test
+// against the archive's history as it stood when the report was built.
+func driftFlag(in nightly.Input, cs []nightly.Constant) string {
+	if in.History == "" {
+		return ""
+	}
+	ds, err := nightly.PreviewDrift(in.History, cs, in.DriftSigma)
+	if err != nil {
+		return "Drift: not tested (" + err.Error() + ")."
+	}
+	threshold := in.DriftSigma
+	if threshold == 0 {
+		threshold = 5
+	}
+	flagged, tested := nightly.DistinctDrifted(ds)
+	when := "against the results in the archive's history when this report was built; the nightly summary has the test as recorded"
+	switch {
+	case tested == 0:
+		return "Drift: nothing to compare with yet (" + when + ")."
+	case len(flagged) == 0:
+		return fmt.Sprintf("Drift: none — no constant more than %g combined σ from the weighted mean of its earlier results (%s).", threshold, when)
+	}
+	return fmt.Sprintf("DRIFT: %d constant(s) more than %g combined σ from the weighted mean of their earlier results: %s (%s).", len(flagged), threshold, strings.Join(flagged, "; "), when)
+}
+
+// shortSHA is the first 8 hex digits of a SHA-256.
+func shortSHA(sha string) string {
+	if len(sha) > 8 {
+		return sha[:8]
+	}
+	return sha
 }

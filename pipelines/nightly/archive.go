@@ -3,7 +3,9 @@ package nightly
 import (
 	"context"
 	"encoding/csv"
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -103,8 +105,7 @@ func openArchive(real, shown string) (*archive, error) {
 	a.claims = filepath.Join(real, workDir, claimsDir)
 	a.lk = flock.New(filepath.Join(real, ledgerLock), a.perm)
 	a.ledger = ledgerState{bySHA: map[string]*shaState{}, okOut: map[string]string{}}
-	a.history = historyState{agg: map[string]*aggregate{}, shas: map[string]bool{},
-		bySpecies: map[string]map[string]bool{}, bySpeciesModel: map[string]map[string]bool{}}
+	a.history = newHistoryState()
 	return a, nil
 }
 
@@ -208,12 +209,21 @@ func (a *archive) ledgerRow(rec []string) {
 	}
 }
 
-func (a *archive) historyRow(rec []string) {
+func (a *archive) historyRow(rec []string) { a.history.add(rec) }
+
+// newHistoryState returns the state of an empty history.
+func newHistoryState() historyState {
+	return historyState{agg: map[string]*aggregate{}, shas: map[string]bool{},
+		bySpecies: map[string]map[string]bool{}, bySpeciesModel: map[string]map[string]bool{}}
+}
+
+// add counts one row of history.csv.
+func (h *historyState) add(rec []string) {
 	sha := rec[0]
-	a.history.shas[sha] = true
+	h.shas[sha] = true
 	if rec[13] != "" {
-		addSHA(a.history.bySpecies, rec[3], sha)
-		addSHA(a.history.bySpeciesModel, rec[3]+"\x00"+rec[13], sha)
+		addSHA(h.bySpecies, rec[3], sha)
+		addSHA(h.bySpeciesModel, rec[3]+"\x00"+rec[13], sha)
 	}
 	v, err1 := strconv.ParseFloat(rec[5], 64)
 	s, err2 := strconv.ParseFloat(rec[6], 64)
@@ -221,15 +231,68 @@ func (a *archive) historyRow(rec []string) {
 		return
 	}
 	k := key(rec[3], rec[4], rec[7], rec[13])
-	g := a.history.agg[k]
+	g := h.agg[k]
 	if g == nil {
 		g = &aggregate{}
-		a.history.agg[k] = g
+		h.agg[k] = g
 	}
 	w := 1 / (s * s)
 	g.w += w
 	g.wx += w * v
 	g.n++
+}
+
+// test is the drift test of constant c against the results of the history
+// (see the package documentation).
+func (h *historyState) test(c Constant, threshold float64) Drift {
+	sp, nm, un, md := csvcell.Neutralise(c.Species), csvcell.Neutralise(c.Name), csvcell.Neutralise(c.Unit), csvcell.Neutralise(c.Model)
+	d := Drift{Constant: c, Mean: math.NaN(), SigmaMean: math.NaN(), Z: math.NaN()}
+	if g := h.agg[key(sp, nm, un, md)]; g != nil && g.n > 0 {
+		d.N = g.n
+		d.Mean = g.wx / g.w
+		d.SigmaMean = 1 / math.Sqrt(g.w)
+		if mine, all := h.modelShare(sp, md); md != "" && 2*mine < all {
+			d.Untested = fmt.Sprintf("not tested: model in %d of %d earlier results", mine, all)
+		} else if usable(c.Value, c.Sigma) {
+			d.Z = (c.Value - d.Mean) / math.Hypot(c.Sigma, d.SigmaMean)
+			d.Flagged = math.Abs(d.Z) > threshold
+		}
+	}
+	return d
+}
+
+// PreviewDrift returns the drift test of the constants cs against the
+// history file of an archive (ARCHIVE/history.csv, read only; a missing file
+// is an empty history) as it stands now, with threshold in combined σ (0:
+// 5). It is the test the run records for the result unless results of the
+// same constants are recorded meanwhile; a job uses it to show the drift flag
+// in its own report.
+func PreviewDrift(historyPath string, cs []Constant, threshold float64) ([]Drift, error) {
+	if threshold == 0 {
+		threshold = 5
+	}
+	h := newHistoryState()
+	f, err := os.Open(historyPath)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+	case err != nil:
+		return nil, fmt.Errorf("nightly: %w", err)
+	default:
+		defer f.Close()
+		st, err := f.Stat()
+		if err != nil {
+			return nil, fmt.Errorf("nightly: %w", err)
+		}
+		l := &csvLog{path: historyPath, name: "history", f: f, header: HistoryHeader}
+		if _, err := l.scan(0, st.Size(), h.add); err != nil {
+			return nil, err
+		}
+	}
+	out := make([]Drift, len(cs))
+	for i, c := range cs {
+		out[i] = h.test(c, threshold)
+	}
+	return out, nil
 }
 
 func (a *archive) state(sha string) shaState {
@@ -267,26 +330,14 @@ func (a *archive) addHistory(input, sha, finished string, cs []Constant, thresho
 	ds := make([]Drift, len(cs))
 	rows := make([][]string, len(cs))
 	for i, c := range cs {
-		sp, nm, un, md := csvcell.Neutralise(c.Species), csvcell.Neutralise(c.Name), csvcell.Neutralise(c.Unit), csvcell.Neutralise(c.Model)
-		d := Drift{Constant: c, Mean: math.NaN(), SigmaMean: math.NaN(), Z: math.NaN()}
-		if g := a.history.agg[key(sp, nm, un, md)]; g != nil && g.n > 0 {
-			d.N = g.n
-			d.Mean = g.wx / g.w
-			d.SigmaMean = 1 / math.Sqrt(g.w)
-			if mine, all := a.history.modelShare(sp, md); md != "" && 2*mine < all {
-				d.Untested = fmt.Sprintf("not tested: model in %d of %d earlier results", mine, all)
-			} else if usable(c.Value, c.Sigma) {
-				d.Z = (c.Value - d.Mean) / math.Hypot(c.Sigma, d.SigmaMean)
-				d.Flagged = math.Abs(d.Z) > threshold
-			}
-		}
+		d := a.history.test(c, threshold)
 		ds[i] = d
 		flag := d.Untested
 		if d.Flagged {
 			flag = "flagged"
 		}
-		rows[i] = []string{sha, csvcell.Neutralise(input), finished, sp, nm, fmtF(c.Value), fmtF(c.Sigma), un,
-			strconv.Itoa(d.N), fmtNaN(d.Mean), fmtNaN(d.SigmaMean), fmtNaN(d.Z), flag, md}
+		rows[i] = []string{sha, csvcell.Neutralise(input), finished, csvcell.Neutralise(c.Species), csvcell.Neutralise(c.Name), fmtF(c.Value), fmtF(c.Sigma), csvcell.Neutralise(c.Unit),
+			strconv.Itoa(d.N), fmtNaN(d.Mean), fmtNaN(d.SigmaMean), fmtNaN(d.Z), flag, csvcell.Neutralise(c.Model)}
 	}
 	if err := a.hist.append(rows); err != nil {
 		return nil, err

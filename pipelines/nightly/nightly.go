@@ -148,6 +148,13 @@ type Input struct {
 	// (ARCHIVE/reference; it may not exist yet): the record of a set of
 	// species is ReferenceDir/ReferenceKey(species)+".json". Read only.
 	ReferenceDir string
+	// History is the archive's history.csv (read only; it may not exist
+	// yet) and DriftSigma the run's drift threshold: with PreviewDrift a job
+	// can show the drift test of its result in its own report.
+	History    string
+	DriftSigma float64
+	// Started is when the run started the job (the date of its report).
+	Started time.Time
 }
 
 // JobResult is what a successful Job reports besides the files it wrote.

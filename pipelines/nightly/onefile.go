@@ -73,7 +73,8 @@ func (r *runner) one(ctx context.Context, t task, jr *jobRunner) FileOutcome {
 	if err := r.markStarted(stage, t, fo.Started); err != nil {
 		return r.archiveFailed(fo, err)
 	}
-	res, jerr := jr.run(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir)}, outDir)
+	res, jerr := jr.run(Input{Path: snap, Name: t.name, SHA256: t.sha, ReferenceDir: filepath.Join(a.dir, ReferenceDir),
+		History: filepath.Join(a.dir, HistoryFile), DriftSigma: r.o.DriftSigma, Started: fo.Started}, outDir)
 	hook("job", t.name)
 
 	// The inbox file must not have changed while it was processed.
