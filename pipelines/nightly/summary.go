@@ -3,7 +3,7 @@ package nightly
 import (
 	"bytes"
 	"fmt"
-	"html/template"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -14,7 +14,7 @@ import (
 	"github.com/google/renameio/v2"
 
 	"bandwright/constants"
-	"bandwright/internal/mdtext"
+	"bandwright/internal/typeset"
 )
 
 // SummaryName returns the base name (without extension) of the summary of a
@@ -50,26 +50,71 @@ func (r *runner) summaries(start time.Time) error {
 	return nil
 }
 
-type sumFile struct {
-	Input, SHA8, Status, Started, Finished, Output, Link, Message string
-	OK                                                            bool
-}
-
-type sumConst struct {
-	Input, Constant, Value, Unit, Z, Mean, N, Note string
-	Flagged                                        bool
-}
-
-type sumSkip struct{ Input, Reason string }
-
+// summaryData is what a summary shows: one row per file finished on the
+// date (its result or its failure), the key constants as columns, the drifted
+// quantities (each once), and a trend figure per key constant.
 type summaryData struct {
 	Date, Generated, Archive, Version, Pipeline string
 	Threshold                                   string
 	Total, OK, Failed, Flagged                  int
-	Files                                       []sumFile
-	Constants                                   []sumConst
-	Drift                                       []sumConst
+	Results                                     []sumResult
+	Cols                                        []sumCol
+	Drift                                       []sumDrift
+	Trends                                      []trend
 	Skipped                                     []sumSkip
+}
+
+// sumResult is one row of the results table.
+type sumResult struct {
+	sha                                                  string
+	Input, SHA8, Status, Finished, Output, Link, Message string
+	Model, S, Used, Rejected                             string
+	OK, Drifted                                          bool
+	Cells                                                []sumCell
+	Flags                                                []string // drifted quantities, each once
+}
+
+// sumCell is a key constant of a result: value(σ) and its drift test.
+type sumCell struct {
+	Value, Z string
+	Flagged  bool
+}
+
+// sumCol is a key-constant column: the constant's name in the files, and
+// its unit.
+type sumCol struct{ Name, Unit string }
+
+// sumDrift is a drifted quantity of one result, with all its names.
+type sumDrift struct {
+	Input, Names, Value, Unit, Mean, N, Z string
+}
+
+type sumSkip struct{ Input, Reason string }
+
+// histRow is a row of history.csv as the summary reads it.
+type histRow struct {
+	sha, input, finished, species, name, unit, model string
+	value, sigma, z, mean, sigmaMean                 float64
+	n                                                int
+	flagged                                          bool
+	note                                             string
+}
+
+func parseHistRow(rec []string) histRow {
+	f := func(s string) float64 {
+		v, err := strconv.ParseFloat(s, 64)
+		if err != nil {
+			return math.NaN()
+		}
+		return v
+	}
+	n, _ := strconv.Atoi(rec[8])
+	h := histRow{sha: rec[0], input: rec[1], finished: rec[2], species: rec[3], name: rec[4], value: f(rec[5]), sigma: f(rec[6]),
+		unit: rec[7], n: n, mean: f(rec[9]), sigmaMean: f(rec[10]), z: f(rec[11]), flagged: rec[12] == "flagged", model: rec[13]}
+	if !h.flagged {
+		h.note = rec[12]
+	}
+	return h
 }
 
 // writeSummary writes ARCHIVE/summary-<date>.html and .md from the ledger rows
@@ -84,56 +129,14 @@ func (r *runner) writeSummary(date string, extra *Report) (string, string, error
 		}
 		d := summaryData{Date: date, Generated: r.o.Now().Format(time.RFC3339), Archive: r.a.shown,
 			Version: r.o.Version, Pipeline: r.o.PipelineHash, Threshold: fmtF(r.o.DriftSigma)}
-		okSHA := map[string]bool{}
-		err := r.a.led.each(func(rec []string) {
-			fin, err := time.Parse(time.RFC3339, rec[4])
-			if err != nil || r.dateOf(fin) != date {
-				return
-			}
-			f := sumFile{Input: rec[0], SHA8: short(rec[1]), Status: rec[2], Started: rec[3], Finished: rec[4],
-				Output: rec[5], Message: rec[6], OK: rec[2] == string(StatusOK)}
-			if f.OK {
-				d.OK++
-				okSHA[rec[1]] = true
-				f.Link = f.Output + "/"
-				if _, err := os.Stat(filepath.Join(r.a.dir, filepath.FromSlash(f.Output), constants.ReportHTMLFile)); err == nil {
-					f.Link = f.Output + "/report.html"
-				}
-			} else {
-				d.Failed++
-			}
-			d.Total++
-			d.Files = append(d.Files, f)
-		})
-		if err != nil {
+		var all []histRow
+		if err := r.a.hist.each(func(rec []string) { all = append(all, parseHistRow(rec)) }); err != nil {
 			return err
 		}
-		err = r.a.hist.each(func(rec []string) {
-			if !okSHA[rec[0]] {
-				return
-			}
-			v, _ := strconv.ParseFloat(rec[5], 64)
-			s, _ := strconv.ParseFloat(rec[6], 64)
-			c := sumConst{Input: rec[1], Constant: rec[4], Value: constants.FormatParen(v, s), Unit: rec[7],
-				N: rec[8], Flagged: rec[12] == "flagged"}
-			if !c.Flagged {
-				c.Note = rec[12]
-			}
-			if z, err := strconv.ParseFloat(rec[11], 64); err == nil {
-				c.Z = strconv.FormatFloat(z, 'f', 1, 64)
-				m, _ := strconv.ParseFloat(rec[9], 64)
-				sm, _ := strconv.ParseFloat(rec[10], 64)
-				c.Mean = constants.FormatParen(m, sm)
-			}
-			d.Constants = append(d.Constants, c)
-			if c.Flagged {
-				d.Drift = append(d.Drift, c)
-				d.Flagged++
-			}
-		})
-		if err != nil {
+		if err := r.collectResults(&d, date, all); err != nil {
 			return err
 		}
+		d.Trends = trends(d.Cols, all, r.o.DriftSigma)
 		if extra != nil {
 			for _, f := range extra.Files {
 				if f.Status == StatusSkipped {
@@ -164,122 +167,173 @@ func (r *runner) writeSummary(date string, extra *Report) (string, string, error
 	return htmlPath, mdPath, err
 }
 
+// collectResults fills the results table of date: a row per ledger row
+// finished that day, with the fit's model and statistics from the result's
+// constants.json, its key constants and its drifted quantities.
+func (r *runner) collectResults(d *summaryData, date string, all []histRow) error {
+	bySHA := map[string][]histRow{}
+	for _, h := range all {
+		bySHA[h.sha] = append(bySHA[h.sha], h)
+	}
+	err := r.a.led.each(func(rec []string) {
+		fin, err := time.Parse(time.RFC3339, rec[4])
+		if err != nil || r.dateOf(fin) != date {
+			return
+		}
+		res := sumResult{sha: rec[1], Input: rec[0], SHA8: short(rec[1]), Status: rec[2], Finished: rec[4], Output: rec[5], Message: rec[6], OK: rec[2] == string(StatusOK)}
+		d.Total++
+		if !res.OK {
+			d.Failed++
+			d.Results = append(d.Results, res)
+			return
+		}
+		d.OK++
+		res.Link = res.Output + "/"
+		dir := filepath.Join(r.a.dir, filepath.FromSlash(res.Output))
+		if _, err := os.Stat(filepath.Join(dir, constants.ReportHTMLFile)); err == nil {
+			res.Link = res.Output + "/" + constants.ReportHTMLFile
+		}
+		res.fitStats(dir)
+		hs := bySHA[rec[1]]
+		res.Flags, d.Drift = driftOf(res.Input, hs, d.Drift)
+		res.Drifted = len(res.Flags) > 0
+		d.Flagged += len(res.Flags)
+		d.Results = append(d.Results, res)
+	})
+	if err != nil {
+		return err
+	}
+	d.Cols = keyColumns(d.Results, bySHA)
+	for i := range d.Results {
+		res := &d.Results[i]
+		if !res.OK {
+			continue
+		}
+		for _, c := range d.Cols {
+			res.Cells = append(res.Cells, cellOf(bySHA[res.sha], c))
+		}
+	}
+	return nil
+}
+
+// fitStats reads the model and the statistics of a result's fit from its
+// constants.json ("" where it cannot be read).
+func (res *sumResult) fitStats(dir string) {
+	b, err := os.ReadFile(filepath.Join(dir, constants.ConstantsFile))
+	if err != nil {
+		return
+	}
+	rec, err := constants.Read(bytes.NewReader(b), constants.ConstantsFile)
+	if err != nil {
+		return
+	}
+	res.Model = ModelKey(rec)
+	res.S = typeset.Number(strconv.FormatFloat(rec.Stats.Sigma, 'g', 3, 64))
+	res.Used, res.Rejected = strconv.Itoa(rec.Stats.Used), strconv.Itoa(rec.Stats.Rejected)
+}
+
+// driftOf returns the drifted quantities of one result's history rows, each
+// once with all its names (see aliasGroups), and adds them to list.
+func driftOf(input string, hs []histRow, list []sumDrift) ([]string, []sumDrift) {
+	cs := make([]Constant, len(hs))
+	for i, h := range hs {
+		cs[i] = Constant{Species: h.species, Name: h.name, Value: h.value, Sigma: h.sigma, Unit: h.unit, Model: h.model}
+	}
+	var flags []string
+	for _, g := range aliasGroups(cs) {
+		var names []string
+		first := -1
+		for _, i := range g {
+			names = append(names, hs[i].name)
+			if hs[i].flagged && first < 0 {
+				first = i
+			}
+		}
+		if first < 0 {
+			continue
+		}
+		h := hs[first]
+		flags = append(flags, strings.Join(names, " = "))
+		list = append(list, sumDrift{Input: input, Names: strings.Join(names, " = "), Value: paren(h.value, h.sigma), Unit: h.unit,
+			Mean: paren(h.mean, h.sigmaMean), N: strconv.Itoa(h.n), Z: typeset.Number(strconv.FormatFloat(h.z, 'f', 1, 64))})
+	}
+	return flags, list
+}
+
+// keyPriority lists the key constants the summary shows as columns, in
+// order, by their name without the isotopologue: the scale factor against
+// the reference, then the equilibrium constants, then the first band
+// origin.
+var keyPriority = []string{"kappa_vs_reference", "omega_e", "omega_e_x_e", "B_e", "alpha_e", "r_e", "nu0_1-0"}
+
+// maxKeyColumns is the most key-constant columns of the results table.
+const maxKeyColumns = 5
+
+// keyColumns picks the key-constant columns of the date's results: the
+// constants of keyPriority that a result has (each isotopologue its own
+// column), at most maxKeyColumns; without any, the first constants of the
+// first result.
+func keyColumns(rs []sumResult, bySHA map[string][]histRow) []sumCol {
+	seen := map[sumCol]bool{}
+	var present []sumCol
+	for i := range rs {
+		if !rs[i].OK {
+			continue
+		}
+		for _, h := range bySHA[rs[i].sha] {
+			c := sumCol{h.name, h.unit}
+			if !seen[c] {
+				seen[c] = true
+				present = append(present, c)
+			}
+		}
+	}
+	var cols []sumCol
+	for _, base := range keyPriority {
+		for _, c := range present {
+			if len(cols) < maxKeyColumns && (c.Name == base || strings.HasPrefix(c.Name, base+"[")) {
+				cols = append(cols, c)
+			}
+		}
+	}
+	if len(cols) == 0 {
+		cols = present[:min(len(present), maxKeyColumns-1)]
+	}
+	return cols
+}
+
+// cellOf is the cell of column c for a result's history rows.
+func cellOf(hs []histRow, c sumCol) sumCell {
+	for _, h := range hs {
+		if h.name == c.Name && h.unit == c.Unit {
+			cell := sumCell{Value: paren(h.value, h.sigma), Flagged: h.flagged}
+			switch {
+			case !math.IsNaN(h.z):
+				cell.Z = "z " + typeset.Number(strconv.FormatFloat(h.z, 'f', 1, 64))
+			case h.note != "":
+				cell.Z = "untested"
+			default:
+				cell.Z = "first"
+			}
+			return cell
+		}
+	}
+	return sumCell{Value: "—"}
+}
+
+// paren is value(σ) typeset.
+func paren(v, s float64) string {
+	if math.IsNaN(v) {
+		return "—"
+	}
+	return typeset.Number(constants.FormatParen(v, s))
+}
+
 func short(sha string) string {
 	if len(sha) < 8 {
 		return sha
 	}
 	return sha[:8]
-}
-
-var summaryHTML = template.Must(template.New("summary").Parse(`<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<title>bandwright nightly summary {{.Date}}</title>
-<style>
-body { font-family: sans-serif; margin: 2em; color: #222; }
-table { border-collapse: collapse; margin: 1em 0; }
-th, td { border: 1px solid #bbb; padding: 0.25em 0.6em; text-align: left; vertical-align: top; }
-td.num { font-family: monospace; text-align: right; }
-tr.failed td, tr.drift td { background: #fde8e8; }
-.small { color: #666; font-size: 0.9em; }
-</style>
-</head>
-<body>
-<h1>Nightly summary {{.Date}}</h1>
-<p class="small">Archive {{.Archive}} · generated {{.Generated}} · bandwright {{.Version}}{{if .Pipeline}} · pipeline SHA-256 {{.Pipeline}}{{end}}</p>
-<p><strong>{{.Total}}</strong> files processed on this date: <strong>{{.OK}}</strong> ok, <strong>{{.Failed}}</strong> failed.
-{{if .Flagged}}<strong>{{.Flagged}} constants drifted</strong> (more than {{.Threshold}} combined σ from the weighted mean of the earlier results).{{else}}No constant drifted beyond {{.Threshold}} combined σ.{{end}}</p>
-{{if .Drift}}
-<h2>Drift</h2>
-<table>
-<tr><th>file</th><th>constant</th><th>value (1σ)</th><th>unit</th><th>weighted mean of earlier results (1σ)</th><th>earlier results</th><th>z / σ</th></tr>
-{{range .Drift}}<tr class="drift"><td>{{.Input}}</td><td>{{.Constant}}</td><td class="num">{{.Value}}</td><td>{{.Unit}}</td><td class="num">{{.Mean}}</td><td class="num">{{.N}}</td><td class="num">{{.Z}}</td></tr>
-{{end}}</table>
-{{end}}
-<h2>Files</h2>
-{{if .Files}}<table>
-<tr><th>file</th><th>SHA-256</th><th>outcome</th><th>started</th><th>finished</th><th>results</th><th>message</th></tr>
-{{range .Files}}<tr{{if not .OK}} class="failed"{{end}}><td>{{.Input}}</td><td class="num">{{.SHA8}}</td><td>{{.Status}}</td><td>{{.Started}}</td><td>{{.Finished}}</td><td>{{if .OK}}<a href="{{.Link}}">{{.Output}}</a>{{end}}</td><td>{{.Message}}</td></tr>
-{{end}}</table>{{else}}<p>No file was processed on this date.</p>{{end}}
-{{if .Constants}}
-<h2>Key constants</h2>
-<p class="small">Values with their 1σ in parenthetical notation: 1.922529(3) means 1.922529 ± 0.000003. z is the difference from the weighted mean of the earlier results of the same constant in units of the combined σ.</p>
-<table>
-<tr><th>file</th><th>constant</th><th>value (1σ)</th><th>unit</th><th>z / σ</th></tr>
-{{range .Constants}}<tr{{if .Flagged}} class="drift"{{end}}><td>{{.Input}}</td><td>{{.Constant}}</td><td class="num">{{.Value}}</td><td>{{.Unit}}</td><td class="num">{{if .Z}}{{.Z}}{{else if .Note}}{{.Note}}{{else}}first{{end}}</td></tr>
-{{end}}</table>
-{{end}}
-{{if .Skipped}}
-<h2>Not processed in the latest run</h2>
-<table>
-<tr><th>file</th><th>reason</th></tr>
-{{range .Skipped}}<tr><td>{{.Input}}</td><td>{{.Reason}}</td></tr>
-{{end}}</table>
-{{end}}
-</body>
-</html>
-`))
-
-func writeMarkdown(b *bytes.Buffer, d summaryData) {
-	e := mdtext.Escape
-	fmt.Fprintf(b, "# Nightly summary %s\n\n", d.Date)
-	fmt.Fprintf(b, "Archive %s · generated %s · bandwright %s", e(d.Archive), d.Generated, e(d.Version))
-	if d.Pipeline != "" {
-		fmt.Fprintf(b, " · pipeline SHA-256 %s", e(d.Pipeline))
-	}
-	fmt.Fprintf(b, "\n\n**%d** files processed on this date: **%d** ok, **%d** failed. ", d.Total, d.OK, d.Failed)
-	if d.Flagged > 0 {
-		fmt.Fprintf(b, "**%d constants drifted** (more than %s combined σ from the weighted mean of the earlier results).\n\n", d.Flagged, d.Threshold)
-	} else {
-		fmt.Fprintf(b, "No constant drifted beyond %s combined σ.\n\n", d.Threshold)
-	}
-	if len(d.Drift) > 0 {
-		b.WriteString("## Drift\n\n| file | constant | value (1σ) | unit | weighted mean of earlier results (1σ) | earlier results | z / σ |\n|---|---|---|---|---|---|---|\n")
-		for _, c := range d.Drift {
-			fmt.Fprintf(b, "| %s | %s | %s | %s | %s | %s | %s |\n", e(c.Input), e(c.Constant), c.Value, e(c.Unit), c.Mean, c.N, c.Z)
-		}
-		b.WriteString("\n")
-	}
-	b.WriteString("## Files\n\n")
-	if len(d.Files) == 0 {
-		b.WriteString("No file was processed on this date.\n\n")
-	} else {
-		b.WriteString("| file | SHA-256 | outcome | started | finished | results | message |\n|---|---|---|---|---|---|---|\n")
-		for _, f := range d.Files {
-			res := ""
-			if f.OK {
-				res = "[" + e(f.Output) + "](" + mdLink(f.Link) + ")"
-			}
-			fmt.Fprintf(b, "| %s | %s | %s | %s | %s | %s | %s |\n", e(f.Input), f.SHA8, e(f.Status), e(f.Started), e(f.Finished), res, e(f.Message))
-		}
-		b.WriteString("\n")
-	}
-	if len(d.Constants) > 0 {
-		b.WriteString("## Key constants\n\nValues with their 1σ in parenthetical notation: 1.922529(3) means 1.922529 ± 0.000003. z is the difference from the weighted mean of the earlier results of the same constant in units of the combined σ.\n\n")
-		b.WriteString("| file | constant | value (1σ) | unit | z / σ |\n|---|---|---|---|---|\n")
-		for _, c := range d.Constants {
-			z := c.Z
-			switch {
-			case z == "" && c.Note != "":
-				z = e(c.Note)
-			case z == "":
-				z = "first"
-			}
-			if c.Flagged {
-				z = "**" + z + " DRIFT**"
-			}
-			fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", e(c.Input), e(c.Constant), c.Value, e(c.Unit), z)
-		}
-		b.WriteString("\n")
-	}
-	if len(d.Skipped) > 0 {
-		b.WriteString("## Not processed in the latest run\n\n| file | reason |\n|---|---|\n")
-		for _, s := range d.Skipped {
-			fmt.Fprintf(b, "| %s | %s |\n", e(s.Input), e(s.Reason))
-		}
-		b.WriteString("\n")
-	}
 }
 
 // mdLink percent-encodes the characters that would end or break a Markdown

@@ -1,0 +1,137 @@
+package nightly
+
+import (
+	"bytes"
+	"fmt"
+	"html/template"
+	"image/color"
+	"math"
+	"time"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgsvg"
+
+	"bandwright/internal/typeset"
+)
+
+// trend is the figure of one key constant over the archive's history.
+type trend struct {
+	Name, Unit string
+	SVG        template.HTML // gonum/plot's SVG canvas escapes every text it draws
+	Caption    string
+}
+
+// Colours of the trend figures (Okabe–Ito, at least 3:1 against white):
+// results in blue, flagged results in vermillion.
+var (
+	trendBlue  = color.RGBA{0x00, 0x72, 0xb2, 0xff}
+	trendAlert = color.RGBA{0xd5, 0x5e, 0x00, 0xff}
+)
+
+// maxTrendPoints is the most results a trend figure shows: the latest.
+const maxTrendPoints = 200
+
+// trends draws, for every key-constant column, its values ± 1σ against the
+// time they were recorded over the whole history, flagged results marked.
+func trends(cols []sumCol, all []histRow, threshold float64) []trend {
+	var out []trend
+	for _, c := range cols {
+		var ok, bad plotter.XYs
+		var okErr, badErr plotter.YErrors
+		for _, h := range all {
+			if h.name != c.Name || h.unit != c.Unit || math.IsNaN(h.value) {
+				continue
+			}
+			t, err := time.Parse(time.RFC3339, h.finished)
+			if err != nil {
+				continue
+			}
+			pt := plotter.XY{X: float64(t.Unix()), Y: h.value}
+			e := struct{ Low, High float64 }{h.sigma, h.sigma}
+			if h.flagged {
+				bad, badErr = append(bad, pt), append(badErr, e)
+			} else {
+				ok, okErr = append(ok, pt), append(okErr, e)
+			}
+		}
+		n := len(ok) + len(bad)
+		if n < 2 {
+			continue
+		}
+		if len(ok) > maxTrendPoints {
+			ok, okErr = ok[len(ok)-maxTrendPoints:], okErr[len(okErr)-maxTrendPoints:]
+		}
+		svg, err := trendSVG(c, ok, okErr, bad, badErr)
+		if err != nil {
+			continue
+		}
+		out = append(out, trend{Name: c.Name, Unit: c.Unit, SVG: template.HTML(svg),
+			Caption: fmt.Sprintf("%d results in the history (the latest %d shown), each ± 1σ; vermillion: flagged (more than %g combined σ from the weighted mean of the results before it).", n, min(n, maxTrendPoints+len(bad)), threshold)})
+	}
+	return out
+}
+
+// errPoints are points with vertical error bars.
+type errPoints struct {
+	plotter.XYs
+	plotter.YErrors
+}
+
+// trendSVG draws one trend figure.
+func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, badErr plotter.YErrors) (svg []byte, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			svg, err = nil, fmt.Errorf("the plotting library gave up: %v", r)
+		}
+	}()
+	p := plot.New()
+	sans := font.Font{Typeface: "Liberation", Variant: "Sans"}
+	for _, st := range []*text.Style{&p.X.Label.TextStyle, &p.Y.Label.TextStyle, &p.X.Tick.Label, &p.Y.Tick.Label, &p.Legend.TextStyle} {
+		st.Font = font.From(sans, 10)
+	}
+	p.X.Label.Text = "date recorded"
+	p.Y.Label.Text = typeset.Unit(c.Unit)
+	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01-02"}
+	for _, set := range []struct {
+		xy   plotter.XYs
+		e    plotter.YErrors
+		clr  color.Color
+		glyp draw.GlyphDrawer
+		name string
+	}{{ok, okErr, trendBlue, draw.CircleGlyph{}, "result"}, {bad, badErr, trendAlert, draw.CrossGlyph{}, "flagged"}} {
+		if len(set.xy) == 0 {
+			continue
+		}
+		eb, err := plotter.NewYErrorBars(errPoints{set.xy, set.e})
+		if err != nil {
+			return nil, err
+		}
+		eb.LineStyle.Color = set.clr
+		sc, err := plotter.NewScatter(set.xy)
+		if err != nil {
+			return nil, err
+		}
+		sc.GlyphStyle = draw.GlyphStyle{Color: set.clr, Shape: set.glyp, Radius: 2.5}
+		p.Add(eb, sc)
+		p.Legend.Add(set.name, sc)
+	}
+	p.Legend.Top = true
+	w, h := 4.6*vg.Inch, 2.2*vg.Inch
+	cv := vgsvg.New(w, h)
+	p.Draw(draw.Crop(draw.New(cv), 4, -8, 2, -4))
+	var b bytes.Buffer
+	if _, err := cv.WriteTo(&b); err != nil {
+		return nil, err
+	}
+	out := b.Bytes()
+	if i := bytes.Index(out, []byte("<svg")); i >= 0 {
+		out = out[i:]
+	}
+	out = bytes.ReplaceAll(out, []byte("font-family:Liberation Sans;"), []byte("font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"))
+	return out, nil
+}
