@@ -86,7 +86,8 @@ type sumCol struct{ Name, Unit string }
 
 // sumDrift is a drifted quantity of one result, with all its names.
 type sumDrift struct {
-	Input, Names, Value, Unit, Mean, N, Z string
+	Input, Value, Unit, Mean, N, Z string
+	Names                          []string
 }
 
 type sumSkip struct{ Input, Reason string }
@@ -254,7 +255,7 @@ func driftOf(input string, hs []histRow, list []sumDrift) ([]string, []sumDrift)
 		}
 		h := hs[first]
 		flags = append(flags, strings.Join(names, " = "))
-		list = append(list, sumDrift{Input: input, Names: strings.Join(names, " = "), Value: paren(h.value, h.sigma), Unit: h.unit,
+		list = append(list, sumDrift{Input: input, Names: names, Value: paren(h.value, h.sigma), Unit: h.unit,
 			Mean: paren(h.mean, h.sigmaMean), N: strconv.Itoa(h.n), Z: typeset.Number(strconv.FormatFloat(h.z, 'f', 1, 64))})
 	}
 	return flags, list

@@ -84,16 +84,18 @@ var summaryHTML = template.Must(template.New("summary").Funcs(template.FuncMap{
 <div class="scroll"><table>
 <thead><tr><th scope="col">file</th><th scope="col">quantity (all its names)</th><th scope="col" class="num">value (1σ)</th><th scope="col">unit</th><th scope="col" class="num">weighted mean of earlier results (1σ)</th><th scope="col" class="num">earlier results</th><th scope="col" class="num">z</th></tr></thead>
 <tbody>
-{{range .Drift}}<tr class="drift"><td class="file">{{.Input}}</td><td>{{.Names}}</td><td class="num">{{.Value}}</td><td>{{unit .Unit}}</td><td class="num">{{.Mean}}</td><td class="num">{{.N}}</td><td class="num">{{.Z}}</td></tr>
+{{range .Drift}}<tr class="drift"><td class="file">{{.Input}}</td><td>{{range $i, $n := .Names}}{{if $i}} = {{end}}{{name $n}}{{end}}</td><td class="num">{{.Value}}</td><td>{{unit .Unit}}</td><td class="num">{{.Mean}}</td><td class="num">{{.N}}</td><td class="num">{{.Z}}</td></tr>
 {{end}}</tbody></table></div>
 {{end}}<h2>Results</h2>
 {{if .Results}}<p class="small">One row per file finished on this date. Values with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003; under each, z is its difference from the weighted mean of the earlier results of the same constant and model, in combined σ ("first": none before it). s is the dimensionless standard deviation of the fit.</p>
 <div class="scroll"><table>
 <thead><tr><th scope="col">file</th><th scope="col">SHA-8</th><th scope="col">finished</th><th scope="col">outcome</th><th scope="col">model</th><th scope="col" class="num">s</th><th scope="col" class="num">lines used</th><th scope="col" class="num">rejected</th>{{range .Cols}}<th scope="col" class="num">{{name .Name}} / {{unit .Unit}}</th>{{end}}<th scope="col">flags and notes</th></tr></thead>
 <tbody>
-{{range .Results}}<tr{{if not .OK}} class="failed"{{end}}><td class="file">{{if .OK}}<a href="{{.Link}}">{{.Input}}</a>{{else}}{{.Input}}{{end}}</td><td class="date">{{.SHA8}}</td><td class="date">{{.Finished}}</td><td>{{.Status}}</td><td>{{.Model}}</td><td class="num">{{.S}}</td><td class="num">{{.Used}}</td><td class="num">{{.Rejected}}</td>{{if .OK}}{{range .Cells}}<td class="num{{if .Flagged}} flagged{{end}}">{{.Value}}{{with .Z}}<span class="z">{{.}}</span>{{end}}</td>{{end}}{{else}}{{range $.Cols}}<td></td>{{end}}{{end}}<td class="msg">{{if .Flags}}<strong>drift: {{range $i, $f := .Flags}}{{if $i}}; {{end}}{{$f}}{{end}}</strong>{{if .Message}} · {{end}}{{end}}{{.Message}}</td></tr>
+{{range .Results}}<tr{{if not .OK}} class="failed"{{end}}><td class="file">{{if .OK}}<a href="{{.Link}}">{{.Input}}</a>{{else}}{{.Input}}{{end}}</td><td class="date">{{.SHA8}}</td><td class="date">{{.Finished}}</td><td>{{.Status}}</td><td>{{.Model}}</td><td class="num">{{.S}}</td><td class="num">{{.Used}}</td><td class="num">{{.Rejected}}</td>{{if .OK}}{{range .Cells}}<td class="num{{if .Flagged}} flagged{{end}}">{{.Value}}{{with .Z}}<span class="z">{{.}}</span>{{end}}</td>{{end}}{{else}}{{range $.Cols}}<td></td>{{end}}{{end}}<td class="msg">{{if .Flags}}<strong>drift: {{range $i, $f := .Flags}}{{if $i}}; {{end}}{{$f}}{{end}}</strong>{{end}}{{if not .OK}}{{.Message}}{{else if .Message}}{{if .Flags}} · {{end}}notes below{{end}}</td></tr>
 {{end}}</tbody></table></div>{{else}}<p>No file was processed on this date.</p>{{end}}
-{{if .Trends}}<h2>Trends of the key constants</h2>
+{{if .Results}}<h2>Notes of the results</h2>
+<ul>{{range .Results}}{{if and .OK .Message}}<li><strong>{{.Input}}</strong> ({{.SHA8}}): {{.Message}}</li>{{end}}{{end}}</ul>
+{{end}}{{if .Trends}}<h2>Trends of the key constants</h2>
 {{range .Trends}}<figure role="group" aria-label="trend of {{.Name}}"><figcaption><strong>{{name .Name}}</strong> / {{unit .Unit}}</figcaption>{{.SVG}}<figcaption>{{.Caption}}</figcaption></figure>
 {{end}}{{end}}{{if .Skipped}}<h2>Not processed in the latest run</h2>
 <div class="scroll"><table>

@@ -27,7 +27,7 @@ func writeMarkdown(b *bytes.Buffer, d summaryData) {
 	if len(d.Drift) > 0 {
 		b.WriteString("## Drift\n\n| file | quantity (all its names) | value (1σ) | unit | weighted mean of earlier results (1σ) | earlier results | z |\n|---|---|---:|---|---:|---:|---:|\n")
 		for _, c := range d.Drift {
-			fmt.Fprintf(b, "| %s | %s | %s | %s | %s | %s | %s |\n", e(c.Input), e(c.Names), e(c.Value), e(typeset.Unit(c.Unit)), e(c.Mean), c.N, e(c.Z))
+			fmt.Fprintf(b, "| %s | %s | %s | %s | %s | %s | %s |\n", e(c.Input), e(strings.Join(c.Names, " = ")), e(c.Value), e(typeset.Unit(c.Unit)), e(c.Mean), c.N, e(c.Z))
 		}
 		b.WriteString("\n")
 	}
@@ -36,6 +36,15 @@ func writeMarkdown(b *bytes.Buffer, d summaryData) {
 		b.WriteString("No file was processed on this date.\n\n")
 	} else {
 		writeResultsMarkdown(b, d)
+	}
+	var notes []string
+	for _, r := range d.Results {
+		if r.OK && r.Message != "" {
+			notes = append(notes, "- **"+e(r.Input)+"** ("+r.SHA8+"): "+e(r.Message))
+		}
+	}
+	if len(notes) > 0 {
+		b.WriteString("## Notes of the results\n\n" + strings.Join(notes, "\n") + "\n\n")
 	}
 	if len(d.Trends) > 0 {
 		b.WriteString("The trend of each key constant over the archive's history is drawn in the HTML summary.\n\n")
@@ -79,6 +88,9 @@ func writeResultsMarkdown(b *bytes.Buffer, d summaryData) {
 			cells = append(cells, c)
 		}
 		note := e(r.Message)
+		if r.OK && note != "" {
+			note = "notes below"
+		}
 		if len(r.Flags) > 0 {
 			note = "**drift: " + e(strings.Join(r.Flags, "; ")) + "**" + map[bool]string{true: " · ", false: ""}[note != ""] + note
 		}
