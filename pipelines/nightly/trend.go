@@ -6,6 +6,7 @@ import (
 	"html/template"
 	"image/color"
 	"math"
+	"strconv"
 	"time"
 
 	"gonum.org/v1/plot"
@@ -43,15 +44,18 @@ func trends(cols []sumCol, all []histRow, threshold float64) []trend {
 	for _, c := range cols {
 		var ok, bad plotter.XYs
 		var okErr, badErr plotter.YErrors
+		var first, last string
+		k := 0
 		for _, h := range all {
 			if h.name != c.Name || h.unit != c.Unit || math.IsNaN(h.value) {
 				continue
 			}
-			t, err := time.Parse(time.RFC3339, h.finished)
-			if err != nil {
-				continue
+			k++
+			if first == "" {
+				first = h.finished
 			}
-			pt := plotter.XY{X: float64(t.Unix()), Y: h.value}
+			last = h.finished
+			pt := plotter.XY{X: float64(k), Y: h.value}
 			e := struct{ Low, High float64 }{h.sigma, h.sigma}
 			if h.flagged {
 				bad, badErr = append(bad, pt), append(badErr, e)
@@ -71,7 +75,7 @@ func trends(cols []sumCol, all []histRow, threshold float64) []trend {
 			continue
 		}
 		out = append(out, trend{Name: c.Name, Unit: c.Unit, SVG: template.HTML(svg),
-			Caption: fmt.Sprintf("%d results in the history (the latest %d shown), each ± 1σ; vermillion: flagged (more than %g combined σ from the weighted mean of the results before it).", n, min(n, maxTrendPoints+len(bad)), threshold)})
+			Caption: fmt.Sprintf("The %d results of the history in the order they were recorded (%s to %s; the latest %d shown), each ± 1σ; vermillion crosses: flagged (more than %g combined σ from the weighted mean of the results before it).", n, dateOf(first), dateOf(last), min(n, maxTrendPoints+len(bad)), threshold)})
 	}
 	return out
 }
@@ -94,9 +98,10 @@ func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, 
 	for _, st := range []*text.Style{&p.X.Label.TextStyle, &p.Y.Label.TextStyle, &p.X.Tick.Label, &p.Y.Tick.Label, &p.Legend.TextStyle} {
 		st.Font = font.From(sans, 10)
 	}
-	p.X.Label.Text = "date recorded"
+	p.X.Label.Text = "result, in the order recorded"
 	p.Y.Label.Text = typeset.Unit(c.Unit)
-	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01-02"}
+	p.X.Tick.Marker = plot.TickerFunc(countTicks)
+	p.Y.Tick.Marker = plot.TickerFunc(valueTicks)
 	for _, set := range []struct {
 		xy   plotter.XYs
 		e    plotter.YErrors
@@ -120,7 +125,7 @@ func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, 
 		p.Add(eb, sc)
 		p.Legend.Add(set.name, sc)
 	}
-	p.Legend.Top = true
+	p.Legend.Top, p.Legend.Left = true, true
 	w, h := 4.6*vg.Inch, 2.2*vg.Inch
 	cv := vgsvg.New(w, h)
 	p.Draw(draw.Crop(draw.New(cv), 4, -8, 2, -4))
@@ -134,4 +139,50 @@ func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, 
 	}
 	out = bytes.ReplaceAll(out, []byte("font-family:Liberation Sans;"), []byte("font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"))
 	return out, nil
+}
+
+// dateOf is the date of an RFC 3339 time ("" when it is not one).
+func dateOf(s string) string {
+	t, err := time.Parse(time.RFC3339, s)
+	if err != nil {
+		return ""
+	}
+	return t.Format("2006-01-02")
+}
+
+// countTicks marks the result number at integer steps.
+func countTicks(lo, hi float64) []plot.Tick {
+	step := math.Max(1, roundStep((hi-lo)/8))
+	var out []plot.Tick
+	for v := math.Ceil(lo/step) * step; v <= hi; v += step {
+		out = append(out, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'f', 0, 64)})
+	}
+	return out
+}
+
+// valueTicks marks a value axis at round steps with typeset labels.
+func valueTicks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) {
+		return []plot.Tick{{Value: lo, Label: typeset.Number(strconv.FormatFloat(lo, 'g', 6, 64))}}
+	}
+	step := roundStep((hi - lo) / 4)
+	var out []plot.Tick
+	for v := math.Ceil(lo/step) * step; v <= hi+step*1e-9; v += step {
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		out = append(out, plot.Tick{Value: v, Label: typeset.Number(strconv.FormatFloat(v, 'g', 8, 64))})
+	}
+	return out
+}
+
+// roundStep is the smallest of 1, 2, 5 times a power of ten at least x.
+func roundStep(x float64) float64 {
+	p := math.Pow(10, math.Floor(math.Log10(x)))
+	for _, m := range []float64{1, 2, 5} {
+		if m*p >= x*(1-1e-9) {
+			return m * p
+		}
+	}
+	return 10 * p
 }
