@@ -71,7 +71,7 @@ type sumResult struct {
 	Model, S, Used, Rejected                             string
 	OK, Drifted                                          bool
 	Cells                                                []sumCell
-	Flags                                                []string // drifted quantities, each once
+	Flags                                                [][]string // drifted quantities, each once with all its names
 }
 
 // sumCell is a key constant of a result: value(σ) and its drift test.
@@ -181,7 +181,7 @@ func (r *runner) collectResults(d *summaryData, date string, all []histRow) erro
 		if err != nil || r.dateOf(fin) != date {
 			return
 		}
-		res := sumResult{sha: rec[1], Input: rec[0], SHA8: short(rec[1]), Status: rec[2], Finished: rec[4], Output: rec[5], Message: rec[6], OK: rec[2] == string(StatusOK)}
+		res := sumResult{sha: rec[1], Input: rec[0], SHA8: short(rec[1]), Status: rec[2], Finished: fin.Format("2006-01-02 15:04"), Output: rec[5], Message: rec[6], OK: rec[2] == string(StatusOK)}
 		d.Total++
 		if !res.OK {
 			d.Failed++
@@ -228,19 +228,19 @@ func (res *sumResult) fitStats(dir string) {
 	if err != nil {
 		return
 	}
-	res.Model = ModelKey(rec)
+	res.Model = strings.ReplaceAll(ModelKey(rec), ",", ", ")
 	res.S = typeset.Number(strconv.FormatFloat(rec.Stats.Sigma, 'g', 3, 64))
 	res.Used, res.Rejected = strconv.Itoa(rec.Stats.Used), strconv.Itoa(rec.Stats.Rejected)
 }
 
 // driftOf returns the drifted quantities of one result's history rows, each
 // once with all its names (see aliasGroups), and adds them to list.
-func driftOf(input string, hs []histRow, list []sumDrift) ([]string, []sumDrift) {
+func driftOf(input string, hs []histRow, list []sumDrift) ([][]string, []sumDrift) {
 	cs := make([]Constant, len(hs))
 	for i, h := range hs {
 		cs[i] = Constant{Species: h.species, Name: h.name, Value: h.value, Sigma: h.sigma, Unit: h.unit, Model: h.model}
 	}
-	var flags []string
+	var flags [][]string
 	for _, g := range aliasGroups(cs) {
 		var names []string
 		first := -1
@@ -254,7 +254,7 @@ func driftOf(input string, hs []histRow, list []sumDrift) ([]string, []sumDrift)
 			continue
 		}
 		h := hs[first]
-		flags = append(flags, strings.Join(names, " = "))
+		flags = append(flags, names)
 		list = append(list, sumDrift{Input: input, Names: names, Value: paren(h.value, h.sigma), Unit: h.unit,
 			Mean: paren(h.mean, h.sigmaMean), N: strconv.Itoa(h.n), Z: typeset.Number(strconv.FormatFloat(h.z, 'f', 1, 64))})
 	}
@@ -268,7 +268,7 @@ func driftOf(input string, hs []histRow, list []sumDrift) ([]string, []sumDrift)
 var keyPriority = []string{"kappa_vs_reference", "omega_e", "omega_e_x_e", "B_e", "alpha_e", "r_e", "nu0_1-0"}
 
 // maxKeyColumns is the most key-constant columns of the results table.
-const maxKeyColumns = 5
+const maxKeyColumns = 4
 
 // keyColumns picks the key-constant columns of the date's results: the
 // constants of keyPriority that a result has (each isotopologue its own
@@ -310,7 +310,7 @@ func cellOf(hs []histRow, c sumCol) sumCell {
 			cell := sumCell{Value: paren(h.value, h.sigma), Flagged: h.flagged}
 			switch {
 			case !math.IsNaN(h.z):
-				cell.Z = "z " + typeset.Number(strconv.FormatFloat(h.z, 'f', 1, 64))
+				cell.Z = "z " + typeset.Number(strings.Replace(strconv.FormatFloat(h.z, 'f', 1, 64), "-0.0", "0.0", 1))
 			case h.note != "":
 				cell.Z = "untested"
 			default:

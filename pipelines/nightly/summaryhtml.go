@@ -35,7 +35,7 @@ tbody tr:nth-child(even) td { background: var(--tint); }
 th.num { text-align: right; }
 td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 td.date { white-space: nowrap; font-variant-numeric: tabular-nums; }
-td.msg { min-width: 16rem; }
+td.msg { min-width: 16rem; overflow-wrap: anywhere; }
 td.file { overflow-wrap: anywhere; min-width: 7rem; }
 span.z { display: block; font-size: 0.78rem; color: var(--muted); }
 tr.failed td { background: #fdf0ee; }
@@ -52,9 +52,11 @@ figcaption { font-size: 0.85rem; color: var(--muted); }
   tr, figure { break-inside: avoid; }
   thead { display: table-header-group; }
   .scroll { overflow: visible; background: none; }
-  table { font-size: 7.5pt; }
-  th, td { padding: 0.1rem 0.25rem; }
+  table { font-size: 7pt; }
+  th, td { padding: 0.08rem 0.18rem; }
   td.msg { min-width: 0; }
+  td.file { min-width: 4.5rem; }
+  td.date { white-space: normal; }
   figure svg { max-width: 140mm; }
 }
 `
@@ -89,9 +91,9 @@ var summaryHTML = template.Must(template.New("summary").Funcs(template.FuncMap{
 {{end}}<h2>Results</h2>
 {{if .Results}}<p class="small">One row per file finished on this date. Values with their 1σ in parentheses on the last digits: 1.922529(3) means 1.922529 ± 0.000003; under each, z is its difference from the weighted mean of the earlier results of the same constant and model, in combined σ ("first": none before it). s is the dimensionless standard deviation of the fit.</p>
 <div class="scroll"><table>
-<thead><tr><th scope="col">file</th><th scope="col">SHA-8</th><th scope="col">finished</th><th scope="col">outcome</th><th scope="col">model</th><th scope="col" class="num">s</th><th scope="col" class="num">lines used</th><th scope="col" class="num">rejected</th>{{range .Cols}}<th scope="col" class="num">{{name .Name}} / {{unit .Unit}}</th>{{end}}<th scope="col">flags and notes</th></tr></thead>
+<thead><tr><th scope="col">file</th><th scope="col">SHA-8</th><th scope="col">finished (UTC)</th><th scope="col">outcome</th><th scope="col">model</th><th scope="col" class="num">s</th><th scope="col" class="num">lines used</th><th scope="col" class="num">rejected</th>{{range .Cols}}<th scope="col" class="num">{{name .Name}} / {{unit .Unit}}</th>{{end}}<th scope="col">flags and notes</th></tr></thead>
 <tbody>
-{{range .Results}}<tr{{if not .OK}} class="failed"{{end}}><td class="file">{{if .OK}}<a href="{{.Link}}">{{.Input}}</a>{{else}}{{.Input}}{{end}}</td><td class="date">{{.SHA8}}</td><td class="date">{{.Finished}}</td><td>{{.Status}}</td><td>{{.Model}}</td><td class="num">{{.S}}</td><td class="num">{{.Used}}</td><td class="num">{{.Rejected}}</td>{{if .OK}}{{range .Cells}}<td class="num{{if .Flagged}} flagged{{end}}">{{.Value}}{{with .Z}}<span class="z">{{.}}</span>{{end}}</td>{{end}}{{else}}{{range $.Cols}}<td></td>{{end}}{{end}}<td class="msg">{{if .Flags}}<strong>drift: {{range $i, $f := .Flags}}{{if $i}}; {{end}}{{$f}}{{end}}</strong>{{end}}{{if not .OK}}{{.Message}}{{else if .Message}}{{if .Flags}} · {{end}}notes below{{end}}</td></tr>
+{{range .Results}}<tr{{if not .OK}} class="failed"{{end}}><td class="file">{{if .OK}}<a href="{{.Link}}">{{.Input}}</a>{{else}}{{.Input}}{{end}}</td><td class="date">{{.SHA8}}</td><td class="date">{{.Finished}}</td><td>{{.Status}}</td><td>{{.Model}}</td><td class="num">{{.S}}</td><td class="num">{{.Used}}</td><td class="num">{{.Rejected}}</td>{{if .OK}}{{range .Cells}}<td class="num{{if .Flagged}} flagged{{end}}">{{.Value}}{{with .Z}}<span class="z">{{.}}</span>{{end}}</td>{{end}}{{else}}{{range $.Cols}}<td></td>{{end}}{{end}}<td class="msg">{{if .Flags}}<strong>drift: {{range $i, $f := .Flags}}{{if $i}}; {{end}}{{range $j, $n := $f}}{{if $j}} = {{end}}{{name $n}}{{end}}{{end}}</strong>{{end}}{{if not .OK}}{{.Message}}{{else if .Message}}{{if .Flags}} · {{end}}notes below{{end}}</td></tr>
 {{end}}</tbody></table></div>{{else}}<p>No file was processed on this date.</p>{{end}}
 {{if .Results}}<h2>Notes of the results</h2>
 <ul>{{range .Results}}{{if and .OK .Message}}<li><strong>{{.Input}}</strong> ({{.SHA8}}): {{.Message}}</li>{{end}}{{end}}</ul>

@@ -92,7 +92,11 @@ func writeResultsMarkdown(b *bytes.Buffer, d summaryData) {
 			note = "notes below"
 		}
 		if len(r.Flags) > 0 {
-			note = "**drift: " + e(strings.Join(r.Flags, "; ")) + "**" + map[bool]string{true: " · ", false: ""}[note != ""] + note
+			var fs []string
+			for _, f := range r.Flags {
+				fs = append(fs, strings.Join(f, " = "))
+			}
+			note = "**drift: " + e(strings.Join(fs, "; ")) + "**" + map[bool]string{true: " · ", false: ""}[note != ""] + note
 		}
 		cells = append(cells, note)
 		fmt.Fprintf(b, "| %s |\n", strings.Join(cells, " | "))

@@ -35,7 +35,7 @@ func correlations(d *document, f *folder) {
 	fig := &figure{Name: "report-correlation.svg", Alt: "correlation matrix of the fitted parameters as a heat map",
 		Caption: sprintf("Correlation matrix of the %d fitted parameters (row i, column j), from −1 (blue) through 0 (white) to +1 (vermillion).", n), Square: true}
 	p := newBarePlot("Correlation of the fitted parameters", "", "")
-	p.Add(&corrHeat{r: rec.Correlation, labels: n <= 12, style: cellStyle(p, n)})
+	p.Add(&corrHeat{r: rec.Correlation, labels: n <= maxLabelledCells, style: cellStyle(p, n)})
 	p.NominalX(names...)
 	rev := make([]string, n)
 	for i := range names {
@@ -45,7 +45,7 @@ func correlations(d *document, f *folder) {
 	p.X.Tick.Label.Rotation = math.Pi / 2
 	p.X.Tick.Label.XAlign = draw.XRight
 	p.X.Tick.Label.YAlign = draw.YCenter
-	side := vg.Length(math.Min(7.2, 2.6+0.42*float64(n))) * vg.Inch
+	side := vg.Length(math.Min(6, 2.2+0.36*float64(n))) * vg.Inch
 	svg, err := render(p, side+0.8*vg.Inch, side)
 	if err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
@@ -185,11 +185,16 @@ func (h *corrHeat) DataRange() (xmin, xmax, ymin, ymax float64) {
 	return -0.5, n + 0.9, -0.5, n - 0.5
 }
 
+// maxLabelledCells is the largest matrix whose cells carry their value: at
+// 10.5 pt they stay at 9 px or more on a phone (the table below the figure
+// has the values of matrices up to 16 rows).
+const maxLabelledCells = 8
+
 // cellStyle is the text style of the values written in correlation cells.
 func cellStyle(p *plot.Plot, n int) text.Style {
-	size := vg.Length(9)
-	if n > 8 {
-		size = 7.5
+	size := vg.Length(10.5)
+	if n > 6 {
+		size = 9.5
 	}
 	return text.Style{Color: okBlack, Font: font.From(sansFont, size), XAlign: draw.XCenter, YAlign: draw.YCenter, Handler: p.TextHandler}
 }
