@@ -205,7 +205,9 @@ func (t *table) dropEmptyColumns() {
 // gonum/plot's SVG canvas, which escapes every text it draws.
 func (f *figure) InlineSVG() template.HTML { return template.HTML(f.SVG) }
 
-// Align returns the CSS class of column j.
+// Align returns the CSS class of column j: "num" (right-aligned, no
+// break), "wrap" (breaks anywhere), "long" (text long enough to be given a
+// readable width rather than squeezed into a tall narrow column), or "".
 func (t *table) Align(j int) string {
 	if j < len(t.Numeric) && t.Numeric[j] {
 		return "num"
@@ -213,8 +215,16 @@ func (t *table) Align(j int) string {
 	if j < len(t.Wrap) && t.Wrap[j] {
 		return "wrap"
 	}
+	for _, r := range t.Rows {
+		if j < len(r) && len([]rune(r[j])) > longCell {
+			return "long"
+		}
+	}
 	return ""
 }
+
+// longCell is the length from which a text cell counts as long (Align).
+const longCell = 48
 
 func (d *document) section(id, title string) *section {
 	s := &section{ID: id, Num: len(d.Sections) + 1, Title: title}

@@ -67,7 +67,7 @@ tbody tr:nth-child(even) td { background: var(--tint); }
 th.num { text-align: right; }
 td.num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 td.wrap { overflow-wrap: anywhere; word-break: break-all; min-width: 9rem; font-family: ui-monospace, "Liberation Mono", "DejaVu Sans Mono", monospace; font-size: 0.78rem; }
-td.nowrap { white-space: nowrap; }
+td.long { min-width: 22rem; }
 p.tablenote { font-size: 0.82rem; color: var(--muted); margin-top: 0.2rem; }
 figure { margin: 1rem 0 1.4rem; padding: 0.5rem 0.6rem 0.4rem; border-left: 3px solid var(--warm); }
 figure .plot svg { display: block; width: 100%; max-width: 36rem; height: auto; }
@@ -84,6 +84,7 @@ footer { border-top: 1px solid var(--rule); padding-top: 0.5rem; color: var(--mu
   th, td { padding: 0.2rem 0.35rem; }
   figure { padding: 0.3rem 0 0.2rem; border-left: 0; }
   td.wrap { min-width: 7rem; }
+  td.long { min-width: 17rem; }
 }
 @media print {
   body { max-width: none; padding: 0; font-size: 9.5pt; }
@@ -97,6 +98,7 @@ footer { border-top: 1px solid var(--rule); padding-top: 0.5rem; color: var(--mu
   table { font-size: 7.5pt; }
   th, td { padding: 0.1rem 0.25rem; }
   td.wrap { min-width: 0; font-size: 7pt; }
+  td.long { min-width: 9rem; }
   figure { padding: 0.2rem 0; border-left: 0; }
   figure .plot svg { max-width: 150mm; }
   figure.square .plot svg { max-width: 120mm; }

@@ -17,15 +17,17 @@
 //     reached, warnings, stages not in the folder.
 //  2. Constants — fitted and fixed parameters in parenthetical notation
 //     (constants.FormatParen), the rounding when done, derived constants.
-//  3. Residuals by band — o−c against J″ per band with ±3σ guides, rejected
-//     lines marked; the largest residuals; rejected and annotated lines.
-//  4. Observed and calculated positions — calculated against observed, and
-//     o−c against position by input file, per unit.
+//  3. Residuals by band — (o−c)/unc against J″ per band with guides at ±3,
+//     rejected lines marked (off scale: an arrow with the value); the
+//     largest residuals; rejected and annotated lines.
+//  4. Lines against position — the Fortrat diagram, and (o−c)/unc against
+//     position by input file, per unit.
 //  5. Parameter correlations — heat map, strongly correlated pairs, matrix.
 //  6. Partition function and thermodynamic functions — excerpt of thermo.csv,
 //     Q(T) and Cp°(T) with ±2σ bands, closed form against level sum,
 //     relative uncertainty against T.
-//  7. Line assignment — assigned lines by band, unassigned peaks, assign.md.
+//  7. Line assignment — assigned lines by band, unassigned peaks, assign.md
+//     (rendered as HTML by renderMarkdown).
 //  8. Conventions. 9. Cautions. 10. Provenance — inputs and their SHA-256,
 //     options, the files of the folder with their SHA-256, versions.
 //
