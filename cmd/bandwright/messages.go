@@ -19,7 +19,7 @@ import (
 // packages begin their error messages for developers; the command line drops
 // them (TestInternalPackagesListed keeps the list complete).
 var internalPackages = []string{
-	"assign", "codeshape", "constants", "csvcell", "failure", "fit", "linelist", "lsq", "mdtext", "model",
+	"assign", "browser", "codeshape", "constants", "csvcell", "failure", "fit", "linelist", "lsq", "mdtext", "model",
 	"nightly", "outdir", "parallel", "pipelines", "report", "species", "states", "synth", "textcheck", "typeset",
 	"thermo", "units",
 }

@@ -490,7 +490,8 @@ func TestDriftFlagged(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(string(html), "<h2>Drift</h2>") || !strings.Contains(string(html), "T_v1[12C16O]") {
+	// The drifted quantity T_v1[12C16O] (= nu0_1-0) as the trade writes it.
+	if !strings.Contains(string(html), "<h2>Drift</h2>") || !strings.Contains(string(html), "T<sub>1</sub> (¹²C¹⁶O)") {
 		t.Errorf("day-2 summary does not show the drift:\n%s", html)
 	}
 	md, _ := os.ReadFile(filepath.Join(e.archive, "summary-2026-03-15.md"))
