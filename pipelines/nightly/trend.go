@@ -75,7 +75,7 @@ func trends(cols []sumCol, all []histRow, threshold float64) []trend {
 			continue
 		}
 		out = append(out, trend{Name: c.Name, Unit: c.Unit, SVG: template.HTML(svg),
-			Caption: fmt.Sprintf("The %d results of the history in the order they were recorded (%s to %s; the latest %d shown), each ± 1σ; vermillion crosses: flagged (more than %g combined σ from the weighted mean of the results before it).", n, dateOf(first), dateOf(last), min(n, maxTrendPoints+len(bad)), threshold)})
+			Caption: fmt.Sprintf("The %d results of the history in the order they were recorded (%s to %s; the latest %d shown), each ± 1σ: blue circles, and vermillion crosses for the flagged ones (more than %g combined σ from the weighted mean of the results before it).", n, dateOf(first), dateOf(last), min(n, maxTrendPoints+len(bad)), threshold)})
 	}
 	return out
 }
@@ -107,8 +107,7 @@ func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, 
 		e    plotter.YErrors
 		clr  color.Color
 		glyp draw.GlyphDrawer
-		name string
-	}{{ok, okErr, trendBlue, draw.CircleGlyph{}, "result"}, {bad, badErr, trendAlert, draw.CrossGlyph{}, "flagged"}} {
+	}{{ok, okErr, trendBlue, draw.CircleGlyph{}}, {bad, badErr, trendAlert, draw.CrossGlyph{}}} {
 		if len(set.xy) == 0 {
 			continue
 		}
@@ -123,9 +122,15 @@ func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, 
 		}
 		sc.GlyphStyle = draw.GlyphStyle{Color: set.clr, Shape: set.glyp, Radius: 2.5}
 		p.Add(eb, sc)
-		p.Legend.Add(set.name, sc)
 	}
-	p.Legend.Top, p.Legend.Left = true, true
+	n := len(ok) + len(bad)
+	if n > 0 {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, q := range append(append(plotter.XYs{}, ok...), bad...) {
+			lo, hi = math.Min(lo, q.X), math.Max(hi, q.X)
+		}
+		p.X.Min, p.X.Max = lo-0.5, hi+0.5
+	}
 	w, h := 4.6*vg.Inch, 2.2*vg.Inch
 	cv := vgsvg.New(w, h)
 	p.Draw(draw.Crop(draw.New(cv), 4, -8, 2, -4))
