@@ -52,7 +52,7 @@ type ChainOptions struct {
 // outcome once the fit is done (the drift test of the result).
 type ReportLabels struct {
 	Title, Input string
-	Flag         func(*ChainOutcome) string
+	Flag         func(*ChainOutcome) (text string, alert bool)
 }
 
 // ChainOutcome is what a chain produced.
@@ -333,7 +333,7 @@ func (c *chainRun) report() error {
 	if l := c.o.Report; l != nil {
 		ro.Title, ro.Input = l.Title, l.Input
 		if l.Flag != nil {
-			ro.Flag = l.Flag(c.oc)
+			ro.Flag, ro.Alert = l.Flag(c.oc)
 		}
 	}
 	files, err := report.Build(c.d.TempPath(""), ro)

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"testing"
 
+	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/pipelines/nightly"
@@ -114,6 +115,23 @@ func TestNightlyDriftCatchesCalibration(t *testing.T) {
 	}
 	if !caught {
 		t.Error("a 2e-6 wavenumber-scale drift was not flagged by the scale factor")
+	}
+	// The result's own report is titled with its file, SHA-8 and date, and
+	// says that it drifted; a quiet night's report says it did not.
+	rep, err := os.ReadFile(filepath.Join(archive, filepath.FromSlash(fo.Output), constants.ReportMarkdownFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	title := fmt.Sprintf("# drifted.csv · %s · ", fo.SHA256[:8])
+	if !strings.HasPrefix(string(rep), title) || !strings.Contains(string(rep), "**DRIFT: ") || !strings.Contains(string(rep), `kappa\_vs\_reference: z = `) {
+		t.Errorf("the drifted result's report lacks its title %q or its drift flag:\n%.1500s", title, rep)
+	}
+	quiet, _ := filepath.Glob(filepath.Join(archive, "results", "night6-*", constants.ReportMarkdownFile))
+	if len(quiet) != 1 {
+		t.Fatalf("night 6 reports: %q", quiet)
+	}
+	if b, _ := os.ReadFile(quiet[0]); !strings.Contains(string(b), "**Drift: none") {
+		t.Errorf("a quiet night's report does not say it did not drift:\n%.1500s", b)
 	}
 	// The nightly summary carries the thermo table's flag: the model part of
 	// its uncertainty exceeds the statistical part.

@@ -117,7 +117,7 @@ func nightlyJob(p *Pipeline) nightly.Job {
 		labels := &ReportLabels{
 			Title: fmt.Sprintf("%s · %s · %s", in.Name, shortSHA(in.SHA256), in.Started.Format("2006-01-02")),
 			Input: in.Name,
-			Flag: func(oc *ChainOutcome) string {
+			Flag: func(oc *ChainOutcome) (string, bool) {
 				cs, offer, notes = nightlyOutcomeConstants(oc, in.ReferenceDir)
 				return driftFlag(in, cs)
 			},
@@ -179,13 +179,13 @@ func nightlyOutcomeConstants(oc *ChainOutcome, refDir string) ([]nightly.Constan
 
 // driftFlag is the flag line of a nightly result's report: its drift test
 // against the archive's history as it stood when the report was built.
-func driftFlag(in nightly.Input, cs []nightly.Constant) string {
+func driftFlag(in nightly.Input, cs []nightly.Constant) (string, bool) {
 	if in.History == "" {
-		return ""
+		return "", false
 	}
 	ds, err := nightly.PreviewDrift(in.History, cs, in.DriftSigma)
 	if err != nil {
-		return "Drift: not tested (" + err.Error() + ")."
+		return "Drift: not tested (" + err.Error() + ").", true
 	}
 	threshold := in.DriftSigma
 	if threshold == 0 {
@@ -195,11 +195,11 @@ func driftFlag(in nightly.Input, cs []nightly.Constant) string {
 	when := "against the results in the archive's history when this report was built; the nightly summary has the test as recorded"
 	switch {
 	case tested == 0:
-		return "Drift: nothing to compare with yet (" + when + ")."
+		return "Drift: nothing to compare with yet (" + when + ").", false
 	case len(flagged) == 0:
-		return fmt.Sprintf("Drift: none — no constant more than %g combined σ from the weighted mean of its earlier results (%s).", threshold, when)
+		return fmt.Sprintf("Drift: none — no constant more than %g combined σ from the weighted mean of its earlier results (%s).", threshold, when), false
 	}
-	return fmt.Sprintf("DRIFT: %d constant(s) more than %g combined σ from the weighted mean of their earlier results: %s (%s).", len(flagged), threshold, strings.Join(flagged, "; "), when)
+	return fmt.Sprintf("DRIFT: %d quantities more than %g combined σ from the weighted mean of their earlier results: %s (%s).", len(flagged), threshold, strings.Join(flagged, "; "), when), true
 }
 
 // shortSHA is the first 8 hex digits of a SHA-256.

@@ -29,6 +29,7 @@ type document struct {
 	// drift flag of a nightly result); both may be empty.
 	Running  string
 	Flag     string
+	Alert    bool
 	Stages   []stage // the stage strip
 	Sections []*section
 	figures  []*figure

@@ -125,7 +125,7 @@ var pageTemplate = template.Must(template.New("report").Parse(`<!DOCTYPE html>
 <header class="masthead">
 <h1>{{.Title}}</h1>
 <p class="lead">{{.Lead}}</p>
-{{with .Flag}}<p class="flag">{{.}}</p>
+{{if .Flag}}<p class="flag{{if not .Alert}} quiet{{end}}">{{.Flag}}</p>
 {{end}}<ul class="stages">{{range .Stages}}<li class="{{if .Present}}on{{else}}off{{end}}">{{.Name}} <span>{{if .Present}}· {{.Files}}{{else}}· not in this folder{{end}}</span></li>{{end}}</ul>
 </header>
 <nav class="contents" aria-label="Contents">{{range .Sections}}<a href="#{{.ID}}">{{.Num}}. {{.Title}}</a> {{end}}</nav>

@@ -62,9 +62,10 @@ type Options struct {
 	// Input names what the report is about in its running title (the input
 	// file of a nightly result, say); "" names the line lists the fit read.
 	Input string
-	// Flag is a line shown under the title that must not be missed (the
-	// drift flag of a nightly result); "" shows none.
-	Flag string
+	// Flag is a line shown under the title (the drift test of a nightly
+	// result); "" shows none. Alert marks it as one that must not be missed.
+	Flag  string
+	Alert bool
 	// Now gives the build time printed in the report; nil means time.Now.
 	Now func() time.Time
 	// Version is the program version printed in the provenance section.

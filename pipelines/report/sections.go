@@ -21,7 +21,7 @@ func buildDocument(f *folder, o Options) *document {
 		d.Title = "bandwright report — " + strings.Join(rec.Species, ", ")
 	}
 	d.Lead = sprintf("%s fit of %s · status %s · report built %s", modelName(rec.Model), strings.Join(rec.Species, ", "), rec.Status, o.Now().UTC().Format("2006-01-02 15:04 MST"))
-	d.Flag = o.Flag
+	d.Flag, d.Alert = o.Flag, o.Alert
 	input := o.Input
 	if input == "" {
 		var names []string
