@@ -20,7 +20,8 @@ func genModel(t *testing.T, st states.State, g genState) (*model.TermValues, []f
 		t.Fatal(err)
 	}
 	val := map[string]float64{"T": g.T, "B": g.B, "D": g.D, "H": g.H, "A": g.A, "A_D": g.AD, "gamma": g.Gamma, "gamma_D": g.GD,
-		"lambda": g.Lam, "lambda_D": g.LamD, "p": g.P, "q": g.Q, "p_D": g.PD, "q_D": g.QD}
+		"lambda": g.Lam, "lambda_D": g.LamD, "p": g.P, "q": g.Q, "p_D": g.PD, "q_D": g.QD,
+		"A_H": g.AH, "gamma_H": g.GH, "lambda_H": g.LamH, "p_H": g.PH, "q_H": g.QH}
 	ps := m.Params()
 	p := make([]float64, len(ps))
 	for i, q := range ps {
@@ -47,21 +48,21 @@ func TestLevelsMatchCaseABasis(t *testing.T) {
 		g    genState
 	}{
 		{"2Pi NO-like", states.State{Label: "X", Multiplicity: 2, Lambda: 1},
-			genState{S2: 1, Lambda: 1, T: 3, B: 1.6961, D: 5.4e-6, H: 1e-11, A: 123.14, AD: 1.9e-4, Gamma: -6e-3, GD: 1e-7, P: 1.17e-2, Q: 6.7e-5, PD: 2e-6, QD: 1e-7}},
+			genState{S2: 1, Lambda: 1, T: 3, B: 1.6961, D: 5.4e-6, H: 1e-11, A: 123.14, AD: 1.9e-4, Gamma: -6e-3, GD: 1e-7, P: 1.17e-2, Q: 6.7e-5, PD: 2e-6, QD: 1e-7, AH: 1e-9, GH: 1e-11, PH: 1e-10, QH: 1e-11}},
 		{"2Pi OH-like (A<0)", states.State{Label: "X", Multiplicity: 2, Lambda: 1},
-			genState{S2: 1, Lambda: 1, T: -7, B: 18.535, D: 1.9e-3, H: 1.4e-7, A: -139.05, AD: -7e-3, Gamma: -0.119, GD: 1e-5, P: 0.235, Q: -0.0387, PD: -2e-5, QD: 1.5e-5}},
+			genState{S2: 1, Lambda: 1, T: -7, B: 18.535, D: 1.9e-3, H: 1.4e-7, A: -139.05, AD: -7e-3, Gamma: -0.119, GD: 1e-5, P: 0.235, Q: -0.0387, PD: -2e-5, QD: 1.5e-5, AH: -1e-8, GH: 1e-9, PH: 1e-9, QH: -1e-9}},
 		{"2Pi A between 0 and 4B", states.State{Label: "X", Multiplicity: 2, Lambda: 1},
 			genState{S2: 1, Lambda: 1, B: 14.19, D: 1.4e-3, A: 28.1, Gamma: -0.02, P: 0.033, Q: 0.038}},
 		{"3Sigma- O2-like", states.State{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Parity: 'g', Reflection: '-'}},
-			genState{S2: 2, Minus: true, T: 1, B: 1.4377, D: 4.84e-6, H: 1e-12, Lam: 1.9847, LamD: 1.95e-6, Gamma: -8.425e-3, GD: -8e-9}},
+			genState{S2: 2, Minus: true, T: 1, B: 1.4377, D: 4.84e-6, H: 1e-12, Lam: 1.9847, LamD: 1.95e-6, LamH: 1e-11, Gamma: -8.425e-3, GD: -8e-9, GH: 1e-12}},
 		{"3Sigma+ large lambda", states.State{Label: "X", Multiplicity: 3, Symmetry: species.StateSymmetry{Reflection: '+'}},
-			genState{S2: 2, B: 0.7, D: 1e-6, Lam: 5.3, LamD: 3e-5, Gamma: 0.01, GD: 1e-6}},
+			genState{S2: 2, B: 0.7, D: 1e-6, Lam: 5.3, LamD: 3e-5, LamH: -1e-9, Gamma: 0.01, GD: 1e-6, GH: 1e-10}},
 		{"2Sigma+ CN-like", states.State{Label: "X", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}},
-			genState{S2: 1, T: 2, B: 1.8997, D: 6.4e-6, H: 1e-12, Gamma: 7.25e-3, GD: 1e-7}},
+			genState{S2: 1, T: 2, B: 1.8997, D: 6.4e-6, H: 1e-12, Gamma: 7.25e-3, GD: 1e-7, GH: 1e-11}},
 		{"2Sigma- ", states.State{Label: "X", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '-'}},
-			genState{S2: 1, Minus: true, B: 1.2, D: 3e-6, Gamma: -0.02, GD: 2e-7}},
+			genState{S2: 1, Minus: true, B: 1.2, D: 3e-6, Gamma: -0.02, GD: 2e-7, GH: -1e-11}},
 		{"1Pi", states.State{Label: "X", Multiplicity: 1, Lambda: 1},
-			genState{Lambda: 1, T: 5, B: 1.6115, D: 7.3e-6, Q: -1.3e-5, QD: 2e-9}},
+			genState{Lambda: 1, T: 5, B: 1.6115, D: 7.3e-6, Q: -1.3e-5, QD: 2e-9, QH: 1e-13}},
 		{"1Sigma+", states.Ground(), genState{B: 1.93, D: 6.1e-6, H: 1e-12}},
 	}
 	for _, c := range cases {

@@ -128,7 +128,8 @@ func (o *openTruth) truthOf(p model.Param) float64 {
 	st := max(states.Index(o.sts, p.State), 0)
 	g := o.lv[[2]int{st, p.V}]
 	return map[string]float64{"T": g.T - o.lv[[2]int{0, 0}].T, "B": g.B, "D": g.D, "H": g.H, "A": g.A, "A_D": g.AD,
-		"gamma": g.Gamma, "gamma_D": g.GD, "lambda": g.Lam, "lambda_D": g.LamD, "p": g.P, "q": g.Q, "p_D": g.PD, "q_D": g.QD}[p.Name]
+		"gamma": g.Gamma, "gamma_D": g.GD, "lambda": g.Lam, "lambda_D": g.LamD, "p": g.P, "q": g.Q, "p_D": g.PD, "q_D": g.QD,
+		"A_H": g.AH, "gamma_H": g.GH, "lambda_H": g.LamH, "p_H": g.PH, "q_H": g.QH}[p.Name]
 }
 
 // fitOpen builds the term-values model of the lines and fits them.

@@ -16,9 +16,10 @@ import (
 // E*|Λ, Σ, Ω⟩ = (−1)^(J−S+s)|−Λ, −Σ, −Ω⟩ (s = 1 for Σ⁻ states, 0 otherwise),
 // and diagonalises each parity block with gonum's mat.EigenSym.
 //
-//	H = T + B N² − D N⁴ + H N⁶ + A L_zS_z + ½A_D[N², L_zS_z]₊ + γ N·S
-//	    + ½γ_D[N², N·S]₊ + λ·⅔(3S_z² − S²) + ½λ_D[N², ⅔(3S_z² − S²)]₊
-//	    + p O_p + q O_q + ½p_D[N², O_p]₊ + ½q_D[N², O_q]₊,
+//	H = T + B N² − D N⁴ + H N⁶ + A L_zS_z + ½A_D[N², L_zS_z]₊ + ½A_H[N⁴, L_zS_z]₊
+//	    + γ N·S + ½γ_D[N², N·S]₊ + ½γ_H[N⁴, N·S]₊
+//	    + λ·⅔(3S_z² − S²) + ½λ_D[N², ⅔(3S_z² − S²)]₊ + ½λ_H[N⁴, ⅔(3S_z² − S²)]₊
+//	    + p O_p + q O_q + ½p_D[N², O_p]₊ + ½q_D[N², O_q]₊ + ½p_H[N⁴, O_p]₊ + ½q_H[N⁴, O_q]₊,
 //	N = J − S,  O_p = −½(J₊S₊e^(−2iφ) + J₋S₋e^(2iφ)),
 //	O_q = −(J₊S₊e^(−2iφ) + J₋S₋e^(2iφ)) + ½(J₊²e^(−2iφ) + J₋²e^(2iφ)),
 //
@@ -26,14 +27,15 @@ import (
 // lowest as the spin components: ²Π F1, F2; ³Σ F1, F3 in the block of two, F2
 // alone (F3 alone at J = 0); ²Σ by parity.
 type genState struct {
-	S2, Lambda int  // 2S, |Λ|
-	Minus      bool // Σ⁻
-	T, B, D, H float64
-	A, AD      float64
-	Gamma, GD  float64
-	Lam, LamD  float64
-	P, Q       float64
-	PD, QD     float64
+	S2, Lambda      int  // 2S, |Λ|
+	Minus           bool // Σ⁻
+	T, B, D, H      float64
+	A, AD, AH       float64
+	Gamma, GD, GH   float64
+	Lam, LamD, LamH float64
+	P, Q            float64
+	PD, QD          float64
+	PH, QH          float64
 }
 
 // genLevel is one level of the generator: F (0 for the single J = ½ level of
@@ -266,14 +268,17 @@ func (g genState) hamiltonian(basis []genBasis, J2 int) *mat.Dense {
 			h.Add(h, &t)
 		}
 	}
-	anticomm := func(m *mat.Dense) *mat.Dense {
+	// ½[n, m]₊ with n = N² (anticomm) or N⁴ (anticomm4).
+	anti := func(n, m mat.Matrix) *mat.Dense {
 		var a, b mat.Dense
-		a.Mul(N2, m)
-		b.Mul(m, N2)
+		a.Mul(n, m)
+		b.Mul(m, n)
 		a.Add(&a, &b)
 		a.Scale(0.5, &a)
 		return &a
 	}
+	anticomm := func(m *mat.Dense) *mat.Dense { return anti(N2, m) }
+	anticomm4 := func(m *mat.Dense) *mat.Dense { return anti(&N4, m) }
 	add(g.B, N2)
 	add(-g.D, &N4)
 	add(g.H, &N6)
@@ -287,6 +292,11 @@ func (g genState) hamiltonian(basis []genBasis, J2 int) *mat.Dense {
 	add(g.Q, Oq)
 	add(g.PD, anticomm(Op))
 	add(g.QD, anticomm(Oq))
+	add(g.AH, anticomm4(LS))
+	add(g.GH, anticomm4(NS))
+	add(g.LamH, anticomm4(SS))
+	add(g.PH, anticomm4(Op))
+	add(g.QH, anticomm4(Oq))
 	return h
 }
 

@@ -42,7 +42,7 @@ func fitCommand() *cli.Command {
 		OnUsageError: onUsage,
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "model", Value: fit.DefaultModel, Usage: "energy-level model: dunham or term-values"},
-			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: term-values B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,…; fine structure A,A_D,gamma,gamma_D,lambda,lambda_D,p,q,p_D,q_D (dunham A_e,alpha_A,…); STATE:NAME for one state (default: B,D or Y10,Y20,Y01,Y11,Y02, and the fine structure of each state's case)"},
+			&cli.StringSliceFlag{Name: "terms", Usage: "terms that float: term-values B,D,H,L; dunham Y10,Y20,Y01,Y11,Y02,…; fine structure A,A_D,A_H,gamma,gamma_D,gamma_H,lambda,lambda_D,lambda_H,p,q,p_D,q_D,p_H,q_H (dunham A_e,alpha_A,…); STATE:NAME for one state (default: B,D or Y10,Y20,Y01,Y11,Y02, and the fine structure of each state's case)"},
 			&cli.StringSliceFlag{Name: "fix", Usage: "hold a parameter: NAME=VALUE (D=6.1e-6, D_v1=…, D_v1[13C16O]=…, Y02=…, A:B_v0=… for state A); repeatable"},
 			&cli.Float64Flag{Name: "reject", Value: fit.DefaultReject, Usage: "reject lines with |o−c|/unc above this many times the fit's standard deviation (0: off; at most 10 % of lines)"},
 			&cli.BoolFlag{Name: "round", Usage: "sequential rounding and refitting of the constants (Le Roy 1998)"},

@@ -18,10 +18,11 @@ import (
 // fine-structure constant X contributes X_e (k = 0) and −α_X (k = 1). The mass
 // scaling of Y_kl, (μ_r/μ_s)^((k+2l)/2), applies to the fine-structure terms
 // with l replaced by the rotational order of the constant: 0 for A and λ, 1
-// for γ, p, A_D and λ_D, 2 for q, γ_D and p_D, 3 for q_D (the order of the
-// power of B in their leading contributions; common practice, and it fails
-// where a constant has contributions of another order, such as the
-// second-order spin–orbit part of λ).
+// for γ, p, A_D and λ_D, 2 for q, γ_D, p_D, A_H and λ_H, 3 for q_D, γ_H and
+// p_H, 4 for q_H (the order of the power of B in their leading contributions,
+// each distortion one order above the constant it distorts; common practice,
+// and it fails where a constant has contributions of another order, such as
+// the second-order spin–orbit part of λ).
 
 // contribution is one term of an effective constant: c_q += coef[s]·(v+½)^k·p[param].
 type contribution struct {
@@ -31,13 +32,22 @@ type contribution struct {
 	coef  []float64 // per species
 }
 
-// rotOrder is the rotational order of each fine-structure constant (see above).
-var rotOrder = [nQ]int{qA: 0, qAD: 1, qGamma: 1, qGammaD: 2, qLambda: 0, qLambdaD: 1, qP: 1, qQ: 2, qPD: 2, qQD: 3}
+// rotOrder is the rotational order of each fine-structure constant (see
+// above): that of the constant it distorts plus the power of N² for a
+// distortion constant.
+func rotOrder(q quantity) int {
+	base := [nQ]int{qA: 0, qGamma: 1, qLambda: 0, qP: 1, qQ: 2}
+	if d, ok := distortionOf[q]; ok {
+		return base[d.base] + d.power
+	}
+	return base[q]
+}
 
-// isDistortion reports whether q is a distortion constant (A_D, gamma_D, …),
-// which has no v-expansion.
+// isDistortion reports whether q is a distortion constant (A_D, gamma_D,
+// lambda_H, …), which has no v-expansion.
 func isDistortion(q quantity) bool {
-	return q == qAD || q == qGammaD || q == qLambdaD || q == qPD || q == qQD
+	_, ok := distortionOf[q]
+	return ok
 }
 
 // FineDunhamName returns the Dunham model's name of the v-expansion term k of
@@ -115,7 +125,7 @@ func (m *Dunham) dunhamTermLists(terms []string, fixes []Fix) ([]dunhamStateTerm
 			if _, _, err := ParseDunhamTerm(name); err != nil && strings.HasPrefix(name, "Y") {
 				return err
 			}
-			return fmt.Errorf("model: %q is not a term of the Dunham model (Y<k><l>, or a fine-structure term: A_e, alpha_A, A_D, gamma_e, alpha_gamma, gamma_D, lambda_e, alpha_lambda, lambda_D, p_e, alpha_p, p_D, q_e, alpha_q, q_D)", name)
+			return noDunhamTerm(name)
 		}
 		switch {
 		case hasQuantity(m.cases[st], q):
@@ -249,7 +259,7 @@ func (m *Dunham) addFine(st int, fine []fineTerm) {
 		if ft.k == 1 {
 			sign = -1 // X_v = X_e − α_X (v+½)
 		}
-		m.contrib[st] = append(m.contrib[st], contribution{q: ft.q, k: ft.k, param: j, coef: m.scaled(ft.k+2*rotOrder[ft.q], sign)})
+		m.contrib[st] = append(m.contrib[st], contribution{q: ft.q, k: ft.k, param: j, coef: m.scaled(ft.k+2*rotOrder(ft.q), sign)})
 	}
 }
 

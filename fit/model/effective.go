@@ -19,8 +19,8 @@ type Effective [nQ]float64
 const NumQuantities = int(nQ)
 
 // QuantityNames returns the names of the effective constants in the order
-// of Effective: T, B, D, H, L, A, A_D, gamma, gamma_D, lambda, lambda_D, p,
-// q, p_D, q_D.
+// of Effective: T, B, D, H, L, A, A_D, A_H, gamma, gamma_D, gamma_H, lambda,
+// lambda_D, lambda_H, p, q, p_D, q_D, p_H, q_H.
 func QuantityNames() []string { return append([]string(nil), quantityNames[:]...) }
 
 // QuantityIndex returns the index in Effective of the constant named name,

@@ -48,13 +48,13 @@ var fineCases = []struct {
 	vals map[string]float64
 }{
 	// NO X²Π and OH X²Π v = 0 (Huber & Herzberg 1979 and later microwave
-	// work, from memory), distortion constants exaggerated.
-	{"2Pi NO", stDoubletPi, map[string]float64{"B": 1.6961, "D": 5.4e-6, "H": 1e-11, "A": 123.14, "A_D": 1.9e-4, "gamma": -6e-3, "gamma_D": 1e-7, "p": 1.17e-2, "q": 6.7e-5, "p_D": 2e-6, "q_D": 1e-7}},
-	{"2Pi OH", stDoubletPi, map[string]float64{"B": 18.535, "D": 1.9e-3, "H": 1.4e-7, "A": -139.05, "A_D": -7e-3, "gamma": -0.119, "gamma_D": 1e-5, "p": 0.235, "q": -0.0387, "p_D": -2e-5, "q_D": 1.5e-5}},
+	// work, from memory), distortion constants (_D and _H) exaggerated.
+	{"2Pi NO", stDoubletPi, map[string]float64{"B": 1.6961, "D": 5.4e-6, "H": 1e-11, "A": 123.14, "A_D": 1.9e-4, "gamma": -6e-3, "gamma_D": 1e-7, "p": 1.17e-2, "q": 6.7e-5, "p_D": 2e-6, "q_D": 1e-7, "A_H": 1e-9, "gamma_H": 1e-11, "p_H": 1e-10, "q_H": 1e-11}},
+	{"2Pi OH", stDoubletPi, map[string]float64{"B": 18.535, "D": 1.9e-3, "H": 1.4e-7, "A": -139.05, "A_D": -7e-3, "gamma": -0.119, "gamma_D": 1e-5, "p": 0.235, "q": -0.0387, "p_D": -2e-5, "q_D": 1.5e-5, "A_H": -1e-8, "gamma_H": 1e-9, "p_H": 1e-9, "q_H": -1e-9}},
 	// O2 X³Σg⁻ (the lead's recollection, from memory, in cm⁻¹).
-	{"3Sigma O2", stTripletSigM, map[string]float64{"B": 1.4377, "D": 4.84e-6, "H": 1e-12, "lambda": 1.9847, "lambda_D": 1.95e-6, "gamma": -8.425e-3, "gamma_D": -8e-9}},
-	{"2Sigma", stDoubletSigP, map[string]float64{"B": 1.8997, "D": 6.4e-6, "gamma": 7.25e-3, "gamma_D": 1e-7}},
-	{"1Pi", stSingletPi, map[string]float64{"B": 1.6115, "D": 7.3e-6, "q": -1.3e-5, "q_D": 2e-9}},
+	{"3Sigma O2", stTripletSigM, map[string]float64{"B": 1.4377, "D": 4.84e-6, "H": 1e-12, "lambda": 1.9847, "lambda_D": 1.95e-6, "lambda_H": 1e-11, "gamma": -8.425e-3, "gamma_D": -8e-9, "gamma_H": 1e-12}},
+	{"2Sigma", stDoubletSigP, map[string]float64{"B": 1.8997, "D": 6.4e-6, "gamma": 7.25e-3, "gamma_D": 1e-7, "gamma_H": 1e-11}},
+	{"1Pi", stSingletPi, map[string]float64{"B": 1.6115, "D": 7.3e-6, "q": -1.3e-5, "q_D": 2e-9, "q_H": 1e-13}},
 }
 
 // TestLevelGradientMatchesFiniteDifferences checks the Hellmann–Feynman
@@ -200,17 +200,17 @@ func nitricOxide(t *testing.T) (*Dunham, []float64, map[string]float64) {
 	a := states.State{Label: "A", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}, TermEnergy: 43965.7}
 	m, err := NewDunham(mustIsos(t, "14N16O", "15N16O"), DunhamOptions{
 		States: []states.State{x, a},
-		Terms: []string{"Y10", "Y20", "Y01", "Y11", "Y02", "A_e", "alpha_A", "A_D", "gamma_e", "p_e", "alpha_p", "q_e", "p_D", "q_D",
-			"A:Y10", "A:Y20", "A:Y01", "A:Y11", "A:Y02", "A:gamma_e", "A:alpha_gamma", "A:gamma_D"},
+		Terms: []string{"Y10", "Y20", "Y01", "Y11", "Y02", "A_e", "alpha_A", "A_D", "gamma_e", "p_e", "alpha_p", "q_e", "p_D", "q_D", "A_H",
+			"A:Y10", "A:Y20", "A:Y01", "A:Y11", "A:Y02", "A:gamma_e", "A:alpha_gamma", "A:gamma_D", "A:gamma_H"},
 	})
 	if err != nil {
 		t.Fatal(err)
 	}
 	vals := map[string]float64{
 		"Y10": 1904.2, "Y20": -14.075, "Y01": 1.67195, "Y11": -0.0171, "Y02": -5.4e-6,
-		"A_e": 123.28, "alpha_A": 0.19, "A_D": 1.9e-4, "gamma_e": -6e-3, "p_e": 1.17e-2, "alpha_p": 1e-4, "q_e": 6.7e-5, "p_D": 2e-7, "q_D": 1e-8,
+		"A_e": 123.28, "alpha_A": 0.19, "A_D": 1.9e-4, "gamma_e": -6e-3, "p_e": 1.17e-2, "alpha_p": 1e-4, "q_e": 6.7e-5, "p_D": 2e-7, "q_D": 1e-8, "A_H": 1e-9,
 		"A:T_e": 43965.7, "A:Y10": 2374.31, "A:Y20": -16.106, "A:Y01": 1.9965, "A:Y11": -0.01915, "A:Y02": -5.4e-6,
-		"A:gamma_e": -2.7e-3, "A:alpha_gamma": 1e-5, "A:gamma_D": 1e-8,
+		"A:gamma_e": -2.7e-3, "A:alpha_gamma": 1e-5, "A:gamma_D": 1e-8, "A:gamma_H": 1e-11,
 	}
 	ps := m.Params()
 	p := make([]float64, len(ps))
@@ -253,6 +253,7 @@ func TestDunhamFineStructure(t *testing.T) {
 					"gamma": vals[pre+"gamma_e"]*r*r - vals[pre+"alpha_gamma"]*r*r*r*vh, "gamma_D": vals[pre+"gamma_D"] * math.Pow(r, 4),
 					"p": vals["p_e"]*r*r - vals["alpha_p"]*r*r*r*vh, "q": vals["q_e"] * math.Pow(r, 4),
 					"p_D": vals["p_D"] * math.Pow(r, 4), "q_D": vals["q_D"] * math.Pow(r, 6),
+					"A_H": vals["A_H"] * math.Pow(r, 4), "gamma_H": vals[pre+"gamma_H"] * math.Pow(r, 6),
 				}
 				terms := append([]string{"B", "D"}, FineTerms(state.Case())...)
 				tv, err := NewTermValuesStates([]states.State{state}, []LevelSpec{{Species: label, V: []int{v}}}, terms, nil)

@@ -31,21 +31,29 @@ const (
 	qL
 	qA
 	qAD
+	qAH
 	qGamma
 	qGammaD
+	qGammaH
 	qLambda
 	qLambdaD
+	qLambdaH
 	qP
 	qQ
 	qPD
 	qQD
+	qPH
+	qQH
 	nQ
 )
 
 // quantityNames are the parameter names of the effective constants, the
-// trade's symbols: T, B, D, H, L, A, A_D, gamma, gamma_D, lambda, lambda_D,
-// p, q, p_D, q_D.
-var quantityNames = [nQ]string{"T", "B", "D", "H", "L", "A", "A_D", "gamma", "gamma_D", "lambda", "lambda_D", "p", "q", "p_D", "q_D"}
+// trade's symbols: T, B, D, H, L, A, A_D, A_H, gamma, gamma_D, gamma_H,
+// lambda, lambda_D, lambda_H, p, q, p_D, q_D, p_H, q_H. The suffix _D marks
+// the first centrifugal distortion of a constant, ½[N², O]₊, and _H the
+// second, ½[N⁴, O]₊ (package doc).
+var quantityNames = [nQ]string{"T", "B", "D", "H", "L", "A", "A_D", "A_H", "gamma", "gamma_D", "gamma_H",
+	"lambda", "lambda_D", "lambda_H", "p", "q", "p_D", "q_D", "p_H", "q_H"}
 
 // fineStart is the first fine-structure quantity; rotational ones come
 // before it.
@@ -54,10 +62,22 @@ const fineStart = qA
 // caseQuantities lists the fine-structure constants of each case.
 var caseQuantities = map[states.Case][]quantity{
 	states.Singlet:      nil,
-	states.DoubletSigma: {qGamma, qGammaD},
-	states.TripletSigma: {qLambda, qLambdaD, qGamma, qGammaD},
-	states.SingletPi:    {qQ, qQD},
-	states.DoubletPi:    {qA, qAD, qGamma, qGammaD, qP, qQ, qPD, qQD},
+	states.DoubletSigma: {qGamma, qGammaD, qGammaH},
+	states.TripletSigma: {qLambda, qLambdaD, qLambdaH, qGamma, qGammaD, qGammaH},
+	states.SingletPi:    {qQ, qQD, qQH},
+	states.DoubletPi:    {qA, qAD, qAH, qGamma, qGammaD, qGammaH, qP, qQ, qPD, qQD, qPH, qQH},
+}
+
+// distortionOf gives, for each distortion constant, the constant whose
+// operator it distorts and the power of N² in its anticommutator: X_D is
+// ½[N², O_X]₊ and X_H ½[N⁴, O_X]₊.
+var distortionOf = map[quantity]struct {
+	base  quantity
+	power int
+}{
+	qAD: {qA, 1}, qAH: {qA, 2}, qGammaD: {qGamma, 1}, qGammaH: {qGamma, 2},
+	qLambdaD: {qLambda, 1}, qLambdaH: {qLambda, 2}, qPD: {qP, 1}, qPH: {qP, 2},
+	qQD: {qQ, 1}, qQH: {qQ, 2},
 }
 
 // hasQuantity reports whether a state of case c has constant q.
@@ -115,6 +135,25 @@ func (b *block) setRotation(n2 sym2) {
 	b.op[qL] = mulSym(n4, n4)
 }
 
+// setDistortions sets the operators of the distortion constants of case c
+// from those of the constants they distort: X_D ½[N², O_X]₊ and X_H
+// ½[N⁴, O_X]₊, with N² = op[qB] and N⁴ = −op[qD] (setRotation).
+func (b *block) setDistortions(c states.Case) {
+	n2 := b.op[qB]
+	n4 := sym2{-b.op[qD][0], -b.op[qD][1], -b.op[qD][2]}
+	for _, q := range caseQuantities[c] {
+		d, ok := distortionOf[q]
+		if !ok {
+			continue
+		}
+		if d.power == 1 {
+			b.op[q] = anti(n2, b.op[d.base])
+		} else {
+			b.op[q] = anti(n4, b.op[d.base])
+		}
+	}
+}
+
 // setBlock fills b for level lv of state st of case c and returns false when
 // the state has no such level.
 func (b *block) setBlock(st states.State, c states.Case, lv Level) bool {
@@ -124,34 +163,35 @@ func (b *block) setBlock(st states.State, c states.Case, lv Level) bool {
 		return false
 	}
 	J := float64(J2) / 2
+	ok := false
 	switch c {
 	case states.Singlet:
 		x := J * (J + 1)
 		b.setRotation(sym2{x})
 		return true
 	case states.DoubletSigma:
-		return b.setDoubletSigma(st, J2, lv.F)
+		ok = b.setDoubletSigma(st, J2, lv.F)
 	case states.TripletSigma:
-		return b.setTripletSigma(J2, lv.F)
+		ok = b.setTripletSigma(J2, lv.F)
 	case states.SingletPi:
 		if J2 < 2 || lv.Parity == states.NoParity {
 			return false
 		}
 		x := J * (J + 1)
-		s := float64(lv.Parity)
 		b.setRotation(sym2{x})
-		b.op[qQ] = sym2{0.5 * s * x}
-		b.op[qQD] = sym2{0.5 * s * x * x}
-		return true
+		b.op[qQ] = sym2{0.5 * float64(lv.Parity) * x}
+		ok = true
 	case states.DoubletPi:
-		return b.setDoubletPi(J2, lv.F, lv.Parity)
+		ok = b.setDoubletPi(J2, lv.F, lv.Parity)
 	}
-	return false
+	if ok {
+		b.setDistortions(c)
+	}
+	return ok
 }
 
 // setDoubletSigma: case (b), one level per (J, F): N = J ∓ ½ for F1/F2,
-// ⟨N·S⟩ = ½[J(J+1) − N(N+1) − S(S+1)] (½N for F1, −½(N+1) for F2),
-// γ_D: ½[N², N·S]₊ = N(N+1)⟨N·S⟩.
+// ⟨N·S⟩ = ½[J(J+1) − N(N+1) − S(S+1)] (½N for F1, −½(N+1) for F2).
 func (b *block) setDoubletSigma(st states.State, J2, f int) bool {
 	if f != 1 && f != 2 {
 		return false
@@ -162,10 +202,8 @@ func (b *block) setDoubletSigma(st states.State, J2, f int) bool {
 	}
 	J := float64(J2) / 2
 	nn := float64(n) * float64(n+1)
-	ns := 0.5 * (J*(J+1) - nn - 0.75)
 	b.setRotation(sym2{nn})
-	b.op[qGamma] = sym2{ns}
-	b.op[qGammaD] = sym2{nn * ns}
+	b.op[qGamma] = sym2{0.5 * (J*(J+1) - nn - 0.75)}
 	return true
 }
 
@@ -184,30 +222,22 @@ func (b *block) setTripletSigma(J2, f int) bool {
 	J := float64(J2 / 2)
 	switch {
 	case f == 2 && J2 >= 2:
-		x := J * (J + 1)
-		b.setRotation(sym2{x})
+		b.setRotation(sym2{J * (J + 1)})
 		b.op[qGamma] = sym2{-1}
-		b.op[qGammaD] = sym2{-x}
 		b.op[qLambda] = sym2{2.0 / 3}
-		b.op[qLambdaD] = sym2{2.0 / 3 * x}
 		return true
 	case f == 3 && J2 == 0:
 		b.setRotation(sym2{2})
 		b.op[qGamma] = sym2{-2}
-		b.op[qGammaD] = sym2{-4}
 		b.op[qLambda] = sym2{-4.0 / 3}
-		b.op[qLambdaD] = sym2{-8.0 / 3}
 		return true
 	case (f == 1 || f == 3) && J2 >= 2:
 		b.dim = 2
 		b.pick = (f - 1) / 2
 		d := 2*J + 1
-		n2 := sym2{(J - 1) * J, 0, (J + 1) * (J + 2)}
-		b.setRotation(n2)
+		b.setRotation(sym2{(J - 1) * J, 0, (J + 1) * (J + 2)})
 		b.op[qGamma] = sym2{J - 1, 0, -(J + 2)}
 		b.op[qLambda] = sym2{-2.0 / 3 * (J - 1) / d, 2 * math.Sqrt(J*(J+1)) / d, -2.0 / 3 * (J + 2) / d}
-		b.op[qGammaD] = anti(n2, b.op[qGamma])
-		b.op[qLambdaD] = anti(n2, b.op[qLambda])
 		return true
 	}
 	return false
@@ -222,8 +252,9 @@ func (b *block) setTripletSigma(J2, f int) bool {
 //	p      diag(−½sx, 0)    q            ⎡−sx      ½sx√z⎤
 //	                                     ⎣½sx√z     0   ⎦
 //
-// and the distortion operators ½[N², ·]₊ of A, γ, p and q. F1 is the lower
-// eigenvalue; J = ½ has the Ω = ½ level only (either F label).
+// (the distortion operators ½[N², ·]₊ and ½[N⁴, ·]₊ of A, γ, p and q follow
+// in setDistortions). F1 is the lower eigenvalue; J = ½ has the Ω = ½ level
+// only (either F label).
 func (b *block) setDoubletPi(J2, f int, par states.Parity) bool {
 	if (f != 1 && f != 2) || par == states.NoParity {
 		return false
@@ -232,16 +263,11 @@ func (b *block) setDoubletPi(J2, f int, par states.Parity) bool {
 	z := x*x - 1
 	rz := math.Sqrt(math.Max(z, 0))
 	s := float64(par)
-	n2 := sym2{z + 2, -rz, z}
-	b.setRotation(n2)
+	b.setRotation(sym2{z + 2, -rz, z})
 	b.op[qA] = sym2{-0.5, 0, 0.5}
 	b.op[qGamma] = sym2{-1, 0.5 * rz, 0}
 	b.op[qP] = sym2{-0.5 * s * x, 0, 0}
 	b.op[qQ] = sym2{-s * x, 0.5 * s * x * rz, 0}
-	b.op[qAD] = anti(n2, b.op[qA])
-	b.op[qGammaD] = anti(n2, b.op[qGamma])
-	b.op[qPD] = anti(n2, b.op[qP])
-	b.op[qQD] = anti(n2, b.op[qQ])
 	if J2 >= 3 {
 		b.dim = 2
 		b.pick = f - 1

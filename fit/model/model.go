@@ -89,6 +89,11 @@
 //	                   [½ s X √z       0    ]
 //	         and J = ½ has the Ω = ½ level alone
 //
+// The distortion operators are formed from these matrices in the same block,
+// ½(N²O + ON²) and ½(N⁴O + ON⁴) with N⁴ the square of the block's N² (N²
+// keeps J and parity, so the block holds all of it): N(N+1)·O and
+// [N(N+1)]²·O in a 1×1 block.
+//
 // Labels: in a 2×2 block the lower eigenvalue is F1 (²Π: F1, F2; ³Σ: F1, F3). The
 // two levels of one J and parity never cross, so the label follows the eigenvector
 // from case (a) to case (b): for ²Π it is the component that is mostly Ω = ½ when
@@ -359,9 +364,9 @@ func xPow(J int, n int, dst []float64) {
 
 // CheckTerm returns nil when name is a term the model of the given kind
 // takes in its list of terms (term values: T, B, D, H, L and the
-// fine-structure constants A, A_D, gamma, gamma_D, lambda, lambda_D, p, q,
-// p_D, q_D; Dunham: Y<k><l> and the fine-structure expansions A_e, alpha_A,
-// A_D, …; either with a "STATE:" prefix), and otherwise the error
+// fine-structure constants A, A_D, A_H, gamma, …, q_H; Dunham: Y<k><l> and
+// the fine-structure expansions A_e, alpha_A, A_D, A_H, …; either with a
+// "STATE:" prefix), and otherwise the error
 // NewTermValues or NewDunham would give, so that a pipeline file can name
 // the file and line of a bad term before any fit. Whether a constant suits
 // the case of its state is checked when the model is built.
@@ -373,7 +378,7 @@ func CheckTerm(kind, name string) error {
 	switch kind {
 	case KindTermValues:
 		if q := quantityOf(name); q < 0 {
-			return fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L and the fine-structure constants A, A_D, gamma, gamma_D, lambda, lambda_D, p, q, p_D, q_D)", name)
+			return noTermValuesTerm(name)
 		}
 	case KindDunham:
 		if _, _, ok := parseFineDunham(name); ok {
@@ -383,4 +388,25 @@ func CheckTerm(kind, name string) error {
 		return err
 	}
 	return nil
+}
+
+// noTermValuesTerm is the error for a term the term-values model does not
+// have; it lists the terms it has.
+func noTermValuesTerm(name string) error {
+	return fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L and the fine-structure constants %s)",
+		name, strings.Join(quantityNames[fineStart:], ", "))
+}
+
+// noDunhamTerm is the error for a term the Dunham model does not have; it
+// lists the fine-structure terms it has.
+func noDunhamTerm(name string) error {
+	var fine []string
+	for q := fineStart; q < nQ; q++ {
+		if isDistortion(q) {
+			fine = append(fine, quantityNames[q])
+		} else {
+			fine = append(fine, FineDunhamName(quantityNames[q], 0), FineDunhamName(quantityNames[q], 1))
+		}
+	}
+	return fmt.Errorf("model: %q is not a term of the Dunham model (Y<k><l>, or a fine-structure term: %s)", name, strings.Join(fine, ", "))
 }

@@ -17,8 +17,9 @@ func RotTerms() []string { return append([]string(nil), rotTerms...) }
 
 // FineTerms returns the fine-structure constants of a state of case c in
 // their fixed order, as the term-values model names them (package doc):
-// ²Σ gamma, gamma_D; ³Σ lambda, lambda_D, gamma, gamma_D; ¹Π q, q_D; ²Π A,
-// A_D, gamma, gamma_D, p, q, p_D, q_D.
+// ²Σ gamma, gamma_D, gamma_H; ³Σ gamma, gamma_D, gamma_H, lambda, lambda_D,
+// lambda_H; ¹Π q, q_D, q_H; ²Π A, A_D, A_H, gamma, gamma_D, gamma_H, p, q, p_D,
+// q_D, p_H, q_H.
 func FineTerms(c states.Case) []string {
 	var out []string
 	for q := fineStart; q < nQ; q++ {
@@ -125,7 +126,7 @@ func (m *TermValues) stateQuantities(terms []string, fixes []Fix) ([][]quantity,
 			}
 			q := quantityOf(t.name)
 			if q < 0 {
-				return nil, fmt.Errorf("model: term-values model has no term %q (terms: T, B, D, H, L and the fine-structure constants A, A_D, gamma, gamma_D, lambda, lambda_D, p, q, p_D, q_D)", t.name)
+				return nil, noTermValuesTerm(t.name)
 			}
 			if !hasQuantity(m.cases[st], q) {
 				if t.own {

@@ -45,8 +45,9 @@ import (
 // term_energy 0: the ground state, whose constants are the record given to the
 // thermo stage. A state without constants is the ground-state manifold shifted by
 // term_energy. Paths are relative to the file. The keys of [state.start] are
-// the constants of the state's case (T, B, D, H, L, A, A_D, gamma, gamma_D,
-// lambda, lambda_D, p, q, p_D, q_D; see package model).
+// the constants of the state's case (T, B, D, H, L, A, A_D, A_H, gamma,
+// gamma_D, gamma_H, lambda, lambda_D, lambda_H, p, q, p_D, q_D, p_H, q_H; see
+// package model).
 //
 // omega_e (with omega_e_sigma) gives the vibrational frequency of a state whose
 // constants record has a single vibrational level (a pure-rotation fit): the
@@ -83,7 +84,7 @@ type Start struct {
 }
 
 // startNames are the keys of [state.start].
-var startNames = []string{"T", "B", "D", "H", "L", "A", "A_D", "gamma", "gamma_D", "lambda", "lambda_D", "p", "q", "p_D", "q_D"}
+var startNames = []string{"T", "B", "D", "H", "L", "A", "A_D", "A_H", "gamma", "gamma_D", "gamma_H", "lambda", "lambda_D", "lambda_H", "p", "q", "p_D", "q_D", "p_H", "q_H"}
 
 type rawFile struct {
 	Species            *string    `toml:"species"`
