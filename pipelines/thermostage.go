@@ -153,8 +153,7 @@ func Thermo(o ThermoOptions) (*ThermoOutcome, error) {
 		}
 		p.DissociationEnergy, p.DissociationSigma = sf.DissociationEnergy, sf.DissociationSigma
 		for i, cs := range sf.States {
-			st := thermo.State{Label: cs.Label, TermEnergy: cs.TermEnergy, Multiplicity: cs.Multiplicity, Lambda: cs.Lambda, Symmetry: cs.Symmetry,
-				OmegaE: cs.OmegaE, OmegaESigma: cs.OmegaESigma, FineStructureWidth: cs.FineStructureWidth, ProductsEnergy: cs.ProductsEnergy}
+			st := thermo.StateOf(cs)
 			if cs.Constants != "" {
 				path := cs.Constants
 				if !filepath.IsAbs(path) {

@@ -336,22 +336,6 @@ func TestDirectionsFirstOrder(t *testing.T) {
 	}
 }
 
-// functionsAll is FunctionsAt with the derivatives along the budget's
-// directions after the parameters.
-func (sys *System) functionsAll(T float64) (Functions, *Gradients) {
-	q := sys.p + sys.pm
-	acc := newMoments(q)
-	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
-	f298 := sys.functions(ReferenceTemperature, acc, 0)
-	d298 := newGradients(q)
-	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, q), d298)
-	sys.accumulate(units.SecondRadiation/T, acc, true)
-	f := sys.functions(T, acc, f298.HmH0)
-	d := newGradients(q)
-	sys.gradients(T, acc, f, d298.HmH0, d)
-	return f, d
-}
-
 // TestExtrapolatedLevelGradients: the extrapolated levels of a
 // fundamental-only term-values record carry derivatives with respect to the
 // fitted parameters (through ΔG and B_v of the record), and the functions'
@@ -433,8 +417,7 @@ symmetry = "g+"
 	}
 	p := Problem{Constants: c, Observed: rec.Observed, DissociationEnergy: file.DissociationEnergy, DissociationSigma: file.DissociationSigma}
 	for _, s := range file.States {
-		p.States = append(p.States, State{Label: s.Label, TermEnergy: s.TermEnergy, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry,
-			FineStructureWidth: s.FineStructureWidth, ProductsEnergy: s.ProductsEnergy})
+		p.States = append(p.States, StateOf(s))
 	}
 	res, err := Compute(p, Settings{Temperatures: []float64{ReferenceTemperature, 1000}, Composition: CompositionNatural})
 	if err != nil {

@@ -121,16 +121,33 @@ func (sys *System) Evaluate(x []float64, T float64) Functions {
 // FunctionsAt returns the functions at T and their analytic gradients with
 // respect to the fitted parameters at the nominal values.
 func (sys *System) FunctionsAt(T float64) (Functions, *Gradients) {
+	f, d := sys.functionsAll(T)
+	p := sys.p
+	return f, &Gradients{d.Q[:p], d.Cp[:p], d.S[:p], d.HmH0[:p], d.HmH298[:p], d.Gef[:p]}
+}
+
+// functionsAll is FunctionsAt with the derivatives along the uncertainty
+// budget's first-order directions after those of the fitted parameters.
+func (sys *System) functionsAll(T float64) (Functions, *Gradients) {
+	f298, d298 := sys.reference()
+	acc := newMoments(sys.p + sys.pm)
+	sys.accumulate(units.SecondRadiation/T, acc, true)
+	f := sys.functions(T, acc, f298.HmH0)
+	d := newGradients(sys.p + sys.pm)
+	sys.gradients(T, acc, f, d298.HmH0, d)
+	return f, d
+}
+
+// reference returns the functions at the reference temperature 298.15 K and
+// their derivatives along every direction (fitted parameters, then the
+// budget's first-order ones): H°(298.15 K) − H°(0) is the reference of
+// H°(T) − H°(298.15 K) and of its derivatives.
+func (sys *System) reference() (Functions, *Gradients) {
 	q := sys.p + sys.pm
 	acc := newMoments(q)
 	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
 	f298 := sys.functions(ReferenceTemperature, acc, 0)
 	d298 := newGradients(q)
 	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, q), d298)
-	sys.accumulate(units.SecondRadiation/T, acc, true)
-	f := sys.functions(T, acc, f298.HmH0)
-	d := newGradients(q)
-	sys.gradients(T, acc, f, d298.HmH0, d)
-	p := sys.p
-	return f, &Gradients{d.Q[:p], d.Cp[:p], d.S[:p], d.HmH0[:p], d.HmH298[:p], d.Gef[:p]}
+	return f298, d298
 }

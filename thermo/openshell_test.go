@@ -645,8 +645,7 @@ func TestOxygenFromFineStructureFit(t *testing.T) {
 	}
 	p := Problem{Constants: cs, Observed: rec.Observed, DissociationEnergy: file.DissociationEnergy, DissociationSigma: file.DissociationSigma}
 	for _, s := range file.States {
-		p.States = append(p.States, State{Label: s.Label, TermEnergy: s.TermEnergy, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry,
-			OmegaE: s.OmegaE, OmegaESigma: s.OmegaESigma, FineStructureWidth: s.FineStructureWidth, ProductsEnergy: s.ProductsEnergy})
+		p.States = append(p.States, StateOf(s))
 	}
 	res, err := Compute(p, Settings{Temperatures: []float64{ReferenceTemperature, 1000, 3000}, Composition: CompositionNatural})
 	if err != nil {

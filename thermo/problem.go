@@ -40,6 +40,15 @@ type State struct {
 	ProductsEnergy float64
 }
 
+// StateOf returns the thermo view of a state of an electronic-states file:
+// its label, term energy, case, ω_e, fine-structure width and products
+// energy. Constants, Observed and Source stay empty: the caller loads the
+// state's record, if the file names one.
+func StateOf(s states.State) State {
+	return State{Label: s.Label, TermEnergy: s.TermEnergy, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry,
+		OmegaE: s.OmegaE, OmegaESigma: s.OmegaESigma, FineStructureWidth: s.FineStructureWidth, ProductsEnergy: s.ProductsEnergy}
+}
+
 // Problem is what the thermo stage works on: the fitted constants of the ground
 // state, the electronic states and the dissociation energy. It holds no settings.
 type Problem struct {

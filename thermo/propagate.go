@@ -16,11 +16,7 @@ import (
 // not depend on the number of workers).
 func (sys *System) Table(temps []float64, workers int) []Row {
 	q := sys.p + sys.pm
-	acc := newMoments(q)
-	sys.accumulate(units.SecondRadiation/ReferenceTemperature, acc, true)
-	f298 := sys.functions(ReferenceTemperature, acc, 0)
-	d298 := newGradients(q)
-	sys.gradients(ReferenceTemperature, acc, f298, make([]float64, q), d298)
+	f298, d298 := sys.reference()
 	h298, dh298 := f298.HmH0, d298.HmH0
 
 	rows := make([]Row, len(temps))

@@ -200,19 +200,8 @@ func ocPositionFigure(f *folder, unit string, idx []int, files []string) *figure
 			p.Legend.Add(filepath.Base(files[k]), sc)
 		}
 	}
-	in, off := splitOffScale(rej, yLim)
-	if err := addRejected(p, in, off, yLim); err != nil {
-		fig.Missing = "Not plotted: " + err.Error()
-		return fig
-	}
-	svg, err := render(p, figWidth, figHeight)
-	if err != nil {
-		fig.Missing = "Not plotted: " + err.Error()
-		return fig
-	}
-	fig.SVG = svg
-	fig.Caption += offScaleCaption(off, "(o − c)/unc")
-	if len(files) > maxLegendSeries {
+	fig.drawResiduals(p, rej, yLim)
+	if fig.SVG != nil && len(files) > maxLegendSeries {
 		fig.Caption += sprintf(" The legend names the first %d files.", maxLegendSeries)
 	}
 	return fig

@@ -177,19 +177,27 @@ func bandFigure(f *folder, k bandKey, idx []int) *figure {
 		fig.Missing = "Not plotted: " + err.Error()
 		return fig
 	}
-	in, off := splitOffScale(pts.rejected, yLim)
+	fig.drawResiduals(p, pts.rejected, yLim)
+	return fig
+}
+
+// drawResiduals finishes a figure of (o − c)/unc: it adds the rejected lines
+// (those beyond ±yLim as off-scale markers at the edge), renders the SVG and
+// gives the off-scale values in the caption. When plotting fails, Missing
+// says why and SVG stays nil.
+func (fig *figure) drawResiduals(p *plot.Plot, rejected []labelled, yLim float64) {
+	in, off := splitOffScale(rejected, yLim)
 	if err := addRejected(p, in, off, yLim); err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
-		return fig
+		return
 	}
 	svg, err := render(p, figWidth, figHeight)
 	if err != nil {
 		fig.Missing = "Not plotted: " + err.Error()
-		return fig
+		return
 	}
 	fig.SVG = svg
 	fig.Caption += offScaleCaption(off, "(o − c)/unc")
-	return fig
 }
 
 // residualGuide is the height of the guides of the residual figures: 3 in
