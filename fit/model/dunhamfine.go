@@ -343,10 +343,7 @@ func (m *Dunham) LevelEnergy(s int, lv Level, p []float64, grad []float64) float
 // LevelTransition implements LevelModel.
 func (m *Dunham) LevelTransition(s int, up, lo Level, p []float64, grad []float64) (nu, mag float64) {
 	if m.closedShell() {
-		if up.State != 0 || lo.State != 0 || up.J2%2 != 0 || lo.J2%2 != 0 || up.V < 0 || lo.V < 0 {
-			return math.NaN(), math.NaN()
-		}
-		return m.Transition(s, up.V, up.J2/2, lo.V, lo.J2/2, p, grad)
+		return closedLevelTransition(m, s, up, lo, p, grad)
 	}
 	return m.levelTransition(m, s, up, lo, p, grad)
 }
@@ -358,6 +355,19 @@ func (m *Dunham) Sublevels(s, st, v, j2max int, p []float64, withGrad bool, fn f
 		return
 	}
 	m.sublevels(m, len(m.params), s, st, v, j2max, p, withGrad, fn)
+}
+
+// closedLevelTransition is LevelTransition of a model of one ¹Σ ground
+// state through Transition: NaN (and a zero gradient) for a level that is
+// not one of its levels (another state, half-integer J, negative v).
+func closedLevelTransition(m Transitioner, s int, up, lo Level, p []float64, grad []float64) (nu, mag float64) {
+	if up.State != 0 || lo.State != 0 || up.J2%2 != 0 || lo.J2%2 != 0 || up.V < 0 || lo.V < 0 {
+		if grad != nil {
+			clear(grad)
+		}
+		return math.NaN(), math.NaN()
+	}
+	return m.Transition(s, up.V, up.J2/2, lo.V, lo.J2/2, p, grad)
 }
 
 // closedSublevels enumerates the levels of a ¹Σ ground state through

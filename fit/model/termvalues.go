@@ -417,13 +417,7 @@ func (m *TermValues) LevelEnergy(s int, lv Level, p []float64, grad []float64) f
 // LevelTransition implements LevelModel.
 func (m *TermValues) LevelTransition(s int, up, lo Level, p []float64, grad []float64) (nu, mag float64) {
 	if m.closedShell() {
-		if up.State != 0 || lo.State != 0 || up.J2%2 != 0 || lo.J2%2 != 0 {
-			if grad != nil {
-				clear(grad)
-			}
-			return math.NaN(), math.NaN()
-		}
-		return m.Transition(s, up.V, up.J2/2, lo.V, lo.J2/2, p, grad)
+		return closedLevelTransition(m, s, up, lo, p, grad)
 	}
 	return m.levelTransition(m, s, up, lo, p, grad)
 }
