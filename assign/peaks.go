@@ -111,15 +111,25 @@ const (
 // byte of the file (45 for 100 MB) and keeps 5 to 12 (BenchmarkReadPeaksMemory).
 const MaxPeakBytes = 64 << 20
 
-// ReadPeaksFile reads the peak list in the file at path; see ReadPeaks.
-func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
+// openInput opens a user's input file for reading, refusing what is not a
+// regular file (a directory, a device, a pipe) with an InputError that names
+// it, as it does when the file cannot be opened.
+func openInput(path string) (*os.File, error) {
 	if why := textcheck.NotRegular(path); why != "" {
 		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: why}}}
 	}
 	f, err := os.Open(path)
 	if err != nil {
-		reason := textcheck.OpenReason(err)
-		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
+		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: textcheck.OpenReason(err), Err: err}}}
+	}
+	return f, nil
+}
+
+// ReadPeaksFile reads the peak list in the file at path; see ReadPeaks.
+func ReadPeaksFile(path string, defaultUnit linelist.Unit) (*PeakList, error) {
+	f, err := openInput(path)
+	if err != nil {
+		return nil, err
 	}
 	defer f.Close()
 	return ReadPeaks(f, path, defaultUnit)

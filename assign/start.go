@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"regexp"
 	"sort"
 	"strings"
@@ -92,13 +91,9 @@ var equilibriumKeys = []string{"omega_e", "omega_e_x_e", "omega_e_y_e", "B_e", "
 
 // ReadStartFile reads a start file; see ReadStart.
 func ReadStartFile(path string) (*Start, error) {
-	if why := textcheck.NotRegular(path); why != "" {
-		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: why}}}
-	}
-	f, err := os.Open(path)
+	f, err := openInput(path)
 	if err != nil {
-		reason := textcheck.OpenReason(err)
-		return nil, &InputError{Problems: []linelist.Problem{{File: path, Reason: reason, Err: err}}}
+		return nil, err
 	}
 	defer f.Close()
 	return ReadStart(f, path)
