@@ -1,7 +1,6 @@
 package nightly
 
 import (
-	"bytes"
 	"fmt"
 	"html/template"
 	"image/color"
@@ -15,8 +14,8 @@ import (
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 
+	"bandwright/internal/svgfig"
 	"bandwright/internal/typeset"
 )
 
@@ -30,8 +29,8 @@ type trend struct {
 // Colours of the trend figures (Okabe–Ito, at least 3:1 against white):
 // results in blue, flagged results in vermillion.
 var (
-	trendBlue  = color.RGBA{0x00, 0x72, 0xb2, 0xff}
-	trendAlert = color.RGBA{0xd5, 0x5e, 0x00, 0xff}
+	trendBlue  = svgfig.Blue
+	trendAlert = svgfig.Vermillion
 )
 
 // maxTrendPoints is the most results a trend figure shows: the latest.
@@ -88,15 +87,9 @@ type errPoints struct {
 
 // trendSVG draws one trend figure.
 func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, badErr plotter.YErrors) (svg []byte, err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			svg, err = nil, fmt.Errorf("the plotting library gave up: %v", r)
-		}
-	}()
 	p := plot.New()
-	sans := font.Font{Typeface: "Liberation", Variant: "Sans"}
 	for _, st := range []*text.Style{&p.X.Label.TextStyle, &p.Y.Label.TextStyle, &p.X.Tick.Label, &p.Y.Tick.Label, &p.Legend.TextStyle} {
-		st.Font = font.From(sans, 10)
+		st.Font = font.From(svgfig.Sans, 10)
 	}
 	p.X.Label.Text = "result, in the order recorded"
 	p.Y.Label.Text = typeset.Unit(c.Unit)
@@ -123,27 +116,16 @@ func trendSVG(c sumCol, ok plotter.XYs, okErr plotter.YErrors, bad plotter.XYs, 
 		sc.GlyphStyle = draw.GlyphStyle{Color: set.clr, Shape: set.glyp, Radius: 2.5}
 		p.Add(eb, sc)
 	}
-	n := len(ok) + len(bad)
-	if n > 0 {
+	if len(ok)+len(bad) > 0 {
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, q := range append(append(plotter.XYs{}, ok...), bad...) {
 			lo, hi = math.Min(lo, q.X), math.Max(hi, q.X)
 		}
 		p.X.Min, p.X.Max = lo-0.5, hi+0.5
 	}
-	w, h := 4.6*vg.Inch, 2.2*vg.Inch
-	cv := vgsvg.New(w, h)
-	p.Draw(draw.Crop(draw.New(cv), 4, -8, 2, -4))
-	var b bytes.Buffer
-	if _, err := cv.WriteTo(&b); err != nil {
-		return nil, err
-	}
-	out := b.Bytes()
-	if i := bytes.Index(out, []byte("<svg")); i >= 0 {
-		out = out[i:]
-	}
-	out = bytes.ReplaceAll(out, []byte("font-family:Liberation Sans;"), []byte("font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"))
-	return out, nil
+	return svgfig.Render(4.6*vg.Inch, 2.2*vg.Inch, func(dc draw.Canvas) {
+		p.Draw(draw.Crop(dc, 4, -8, 2, -4))
+	})
 }
 
 // dateOf is the date of an RFC 3339 time ("" when it is not one).

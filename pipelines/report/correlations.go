@@ -10,6 +10,8 @@ import (
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"bandwright/internal/svgfig"
 )
 
 // correlations shows the correlation matrix of the fitted parameters.
@@ -122,19 +124,6 @@ func diverging(rho float64) color.Color {
 	return color.RGBA{mix(end.R), mix(end.G), mix(end.B), 0xff}
 }
 
-// luminance is the relative luminance of an sRGB colour (WCAG 2.1 formula).
-func luminance(c color.Color) float64 {
-	r, g, b, _ := c.RGBA()
-	lin := func(v uint32) float64 {
-		x := float64(v) / 65535
-		if x <= 0.04045 {
-			return x / 12.92
-		}
-		return math.Pow((x+0.055)/1.055, 2.4)
-	}
-	return 0.2126*lin(r) + 0.7152*lin(g) + 0.0722*lin(b)
-}
-
 func (h *corrHeat) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
 	n := len(h.r)
@@ -150,7 +139,7 @@ func (h *corrHeat) Plot(c draw.Canvas, p *plot.Plot) {
 			if h.labels && finite(v) {
 				st := h.style
 				st.Color = okBlack
-				if luminance(col) < 0.3 {
+				if svgfig.Luminance(col) < 0.3 {
 					st.Color = color.White
 				}
 				c.FillText(st, vg.Point{X: trX(float64(j)), Y: trY(y)}, fixed(v, 2))

@@ -8,6 +8,8 @@ import (
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
+
+	"bandwright/internal/svgfig"
 )
 
 // No NaN or Inf is ever printed.
@@ -154,7 +156,7 @@ func TestJText(t *testing.T) {
 // 2.1, success criterion 1.4.11, non-text contrast); orange (#E69F00) of
 // Okabe–Ito has about 2.0:1 and is used for shaded bands only.
 func TestMarkerContrast(t *testing.T) {
-	contrast := func(c color.Color) float64 { return 1.05 / (luminance(c) + 0.05) }
+	contrast := func(c color.Color) float64 { return 1.05 / (svgfig.Luminance(c) + 0.05) }
 	for b, st := range branchStyles {
 		if r := contrast(st.color); r < 3 {
 			t.Errorf("branch %s: contrast %.2f:1", b, r)

@@ -3,7 +3,6 @@ package report
 import (
 	"bytes"
 	"errors"
-	"fmt"
 	"image/color"
 	"math"
 	"strings"
@@ -14,22 +13,21 @@ import (
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
+
+	"bandwright/internal/svgfig"
 )
 
-// Palette: colours of Okabe & Ito, "Color Universal Design" (2002), chosen to
-// stay distinct for the common forms of colour-vision deficiency. Markers and
-// lines use only those with at least 3:1 contrast against white (WCAG 2.1,
-// non-text contrast; see TestMarkerContrast): blue, bluish green, vermillion,
-// black. Orange and sky blue (about 2.2:1) only fill bands. Every series also
-// differs in glyph shape or dash pattern, so the plots read in greyscale too.
+// Palette: the Okabe–Ito colours of package svgfig (markers and lines only
+// in those with at least 3:1 contrast against white; see TestMarkerContrast).
+// Every series also differs in glyph shape or dash pattern, so the plots read
+// in greyscale too.
 var (
-	okBlack       = color.RGBA{0x00, 0x00, 0x00, 0xff}
-	okOrange      = color.RGBA{0xe6, 0x9f, 0x00, 0xff}
-	okSkyBlue     = color.RGBA{0x56, 0xb4, 0xe9, 0xff}
-	okBluishGreen = color.RGBA{0x00, 0x9e, 0x73, 0xff}
-	okBlue        = color.RGBA{0x00, 0x72, 0xb2, 0xff}
-	okVermillion  = color.RGBA{0xd5, 0x5e, 0x00, 0xff}
+	okBlack       = svgfig.Black
+	okOrange      = svgfig.Orange
+	okSkyBlue     = svgfig.SkyBlue
+	okBluishGreen = svgfig.BluishGreen
+	okBlue        = svgfig.Blue
+	okVermillion  = svgfig.Vermillion
 	// darkPurple is the reddish purple of Okabe–Ito (#CC79A7, 2.9:1)
 	// darkened to 4.9:1.
 	darkPurple = color.RGBA{0xa8, 0x4d, 0x86, 0xff}
@@ -72,7 +70,7 @@ var fileStyles = []seriesStyle{
 	{okBluishGreen, draw.RingGlyph{}},
 }
 
-var sansFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
+var sansFont = svgfig.Sans
 
 // Figure size (points) and text sizes. A figure is shown at most 36rem
 // (576 px) wide and scales down with the column; at a phone's column of
@@ -126,48 +124,30 @@ const svgMarker = "<!-- bandwright report figure -->"
 // render draws p as SVG. It returns the <svg> element alone (for inline use);
 // a panic of the plotting library becomes an error, which the section shows.
 func render(p *plot.Plot, w, h vg.Length) (svg []byte, err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			svg, err = nil, fmt.Errorf("the plotting library gave up: %v", r)
+	return svgfig.Render(w, h, func(c draw.Canvas) {
+		// A small margin keeps text inside the figure where a browser's font
+		// runs a little wider than the metrics the layout used.
+		dc := draw.Crop(c, 6, -6, 4, -4)
+		w := w - 12
+		// The legend goes into a strip right of the plot, where it hides no data.
+		leg := p.Legend
+		leg.Left, leg.Top = true, true
+		r := leg.Rectangle(dc)
+		lw := r.Max.X - r.Min.X
+		if lw > 0 && lw < 0.4*w {
+			strip := lw + 12
+			p.Legend = plot.NewLegend()
+			p.Draw(draw.Crop(dc, 0, -strip, 0, 0))
+			top := vg.Length(0)
+			if p.Title.Text != "" {
+				top = p.Title.TextStyle.Rectangle(p.Title.Text).Size().Y + p.Title.Padding + 4
+			}
+			leg.Draw(draw.Crop(dc, w-strip+8, 0, 0, -top))
+			p.Legend = leg
+		} else {
+			p.Draw(dc)
 		}
-	}()
-	c := vgsvg.New(w, h)
-	// A small margin keeps text inside the figure where a browser's font
-	// runs a little wider than the metrics the layout used.
-	dc := draw.Crop(draw.New(c), 6, -6, 4, -4)
-	w -= 12
-	// The legend goes into a strip right of the plot, where it hides no data.
-	leg := p.Legend
-	leg.Left, leg.Top = true, true
-	r := leg.Rectangle(dc)
-	lw := r.Max.X - r.Min.X
-	if lw > 0 && lw < 0.4*w {
-		strip := lw + 12
-		p.Legend = plot.NewLegend()
-		p.Draw(draw.Crop(dc, 0, -strip, 0, 0))
-		top := vg.Length(0)
-		if p.Title.Text != "" {
-			top = p.Title.TextStyle.Rectangle(p.Title.Text).Size().Y + p.Title.Padding + 4
-		}
-		leg.Draw(draw.Crop(dc, w-strip+8, 0, 0, -top))
-		p.Legend = leg
-	} else {
-		p.Draw(dc)
-	}
-	var b bytes.Buffer
-	if _, err := c.WriteTo(&b); err != nil {
-		return nil, err
-	}
-	out := b.Bytes()
-	i := bytes.Index(out, []byte("<svg"))
-	if i < 0 {
-		return nil, errors.New("the SVG canvas wrote no <svg> element")
-	}
-	out = out[i:]
-	// Liberation Sans has the metrics of Arial: name it and the usual
-	// fallbacks so that text keeps its place where Liberation is not installed.
-	out = bytes.ReplaceAll(out, []byte("font-family:Liberation Sans;"), []byte("font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"))
-	return out, nil
+	})
 }
 
 // svgFile is an inline SVG element made into a standalone file.
