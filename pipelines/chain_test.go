@@ -22,6 +22,12 @@ func writeLines(t testing.TB, path string, bands [][2]int, jmax int, seed uint64
 	if comment != "" {
 		ls[3].Comment = comment
 	}
+	saveLines(t, path, ls)
+}
+
+// saveLines writes the line list ls to path.
+func saveLines(t testing.TB, path string, ls []linelist.Line) {
+	t.Helper()
 	f, err := os.Create(path)
 	if err != nil {
 		t.Fatal(err)

@@ -24,16 +24,7 @@ func writeNight(t testing.TB, path string, seed uint64, scale float64) {
 	for i := range ls {
 		ls[i].Position *= 1 + scale
 	}
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := linelist.Write(f, ls, nil); err != nil {
-		t.Fatal(err)
-	}
-	if err := f.Close(); err != nil {
-		t.Fatal(err)
-	}
+	saveLines(t, path, ls)
 }
 
 // TestScaleAgainstRecoversScale: lines computed from constants and scaled by

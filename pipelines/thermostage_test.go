@@ -300,11 +300,7 @@ func TestThermoPureRotationTable(t *testing.T) {
 		mw = append(mw, [4]int{0, j + 1, 0, j})
 	}
 	lines := filepath.Join(dir, "mw.csv")
-	f, _ := os.Create(lines)
-	if err := linelist.Write(f, simLines(t, "12C16O", "mw.csv", co, mw, 0.05, true), nil); err != nil {
-		t.Fatal(err)
-	}
-	f.Close()
+	saveLines(t, lines, simLines(t, "12C16O", "mw.csv", co, mw, 0.05, true))
 	fit := filepath.Join(dir, "fit")
 	if _, err := RunFit(FitOptions{Inputs: []string{lines}, Model: "term-values", Terms: []string{"B", "D"}, Out: fit}); err != nil {
 		t.Fatal(err)
