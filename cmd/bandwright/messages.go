@@ -20,7 +20,7 @@ import (
 // them (TestInternalPackagesListed keeps the list complete).
 var internalPackages = []string{
 	"assign", "browser", "codeshape", "constants", "csvcell", "failure", "fit", "linelist", "lsq", "mdtext", "model",
-	"nightly", "outdir", "parallel", "pipelines", "report", "species", "states", "synth", "textcheck", "typeset",
+	"nightly", "outdir", "parallel", "pipelines", "report", "species", "states", "svgfig", "synth", "textcheck", "typeset",
 	"thermo", "units",
 }
 
