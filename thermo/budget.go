@@ -3,6 +3,7 @@ package thermo
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -80,11 +81,19 @@ type setAlternative struct {
 	h298    float64
 }
 
-// addContribution appends c (or returns the index of the one of that name).
+// addContribution appends c (or returns the index of the one of that name,
+// with the alternatives, methods and rules of c it does not state yet).
 func (bu *budget) addContribution(c Contribution) int {
 	for i, x := range bu.contribs {
 		if x.Name == c.Name {
-			bu.contribs[i].Alternatives = append(bu.contribs[i].Alternatives, c.Alternatives...)
+			x.Alternatives = appendNew(x.Alternatives, c.Alternatives...)
+			if !strings.Contains(x.Method, c.Method) {
+				x.Method += "; " + c.Method
+			}
+			if !strings.Contains(x.Rule, c.Rule) {
+				x.Rule += "; " + c.Rule
+			}
+			bu.contribs[i] = x
 			return i
 		}
 	}
@@ -175,6 +184,16 @@ func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error
 		}
 	}
 	return nil
+}
+
+// appendNew appends the strings of add that list does not hold.
+func appendNew(list []string, add ...string) []string {
+	for _, a := range add {
+		if !slices.Contains(list, a) {
+			list = append(list, a)
+		}
+	}
+	return list
 }
 
 func hasOmegaSigma(states []State) bool {
@@ -302,9 +321,17 @@ func (sys *System) modelRow(T float64, m *moments, f Functions, d *Gradients, sc
 	}
 	out := make([]Functions, len(bu.contribs))
 	beta := units.SecondRadiation / T
+	// The directions of one contribution are independent terms of unknown
+	// sign: combined in quadrature.
+	dirs := make([][]Functions, len(bu.contribs))
 	for k, ci := range bu.dirContrib {
 		j := sys.p + k
-		out[ci] = maxAbs(out[ci], Functions{d.Q[j], d.Cp[j], d.S[j], d.HmH0[j], d.HmH298[j], d.Gef[j]})
+		dirs[ci] = append(dirs[ci], Functions{d.Q[j], d.Cp[j], d.S[j], d.HmH0[j], d.HmH298[j], d.Gef[j]})
+	}
+	for ci, fs := range dirs {
+		if len(fs) > 0 {
+			out[ci] = maxAbs(out[ci], rss(fs...))
+		}
 	}
 	for _, c := range bu.caps {
 		sys.capMoments(beta, c.d0, m, sc.acc)

@@ -61,13 +61,18 @@ type direction struct {
 //     v, c·P_n(v+½; v_max+½), where the record determines the anharmonicity;
 //   - rotation_vibration: the next term of B_v beyond the highest observed v,
 //     c·P_n(v+½; v_max+½)·x (after B_e alone the Pekeris α_e), where the
-//     record determines B_v at two or more levels.
+//     record determines B_v at two or more levels;
+//   - fine_structure_constants: the next term of each fine-structure
+//     constant's v-expansion of a Dunham record beyond the highest observed
+//     v, one direction per constant (fineSeriesDirections).
 //
 // The sizes are orders of magnitude: the series continued geometrically
-// (common practice; see nextTerm).
+// (common practice; see nextTerm). Directions of one contribution are
+// combined in quadrature (modelRow).
 func (sys *System) addDirections() {
 	bu := sys.budget
 	dirs := []direction{sys.rotationalDirection(), sys.vibrationalDirection(), sys.rotVibDirection()}
+	dirs = append(dirs, sys.fineSeriesDirections()...)
 	n := len(sys.e)
 	for _, d := range dirs {
 		if d.phi == nil {

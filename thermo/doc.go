@@ -140,7 +140,15 @@
 //   - fine_structure_constants: for a state whose fine structure the record
 //     resolves, the fine-structure constants of the vibrational levels it
 //     lacks extrapolated linearly in v from the record's levels (one level:
-//     changed by 1 % per quantum) instead of held at the nearest level.
+//     changed by 1 % per quantum) instead of held at the nearest level; for
+//     a Dunham record, which describes every v through the v-expansions X_v
+//     = X_e − α_X (v+½), the next term of each constant's expansion beyond
+//     the observed v at its expected size, α_X²/|X_e| (v+½)² after α_X, or
+//     after X_e alone a slope |X_e|·max(1 %, r·α_e/B_e) per quantum, r the
+//     constant's rotational order (0 for A and λ, 1 for γ and p, 2 for q:
+//     the constant taken to vary with v like B_v^r; our own estimate),
+//     ∂E/∂X·δX per level (Hellmann–Feynman), the constants combined in
+//     quadrature.
 //
 // The next term of a series is estimated from its last two, c_(K+1) ≈
 // c_K²/c_(K−1) (common practice: an order of magnitude), and applied only
@@ -148,6 +156,13 @@
 // part a fit up to y_m cannot absorb); these small perturbations are
 // evaluated to first order through the same analytic derivatives as the
 // statistical σ (Σ_i ∂f/∂E_i·δE_i), the others by recomputing the sum.
+// Several such terms of one contribution (one per fine-structure constant)
+// are independent, of unknown sign, and combined in quadrature. The shape
+// P_n takes the fit to absorb the term's value and slope at y_m; a fit of a
+// few levels leaves some of both (a line through v = 0 … 2 leaves a
+// curvature growing as (v−1)² − ⅔ rather than (v−2)²), so close to the data
+// the entries run low by up to a factor of 3 (measured for the fine-structure
+// constants of NO, thermo/fineseries_test.go): an order of magnitude still.
 // thermo.json names every contribution at every temperature; nasa7.json
 // states, per range, the largest σ_total of Cp, where it stays below 0.1
 // J mol⁻¹ K⁻¹, and where the model part dominates. The numbers are only as
@@ -167,7 +182,9 @@
 // enumerate J upwards while every component still rises with J. The
 // vibrational levels the record lacks are extrapolated as above, their
 // fine-structure constants taken from the nearest level of the record (the
-// budget's fine_structure_constants entry extrapolates them instead). The
+// budget's fine_structure_constants entry extrapolates them instead); a
+// Dunham record with Y20 describes every v, fine-structure constants
+// included, and the entry takes the next term of their v-expansions. The
 // energy zero is the lowest component with non-zero weight (16O2 X³Σg⁻: N = 1,
 // J = 0, F3). Without an electronic-states file the sum takes the record's
 // states (recordStates).

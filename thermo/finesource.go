@@ -23,7 +23,9 @@ import (
 // the nearest record level (nominal) or, as the alternative of the budget
 // (fineAlternative), extrapolated linearly in v from the record's levels
 // (two or more) or changed by fineDriftPerV per vibrational quantum (one).
-// The gradient of a level over the record's values is
+// A Dunham record with Y20 describes every v, its fine-structure constants
+// through their v-expansions; the budget takes the next term of those
+// (fineseries.go). The gradient of a level over the record's values is
 // Σ_q ∂E/∂c_q·∂c_q/∂vals (Hellmann–Feynman).
 type fineLevels struct {
 	lm    model.LevelModel

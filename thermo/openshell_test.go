@@ -110,12 +110,19 @@ func (o openTruth) openLines(t testing.TB, bands [][2]int, j2max int, unc float6
 // returns the record and its constants, as thermo reads them.
 func fitOpenRecord(t testing.TB, lines []linelist.Line, st states.State, terms []string) (*constants.Record, *constants.Set) {
 	t.Helper()
+	return fitOpenModel(t, lines, st, model.KindTermValues, terms)
+}
+
+// fitOpenModel fits the lines with the model of the kind (term values or
+// Dunham) of the state and returns the record and its constants.
+func fitOpenModel(t testing.TB, lines []linelist.Line, st states.State, kind string, terms []string) (*constants.Record, *constants.Set) {
+	t.Helper()
 	list := &linelist.List{Lines: lines}
 	sts := []states.State{st}
 	if err := linelist.CheckStates(list, sts); err != nil {
 		t.Fatal(err)
 	}
-	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: model.KindTermValues, Terms: terms, States: sts})
+	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: terms, States: sts})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -429,10 +436,18 @@ func (o openTruth) truthLevels(t testing.TB, d0 float64) []bruteLevel {
 		}
 		ext.levels[v] = c
 	}
-	m, p := ext.truthModel(t)
+	return ext.allLevels(t, d0)
+}
+
+// allLevels returns every component of every level of the truth up to d0
+// above the lowest, weight 2J+1 (a heteronuclear molecule in the
+// thermochemistry convention).
+func (o openTruth) allLevels(t testing.TB, d0 float64) []bruteLevel {
+	t.Helper()
+	m, p := o.truthModel(t)
 	var out []bruteLevel
 	e0 := math.Inf(1)
-	for v := range ext.levels {
+	for v := range o.levels {
 		m.Sublevels(0, 0, v, 800, p, false, func(l model.Sublevel) {
 			out = append(out, bruteLevel{l.E, float64(l.J2 + 1)})
 			e0 = math.Min(e0, l.E)

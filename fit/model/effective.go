@@ -84,11 +84,52 @@ func EffectiveComponents(st states.State, c *Effective, v, j2 int, fn func(l Sub
 // read) for effective constants c, cm⁻¹, and false when the state has no
 // such level.
 func EffectiveLevel(st states.State, c *Effective, lv Level) (float64, bool) {
+	var dE Effective
+	return EffectiveLevelGradient(st, c, lv, &dE)
+}
+
+// EffectiveLevelGradient is EffectiveLevel that also stores ∂E/∂c_q in dE
+// (Hellmann–Feynman, dE[T] = 1).
+func EffectiveLevelGradient(st states.State, c *Effective, lv Level, dE *Effective) (float64, bool) {
 	var b block
 	if !b.setBlock(st, st.Case(), lv) {
 		return 0, false
 	}
-	var dE [nQ]float64
-	er, _ := b.solve((*[nQ]float64)(c), &dE)
+	er, _ := b.solve((*[nQ]float64)(c), (*[nQ]float64)(dE))
 	return c[qT] + er, true
+}
+
+// VibronicSeries returns the coefficients a_k of the effective constant q
+// (an index of Effective) of state st of species s as a series in v + ½,
+// c_q(v) = Σ_k a_k (v+½)^k (cm⁻¹; for a fine-structure constant X of the
+// Dunham model a_0 = X_e and a_1 = −α_X, mass-scaled to species s), and
+// false for a model whose constants are not such series (term values).
+func VibronicSeries(m LevelModel, s, st, q int, p []float64) ([]float64, bool) {
+	d, ok := m.(*Dunham)
+	if !ok || q < 0 || q >= NumQuantities || s < 0 || s >= len(d.species) || st < 0 || st >= len(d.states) {
+		return nil, false
+	}
+	var out []float64
+	for _, t := range d.contrib[st] {
+		if int(t.q) != q {
+			continue
+		}
+		for len(out) <= t.k {
+			out = append(out, 0)
+		}
+		out[t.k] += t.coef[s] * p[t.param]
+	}
+	return out, true
+}
+
+// RotationalOrder returns the rotational order of the fine-structure
+// constant q (an index of Effective): the power of B its leading
+// contribution carries — 0 for A and λ, 1 for γ, p and the first
+// distortions of A and λ, 2 for q, … (see Dunham's mass scaling) — and -1
+// for a constant that is not a fine-structure constant.
+func RotationalOrder(q int) int {
+	if q < int(fineStart) || q >= NumQuantities {
+		return -1
+	}
+	return rotOrder(quantity(q))
 }

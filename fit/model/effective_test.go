@@ -1,9 +1,13 @@
 package model
 
 import (
+	"math"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/fit/species"
+	"bandwright/fit/states"
 )
 
 // TestEffectiveComponentsMatchSublevels: the levels evaluated from the
@@ -42,6 +46,10 @@ func TestEffectiveComponentsMatchSublevels(t *testing.T) {
 						if !ok || e != l.E {
 							t.Errorf("EffectiveLevel %.12g, components %.12g", e, l.E)
 						}
+						var dE1 Effective
+						if e1, _ := EffectiveLevelGradient(tc.st, &c, l.Level, &dE1); e1 != e || dE1 != *dE {
+							t.Errorf("EffectiveLevelGradient %.12g %v, components %.12g %v", e1, dE1, l.E, *dE)
+						}
 						for j := range p {
 							g := 0.0
 							for q := range dc {
@@ -58,5 +66,63 @@ func TestEffectiveComponentsMatchSublevels(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestVibronicSeries: the series of a Dunham model's effective constants,
+// summed at v + ½, give the constants VibronicConstants gives (NO X²Π with
+// A_e, α_A, γ_e, p_e, q_e, for 14N16O and the mass-scaled 15N16O), with the
+// series of A equal to (A_e, −α_A) for the reference isotopologue; a
+// term-values model has no series. The rotational orders are those of the
+// mass scaling in the package doc.
+func TestVibronicSeries(t *testing.T) {
+	var isos []species.Isotopologue
+	for _, label := range []string{"14N16O", "15N16O"} {
+		iso, err := species.Parse(label)
+		if err != nil {
+			t.Fatal(err)
+		}
+		isos = append(isos, iso)
+	}
+	m, err := NewDunham(isos, DunhamOptions{States: []states.State{stDoubletPi},
+		Terms: []string{"Y10", "Y20", "Y01", "Y11", "Y02", "A_e", "alpha_A", "gamma_e", "p_e", "q_e"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vals := map[string]float64{"Y10": 1904.2, "Y20": -14.075, "Y01": 1.7049, "Y11": -0.01751, "Y02": -5.47e-6,
+		"A_e": 123.25, "alpha_A": 0.227, "gamma_e": -6.2e-3, "p_e": 1.17e-2, "q_e": 7e-5}
+	p := make([]float64, len(m.Params()))
+	for i, par := range m.Params() {
+		p[i] = vals[par.Name]
+	}
+	for s := range isos {
+		for v := 0; v <= 30; v += 5 {
+			c, _ := VibronicConstants(m, s, 0, v, p)
+			for q := range NumQuantities {
+				a, ok := VibronicSeries(m, s, 0, q, p)
+				if !ok {
+					t.Fatalf("no series for %s", QuantityNames()[q])
+				}
+				sum, u := 0.0, float64(v)+0.5
+				for k, x := range a {
+					sum += x * math.Pow(u, float64(k))
+				}
+				if !scalar.EqualWithinAbsOrRel(sum, c[q], 1e-12, 1e-12) {
+					t.Errorf("species %d v=%d %s: series %.12g, constants %.12g", s, v, QuantityNames()[q], sum, c[q])
+				}
+			}
+		}
+	}
+	if a, _ := VibronicSeries(m, 0, 0, QuantityIndex("A"), p); len(a) != 2 || a[0] != 123.25 || a[1] != -0.227 {
+		t.Errorf("series of A: %v, want [123.25 -0.227]", a)
+	}
+	tv, tp := oneLevel(t, stDoubletPi, fineCases[0].vals)
+	if _, ok := VibronicSeries(tv, 0, 0, QuantityIndex("A"), tp); ok {
+		t.Error("a term-values model has a series")
+	}
+	for name, want := range map[string]int{"A": 0, "lambda": 0, "gamma": 1, "p": 1, "A_D": 1, "q": 2, "q_D": 3, "T": -1, "B": -1} {
+		if got := RotationalOrder(QuantityIndex(name)); got != want {
+			t.Errorf("rotational order of %s: %d, want %d", name, got, want)
+		}
 	}
 }
