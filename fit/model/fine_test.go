@@ -335,3 +335,80 @@ func TestHydroxylLambdaDoubling(t *testing.T) {
 		}
 	}
 }
+
+// TestLambdaDoublingSignOfQ checks the sign of q against what it stands for.
+// A ²Σ⁺ or ¹Σ⁺ state has levels of parity (−1)^N only (common practice), so
+// it interacts with the Λ component of a Π state whose parity is (−1)^N, and
+// from above pushes it down; in the trade's convention that makes q
+// negative, q = 2Σ(−1)^s|⟨Π|BL₊|Σ^s⟩|²/(E_Π − E_Σ), s = 0 for Σ⁺ (Brown and
+// Merer, J. Mol. Spectrosc. 74, 488 (1979), from memory) — as for OH X²Π,
+// whose Λ-doubling comes mostly from A²Σ⁺ above it and whose q is −0.0387
+// cm⁻¹ (from memory). So with q < 0 and no spin–orbit coupling (A = γ = p
+// = 0: Hund's case (b), the spin a spectator) the component of parity (−1)^N
+// lies |q|·N(N+1) below the other: in ¹Π the e level of each J (e: parity
+// (−1)^J, Brown et al. 1975), in ²Π the e level of F1 (J = N + ½, e: parity
+// (−1)^(J−½)) and the f level of F2 (J = N − ½). The p operator is tied to
+// q by the next test.
+func TestLambdaDoublingSignOfQ(t *testing.T) {
+	const b, q = 1.5, -0.01
+	for _, c := range []struct {
+		st     states.State
+		j2, f  int
+		n      int
+		lowEnd states.Parity // the parity label of the component of parity (−1)^N
+	}{
+		{stSingletPi, 10, 0, 5, states.ParityE},
+		{stSingletPi, 21 * 2, 0, 21, states.ParityE},
+		{stDoubletPi, 19, 1, 9, states.ParityE},
+		{stDoubletPi, 19, 2, 10, states.ParityF},
+		{stDoubletPi, 41, 1, 20, states.ParityE},
+		{stDoubletPi, 41, 2, 21, states.ParityF},
+	} {
+		var cs Effective
+		cs[qB], cs[qQ] = b, q
+		energy := func(par states.Parity) float64 {
+			e, ok := EffectiveLevel(c.st, &cs, Level{J2: c.j2, F: c.f, Parity: par})
+			if !ok {
+				t.Fatalf("%s J = %s F%d %v: no level", c.st.Term(), states.FormatJ(c.j2), c.f, par)
+			}
+			return e
+		}
+		other := states.ParityF
+		if c.lowEnd == states.ParityF {
+			other = states.ParityE
+		}
+		nn := float64(c.n) * float64(c.n+1)
+		split := energy(c.lowEnd) - energy(other)
+		if !scalar.EqualWithinAbsOrRel(split, q*nn, 1e-12, 1e-9) {
+			t.Errorf("%s J = %s F%d (N = %d): E(%v) − E(%v) = %.6g, want q·N(N+1) = %.6g", c.st.Term(), states.FormatJ(c.j2), c.f, c.n, c.lowEnd, other, split, q*nn)
+		}
+	}
+}
+
+// TestLambdaDoublingPPlusTwoQ ties p to q: in the case-(a) limit the
+// Λ-doubling of the Ω = ½ levels of a ²Π state is (p + 2q)(J + ½) (Mulliken
+// and Christy 1931, with the e/f labels of Brown et al. 1975; common
+// practice), so p and 2q of one sign add: p alone splits them as much as q =
+// p/2 alone, with the same sign of E(e) − E(f). With q's sign fixed by
+// TestLambdaDoublingSignOfQ this fixes p's. In this model E(e) − E(f) =
+// −(p + 2q)(J + ½) (package doc): with p + 2q > 0, as for NO and OH, the e
+// level of ²Π½ J = ½ is the lower.
+func TestLambdaDoublingPPlusTwoQ(t *testing.T) {
+	// Case (a): A/B = 10⁵, so that the Ω-mixing of the rotation, of order
+	// B(J+½)²/A, stays below 2·10⁻³ of the splitting; first order in p, q.
+	const b, a, x = 0.001, 100.0, 1e-4
+	for _, j2 := range []int{1, 3, 9, 21} {
+		split := func(p, q float64) float64 {
+			var cs Effective
+			cs[qB], cs[qA], cs[qP], cs[qQ] = b, a, p, q
+			e, _ := EffectiveLevel(stDoubletPi, &cs, Level{J2: j2, F: 1, Parity: states.ParityE})
+			f, _ := EffectiveLevel(stDoubletPi, &cs, Level{J2: j2, F: 1, Parity: states.ParityF})
+			return e - f
+		}
+		want := -x * (float64(j2)/2 + 0.5)
+		sp, sq := split(x, 0), split(0, x/2)
+		if !scalar.EqualWithinRel(sp, want, 5e-3) || !scalar.EqualWithinRel(sq, want, 5e-3) {
+			t.Errorf("Ω = ½, J = %s: E(e) − E(f) = %.6g with p alone, %.6g with q = p/2 alone; want −(p + 2q)(J + ½) = %.6g", states.FormatJ(j2), sp, sq, want)
+		}
+	}
+}

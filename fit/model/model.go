@@ -67,6 +67,17 @@
 // (with OH X²Π v = 0, p ≈ +0.235 and q ≈ −0.039 cm⁻¹, the Λ-doubling of ²Π3/2 J =
 // 3/2 comes out near the known 1666 MHz; see the tests).
 //
+// The signs were derived from these phases and checked against what q stands
+// for: q = 2Σ(−1)^s|⟨Π|BL₊|Σ^s⟩|²/(E_Π − E_Σ) (Brown and Merer 1979; s = 0 for
+// Σ⁺), so a Σ⁺ state above — whose levels have parity (−1)^N and push down the Λ
+// component of that parity — makes q negative, as OH's A²Σ⁺ does. In case (b)
+// (A = γ = p = 0) the model puts the component of parity (−1)^N — e in ¹Π and
+// in F1 of ²Π, f in F2 — q·N(N+1) below the other, as it must; and p enters the
+// case-(a) Ω = ½ splitting as p + 2q (Mulliken and Christy 1931), which ties its
+// sign to q's. The model also puts the f level above the e level in OH ²Π3/2 J =
+// 3/2 and NO ²Π½ J = ½, as we recall the state-selection literature to have it
+// (from memory, not certain enough for a test).
+//
 // The matrices of each case (x = J(J+1) unless noted; s = +1 for e, −1 for f):
 //
 //	¹Σ, ²Σ   1×1; in ²Σ N = J ∓ ½ for F1/F2 and N·S = ½[J(J+1) − N(N+1) − ¾]
