@@ -168,7 +168,7 @@ func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error
 			What:         "the fine-structure constants (A, γ, λ, p, q, …) of the vibrational levels the data do not reach",
 			Alternatives: []string{"extrapolated in v instead of held at the nearest observed level"},
 			Method:       methodRecomputed,
-			Rule: fmt.Sprintf("nominal: the constants of the nearest vibrational level of the record; alternative: the least-squares line in v through the record's levels (two or more), else the nearest level's constants changed by %g %% per vibrational quantum (the spin–orbit constants of NO and OH change by about 0.2 %% per quantum; Huber & Herzberg 1979, from memory)",
+			Rule: fmt.Sprintf("nominal: the constants of the nearest vibrational level of the record; alternative: the least-squares line in v through the record's levels (two or more), else the nearest level's constants changed by max(%g %%, r·α_e/B_e) per vibrational quantum, r the constant's rotational order (0 for A and λ, 1 for γ and p, 2 for q; the constant taken to vary with v like B_v^r: our own estimate; the spin–orbit constants of NO and OH change by about 0.2 %% per quantum; Huber & Herzberg 1979, from memory)",
 				100*fineDriftPerV)},
 			[]buildOptions{{xe: xePriorCentre, alphaScale: 1, fineAlternative: true}}})
 	}

@@ -140,7 +140,8 @@
 //   - fine_structure_constants: for a state whose fine structure the record
 //     resolves, the fine-structure constants of the vibrational levels it
 //     lacks extrapolated linearly in v from the record's levels (one level:
-//     changed by 1 % per quantum) instead of held at the nearest level; for
+//     changed by max(1 %, r·α_e/B_e) per quantum, r as below) instead of
+//     held at the nearest level; for
 //     a Dunham record, which describes every v through the v-expansions X_v
 //     = X_e − α_X (v+½), the next term of each constant's expansion beyond
 //     the observed v at its expected size, α_X²/|X_e| (v+½)² after α_X, or

@@ -64,11 +64,22 @@ func fineSeriesSizes(m *manifold, q int) fineSeriesSize {
 	if last != 0 {
 		return fineSeriesSize{}
 	}
+	return fineSeriesSize{math.Abs(a[0]) * fineRatePerV(src.vib, q), 1}
+}
+
+// fineRatePerV is the relative change per vibrational quantum taken for
+// fine-structure constant q where the data give it at one vibrational level
+// only: max(fineDriftPerV, r·|α_e/B_e|), r its rotational order
+// (model.RotationalOrder), α_e/B_e from the vibrational structure vib (the
+// record's B_v, or the Pekeris α_e after one level). Our own estimate: the
+// constant taken to vary with v like B_v^r (as its mass scaling does), and by
+// at least fineDriftPerV.
+func fineRatePerV(vib vibStructure, q int) float64 {
 	rate := fineDriftPerV
-	if b := src.vib.b; len(b) >= 2 && b[0] > 0 {
+	if b := vib.b; len(b) >= 2 && b[0] > 0 {
 		rate = math.Max(rate, float64(model.RotationalOrder(q))*math.Abs(b[1]/b[0]))
 	}
-	return fineSeriesSize{math.Abs(a[0]) * rate, 1}
+	return rate
 }
 
 // fineSeriesContribution is the budget entry of the directions.

@@ -22,7 +22,7 @@ import (
 // means over the record's levels, and the fine-structure constants those of
 // the nearest record level (nominal) or, as the alternative of the budget
 // (fineAlternative), extrapolated linearly in v from the record's levels
-// (two or more) or changed by fineDriftPerV per vibrational quantum (one).
+// (two or more) or changed by fineRatePerV per vibrational quantum (one).
 // A Dunham record with Y20 describes every v, its fine-structure constants
 // through their v-expansions; the budget takes the next term of those
 // (fineseries.go). The gradient of a level over the record's values is
@@ -37,11 +37,11 @@ type fineLevels struct {
 	eff [][]linForm
 }
 
-// fineDriftPerV is the relative change per vibrational quantum of the
-// fine-structure constants of the alternative of the budget where a record
-// has a single vibrational level: the spin–orbit constants of NO and OH change
-// by about 0.2 % per quantum and the spin–spin constant of O2 by less than
-// 1 % (Huber & Herzberg 1979, from memory); 1 % covers them.
+// fineDriftPerV is the least relative change per vibrational quantum of the
+// fine-structure constants the budget assumes where the data give them at a
+// single vibrational level (fineRatePerV): the spin–orbit constants of NO and
+// OH change by about 0.2 % per quantum and the spin–spin constant of O2 by
+// less than 1 % (Huber & Herzberg 1979, from memory); 1 % covers them.
 const fineDriftPerV = 0.01
 
 // Indices of the effective constants.
@@ -214,7 +214,7 @@ func (f *fineLevels) extendFine(s *levelSource) {
 // level v with anchor record level index a: the anchor's value, or with the
 // build's fineAlternative, the linear extrapolation from the record's levels
 // (least squares in v, two or more levels) or the anchor's value changed by
-// fineDriftPerV·|v − v_a|, in the direction away from zero.
+// fineRatePerV·|v − v_a|, in the direction away from zero.
 func (f *fineLevels) fineExtrapolated(s *levelSource, q, v, a int) linForm {
 	va := s.recV[a]
 	base := f.recordEffective(s.c, s.sp, va)[q]
@@ -232,7 +232,7 @@ func (f *fineLevels) fineExtrapolated(s *levelSource, q, v, a int) linForm {
 			return coef[0].plus(u, coef[1])
 		}
 	}
-	return base.plus(fineDriftPerV*math.Abs(float64(v-va)), base)
+	return base.plus(fineRatePerV(s.vib, q)*math.Abs(float64(v-va)), base)
 }
 
 // constantsAt returns the effective constants of level v at the record's
