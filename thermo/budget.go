@@ -52,6 +52,7 @@ const (
 	methodRecomputed = "the level sum recomputed with the alternative (exact)"
 	methodFirstOrder = "first order in the perturbation: Δf = Σ_i ∂f/∂E_i·δE_i over the levels of the sum, through the same analytic derivatives as the statistical σ"
 	methodLimit      = "the level sum recomputed with the alternative limit (levels added above or removed below the nominal limit)"
+	methodHarmonic   = "the harmonic-oscillator vibrational factor q_v = 1/(1 − e^(−x)), x = c₂ω/T, multiplied into every level of the sum (closed form: ΔCp = R x²eˣ/(eˣ−1)², Δ[H°−H°(0)] = RTx/(eˣ−1), ΔS = R[x/(eˣ−1) − ln(1 − e^(−x))], H°(298.15 K) with it)"
 	methodFine       = "the levels of each open-shell state split into its spin components (one component W(n−1)/n below the level, n−1 components W/n above, n = 2S+1), energies measured from the new lowest level"
 )
 
@@ -64,6 +65,46 @@ type budget struct {
 	sets       []setAlternative
 	fine       *fineStructure
 	fineIdx    int
+	harmonic   *harmonicBound
+}
+
+// harmonicBound is the alternative of a record without vibrational
+// structure (a single level, no ω_e): harmonic vibrational levels at the
+// lower bound omega (cm⁻¹) of ω_e, contribution contrib.
+type harmonicBound struct {
+	contrib int
+	omega   float64
+}
+
+// delta returns the change of the functions f at T (K) when every level of
+// the sum gains the harmonic vibrational factor q_v = 1/(1 − e^(−x)),
+// x = c₂ω/T (common practice):
+//
+//	ΔQ = Q e^(−x)/(1 − e^(−x)),  ΔCp = R x² eˣ/(eˣ−1)²,
+//	Δ[H°−H°(0)] = R T x/(eˣ−1),  ΔS = R [x/(eˣ−1) − ln(1 − e^(−x))],
+//
+// and, with the same term at 298.15 K, Δ[H°−H°(298.15 K)] and Δgef. Every
+// one grows as ω falls, so the bound at the lowest ω_e the data allow is the
+// largest change the unknown vibrational levels can make (J mol⁻¹ K⁻¹,
+// kJ mol⁻¹).
+func (hb *harmonicBound) delta(T float64, f Functions) Functions {
+	r := units.GasConstant
+	hvib := func(T float64) float64 {
+		x := units.SecondRadiation * hb.omega / T
+		return r * T * x / math.Expm1(x) / 1000
+	}
+	x := units.SecondRadiation * hb.omega / T
+	em := math.Expm1(x)
+	n := 1 / em // mean vibrational quantum number, e^(−x)/(1 − e^(−x))
+	d := Functions{
+		Q:    f.Q * n,
+		Cp:   r * x * x * (em + 1) / (em * em),
+		S:    r * (x*n - math.Log1p(-math.Exp(-x))),
+		HmH0: hvib(T),
+	}
+	d.HmH298 = d.HmH0 - hvib(ReferenceTemperature)
+	d.Gef = d.S - d.HmH298*1000/T
+	return d
 }
 
 // capAlternative is a dissociation limit D0 = d0 (cm⁻¹) of contribution
@@ -110,6 +151,7 @@ func (sys *System) buildBudget(p Problem, s Settings, tMax float64) error {
 	if err := sys.addSetAlternatives(p, s, tMax); err != nil {
 		return err
 	}
+	sys.addHarmonicBound()
 	sys.addCapAlternatives()
 	sys.addDirections()
 	sys.addFineStructure()
@@ -184,6 +226,26 @@ func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error
 		}
 	}
 	return nil
+}
+
+// addHarmonicBound adds, for a record without vibrational structure (a single
+// vibrational level and no ω_e), the harmonic vibrational levels at the lower
+// bound of ω_e that sets the temperature limit of the table (see
+// vibThresholdCp). Below that limit they add up to 0.01 J mol⁻¹ K⁻¹ to Cp°,
+// and more to H°(298.15 K), the reference of H°(T) − H°(298.15 K) and gef at
+// every temperature; the nominal sum (v = 0 alone) says nothing of them.
+func (sys *System) addHarmonicBound() {
+	th := sys.vibrationThreshold()
+	if math.IsInf(th.T, 1) {
+		return
+	}
+	bu := sys.budget
+	ci := bu.addContribution(Contribution{Name: ContribVibrational,
+		What:         "the vibrational levels of a record with a single vibrational level and no omega_e (the data say nothing of them)",
+		Alternatives: []string{fmt.Sprintf("harmonic vibrational levels at ω_e = %.4g cm-1, the lower bound of ω_e", th.omega)},
+		Method:       methodHarmonic,
+		Rule:         fmt.Sprintf("every function changes the same way as ω_e falls, so the lowest ω_e the data allow bounds the change; the bound: %s (the lowest over the records without vibrational structure, applied to every level of the sum)", th.why)})
+	bu.harmonic = &harmonicBound{contrib: ci, omega: th.omega}
 }
 
 // appendNew appends the strings of add that list does not hold.
@@ -344,6 +406,9 @@ func (sys *System) modelRow(T float64, m *moments, f Functions, d *Gradients, sc
 	if bu.fine != nil {
 		sys.fineMoments(beta, bu.fine, sc.acc, sc.state)
 		out[bu.fineIdx] = maxAbs(out[bu.fineIdx], diffFunctions(sys.functions(T, sc.acc, bu.fine.h298), f))
+	}
+	if bu.harmonic != nil {
+		out[bu.harmonic.contrib] = maxAbs(out[bu.harmonic.contrib], bu.harmonic.delta(T, f))
 	}
 	return out
 }

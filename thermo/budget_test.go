@@ -219,9 +219,18 @@ func TestBudgetPureRotation(t *testing.T) {
 		// Below the threshold (about 180 K for CO: ω_e ≥ 1436 cm-1 from the
 		// Kratzer bound) the table comes out; the NASA-7 fit, whose range goes
 		// above it, is left out and says why.
-		low, err := Compute(p, Settings{Temperatures: []float64{50, 100}})
+		low, err := Compute(p, Settings{Temperatures: []float64{50, 100, 170}})
 		if err != nil || low.NASA != nil || !strings.Contains(low.NASAOmitted, "vibrational levels are unknown") {
 			t.Fatalf("%s below the threshold: %v, NASA %v, %q", c.label, err, low.NASA, low.NASAOmitted)
+		}
+		// Below it too the unknown vibrational levels are in the budget: up
+		// to 0.01 J mol⁻¹ K⁻¹ in Cp° near the threshold, and in H°(298.15 K),
+		// the reference of H°(T) − H°(298.15 K) and gef at every temperature
+		// (before, the sum of v = 0 alone gave gef of CO at 100 K 0.009
+		// J mol⁻¹ K⁻¹ low with σ_total 3e-5).
+		checkCoverage(t, "pure rotation, no ω_e", c, low, []float64{50, 100, 170})
+		if !hasContribution(low, ContribVibrational) {
+			t.Errorf("%s below the threshold: budget %v", c.label, names(low.Budget))
 		}
 		// A default table nobody asked for temperature by temperature
 		// (OmitRefused): the temperatures above the threshold are left out
