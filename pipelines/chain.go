@@ -13,6 +13,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit"
 	"bandwright/fit/linelist"
+	"bandwright/fit/states"
 	"bandwright/internal/failure"
 	"bandwright/pipelines/outdir"
 	"bandwright/pipelines/report"
@@ -260,12 +261,26 @@ func (c *chainRun) fit() error {
 
 // modelOpen reports whether the pipeline leaves the model to be chosen
 // automatically (no pipeline file, or a [fit] section without model and terms).
+// The automatic choice compares closed-shell models only: an
+// electronic-states file turns it off unless it describes a single ¹Σ state
+// (a file given for D0 or ω_e of a closed-shell molecule).
 func (c *chainRun) modelOpen() bool {
 	f := c.p.Fit
-	if c.p.States != "" {
-		return false // the automatic choice compares closed-shell models only
+	if c.p.States != "" && !singleSingletSigma(c.p.States) {
+		return false
 	}
 	return c.auto || f == nil || (f.Model == "" && len(f.Terms) == 0)
+}
+
+// singleSingletSigma reports whether the electronic-states file at path
+// holds one state, a ¹Σ state. A file that cannot be read gives false: the
+// fit stage reads it again and names the problem.
+func singleSingletSigma(path string) bool {
+	sf, err := LoadStates(path)
+	if err != nil || sf == nil || len(sf.States) != 1 {
+		return false
+	}
+	return sf.States[0].Case() == states.Singlet
 }
 
 // chooseModel chooses the model and terms of fo from the lines (see

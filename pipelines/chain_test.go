@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -12,6 +13,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/fit/linelist"
+	"bandwright/fit/model"
 	"bandwright/internal/failure"
 )
 
@@ -192,4 +194,37 @@ func TestRunNightlyChain(t *testing.T) {
 	if err != nil || rep.Processed != 0 {
 		t.Errorf("second run: processed %d, err %v; want nothing to do", rep.Processed, err)
 	}
+}
+
+// TestRunChainClosedShellStatesChoosesModel: an electronic-states file that
+// describes a single ¹Σ state (given for its D0 or ω_e, as the thermo stage
+// asks of a microwave record) leaves the lines closed-shell, so the model is
+// still chosen automatically. Before, any states file turned the choice off
+// and the default Dunham terms failed on a single band (exit 2: "the data
+// cannot determine Y20"). The band origin checks against the Huber & Herzberg
+// (1979) constants of coLines (from memory): ν0 = G(1) − G(0).
+func TestRunChainClosedShellStatesChoosesModel(t *testing.T) {
+	dir := t.TempDir()
+	in := filepath.Join(dir, "co.csv")
+	writeLines(t, in, [][2]int{{1, 0}}, 20, 5, "")
+	st := filepath.Join(dir, "co.toml")
+	os.WriteFile(st, []byte("species = \"12C16O\"\ndissociation_energy = 89460.0\n[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"+\"\n"), 0o644)
+	oc, err := RunChain(ChainOptions{Inputs: []string{in}, States: st, Out: filepath.Join(dir, "out")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if oc.Fit.Record.Model != model.KindTermValues || len(oc.Chosen) == 0 || !strings.Contains(oc.Chosen[0], "chosen automatically") {
+		t.Fatalf("model %s, chosen %v", oc.Fit.Record.Model, oc.Chosen)
+	}
+	g := func(v float64) float64 { u := v + 0.5; return 2169.81358*u - 13.28831*u*u + 0.010511*u*u*u }
+	nu0 := g(1) - g(0)
+	for _, p := range oc.Fit.Record.Parameters {
+		if p.Name == "T" && p.V != nil && *p.V == 1 {
+			if math.Abs(p.Value-nu0) > 4*p.Sigma {
+				t.Errorf("T_v1 = %.6f(%.6f), Huber & Herzberg ν0 %.6f", p.Value, p.Sigma, nu0)
+			}
+			return
+		}
+	}
+	t.Errorf("no T_v1 in %+v", oc.Fit.Record.Parameters)
 }
