@@ -380,7 +380,9 @@ func (sys *System) shareWarnings(rows []Row) []string {
 		out = append(out, "dissociation: "+d.Note)
 	}
 	for i, st := range sys.states {
-		if st.TermEnergy > 0 && st.Constants == nil {
+		// A state of the ground record that the record describes has its
+		// term value in its energies (stateTerm 0): it is not shifted.
+		if st.TermEnergy > 0 && st.Constants == nil && sys.stateTerm[i] != 0 {
 			out = append(out, fmt.Sprintf("state %s has no constants of its own: its levels are the ground-state levels shifted by %g cm-1 (an approximation)", sys.states[i].Label, st.TermEnergy))
 		}
 	}

@@ -11,10 +11,13 @@ import (
 
 // A record with a single vibrational level and no ω_e leaves the vibrational
 // levels unknown. The table is refused at the temperatures where they could
-// add more than vibThresholdCp to Cp°: the harmonic contribution
-// R x²eˣ/(eˣ−1)², x = c₂ω/T, at a safe lower bound of ω_e, the Kratzer
-// estimate ω_e ≈ √(4B³/D) (common practice; D + 3σ_D for D) divided by
-// kratzerFactor, or omegaFloor when D is not determined.
+// add more than vibThresholdCp to Cp°: the rise of Cp° when every level of
+// the states the record describes gets a harmonic ladder E + vω (v ≥ 1),
+// ω a safe lower bound of ω_e, the Kratzer estimate ω_e ≈ √(4B³/D) (common
+// practice; D + 3σ_D for D) divided by kratzerFactor, or omegaFloor when D is
+// not determined. For the ground state alone that rise is the harmonic
+// R x²eˣ/(eˣ−1)², x = c₂ω/T; an excited state's ladder counts with the
+// population of the state, so its term energy holds the limit up.
 const (
 	vibThresholdCp = 0.01 // J mol⁻¹ K⁻¹
 	kratzerFactor  = 1.5
@@ -42,15 +45,75 @@ func (sys *System) vibrationThreshold() vibThreshold {
 		if src.vib.determined {
 			continue
 		}
+		on := make([]bool, len(sys.states))
+		var labels []string
+		for s := range sys.states {
+			if sys.stateMan[s] == mi {
+				on[s] = true
+				labels = append(labels, sys.states[s].Label)
+			}
+		}
 		w, how := sys.omegaLowerBound(mi)
-		T := units.SecondRadiation * w / harmonicCpX(vibThresholdCp/units.GasConstant)
+		T := sys.ladderThreshold(w, on)
 		if T < out.T {
 			label := src.c.Model.Species()[src.sp]
-			out = vibThreshold{T: T, omega: w, why: fmt.Sprintf("%s: the record has a single vibrational level (v = %s) and the electronic-states file gives no omega_e, so the vibrational levels are unknown; above %.4g K they could add more than %g J mol-1 K-1 to Cp° (harmonic, ω_e ≥ %.4g cm-1: %s)",
-				label, compressInts(src.recV), T, vibThresholdCp, w, how)}
+			out = vibThreshold{T: T, omega: w, why: fmt.Sprintf("%s, state %s: the record has a single vibrational level (v = %s) and the electronic-states file gives no omega_e, so the vibrational levels are unknown; above %.4g K they could add more than %g J mol-1 K-1 to Cp° (harmonic, ω_e ≥ %.4g cm-1: %s)",
+				label, strings.Join(labels, ", "), compressInts(src.recV), T, vibThresholdCp, w, how)}
 		}
 	}
 	return out
+}
+
+// ladderThreshold returns the lowest temperature (MinTemperature … MaxTemperature; +Inf
+// when none) at which the ladder of ω on the levels of the states marked in
+// on adds vibThresholdCp to Cp°: the first crossing on a grid of ratio 1.02,
+// refined by bisection.
+func (sys *System) ladderThreshold(omega float64, on []bool) float64 {
+	rise := func(T float64) float64 {
+		return units.GasConstant*sys.ladderCp(units.SecondRadiation/T, omega, on) - vibThresholdCp
+	}
+	lo := MinTemperature
+	if rise(lo) > 0 {
+		return lo
+	}
+	for hi := lo * 1.02; lo < MaxTemperature; lo, hi = hi, hi*1.02 {
+		hi = math.Min(hi, MaxTemperature)
+		if rise(hi) <= 0 {
+			continue
+		}
+		for i := 0; i < 60 && hi-lo > 1e-9*hi; i++ {
+			if mid := (lo + hi) / 2; rise(mid) > 0 {
+				hi = mid
+			} else {
+				lo = mid
+			}
+		}
+		return hi
+	}
+	return math.Inf(1)
+}
+
+// ladderCp returns the rise of Cp°/R at β = c₂/T when every level i of the
+// states marked in on gets the levels E_i + vω, v ≥ 1, of its weight. With
+// y = e^(−βω) the ladder's sums are Σ y^v = y/(1−y), Σ v y^v = y/(1−y)² and
+// Σ v² y^v = y(1+y)/(1−y)³, and Cp°/R = β²(⟨E²⟩ − ⟨E⟩²) before and after.
+func (sys *System) ladderCp(beta, omega float64, on []bool) float64 {
+	y := math.Exp(-beta * omega)
+	z0, z1, z2 := y/(1-y), y/((1-y)*(1-y)), y*(1+y)/((1-y)*(1-y)*(1-y))
+	var a0, a1, a2, b0, b1, b2 float64
+	for i, e := range sys.e[:sys.cut(beta)] {
+		t := sys.w[i] * math.Exp(-beta*e)
+		a0 += t
+		a1 += t * e
+		a2 += t * e * e
+		if on[sys.st[i]] {
+			b0 += t * z0
+			b1 += t * (e*z0 + omega*z1)
+			b2 += t * (e*e*z0 + 2*e*omega*z1 + omega*omega*z2)
+		}
+	}
+	variance := func(q, m1, m2 float64) float64 { return m2/q - (m1/q)*(m1/q) }
+	return beta * beta * (variance(a0+b0, a1+b1, a2+b2) - variance(a0, a1, a2))
 }
 
 // omegaLowerBound returns the safe lower bound of ω_e of manifold mi (see
@@ -75,26 +138,6 @@ func (sys *System) omegaLowerBound(mi int) (float64, string) {
 	}
 	w := math.Sqrt(4*b*b*b/(d+3*sd)) / kratzerFactor
 	return math.Max(w, omegaFloor), fmt.Sprintf("the Kratzer estimate √(4B³/(D + 3σ_D)) with B = %.8g, D = %s cm-1, divided by %g", b, constants.FormatParen(d, sd), kratzerFactor)
-}
-
-// harmonicCpX returns the x = c₂ω/T at which the harmonic oscillator's
-// Cp/R = x²eˣ/(eˣ−1)² equals y (0 < y < 1), by bisection (Cp/R falls as x
-// grows).
-func harmonicCpX(y float64) float64 {
-	cp := func(x float64) float64 {
-		e := math.Exp(-x)
-		return x * x * e / ((1 - e) * (1 - e))
-	}
-	lo, hi := 1e-6, 200.0
-	for i := 0; i < 200; i++ {
-		mid := (lo + hi) / 2
-		if cp(mid) > y {
-			lo = mid
-		} else {
-			hi = mid
-		}
-	}
-	return (lo + hi) / 2
 }
 
 // split returns the temperatures at or below the threshold and those above.

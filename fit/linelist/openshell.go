@@ -131,7 +131,10 @@ func (f *file) openShell(rec []string, row int, l *Line, j2 [2]int, jok bool) {
 		f.c.add(row, "J_lo", "J_up = %s and J_lo = %s: both must be integers or both half-integers", states.FormatJ(j2[0]), states.FormatJ(j2[1]))
 	case dj < -1 || dj > 1:
 		f.c.add(row, "J_up", "J_up - J_lo = %+d is outside the selection rules of open-shell and electronic spectra (ΔJ = 0, ±1)", dj)
-	case o.Up == o.Lo && l.VUp == l.VLo && dj == 0:
+	case o.Up == o.Lo && o.Up.Parity != states.NoParity && l.VUp == l.VLo && dj == 0:
+		// Without parity labels the levels may still differ once the labels
+		// are completed (a Λ-doubling line given by J alone): CheckStates
+		// decides, or asks for the labels.
 		f.c.add(row, "v_up", "upper level equals the lower level: a zero-frequency transition")
 	}
 }

@@ -103,6 +103,10 @@ func TestOpenShellRefusals(t *testing.T) {
 		{"ΔJ of 2", noStates, "14N16O,1,4.5,0,2.5,1883.1,0.001,cm-1,,,1,1,e,e,,", "x.csv:2: J_up: J_up - J_lo = +2 is outside the selection rules of open-shell and electronic spectra"},
 		{"bad parity", noStates, "14N16O,1,3.5,0,2.5,1883.1,0.001,cm-1,,,1,1,g,e,,", `x.csv:2: parity_up: "g" is not a parity label`},
 		{"ground state 2Pi, closed-shell line", noStates, "", "x.csv:2: F_up: a level of X ²Π needs F (1 or 2)"},
+		// The Λ-doubling line of OH X²Π3/2 J = 3/2 near 1666 MHz (from memory), its e/f
+		// labels left out: the levels differ in parity, so it is not a zero-frequency line.
+		{"2Pi Λ-doubling line without labels", noStates, "16O1H,0,1.5,0,1.5,1666.4,0.05,MHz,,,,,,,,", "x.csv:2: F_up: a level of X ²Π needs F (1 or 2)"},
+		{"the same level twice", noStates, "14N16O,0,1.5,0,1.5,0.1,0.001,cm-1,,,1,1,e,e,,", "x.csv:2: v_up: upper level equals the lower level: a zero-frequency transition"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
