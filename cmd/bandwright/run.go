@@ -100,7 +100,7 @@ func printChain(c *cli.Context, oc *pipelines.ChainOutcome) {
 	st := oc.Fit.Result.Stats
 	fmt.Fprintf(c.App.Writer, "fit: %s model, %d lines (%d used, %d rejected), s = %.3g, rms %.3g %s\n", oc.Fit.Record.Model, st.Lines, st.Used, st.Rejected, st.Sigma, oc.Fit.Record.RMS(), oc.Fit.Record.ShownIn())
 	tr := oc.Thermo.Result
-	fmt.Fprintf(c.App.Writer, "thermo: %d temperatures\n", len(tr.Rows))
+	fmt.Fprintln(c.App.Writer, thermoSummary(tr))
 	if tr.OmittedNote != "" {
 		fmt.Fprintln(c.App.ErrWriter, "warning: thermo:", tr.OmittedNote)
 	}

@@ -67,8 +67,7 @@ func thermoCommand() *cli.Command {
 				return err
 			}
 			r := oc.Result
-			fmt.Fprintf(c.App.Writer, "thermo: %s, %d temperatures, %d levels; %s; %s\n", r.Conventions.Species, len(r.Rows), r.System.NumLevels(),
-				r.Conventions.PressureLabel, r.Conventions.NuclearSpin)
+			fmt.Fprintln(c.App.Writer, thermoSummary(r))
 			for _, w := range r.Warnings {
 				fmt.Fprintln(c.App.ErrWriter, "warning:", w)
 			}
@@ -79,3 +78,18 @@ func thermoCommand() *cli.Command {
 }
 
 // parseLimits reads LOW:HIGH (K).
+
+// thermoSummary is the line that thermo and run print for a table: the
+// isotopologue it is for (a fit of several gives the table of one), the
+// temperatures, the levels summed and the conventions.
+func thermoSummary(r *thermo.Result) string {
+	temps := "no temperatures"
+	switch n := len(r.Rows); {
+	case n == 1:
+		temps = fmt.Sprintf("1 temperature (%g K)", r.Rows[0].T)
+	case n > 1:
+		temps = fmt.Sprintf("%d temperatures (%g–%g K)", n, r.Rows[0].T, r.Rows[n-1].T)
+	}
+	return fmt.Sprintf("thermo: %s, %s, %d levels; %s; %s", r.Conventions.Species, temps, r.System.NumLevels(),
+		r.Conventions.PressureLabel, r.Conventions.NuclearSpin)
+}
