@@ -98,6 +98,6 @@ func birgeSponerLimit(vib vibStructure) Dissociation {
 	}
 	lbs := w*w/(4*wx) - (w/2 - wx/4)
 	return Dissociation{D0: birgeSponerRatio * lbs, Sigma: birgeSponerSpread * lbs, BirgeSponer: lbs,
-		Note: fmt.Sprintf("no D0 given: estimated as %.2f × the linear Birge–Sponer D0 = ω_e²/(4ω_e x_e) − G(0) = %.6g cm-1 (ω_e = %.6g cm-1, %s), σ = %.2f × it (the ratio D0/D0(LBS) over the ground states of H2, HF, HCl, CO, N2, O2, Cl2 and I2, Huber & Herzberg 1979, from memory); give dissociation_energy in an electronic-states file to replace it",
-			birgeSponerRatio, lbs, w, how, birgeSponerSpread)}
+		Note: fmt.Sprintf("no D0 given: estimated as D0 = %.2f × D0(LBS) = %.6g cm-1 with σ = %.2f × D0(LBS) = %.4g cm-1, D0(LBS) = ω_e²/(4ω_e x_e) − G(0) = %.6g cm-1 the linear Birge–Sponer value (ω_e = %.6g cm-1, %s); the factors are the ratio D0/D0(LBS) over the ground states of H2, HF, HCl, CO, N2, O2, Cl2 and I2 (Huber & Herzberg 1979, from memory); give dissociation_energy in an electronic-states file to replace it",
+			birgeSponerRatio, birgeSponerRatio*lbs, birgeSponerSpread, birgeSponerSpread*lbs, lbs, w, how)}
 }

@@ -2,6 +2,7 @@ package thermo
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -230,6 +231,15 @@ func TestDissociationLimit(t *testing.T) {
 	}
 	if !strings.Contains(free.States[0].VTruncation+free.States[0].JTruncation, "estimated dissociation energy") {
 		t.Errorf("truncation does not name the estimate: %q / %q", free.States[0].VTruncation, free.States[0].JTruncation)
+	}
+	// The enumeration runs to the budget's highest limit (D0 + σ); the
+	// vibrational ladder of the nominal sum ends at the nominal estimate, and
+	// says so with the first v it leaves out.
+	if s := free.States[0]; !strings.Contains(s.VTruncation, fmt.Sprintf("estimated dissociation energy D0 = %.6g cm-1 (Birge–Sponer): no level of v ≥ %d lies below it", est.D0, s.VMax+1)) {
+		t.Errorf("the vibrational ladder of v 0–%d ends at the estimated D0 = %.6g, but its note says %q", s.VMax, est.D0, s.VTruncation)
+	}
+	if !strings.Contains(est.Note, fmt.Sprintf("D0 = 0.86 × D0(LBS) = %.6g cm-1", est.D0)) {
+		t.Errorf("the note does not give the estimate it uses (%.6g): %q", est.D0, est.Note)
 	}
 }
 

@@ -152,6 +152,12 @@ func (b *levelSum) stateSummary(i int) StateLevels {
 			sl.Extrapolated++
 		}
 	}
+	if top := maxInt32(m.v); sl.Levels > 0 && int(top) > sl.VMax {
+		// The enumeration reaches the highest limit of the uncertainty
+		// budget's alternatives; the nominal sum ends lower, at its limit.
+		sl.VTruncation = fmt.Sprintf("%s: no level of v ≥ %d lies below it (the uncertainty budget's alternatives reach v = %d: %s)",
+			sys.dissociation.reason(), sl.VMax+1, top, m.vReason)
+	}
 	if sl.Levels > 0 {
 		sl.VMin = minV
 		for _, l := range b.levels {
@@ -208,4 +214,13 @@ func (z ZeroPoint) Describe() string {
 		f = fmt.Sprintf(", F%d", z.F)
 	}
 	return fmt.Sprintf("v=%d, N=%d, J=%s%s%s", z.V, z.N, j, f, z.Parity)
+}
+
+// maxInt32 returns the largest element of xs (−1 when empty).
+func maxInt32(xs []int32) int32 {
+	m := int32(-1)
+	for _, x := range xs {
+		m = max(m, x)
+	}
+	return m
 }
