@@ -30,3 +30,8 @@ const (
 	ReportHTMLFile     = "report.html"
 	ReportMarkdownFile = "report.md"
 )
+
+// ThermoHeading begins the first comment line of thermo.csv, followed by the
+// isotopologue the table is for (a fit of several gives the table of one);
+// the report reads the isotopologue from it.
+const ThermoHeading = "bandwright thermo: ideal-gas partition function and thermodynamic functions of "

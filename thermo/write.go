@@ -50,7 +50,7 @@ func (r *Result) WriteCSV(w io.Writer) error {
 	}
 	bw := bufio.NewWriter(w)
 	c := r.Conventions
-	csvComment(bw, "bandwright thermo: ideal-gas partition function and thermodynamic functions of %s", c.Species)
+	csvComment(bw, "%s%s", constants.ThermoHeading, c.Species)
 	csvComment(bw, "units: %s", c.Units)
 	csvComment(bw, "standard pressure: %s", c.PressureLabel)
 	csvComment(bw, "composition: %s", c.CompositionNote)

@@ -12,6 +12,7 @@ import (
 
 	"gonum.org/v1/gonum/unit/constant"
 
+	"bandwright/constants"
 	"bandwright/pipelines"
 )
 
@@ -177,6 +178,7 @@ func writeThermo(t testing.TB, path string, temps []float64, mc bool, mangle fun
 		t.Fatal(err)
 	}
 	defer f.Close()
+	fmt.Fprintln(f, "# "+constants.ThermoHeading+"12C16O")
 	fmt.Fprintln(f, "# energy zero: lowest rovibrational level")
 	fmt.Fprintln(f, "# nuclear spin: thermochemistry convention (spin degeneracy divided out)")
 	fmt.Fprintln(f, "# standard pressure: 1 bar; ideal gas; units J mol-1 K-1 and kJ mol-1")

@@ -18,6 +18,7 @@ import (
 
 	"bandwright/constants"
 	"bandwright/internal/failure"
+	"bandwright/internal/typeset"
 	"bandwright/pipelines"
 	"bandwright/pipelines/report"
 )
@@ -443,6 +444,9 @@ func TestThermoSection(t *testing.T) {
 	p := parsePage(t, files[constants.ReportHTMLFile])
 	if !slices.Contains(p.ids, "thermo") {
 		t.Fatal("no thermo section")
+	}
+	if want := "The table is for " + typeset.SpeciesText("12C16O") + "."; !strings.Contains(string(files[constants.ReportHTMLFile]), want) {
+		t.Errorf("the thermo section does not say which isotopologue its table is for (%q)", want)
 	}
 	var q, cp, cf, sig *svgInfo
 	for i := range p.svgs {

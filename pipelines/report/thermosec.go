@@ -32,6 +32,13 @@ func thermoSection(d *document, f *folder) {
 		s.para("thermo.csv holds no rows.")
 		return
 	}
+	if sp := thermoSpecies(th); sp != "" {
+		of := ""
+		if f.record != nil && len(f.record.Species) > 1 {
+			of = sprintf(", one of the %d isotopologues of the fit (thermo --species chooses which)", len(f.record.Species))
+		}
+		s.para("The table is for %s%s.", typeset.SpeciesText(sp), of)
+	}
 	_, hasTotal := totalOrStat(th, "Cp")
 	if hasTotal {
 		s.para("thermo.csv holds %d temperatures from %s K to %s K; below, an excerpt (the file has every row). Each value is given with its total 1σ in parentheses and rounded to it; σ_total = √(σ² + σ_model²) adds to the statistical σ of the fit (column \"σ fit\") a model part for what the lines did not observe, from named alternatives recomputed against the table (thermo.json lists them per temperature). Its conventions (energy zero, nuclear spin, standard pressure) are listed under Conventions.", th.n, num(tMin, 6), num(tMax, 6))
@@ -437,4 +444,15 @@ func widthFigure(th *thermoTable) *figure {
 	}
 	fig.SVG = svg
 	return fig
+}
+
+// thermoSpecies returns the isotopologue thermo.csv is for, from its first
+// comment line ("" when the file does not say).
+func thermoSpecies(th *thermoTable) string {
+	for _, c := range th.comments {
+		if sp, ok := strings.CutPrefix(c, constants.ThermoHeading); ok {
+			return strings.TrimSpace(sp)
+		}
+	}
+	return ""
 }
