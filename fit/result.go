@@ -93,7 +93,30 @@ func (w *work) result() *Result {
 	}
 	r.Warnings = append(r.Warnings, w.warn...)
 	r.Warnings = append(r.Warnings, significanceWarnings(r)...)
+	if w := smallScaleWarning(r.Stats); w != "" {
+		r.Warnings = append(r.Warnings, w)
+	}
 	return r
+}
+
+// smallScaleLimit is the dimensionless standard deviation below which a fit
+// warns that its σ, scaled by s, fall well below what the stated line
+// uncertainties support.
+const smallScaleLimit = 0.5
+
+// smallScaleWarning warns when s < smallScaleLimit: the covariance is scaled
+// by s² (the project's convention), so the σ then rest on the scatter of the
+// lines rather than on their stated uncertainties, and are 1/s times smaller
+// than σ from the uncertainties alone. Overstated uncertainties (a
+// conservative unc for recalled or rounded positions) are the usual cause;
+// with few degrees of freedom s itself is poorly known (its relative spread
+// is about 1/√(2·dof)).
+func smallScaleWarning(st constants.Stats) string {
+	if !(st.Sigma < smallScaleLimit) || st.DOF <= 0 {
+		return ""
+	}
+	return fmt.Sprintf("s = %.3g: the residuals are about %.2g times smaller than the stated uncertainties; the σ of the constants are scaled by s and so rest on the scatter of %d lines (%d degrees of freedom, s known to about ±%.0f %%), %.2g times smaller than σ from the stated uncertainties alone: check that unc states the 1σ of the positions",
+		st.Sigma, 1/st.Sigma, st.Used, st.DOF, 100/math.Sqrt(2*float64(st.DOF)), 1/st.Sigma)
 }
 
 // significanceWarnings flags parameters with |value|/σ < 3 and pairs with

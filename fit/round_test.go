@@ -130,6 +130,32 @@ func TestSignificanceWarning(t *testing.T) {
 	}
 }
 
+// TestSmallScaleWarning: lines whose stated uncertainty is ten times their
+// noise give s ≈ 0.1 and a warning that the σ rest on the scatter (scaled by
+// s) rather than on the stated uncertainties; honest uncertainties (s ≈ 1)
+// give none.
+func TestSmallScaleWarning(t *testing.T) {
+	lines, y := noisyCO(51, 1e-3)
+	has := func(r *Result) bool {
+		for _, w := range r.Warnings {
+			if strings.Contains(w, "smaller than the stated uncertainties") {
+				return true
+			}
+		}
+		return false
+	}
+	if r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{}); has(r) {
+		t.Errorf("s = %.3g: unexpected small-scale warning", r.Stats.Sigma)
+	}
+	for i := range lines {
+		lines[i].Unc *= 10
+	}
+	r := mustFit(t, lines, ModelSpec{Kind: model.KindDunham, Terms: y.terms()}, Settings{})
+	if !(r.Stats.Sigma < 0.2) || !has(r) {
+		t.Errorf("s = %.3g: warnings %q", r.Stats.Sigma, r.Warnings)
+	}
+}
+
 // TestCorrelationWarning: two hot bands high in the vibrational ladder
 // (21-20 and 22-21) see Y10 and Y20 only through ΔG = Y10 + 2Y20(v+1), nearly the
 // same combination at v = 20 and 21, so the two are correlated beyond 0.999.
