@@ -26,7 +26,7 @@ func (w *work) run() error {
 	if err := w.start(); err != nil {
 		return err
 	}
-	for {
+	for round := 1; ; round++ {
 		if err := w.solve(); err != nil {
 			return err
 		}
@@ -72,7 +72,7 @@ func (w *work) run() error {
 		}
 		for _, c := range cs {
 			w.used[c.i] = false
-			w.reason[c.i] = fmt.Sprintf("rejected: |o−c|/unc = %.2f > %.2f (%.1f × s)", c.z, thr, w.s.Reject)
+			w.reason[c.i] = fmt.Sprintf("rejected in rejection round %d: |o−c|/unc was %.2f > %.2f (%.1f × s of that round; the residual shown is that of the final fit)", round, c.z, thr, w.s.Reject)
 		}
 		if capped {
 			w.status = RejectionCapped

@@ -34,8 +34,8 @@ func TestRejectPlantedOutliers(t *testing.T) {
 	r := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
 	for _, i := range planted {
 		lr := r.Lines[i]
-		if lr.Used || !strings.Contains(lr.Reason, "rejected") {
-			t.Errorf("planted outlier %d: used %v, reason %q", i, lr.Used, lr.Reason)
+		if lr.Used || !strings.Contains(lr.Reason, "rejected in rejection round 1") || !strings.Contains(lr.Reason, "the residual shown is that of the final fit") {
+			t.Errorf("planted outlier %d: used %v, reason %q (the round and which residual the reason's value is)", i, lr.Used, lr.Reason)
 		}
 		if math.Abs(lr.Norm) < 40 {
 			t.Errorf("planted outlier %d: (o−c)/unc = %.1f, want ≈ ±50", i, lr.Norm)
