@@ -400,6 +400,7 @@ func widthFigure(th *thermoTable) *figure {
 	p.Y.Scale = plot.LogScale{}
 	p.Y.Tick.Marker = logTicks{}
 	drawn := 0
+	yMin, yMax := math.Inf(1), math.Inf(-1)
 	for _, sr := range series {
 		v, s := th.get(sr.key), th.get(sr.sig)
 		if v == nil || s == nil {
@@ -407,8 +408,9 @@ func widthFigure(th *thermoTable) *figure {
 		}
 		var c xyCollector
 		for i := range T {
-			if r := 2 * s[i] / math.Abs(v[i]); r > 0 {
+			if r := 2 * s[i] / math.Abs(v[i]); r > 0 && finite(r) {
 				c.add(T[i], r)
+				yMin, yMax = math.Min(yMin, r), math.Max(yMax, r)
 			}
 		}
 		if !distinctX(c.xy) {
@@ -436,6 +438,12 @@ func widthFigure(th *thermoTable) *figure {
 	if drawn == 0 {
 		fig.Missing = "Not plotted: thermo.csv has no positive σ at two or more temperatures."
 		return fig
+	}
+	// Whole decades, so that a labelled tick stands at each end and no curve
+	// runs along the frame.
+	p.Y.Min, p.Y.Max = math.Pow(10, math.Floor(math.Log10(yMin))), math.Pow(10, math.Ceil(math.Log10(yMax)))
+	if p.Y.Max <= yMax*(1+1e-9) {
+		p.Y.Max *= 10
 	}
 	svg, err := render(p, figWidth, figHeight*0.85)
 	if err != nil {
