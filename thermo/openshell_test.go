@@ -117,12 +117,19 @@ func fitOpenRecord(t testing.TB, lines []linelist.Line, st states.State, terms [
 // Dunham) of the state and returns the record and its constants.
 func fitOpenModel(t testing.TB, lines []linelist.Line, st states.State, kind string, terms []string) (*constants.Record, *constants.Set) {
 	t.Helper()
+	return fitSpec(t, lines, fit.ModelSpec{Kind: kind, Terms: terms, States: []states.State{st}})
+}
+
+// fitSpec checks the lines against the states of spec, fits them with the
+// model of spec and returns the record and its constants, as thermo reads
+// them.
+func fitSpec(t testing.TB, lines []linelist.Line, spec fit.ModelSpec) (*constants.Record, *constants.Set) {
+	t.Helper()
 	list := &linelist.List{Lines: lines}
-	sts := []states.State{st}
-	if err := linelist.CheckStates(list, sts); err != nil {
+	if err := linelist.CheckStates(list, spec.States); err != nil {
 		t.Fatal(err)
 	}
-	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: kind, Terms: terms, States: sts})
+	m, err := fit.BuildModel(list.Lines, spec)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -665,24 +672,9 @@ func TestOxygenFromFineStructureFit(t *testing.T) {
 	}
 	x := file.States[0]
 	x.TermEnergy, x.OmegaE, x.OmegaESigma = 0, 0, 0
-	if err := linelist.CheckStates(list, []states.State{x}); err != nil {
-		t.Fatal(err)
-	}
 	const mhz = 1 / 29979.2458
-	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "lambda", "lambda_D", "gamma", "gamma_D"},
+	rec, cs := fitSpec(t, list.Lines, fit.ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "lambda", "lambda_D", "gamma", "gamma_D"},
 		Fixes: []model.Fix{{Name: "D", V: -1, Value: 0.1451 * mhz}}, States: []states.State{x}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	fr, err := fit.Fit(fit.Problem{Lines: list.Lines, Model: m}, fit.Settings{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec := fit.NewRecord(fr)
-	cs, err := rec.Constants()
-	if err != nil {
-		t.Fatal(err)
-	}
 	p := Problem{Constants: cs, Observed: rec.Observed, DissociationEnergy: file.DissociationEnergy, DissociationSigma: file.DissociationSigma}
 	for _, s := range file.States {
 		p.States = append(p.States, StateOf(s))
@@ -693,7 +685,7 @@ func TestOxygenFromFineStructureFit(t *testing.T) {
 	}
 	r := res.Rows[0]
 	t.Logf("16O2 (fit s = %.3f): H°(298.15 K) − H°(0) = %.4f kJ/mol (CODATA 8.680, Δ %+.4f), σ_total %.2g; S° = %.4f (205.152, Δ %+.4f), Cp° = %.4f (29.376, Δ %+.4f); zero %s, %.4f cm-1 above T_0",
-		fr.Stats.Sigma, r.F.HmH0, r.F.HmH0-8.680, r.SigmaTotal.HmH0, r.F.S, r.F.S-205.152, r.F.Cp, r.F.Cp-29.376, res.Zero.Describe(), res.Zero.LevelAboveV0J0)
+		rec.Stats.Sigma, r.F.HmH0, r.F.HmH0-8.680, r.SigmaTotal.HmH0, r.F.S, r.F.S-205.152, r.F.Cp, r.F.Cp-29.376, res.Zero.Describe(), res.Zero.LevelAboveV0J0)
 	if d := math.Abs(r.F.HmH0 - 8.680); d > 0.005 || d > 2.5*math.Hypot(r.SigmaTotal.HmH0, 0.002) {
 		t.Errorf("H°(298.15 K) − H°(0) = %.4f ± %.2g kJ/mol, CODATA 8.680(2)", r.F.HmH0, r.SigmaTotal.HmH0)
 	}

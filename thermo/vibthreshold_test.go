@@ -9,7 +9,6 @@ import (
 	"bandwright/fit"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
-
 	"bandwright/fit/species"
 	"bandwright/fit/states"
 )
@@ -105,25 +104,8 @@ func TestBandSystemStateNotShifted(t *testing.T) {
 	a := openTruth{species: "14N16O", state: states.State{Label: "A", Multiplicity: 2, Symmetry: species.StateSymmetry{Reflection: '+'}, TermEnergy: 44200},
 		levels: map[int]map[string]float64{0: {"T": 0, "B": 1.9870, "D": 5.5e-6, "gamma": -0.0027}}}
 	lines := append(x.openLines(t, [][2]int{{1, 0}, {2, 0}}, 41, 0.001, 3), bandLines(t, a, x, 44200, 41, 0.005, 6)...)
-	sts := []states.State{x.state, a.state}
-	list := &linelist.List{Lines: lines}
-	if err := linelist.CheckStates(list, sts); err != nil {
-		t.Fatal(err)
-	}
-	m, err := fit.BuildModel(list.Lines, fit.ModelSpec{Kind: model.KindTermValues, States: sts,
+	rec, cs := fitSpec(t, lines, fit.ModelSpec{Kind: model.KindTermValues, States: []states.State{x.state, a.state},
 		Terms: []string{"B", "D", "A", "gamma", "p", "q", "A:B", "A:D", "A:gamma"}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	fr, err := fit.Fit(fit.Problem{Lines: list.Lines, Model: m}, fit.Settings{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec := fit.NewRecord(fr)
-	cs, err := rec.Constants()
-	if err != nil {
-		t.Fatal(err)
-	}
 	sa := StateOf(a.state)
 	sa.OmegaE, sa.OmegaESigma = 2374.31, 1
 	res, err := Compute(Problem{Constants: cs, Observed: rec.Observed, DissociationEnergy: 52400, States: []State{StateOf(x.state), sa}},
