@@ -48,8 +48,8 @@ func sym(parity, reflection byte) species.StateSymmetry {
 // our margin on the recalled value (and on T_e against T_0), wider where the
 // recollection is rough. Left out because we do not recall them well enough
 // (a known gap: the sum of these molecules can still miss a state): SO
-// c¹Σ⁻ and A”³Σ⁺ (near 30 000 cm⁻¹), S2 A³Σu⁺, A'³Δu, c¹Σu⁻ (near 22 000)
-// and B”³Πu, the A²Π states of ClO (near 31 000) and BrO (near 26 000), and
+// c¹Σ⁻ and A″³Σ⁺ (near 30 000 cm⁻¹), S2 A³Σu⁺, A'³Δu, c¹Σu⁻ (near 22 000)
+// and B″³Πu, the A²Π states of ClO (near 31 000) and BrO (near 26 000), and
 // every excited state of NS and CF. H2, HF and HCl have no bound excited
 // state below 55 000 cm⁻¹ (their lowest excited states are repulsive).
 var excitedStates = map[[2]string][]ExcitedState{
