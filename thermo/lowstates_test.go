@@ -43,7 +43,7 @@ func checkCovered(t *testing.T, name string, res, truth *Result, k float64) {
 }
 
 // TestCyanogenMissingA: CN with its X²Σ⁺ state alone (no electronic-states
-// file; the record's state) gets the electronic_states entry for A²Π and
+// file, the record's state; or a file giving X alone) gets the electronic_states entry for A²Π and
 // B²Σ⁺; the truth, the same record with A and B given as states (a second
 // Compute), lies within 2.5 σ_total at 298.15, 1000 and 3000 K. At 3000 K
 // A adds about +3.8 J mol⁻¹ K⁻¹ to Cp° and +1.1 to S° (our estimate from a
@@ -96,6 +96,14 @@ func TestCyanogenMissingA(t *testing.T) {
 	}
 	if !strings.Contains(js.String(), `"`+ContribElectronicStates+`"`) {
 		t.Errorf("thermo.json does not name the %s entry", ContribElectronicStates)
+	}
+	// The same with an electronic-states file that gives X alone.
+	withX, err := Compute(Problem{Constants: set, DissociationEnergy: cnConstants.d0, States: cnExcited()[:1]}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if kx := indexOfContribution(withX, ContribElectronicStates); kx < 0 || withX.Rows[2].Model[kx].Cp != hi.Model[k].Cp {
+		t.Errorf("CN with a states file giving X alone: entry %d, want the one without a file", kx)
 	}
 	if indexOfContribution(truth, ContribElectronicStates) >= 0 || strings.Contains(strings.Join(truth.Warnings, "\n"), "electronic states missing") {
 		t.Errorf("CN with A and B given: entry or warning for missing states: %v\n%s", truth.Budget, strings.Join(truth.Warnings, "\n"))
