@@ -30,6 +30,9 @@ const (
 	// ContribFineConstants: the fine-structure constants of the vibrational
 	// levels a record that resolves the fine structure lacks.
 	ContribFineConstants = "fine_structure_constants"
+	// ContribElectronicStates: low-lying excited electronic states of the
+	// embedded list that the problem does not include.
+	ContribElectronicStates = "electronic_states"
 )
 
 // Contribution is one named entry of the model part of the uncertainty
@@ -66,6 +69,7 @@ type budget struct {
 	fine       *fineStructure
 	fineIdx    int
 	harmonic   *harmonicBound
+	low        *lowStates
 }
 
 // harmonicBound is the alternative of a record without vibrational
@@ -144,11 +148,15 @@ func (bu *budget) addContribution(c Contribution) int {
 
 // buildBudget sets up the alternatives of the nominal system sys for problem
 // p: the recomputed level sums of the prior choices, the dissociation
-// limits, the first-order directions and the fine structure.
+// limits, the first-order directions, the fine structure and the excited
+// electronic states the problem lacks.
 func (sys *System) buildBudget(p Problem, s Settings, tMax float64) error {
 	bu := &budget{fineIdx: -1}
 	sys.budget = bu
 	if err := sys.addSetAlternatives(p, s, tMax); err != nil {
+		return err
+	}
+	if err := sys.addMissingStates(p, s, tMax); err != nil {
 		return err
 	}
 	sys.addHarmonicBound()
@@ -156,6 +164,13 @@ func (sys *System) buildBudget(p Problem, s Settings, tMax float64) error {
 	sys.addDirections()
 	sys.addFineStructure()
 	sys.prepareBudget()
+	top := tMax
+	if len(s.Temperatures) > 0 {
+		top = slices.Max(s.Temperatures)
+	}
+	if w := sys.missingStatesWarning(top); w != "" {
+		sys.warnings = append(sys.warnings, w)
+	}
 	return nil
 }
 

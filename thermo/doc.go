@@ -150,6 +150,11 @@
 //     the constant taken to vary with v like B_v^r; our own estimate),
 //     ∂E/∂X·δX per level (Hellmann–Feynman), the constants combined in
 //     quadrature.
+//   - electronic_states: the excited electronic states of the embedded list
+//     of low-lying states (KnownExcitedStates) that the problem lacks, added
+//     as the ground record's spin-free levels shifted by T_e − σ and by
+//     T_e + σ with their degeneracy (2S+1)(2 − δ_Λ0) (recomputed; see
+//     missingStates for which states count as missing and as mattering).
 //
 // The next term of a series is estimated from its last two, c_(K+1) ≈
 // c_K²/c_(K−1) (common practice: an order of magnitude), and applied only

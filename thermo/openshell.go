@@ -3,7 +3,6 @@ package thermo
 import (
 	"fmt"
 	"math"
-	"sort"
 
 	"bandwright/fit/species"
 	"bandwright/internal/failure"
@@ -45,15 +44,9 @@ var openShells = []OpenShell{
 // OpenShellGround returns the entry of the molecule of iso in the embedded
 // list of open-shell ground states; ok is false for molecules not in it.
 func OpenShellGround(iso species.Isotopologue) (OpenShell, bool) {
-	el := []string{iso.A.Symbol, iso.B.Symbol}
-	for i, s := range el {
-		if s == "D" || s == "T" {
-			el[i] = "H"
-		}
-	}
-	sort.Strings(el)
+	key := elementKey(iso)
 	for _, o := range openShells {
-		if o.Elements == [2]string{el[0], el[1]} {
+		if o.Elements == key {
 			return o, true
 		}
 	}
