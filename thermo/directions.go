@@ -2,6 +2,8 @@ package thermo
 
 import (
 	"math"
+
+	"bandwright/fit/model"
 )
 
 // beyond returns the part of the term y^n that a fit over y ≤ ym cannot have
@@ -17,29 +19,6 @@ func beyond(y, ym float64, n int) float64 {
 	}
 	fn := float64(n)
 	return math.Pow(y, fn) - math.Pow(ym, fn) - fn*math.Pow(ym, fn-1)*(y-ym)
-}
-
-// nextTerm returns the expected size of the term after the last non-zero
-// coefficient of the series c (powers 0, 1, …, from index from on): |c_K|²/|c_K'|
-// with K the last and K' the one before it (the series continued
-// geometrically; common practice for the order of magnitude of Dunham
-// coefficients), and the power K+1. ok is false without two non-zero terms.
-func nextTerm(c []float64, from int) (size float64, power int, ok bool) {
-	k, kp := -1, -1
-	for i := len(c) - 1; i >= from; i-- {
-		if c[i] != 0 && !math.IsNaN(c[i]) {
-			if k < 0 {
-				k = i
-			} else {
-				kp = i
-				break
-			}
-		}
-	}
-	if k < 0 || kp < 0 {
-		return 0, 0, false
-	}
-	return c[k] * c[k] / math.Abs(c[kp]), k + 1, true
 }
 
 // direction is one first-order perturbation of the level energies: δE of
@@ -67,7 +46,7 @@ type direction struct {
 //     v, one direction per constant (fineSeriesDirections).
 //
 // The sizes are orders of magnitude: the series continued geometrically
-// (common practice; see nextTerm). Directions of one contribution are
+// (common practice; see model.NextTerm). Directions of one contribution are
 // combined in quadrature (modelRow).
 func (sys *System) addDirections() {
 	bu := sys.budget
@@ -115,7 +94,7 @@ func (sys *System) rotationalDirection() direction {
 				a[l] = f[l].eval(m.src.c.Values)
 			}
 			var ok bool
-			if c, n, ok = nextTerm(a, 1); !ok {
+			if c, n, ok = model.NextTerm(a, 1); !ok {
 				if w := m.src.vib.omega; w > 0 && a[1] > 0 {
 					c, n = 4*a[1]*a[1]*a[1]/(w*w), 2
 				}
@@ -157,7 +136,7 @@ func (sys *System) rotationalDirection() direction {
 func (sys *System) vibrationalDirection() direction {
 	applies := false
 	for _, m := range sys.manifolds {
-		_, _, ok := nextTerm(m.src.vib.g, 1)
+		_, _, ok := model.NextTerm(m.src.vib.g, 1)
 		applies = applies || (m.src.vib.anharmonic && ok)
 	}
 	if !applies {
@@ -175,7 +154,7 @@ func (sys *System) vibrationalDirection() direction {
 			if !vib.anharmonic || v <= m.vObsOr(vib) {
 				return 0
 			}
-			c, n, ok := nextTerm(vib.g, 1)
+			c, n, ok := model.NextTerm(vib.g, 1)
 			if !ok {
 				return 0
 			}
@@ -188,7 +167,7 @@ func (sys *System) vibrationalDirection() direction {
 // record determines B_v (two or more levels, or a Dunham model).
 func (sys *System) rotVibDirection() direction {
 	size := func(vib vibStructure) (float64, int) {
-		if c, n, ok := nextTerm(vib.b, 0); ok {
+		if c, n, ok := model.NextTerm(vib.b, 0); ok {
 			return c, n
 		}
 		if len(vib.b) > 0 {

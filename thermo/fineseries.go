@@ -20,7 +20,7 @@ import (
 //
 //	δX_v = c_X·P_n(v+½; v_max+½),  δE_i = ∂E_i/∂X·δX_v  (Hellmann–Feynman),
 //
-// with c_X, n from nextTerm (c = α_X²/|X_e|, n = 2, after X_e and α_X: the
+// with c_X, n from model.NextTerm (c = α_X²/|X_e|, n = 2, after X_e and α_X: the
 // series continued geometrically, common practice for an order of
 // magnitude), or, after X_e alone, the slope the constant's rotational order
 // suggests, c = |X_e|·max(fineDriftPerV, r·α_e/B_e), n = 1: a constant whose
@@ -52,7 +52,7 @@ func fineSeriesSizes(m *manifold, q int) fineSeriesSize {
 	if !ok {
 		return fineSeriesSize{}
 	}
-	if c, n, ok := nextTerm(a, 0); ok {
+	if c, n, ok := model.NextTerm(a, 0); ok {
 		return fineSeriesSize{c, n}
 	}
 	last := -1
