@@ -229,6 +229,13 @@ type Derived struct {
 	// definition neglects (the Dunham correction between Y10 and ω_e, Y01 and
 	// B_e), in its unit; 0 when negligible against σ or not applicable.
 	Neglected float64 `json:"neglected_correction,omitempty"`
+	// Truncation is the first-order shift of the constant by the terms the
+	// fitted series omit (the next term of each, at the size the next-term
+	// rule expects, the shifts combined in quadrature), in its unit: the
+	// constant is an effective one to about that much, whatever its σ.
+	// Omitted (0) when not estimated. An optional field: records without it
+	// read as before, so the schema version stays 2.
+	Truncation float64 `json:"truncation,omitempty"`
 }
 
 // Rounding records the sequential rounding and refitting of a fit (Le Roy

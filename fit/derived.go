@@ -14,10 +14,80 @@ import (
 	"bandwright/units"
 )
 
-// linear is a quantity with its gradient with respect to all model parameters.
+// linear is a quantity with its gradient with respect to all model
+// parameters and, for a quantity of a secondary fit (term values), its shifts
+// by the terms that fit omits (the omitted terms of the main fit enter
+// through g, see Result.shifts).
 type linear struct {
-	v float64
-	g []float64
+	v  float64
+	g  []float64
+	tr []termShift
+}
+
+// termShift is the first-order shift of a quantity by one omitted series
+// term.
+type termShift struct {
+	term  string  // the omitted term: "Y30", "omega_e_y_e"
+	size  float64 // its expected size, cm⁻¹
+	shift float64 // the quantity's change, in the quantity's unit
+}
+
+// through returns the quantity f(q) of value v with df/dq = d: gradient and
+// shifts scaled by d.
+func (q linear) through(v, d float64) linear {
+	out := linear{v: v, g: scaleG(q.g, d)}
+	for _, t := range q.tr {
+		out.tr = append(out.tr, termShift{t.term, t.size, t.shift * d})
+	}
+	return out
+}
+
+// shifts returns the shifts of q by every omitted term: its own (q.tr) and
+// g·δp for each omitted term of the main fit (Result.Truncation).
+func (r *Result) shifts(q linear) []termShift {
+	out := append([]termShift(nil), q.tr...)
+	for _, t := range r.Truncation {
+		d := 0.0
+		for j, s := range t.Shift {
+			if s != 0 && j < len(q.g) {
+				d += q.g[j] * s
+			}
+		}
+		out = append(out, termShift{t.Name, t.Size, d})
+	}
+	return out
+}
+
+// truncationNoteFloor is the fraction of σ from which the series truncation
+// of a constant is stated in its note, as the neglected Dunham correction is.
+const truncationNoteFloor = 0.1
+
+// withTruncation sets d.Truncation = √(Σ shift²) from the shifts of d by
+// the omitted terms, and where it reaches a tenth of σ states it in d.Note
+// with the term that shifts it most; where it exceeds σ the note says that
+// the value is an effective constant.
+func withTruncation(d *constants.Derived, sh []termShift) {
+	var sum2 float64
+	var top termShift
+	for _, t := range sh {
+		sum2 += t.shift * t.shift
+		if math.Abs(t.shift) > math.Abs(top.shift) {
+			top = t
+		}
+	}
+	d.Truncation = math.Sqrt(sum2)
+	if d.Truncation == 0 || d.Truncation < truncationNoteFloor*d.Sigma {
+		return
+	}
+	if d.Note != "" {
+		d.Note += "; "
+	}
+	d.Note += fmt.Sprintf("series truncation ≈ %.2g %s (order of magnitude; the omitted %s of expected size %.2g cm-1 shifts it by ~%.2g %s; %s σ",
+		d.Truncation, d.Unit, top.term, top.size, math.Abs(top.shift), d.Unit, map[bool]string{true: "larger than", false: "comparable to"}[d.Truncation > d.Sigma])
+	if d.Truncation > d.Sigma {
+		d.Note += ": the value is an effective constant"
+	}
+	d.Note += ")"
 }
 
 // sigmaOf returns √(gᵀ C g) with g restricted to the free parameters.
@@ -31,8 +101,11 @@ func sigmaOf(r *Result, g []float64) float64 {
 	return math.Sqrt(math.Max(mat.Inner(v, r.Cov, v), 0))
 }
 
+// add appends the derived constant q with its σ and series truncation.
 func (r *Result) add(out *[]constants.Derived, name, sp string, q linear, unit, note string) {
-	*out = append(*out, constants.Derived{Name: name, Species: sp, Value: q.v, Sigma: sigmaOf(r, q.g), Unit: unit, Note: note})
+	d := constants.Derived{Name: name, Species: sp, Value: q.v, Sigma: sigmaOf(r, q.g), Unit: unit, Note: note}
+	withTruncation(&d, r.shifts(q))
+	*out = append(*out, d)
 }
 
 // Derive computes the derived constants of a fit result. A constant is named
@@ -107,7 +180,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 		get := func(k, l int) (linear, bool) {
 			g := make([]float64, np)
 			v := m.Y(s, k, l, p, g)
-			return linear{v, g}, has[[2]int{k, l}]
+			return linear{v: v, g: g}, has[[2]int{k, l}]
 		}
 		if s > 0 {
 			for _, t := range m.Terms() {
@@ -134,7 +207,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 		}
 		if be, ok := vals["B_e"]; ok && be.v > 0 {
 			re := species.RFromB(be.v, iso.ReducedMass())
-			r.add(out, "r_e", iso.Label, linear{re, scaleG(be.g, -re/(2*be.v))}, "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
+			r.add(out, "r_e", iso.Label, be.through(re, -re/(2*be.v)), "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
 		}
 		noteDunhamCorrections(*out, iso.Label)
 		we, okW := vals["omega_e"]
@@ -142,7 +215,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 		if okW && okB && we.v > 0 && be.v > 0 {
 			kr := 4 * be.v * be.v * be.v / (we.v * we.v)
 			g := combine(be.g, 12*be.v*be.v/(we.v*we.v), we.g, -8*be.v*be.v*be.v/(we.v*we.v*we.v))
-			r.add(out, "D_e_Kratzer", iso.Label, linear{kr, g}, "cm-1", "diagnostic: Kratzer relation 4B_e³/ω_e²; compare with D_e")
+			r.add(out, "D_e_Kratzer", iso.Label, linear{v: kr, g: g}, "cm-1", "diagnostic: Kratzer relation 4B_e³/ω_e²; compare with D_e")
 			if wx, ok := vals["omega_e_x_e"]; ok && wx.v > 0 {
 				sq := math.Sqrt(wx.v * be.v * be.v * be.v)
 				pk := 6*sq/we.v - 6*be.v*be.v/we.v
@@ -150,7 +223,7 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 				dB := 9*math.Sqrt(wx.v*be.v)/we.v - 12*be.v/we.v
 				dW := -6*sq/(we.v*we.v) + 6*be.v*be.v/(we.v*we.v)
 				g := combine(combine(wx.g, dx, be.g, dB), 1, we.g, dW)
-				r.add(out, "alpha_e_Pekeris", iso.Label, linear{pk, g}, "cm-1", "diagnostic: Pekeris relation 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e; compare with alpha_e")
+				r.add(out, "alpha_e_Pekeris", iso.Label, linear{v: pk, g: g}, "cm-1", "diagnostic: Pekeris relation 6√(ω_e x_e B_e³)/ω_e − 6B_e²/ω_e; compare with alpha_e")
 			}
 		}
 	}
@@ -175,12 +248,12 @@ func deriveDunham(r *Result, m *model.Dunham, out *[]constants.Derived) {
 			}
 		}
 		f := math.Pow(muR, e)
-		r.add(out, fmt.Sprintf("U%d%d", k, l), "", linear{yt * f, scaleG(g, f)}, fmt.Sprintf("cm-1 u^%g", e), "mass-reduced Dunham coefficient U_kl = Y_kl μ^((k+2l)/2)")
+		r.add(out, fmt.Sprintf("U%d%d", k, l), "", linear{v: yt * f, g: scaleG(g, f)}, fmt.Sprintf("cm-1 u^%g", e), "mass-reduced Dunham coefficient U_kl = Y_kl μ^((k+2l)/2)")
 		for _, j := range bobIdx {
 			d := p[j] / yt
 			gd := scaleG(g, -p[j]/(yt*yt))
 			gd[j] += 1 / yt
-			r.add(out, fmt.Sprintf("Delta%d%d_%s", k, l, params[j].Element), "", linear{d, gd}, "1", "Born–Oppenheimer-breakdown constant Δ_kl of "+params[j].Element)
+			r.add(out, fmt.Sprintf("Delta%d%d_%s", k, l, params[j].Element), "", linear{v: d, g: gd}, "1", "Born–Oppenheimer-breakdown constant Δ_kl of "+params[j].Element)
 		}
 	}
 }
@@ -220,7 +293,7 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 		iu, il := m.Index(b.s, b.vu, "T"), m.Index(b.s, b.vl, "T")
 		g[iu] += 1
 		g[il] -= 1
-		r.add(out, "nu0_"+linelist.BandLabel(b.vu, b.vl), species_[b.s], linear{p[iu] - p[il], g}, "cm-1", "band origin T_v′ − T_v″")
+		r.add(out, "nu0_"+linelist.BandLabel(b.vu, b.vl), species_[b.s], linear{v: p[iu] - p[il], g: g}, "cm-1", "band origin T_v′ − T_v″")
 	}
 	for s, label := range species_ {
 		iso, err := species.Parse(label)
@@ -238,7 +311,7 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 				g := make([]float64, np)
 				r0 := species.RFromB(b0, iso.ReducedMass())
 				g[bIdx[0]] = -r0 / (2 * b0)
-				r.add(out, "r_0", label, linear{r0, g}, "angstrom", "from B_0 (effective ground-state distance)")
+				r.add(out, "r_0", label, linear{v: r0, g: g}, "angstrom", "from B_0 (effective ground-state distance)")
 			}
 		}
 		if len(vs) >= 2 && bIdx[0] >= 0 {
@@ -250,8 +323,9 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 				h := float64(v) + 0.5
 				return []float64{1, -h, h * h}[:ncoef]
 			}
-			coef, ok := gls(r, bIdx, vs, x, ncoef)
+			coef, G, ok := gls(r, bIdx, vs, x, ncoef)
 			if ok {
+				bvTruncation(coef, G, vs)
 				names := []string{"B_e", "alpha_e", "gamma_e"}
 				for c := 0; c < ncoef; c++ {
 					r.add(out, names[c], label, coef[c], "cm-1", "from the B_v by generalised least squares")
@@ -259,7 +333,7 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 				be := coef[0]
 				if be.v > 0 {
 					re := species.RFromB(be.v, iso.ReducedMass())
-					r.add(out, "r_e", label, linear{re, scaleG(be.g, -re/(2*be.v))}, "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
+					r.add(out, "r_e", label, be.through(re, -re/(2*be.v)), "angstrom", "from B_e with CODATA 2018 constants and AME2020 masses")
 				}
 			}
 		}
@@ -271,13 +345,60 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 				tv = append(tv, v)
 			}
 			x := func(v int) []float64 { return []float64{float64(v), -float64(v) * float64(v+1)} }
-			coef, ok := gls(r, tIdx, tv, x, 2)
+			coef, G, ok := gls(r, tIdx, tv, x, 2)
 			if ok {
+				gvTruncation(coef, G, tv)
 				r.add(out, "omega_e", label, coef[0], "cm-1", "from the term values T_v by generalised least squares")
 				r.add(out, "omega_e_x_e", label, coef[1], "cm-1", "from the term values T_v by generalised least squares")
 			}
 		}
 		noteDunhamCorrections(*out, label)
+	}
+}
+
+// bvTruncation adds to B_e, α_e (and γ_e) from the B_v of levels vs
+// (coefficients of 1, −(v+½), (v+½)²; β = G·B) the shift by the next term of
+// the series B_v = Σ b_n (v+½)^n, of size model.NextTerm over the fitted b_n
+// (γ_e ≈ α_e²/B_e after α_e) at every level: δβ = G·(c·(v+½)^n).
+func bvTruncation(coef []linear, G *mat.Dense, vs []int) {
+	b := make([]float64, len(coef))
+	for c := range coef {
+		b[c] = coef[c].v * []float64{1, -1, 1}[c]
+	}
+	size, n, ok := model.NextTerm(b, 0)
+	if !ok {
+		return
+	}
+	name := "gamma_e"
+	if n != 2 {
+		name = fmt.Sprintf("(v+½)^%d term of B_v", n)
+	}
+	seriesShift(coef, G, vs, name, size, func(v int) float64 { return math.Pow(float64(v)+0.5, float64(n)) })
+}
+
+// gvTruncation adds to ω_e and ω_e x_e from the term values T_v = G(v) − G(0)
+// of levels vs (β = G·T) the shift by the omitted ω_e y_e (v+½)³, of size
+// (ω_e x_e)²/ω_e (model.NextTerm): δβ = G·(c·[(v+½)³ − (½)³]).
+func gvTruncation(coef []linear, G *mat.Dense, vs []int) {
+	size, n, ok := model.NextTerm([]float64{0, coef[0].v, -coef[1].v}, 1)
+	if !ok {
+		return
+	}
+	seriesShift(coef, G, vs, "omega_e_y_e", size, func(v int) float64 {
+		return math.Pow(float64(v)+0.5, float64(n)) - math.Pow(0.5, float64(n))
+	})
+}
+
+// seriesShift adds to each coefficient β_c = Σ_a G_ca y_a of a secondary fit
+// over the levels vs the shift by an omitted term of the given size and
+// column col(v): δβ_c = Σ_a G_ca·size·col(v_a).
+func seriesShift(coef []linear, G *mat.Dense, vs []int, term string, size float64, col func(v int) float64) {
+	for c := range coef {
+		d := 0.0
+		for a, v := range vs {
+			d += G.At(c, a) * size * col(v)
+		}
+		coef[c].tr = append(coef[c].tr, termShift{term, size, d})
 	}
 }
 
@@ -344,11 +465,11 @@ func (r *Result) hasUnconnected(s int) bool {
 // gls fits y_i = p[idx[i]] ≈ Σ_c X_c(v_i) β_c by generalised least squares with
 // the covariance of the p[idx] from the fit, and returns each β_c with its
 // gradient with respect to all model parameters (β = G y with
-// G = (XᵀC⁻¹X)⁻¹XᵀC⁻¹; exact interpolation when len(idx) = ncoef).
-func gls(r *Result, idx []int, vs []int, x func(v int) []float64, ncoef int) ([]linear, bool) {
+// G = (XᵀC⁻¹X)⁻¹XᵀC⁻¹; exact interpolation when len(idx) = ncoef), and G.
+func gls(r *Result, idx []int, vs []int, x func(v int) []float64, ncoef int) ([]linear, *mat.Dense, bool) {
 	n := len(idx)
 	if n < ncoef {
-		return nil, false
+		return nil, nil, false
 	}
 	pos := map[int]int{}
 	for c, j := range r.Free {
@@ -375,22 +496,22 @@ func gls(r *Result, idx []int, vs []int, x func(v int) []float64, ncoef int) ([]
 	var G mat.Dense
 	if n == ncoef {
 		if err := G.Inverse(X); err != nil {
-			return nil, false
+			return nil, nil, false
 		}
 	} else {
 		var ch mat.Cholesky
 		if !ch.Factorize(C) {
-			return nil, false
+			return nil, nil, false
 		}
 		var cinvX mat.Dense
 		if err := ch.SolveTo(&cinvX, X); err != nil {
-			return nil, false
+			return nil, nil, false
 		}
 		var A mat.Dense
 		A.Mul(X.T(), &cinvX)
 		var Ainv mat.Dense
 		if err := Ainv.Inverse(&A); err != nil {
-			return nil, false
+			return nil, nil, false
 		}
 		G.Mul(&Ainv, cinvX.T())
 	}
@@ -403,12 +524,12 @@ func gls(r *Result, idx []int, vs []int, x func(v int) []float64, ncoef int) ([]
 			g[idx[a]] += G.At(c, a)
 			v += G.At(c, a) * y.AtVec(a)
 		}
-		out[c] = linear{v, g}
+		out[c] = linear{v: v, g: g}
 	}
-	return out, true
+	return out, &G, true
 }
 
-func scaleLin(q linear, f float64) linear { return linear{q.v * f, scaleG(q.g, f)} }
+func scaleLin(q linear, f float64) linear { return q.through(q.v*f, f) }
 
 func scaleG(g []float64, f float64) []float64 {
 	out := make([]float64, len(g))

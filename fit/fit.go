@@ -153,6 +153,12 @@ type Result struct {
 	// Convergence describes the iterations of a nonlinear fit; nil for a
 	// linear one.
 	Convergence *constants.Convergence
+	// Truncation lists, for a Dunham fit, the next term of each series the
+	// model stops (vibration, B_v, D_v, rotation) with its expected size and
+	// its first-order shift of the parameters (truncation.go); Derive
+	// carries them into Derived.Truncation. Empty for term values, whose
+	// secondary fits (ω_e, B_e, …) Derive treats itself.
+	Truncation []TruncationTerm
 }
 
 // CovNames returns the names of the covariance rows (parameter IDs, then κ of
@@ -192,6 +198,7 @@ func Fit(p Problem, s Settings) (*Result, error) {
 		return nil, err
 	}
 	res := w.result()
+	res.Truncation = w.truncation()
 	if s.Round {
 		if err := w.round(res); err != nil {
 			return nil, err

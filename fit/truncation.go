@@ -1,0 +1,263 @@
+package fit
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
+
+	"bandwright/fit/model"
+)
+
+// The series truncation of a Dunham fit: how far the fitted parameters move
+// because the model stops its series where it does.
+//
+// A truncated Dunham model fits effective coefficients: with the bands 1-0,
+// 2-0 and 2-1 three vibrational levels determine Y10 and Y20 exactly, and
+// they absorb the omitted Y30 (Y10 = ω_e − 5.75·ω_e y_e, Y20 = −ω_e x_e +
+// 4.5·ω_e y_e for the levels v = 0, 1, 2). The statistical σ of such a
+// coefficient says nothing about that. For each series of the model the
+// next, omitted term is given its expected size c (TruncationTerm) and its
+// first-order effect on the fitted parameters is the least-squares response
+// of the fit to the positions it would add,
+//
+//	δp = (AᵀWA)⁻¹ AᵀW (c·b),   b_i = (1+κ_f)·∂ν_i/∂Y_kl,
+//
+// with A the fit's own design (the lines in use), W = diag(1/u²) and
+// (AᵀWA)⁻¹ the unscaled covariance the QR solve already gave (no normal
+// equations are formed or inverted). The shifts of a derived constant q with
+// gradient g are g·δp for each omitted term; they are combined in quadrature
+// (independent terms of unknown sign) into Derived.Truncation.
+
+// TruncationTerm is one omitted term of a Dunham fit's series and its
+// first-order effect on the fitted parameters.
+type TruncationTerm struct {
+	// Name is the omitted term, "Y30".
+	Name string
+	K, L int
+	// Size is its expected magnitude (cm⁻¹, the reference isotopologue) and
+	// Rule how it was estimated.
+	Size float64
+	Rule string
+	// Shift is the change of every model parameter (indexed as
+	// Result.Params; 0 for fixed ones) when the lines in use are moved by
+	// Size·b_i: δp above.
+	Shift []float64
+	// base is the parameter index of the model's term of the same l below
+	// it, Y_(K−dk),L, from whose derivative its own is formed
+	// (omittedDerivative); -1 for the next rotational term (0, L+1), whose
+	// base is Y_0L (baseRot).
+	base, dk, baseRot int
+}
+
+// Rules of the omitted terms' sizes (TruncationTerm.Rule).
+const (
+	ruleGeometric = "the series continued geometrically, c_K²/|c_(K−1)| of its last two terms (common practice, order of magnitude)"
+	ruleKratzer   = "after Y01 alone, the Kratzer relation D = 4B³/ω² (Kratzer 1920; order of magnitude)"
+	ruleDRatio    = "after Y02 alone, Y02·Y11/Y01: the D_v series continued with the ratio of the B_v series (our own estimate, order of magnitude)"
+)
+
+// omittedTerms returns the next term of each series of the ground state of
+// Dunham model m at parameters p (the reference isotopologue's Y_kl), with
+// its expected size:
+//
+//   - vibration (K+1, 0) after the highest Y_K0, when Y20 is in the model
+//     (without it Y10 is reported as Delta_G, the measured spacing);
+//   - the B_v series (K+1, 1) after the highest Y_K1, when Y11 is in the
+//     model (without it Y01 is B_avg);
+//   - the D_v series (K+1, 2) after the highest Y_K2;
+//   - rotation (0, L+1) after the highest Y_0L.
+//
+// Sizes from model.NextTerm over the series' own coefficients; where the
+// series has one term: D from the Kratzer relation after Y01 alone, Y12 from
+// Y02·Y11/Y01 after Y02 alone (ruleKratzer, ruleDRatio). Terms without a
+// size are left out.
+func omittedTerms(m *model.Dunham, p []float64) []TruncationTerm {
+	has := map[[2]int]bool{}
+	maxK := map[int]int{}
+	maxL := 0
+	for _, t := range m.Terms() {
+		has[t] = true
+		maxK[t[1]] = max(maxK[t[1]], t[0])
+		if t[0] == 0 {
+			maxL = max(maxL, t[1])
+		}
+	}
+	y := func(k, l int) float64 { return m.Y(0, k, l, p, nil) }
+	series := func(l, top int) []float64 {
+		c := make([]float64, top+1)
+		for k := range c {
+			c[k] = y(k, l)
+		}
+		return c
+	}
+	var out []TruncationTerm
+	add := func(k, l int, size float64, rule string) {
+		if !(size > 0) || math.IsInf(size, 0) {
+			return
+		}
+		t := TruncationTerm{Name: model.DunhamName(k, l), K: k, L: l, Size: size, Rule: rule, base: -1, baseRot: -1}
+		if k0, ok := presentBelow(m, k, l); ok {
+			t.base, t.dk = termParam(m, k0, l), k-k0
+		} else if l >= 2 && k == 0 {
+			t.baseRot = termParam(m, 0, l-1)
+		}
+		if t.base >= 0 || t.baseRot >= 0 {
+			out = append(out, t)
+		}
+	}
+	if has[[2]int{2, 0}] {
+		if c, n, ok := model.NextTerm(series(0, maxK[0]), 1); ok {
+			add(n, 0, c, ruleGeometric)
+		}
+	}
+	if has[[2]int{1, 1}] {
+		if c, n, ok := model.NextTerm(series(1, maxK[1]), 0); ok {
+			add(n, 1, c, ruleGeometric)
+		}
+	}
+	if has[[2]int{0, 2}] {
+		if c, n, ok := model.NextTerm(series(2, maxK[2]), 0); ok {
+			add(n, 2, c, ruleGeometric)
+		} else if maxK[2] == 0 && has[[2]int{1, 1}] && y(0, 1) != 0 {
+			add(1, 2, math.Abs(y(0, 2)*y(1, 1)/y(0, 1)), ruleDRatio)
+		}
+	}
+	if maxL >= 1 {
+		if c, n, ok := model.NextTerm(series0(y, maxL), 1); ok {
+			add(0, n, c, ruleGeometric)
+		} else if maxL == 1 && has[[2]int{1, 0}] && y(1, 0) > 0 {
+			b, w := y(0, 1), y(1, 0)
+			add(0, 2, math.Abs(4*b*b*b/(w*w)), ruleKratzer)
+		}
+	}
+	return out
+}
+
+// series0 returns Y_0l for l = 0 … top (Y00 = 0).
+func series0(y func(k, l int) float64, top int) []float64 {
+	c := make([]float64, top+1)
+	for l := 1; l <= top; l++ {
+		c[l] = y(0, l)
+	}
+	return c
+}
+
+// truncation returns the omitted terms of a Dunham fit with their shifts of
+// the parameters (see TruncationTerm), from the lines in use and the
+// unscaled covariance of the last solve; nil for other models.
+func (w *work) truncation() []TruncationTerm {
+	m, ok := w.p.Model.(*model.Dunham)
+	if !ok || w.res == nil {
+		return nil
+	}
+	terms := omittedTerms(m, w.values)
+	if len(terms) == 0 {
+		return nil
+	}
+	free := w.freeNow()
+	dsg := w.newDesign(free)
+	ncol := len(free) + len(w.kfree)
+	if w.res.Cov.SymmetricDim() != ncol {
+		return nil
+	}
+	h := make([][]float64, len(terms))
+	for t := range h {
+		h[t] = make([]float64, ncol)
+	}
+	a := make([]float64, ncol)
+	col := make([]float64, len(terms))
+	gu := make([]float64, len(w.params))
+	gl := make([]float64, len(w.params))
+	for _, i := range w.rows {
+		_, u := dsg.row(i, a)
+		w.omittedColumns(m, terms, i, gu, gl, col)
+		for t := range terms {
+			f := terms[t].Size * col[t] / (u * u)
+			if f == 0 {
+				continue
+			}
+			floats.AddScaled(h[t], f, a)
+		}
+	}
+	for t := range terms {
+		var dp mat.VecDense
+		dp.MulVec(w.res.Cov, mat.NewVecDense(ncol, h[t]))
+		terms[t].Shift = make([]float64, len(w.params))
+		for c, j := range free {
+			terms[t].Shift[j] = dp.AtVec(c)
+		}
+	}
+	return terms
+}
+
+// omittedColumns fills col[t] with b_i = (1+κ_f)·∂ν_i/∂Y_kl of line i for
+// each omitted term t (reference Y_kl, mass-scaled to the line's
+// isotopologue), using gu and gl as scratch for the energy gradients of its
+// two levels.
+func (w *work) omittedColumns(m *model.Dunham, terms []TruncationTerm, i int, gu, gl, col []float64) {
+	l := &w.p.Lines[i]
+	s := w.sp[i]
+	if w.lm != nil {
+		w.lm.LevelEnergy(s, w.up[i], w.values, gu)
+		w.lm.LevelEnergy(s, w.lo[i], w.values, gl)
+	} else {
+		m.Energy(s, l.VUp, l.JUp, w.values, gu)
+		m.Energy(s, l.VLo, l.JLo, w.values, gl)
+	}
+	fac := 1 + w.kappa[w.file[i]]
+	for t, tm := range terms {
+		col[t] = fac * (omittedDerivative(m, s, l.VUp, tm, gu) - omittedDerivative(m, s, l.VLo, tm, gl))
+	}
+}
+
+// omittedDerivative returns ∂E/∂Y_kl(r) of a level of vibrational level v of
+// isotopologue s for an omitted term (k, l), from the level's energy
+// gradient g with respect to the model's parameters: a term (k0, l) of the
+// same l in the model enters E as ∂E/∂X_l·(v+½)^k0·ρ^(k0+2l), ρ² = μ_r/μ_s
+// (X_l the l-th rotational constant of the level: G_v, B_v, −D_v, …), so
+//
+//	∂E/∂Y_kl = ∂E/∂Y_k0,l · (v+½)^(k−k0) · ρ^(k−k0);
+//
+// the next rotational term (0, L+1) of a series that ends at Y_0L takes
+// x^(L+1) = (x^L)^((L+1)/L) with x^L = ∂E/∂Y_0L / ρ^(2L) (exact for a ¹Σ
+// level, x = J(J+1); the same power of the level's rotational operator for
+// an open-shell level, an approximation).
+func omittedDerivative(m *model.Dunham, s, v int, tm TruncationTerm, g []float64) float64 {
+	if tm.base >= 0 {
+		d := g[tm.base]
+		if d == 0 {
+			return 0
+		}
+		return d * math.Pow(float64(v)+0.5, float64(tm.dk)) * m.Scale(s, tm.dk, 0)
+	}
+	lm := tm.L - 1
+	d := g[tm.baseRot]
+	if d == 0 {
+		return 0
+	}
+	xl := math.Abs(d) / m.Scale(s, 0, lm)
+	return m.Scale(s, 0, tm.L) * math.Pow(xl, float64(tm.L)/float64(lm))
+}
+
+// presentBelow returns the highest k0 < k with (k0, l) a term of m.
+func presentBelow(m *model.Dunham, k, l int) (int, bool) {
+	best := -1
+	for _, t := range m.Terms() {
+		if t[1] == l && t[0] < k && t[0] > best {
+			best = t[0]
+		}
+	}
+	return best, best >= 0
+}
+
+// termParam returns the parameter index of Y_kl of the ground state (the
+// term index: Dunham parameters come first, in the order of Terms).
+func termParam(m *model.Dunham, k, l int) int {
+	for t, kl := range m.Terms() {
+		if kl == [2]int{k, l} {
+			return t
+		}
+	}
+	return -1
+}

@@ -1,0 +1,183 @@
+package fit
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"bandwright/constants"
+	"bandwright/fit/linelist"
+	"bandwright/fit/model"
+)
+
+// The series truncation of derived constants (truncation.go, Derived.Truncation)
+// against molecules made of more terms than the fitted model has.
+
+// gammaCO is γ_e = Y21 of 12C16O X¹Σ⁺, 5.49e-7 cm⁻¹ (Huber & Herzberg 1979,
+// from memory, uncertain beyond its order of magnitude).
+const gammaCO = 5.49e-7
+
+// withHigher returns the table row's Dunham coefficients plus the higher
+// terms a real molecule has: Y12 = −β_e and Y03 = H_e from Dunham's
+// relations β_e = D_e(8ω_e x_e/ω_e − 5α_e/B_e − α_e²ω_e/(24B_e³)) and
+// H_e = 2D_e(12B_e² − α_e ω_e)/(3ω_e²) (Dunham 1932, as restated in
+// Herzberg, Spectra of Diatomic Molecules, 1950; from memory), and γ_e = Y21
+// when given.
+func withHigher(c hhConst, gammaE float64) yset {
+	y := c.dunham()
+	be := c.de * (8*c.wexe/c.we - 5*c.ae/c.be - c.ae*c.ae*c.we/(24*c.be*c.be*c.be))
+	he := 2 * c.de * (12*c.be*c.be - c.ae*c.we) / (3 * c.we * c.we)
+	y[[2]int{1, 2}] = -be
+	y[[2]int{0, 3}] = he
+	if gammaE != 0 {
+		y[[2]int{2, 1}] = gammaE
+	}
+	return y
+}
+
+// truthOf returns the equilibrium constants of the table row by derived name.
+func truthOf(c hhConst) map[string]float64 {
+	return map[string]float64{"omega_e": c.we, "omega_e_x_e": c.wexe, "B_e": c.be, "alpha_e": c.ae, "D_e": c.de}
+}
+
+// truncationCase fits lines of the bands of molecule c (made from y, noise
+// 0.001 cm⁻¹) with spec, and checks for each named constant that the truth
+// lies within 2.5·√(σ² + truncation²), and, for those in absurd, that the
+// truncation is at most 10 times the actual deviation where that exceeds 3σ.
+// It returns the derived constants.
+func truncationCase(t *testing.T, c hhConst, y yset, bands [][2]int, jmax int, spec ModelSpec, names []string, absurd map[string]bool) []constants.Derived {
+	t.Helper()
+	lines := makeLines(c.label, "lines.csv", y, irBranches(bands, jmax), 1e-3, newRNG(11))
+	r := mustFit(t, lines, spec, Settings{Reject: DefaultReject})
+	truth := truthOf(c)
+	for _, name := range names {
+		d := derivedOf(t, r.Derived, name, c.label)
+		dev := d.Value - truth[name]
+		t.Logf("%s: %.9g, σ %.2g, truncation %.2g, truth %.9g (deviation %.3g = %.1fσ)", name, d.Value, d.Sigma, d.Truncation, truth[name], dev, dev/d.Sigma)
+		if lim := 2.5 * math.Hypot(d.Sigma, d.Truncation); math.Abs(dev) > lim {
+			t.Errorf("%s = %.9g: %.3g from the truth %.9g, beyond 2.5√(σ² + truncation²) = %.3g", name, d.Value, dev, truth[name], lim)
+		}
+		if absurd[name] && math.Abs(dev) > 3*d.Sigma && d.Truncation > 10*math.Abs(dev) {
+			t.Errorf("%s: truncation %.3g is more than 10 times the actual deviation %.3g", name, d.Truncation, dev)
+		}
+	}
+	return r.Derived
+}
+
+// TestTruncationFewLevels: the bands 1-0, 2-0, 2-1 determine Y10 and Y20
+// exactly and leave them to absorb ω_e y_e (Y10 = ω_e − 5.75 ω_e y_e,
+// Y20 = −ω_e x_e + 4.5 ω_e y_e): ω_e of 12C16O comes out 0.06 cm⁻¹ low, 200σ.
+// The truncation must cover it without being absurd. Molecules: 12C16O and
+// 1H35Cl of Huber & Herzberg (1979, from memory) with their ω_e y_e, γ_e
+// (CO) and Dunham's β_e and H_e.
+func TestTruncationFewLevels(t *testing.T) {
+	bands := [][2]int{{1, 0}, {2, 0}, {2, 1}}
+	dunham := ModelSpec{Kind: model.KindDunham, Terms: DefaultTerms(model.KindDunham)}
+	all := []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e", "D_e"}
+	t.Run("12C16O", func(t *testing.T) {
+		ds := truncationCase(t, hhCO, withHigher(hhCO, gammaCO), bands, 30, dunham, all, map[string]bool{"omega_e": true, "omega_e_x_e": true})
+		// The effect the truncation stands for: ω_e 5.75·ω_e y_e low, to
+		// well within the rule's order of magnitude.
+		we := derivedOf(t, ds, "omega_e", "12C16O")
+		if we.Truncation < 5.75*hhCO.weye {
+			t.Errorf("truncation of ω_e %.3g below the effect of the molecule's ω_e y_e, %.3g", we.Truncation, 5.75*hhCO.weye)
+		}
+		if !containsAll(we.Note, "series truncation", "Y30", "effective constant") {
+			t.Errorf("note of ω_e does not state the truncation: %q", we.Note)
+		}
+		// r_e carries B_e's truncation through its gradient.
+		re, be := derivedOf(t, ds, "r_e", "12C16O"), derivedOf(t, ds, "B_e", "12C16O")
+		if want := re.Value * be.Truncation / (2 * be.Value); !scalar.EqualWithinRel(re.Truncation, want, 1e-9) {
+			t.Errorf("truncation of r_e %.6g, want r_e·tr(B_e)/(2B_e) = %.6g", re.Truncation, want)
+		}
+	})
+	t.Run("1H35Cl", func(t *testing.T) {
+		truncationCase(t, hhHCl, withHigher(hhHCl, 0), bands, 15, dunham, all, map[string]bool{"omega_e": true, "omega_e_x_e": true, "B_e": true, "D_e": true})
+	})
+}
+
+// TestTruncationManyLevels: a fit that reaches v = 6 with Y30, Y21, Y12 and
+// Y03 fitted is not inflated: the truncation stays within a few σ for ω_e and
+// ω_e x_e (the omitted Y40 at the rule's (Y30)²/|Y20|) and below σ for the
+// rotational constants.
+func TestTruncationManyLevels(t *testing.T) {
+	bands := [][2]int{{1, 0}, {2, 1}, {3, 2}, {4, 3}, {5, 4}, {6, 5}, {2, 0}, {3, 1}}
+	spec := ModelSpec{Kind: model.KindDunham, Terms: []string{"Y10", "Y20", "Y30", "Y01", "Y11", "Y21", "Y02", "Y12", "Y03"}}
+	ds := truncationCase(t, hhCO, withHigher(hhCO, gammaCO), bands, 30, spec, []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e", "D_e"}, nil)
+	for name, lim := range map[string]float64{"omega_e": 10, "omega_e_x_e": 10, "B_e": 1, "alpha_e": 1, "D_e": 1, "r_e": 1} {
+		d := derivedOf(t, ds, name, "12C16O")
+		if d.Truncation > lim*d.Sigma {
+			t.Errorf("%s: truncation %.3g is more than %g σ (%.3g) in a fit that covers v ≤ 6", name, d.Truncation, lim, d.Sigma)
+		}
+	}
+}
+
+// TestTruncationTermValues: ω_e, ω_e x_e from the term values of three levels
+// (next term ω_e y_e) and B_e, α_e from the B_v of two (next term γ_e) and of
+// three levels, 12C16O as above.
+func TestTruncationTermValues(t *testing.T) {
+	tv := ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}
+	y := withHigher(hhCO, gammaCO)
+	t.Run("three levels", func(t *testing.T) {
+		truncationCase(t, hhCO, y, [][2]int{{1, 0}, {2, 0}, {2, 1}}, 30, tv, []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e"}, map[string]bool{"omega_e": true, "omega_e_x_e": true})
+	})
+	t.Run("two levels", func(t *testing.T) {
+		ds := truncationCase(t, hhCO, y, [][2]int{{1, 0}}, 30, tv, []string{"B_e", "alpha_e"}, nil)
+		// Two B_v give B_e = B_0 + ½α_e exactly; an omitted γ_e(v+½)² of
+		// size c moves α_e by −2c and B_e by −(3/4)c, c = α_e²/B_e by the
+		// next-term rule.
+		be, ae := derivedOf(t, ds, "B_e", "12C16O"), derivedOf(t, ds, "alpha_e", "12C16O")
+		c := ae.Value * ae.Value / be.Value
+		if !scalar.EqualWithinRel(ae.Truncation, 2*c, 1e-6) || !scalar.EqualWithinRel(be.Truncation, 0.75*c, 1e-6) {
+			t.Errorf("two levels: truncation of α_e %.6g, B_e %.6g; want 2c = %.6g and (3/4)c = %.6g, c = α_e²/B_e", ae.Truncation, be.Truncation, 2*c, 0.75*c)
+		}
+	})
+}
+
+// TestTruncationAgainstRefit checks the first-order shift against a direct
+// refit: the lines moved by c·b_i, b_i the omitted term's column written out
+// here independently (termEnergy of a unit Y_kl, mass-scaled for the second
+// isotopologue), fitted again; the parameters must change by Shift.
+func TestTruncationAgainstRefit(t *testing.T) {
+	y := hhCO.dunham()
+	muRef, mu13 := reducedMass(t, "12C16O"), reducedMass(t, "13C16O")
+	bands := [][2]int{{1, 0}, {2, 0}, {2, 1}}
+	lines := append(makeLines("12C16O", "a.csv", y, irBranches(bands, 25), 1e-3, newRNG(2)),
+		makeLines("13C16O", "a.csv", massScaled(y, muRef, mu13), irBranches([][2]int{{1, 0}}, 20), 2e-3, newRNG(3))...)
+	renumber(lines)
+	spec := ModelSpec{Kind: model.KindDunham, Terms: DefaultTerms(model.KindDunham)}
+	r := mustFit(t, lines, spec, Settings{})
+	if len(r.Truncation) != 4 {
+		t.Fatalf("%d omitted terms, want Y30, Y21, Y12, Y03", len(r.Truncation))
+	}
+	for _, tt := range r.Truncation {
+		unit := yset{{tt.K, tt.L}: 1}
+		moved := make([]linelist.Line, len(lines))
+		copy(moved, lines)
+		for i, l := range moved {
+			u := unit
+			if l.Species != "12C16O" {
+				u = massScaled(unit, muRef, mu13)
+			}
+			moved[i].Position += tt.Size * (termEnergy(u, l.VUp, l.JUp) - termEnergy(u, l.VLo, l.JLo))
+		}
+		r2 := mustFit(t, moved, spec, Settings{})
+		for _, j := range r.Free {
+			got, want := tt.Shift[j], r2.Params[j].Value-r.Params[j].Value
+			if !scalar.EqualWithinAbsOrRel(got, want, 1e-9*math.Abs(r.Params[j].Value)+1e-3*r.Params[j].Sigma, 1e-6) {
+				t.Errorf("%s of size %.3g: shift of %s %.9g, refit %.9g", tt.Name, tt.Size, r.Params[j].ID(), got, want)
+			}
+		}
+	}
+}
+
+func containsAll(s string, parts ...string) bool {
+	for _, p := range parts {
+		if !strings.Contains(s, p) {
+			return false
+		}
+	}
+	return true
+}
