@@ -2,6 +2,7 @@ package constants
 
 import (
 	"math"
+	"strconv"
 	"strings"
 
 	"bandwright/fit/linelist"
@@ -130,6 +131,21 @@ func (rec *Record) roundStep(id string) (RoundStep, bool) {
 func (rec *Record) DerivedText(d Derived) (text, unit string) {
 	sh := ShowDerived(d, rec.ShownIn())
 	return FormatParen(sh.Value, sh.Sigma), sh.Unit
+}
+
+// TruncationLegend explains the series truncation beside the derived
+// constants, in fit.md and in the report alike.
+const TruncationLegend = "σ is the statistical uncertainty from the fit's covariance. The series truncation is the first-order shift of a constant by the terms the fitted series leave out — the next term of each series (vibration, B_v, D_v, rotation; for term values those of G(v) and B_v) at the size the series itself suggests, c_K²/|c_(K−1)| of its last two terms, each carried through the fit and combined in quadrature: an order of magnitude of how far a constant of a truncated model may lie from the equilibrium constant its name stands for. Where it exceeds σ, σ alone does not cover the truth; fit more levels or the next term."
+
+// DerivedTruncationText returns the series truncation of derived constant d
+// of rec (Derived.Truncation) in the unit DerivedText shows d in, to two
+// significant digits (an order of magnitude); "" when it was not estimated.
+func (rec *Record) DerivedTruncationText(d Derived) string {
+	if d.Truncation == 0 {
+		return ""
+	}
+	sh := ShowDerived(Derived{Value: d.Value, Sigma: d.Truncation, Unit: d.Unit}, rec.ShownIn())
+	return strconv.FormatFloat(sh.Sigma, 'g', 2, 64)
 }
 
 // RMS returns the rms of o−c of the used lines in rec's display unit.

@@ -1,7 +1,9 @@
 package fit
 
 import (
+	"bytes"
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -10,6 +12,7 @@ import (
 	"bandwright/constants"
 	"bandwright/fit/linelist"
 	"bandwright/fit/model"
+	"bandwright/internal/mdtext"
 )
 
 // The series truncation of derived constants (truncation.go, Derived.Truncation)
@@ -180,4 +183,84 @@ func containsAll(s string, parts ...string) bool {
 		}
 	}
 	return true
+}
+
+// TestTruncationOutputs: the truncation reaches constants.json (read back)
+// and fit.md's derived-constants table (column "series truncation", in the
+// unit of the value: cm⁻¹ here, kHz for D_e with --unit MHz).
+func TestTruncationOutputs(t *testing.T) {
+	lines := makeLines("12C16O", "lines.csv", withHigher(hhCO, gammaCO), irBranches([][2]int{{1, 0}, {2, 0}, {2, 1}}, 30), 1e-3, newRNG(11))
+	for _, unit := range []linelist.Unit{linelist.Wavenumber, linelist.MHz} {
+		m, err := BuildModel(lines, ModelSpec{Kind: model.KindDunham, Terms: DefaultTerms(model.KindDunham)})
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := Problem{Lines: lines, Model: m}
+		r, err := Fit(p, Settings{Unit: unit})
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec := NewRecord(r)
+		var js bytes.Buffer
+		if err := rec.Write(&js); err != nil {
+			t.Fatal(err)
+		}
+		back, err := constants.Read(&js, "constants.json")
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := map[string]float64{}
+		for _, d := range back.Derived {
+			if d.Species == "12C16O" {
+				want[d.Name] = d.Truncation
+			}
+		}
+		if we := derivedOf(t, r.Derived, "omega_e", "12C16O"); want["omega_e"] != we.Truncation || we.Truncation == 0 {
+			t.Errorf("constants.json: truncation of omega_e %g, fit %g", want["omega_e"], we.Truncation)
+		}
+		var md bytes.Buffer
+		if err := WriteSummary(&md, p, r, rec); err != nil {
+			t.Fatal(err)
+		}
+		col := -1
+		seen := 0
+		for _, line := range strings.Split(md.String(), "\n") {
+			cells := mdtext.SplitRow(line)
+			if !strings.HasPrefix(line, "|") || len(cells) < 6 {
+				continue
+			}
+			if cells[3] == "series truncation" {
+				col = 3
+				continue
+			}
+			name := mdtext.Unescape(cells[0])
+			if col < 0 || len(name) == 0 || cells[1] != "12C16O" {
+				continue
+			}
+			tr, ok := want[name[0].Text]
+			if !ok || (name[0].Text != "omega_e" && name[0].Text != "D_e") {
+				continue
+			}
+			got, err := strconv.ParseFloat(cells[col], 64)
+			if err != nil {
+				t.Fatalf("fit.md (%s): %s: series truncation %q: %v", unit, name[0].Text, cells[col], err)
+			}
+			f := 1.0
+			if unit == linelist.MHz && name[0].Text == "D_e" {
+				f = linelist.MHz.FromWavenumber(1) * 1e3 // kHz
+				if cells[4] != "kHz" {
+					t.Errorf("fit.md (MHz): D_e in %q, want kHz", cells[4])
+				}
+			} else if unit == linelist.MHz {
+				f = linelist.MHz.FromWavenumber(1) // ω_e in MHz
+			}
+			if !scalar.EqualWithinRel(got, tr*f, 0.05) {
+				t.Errorf("fit.md (%s): %s: series truncation %g, want %.2g", unit, name[0].Text, got, tr*f)
+			}
+			seen++
+		}
+		if seen != 2 {
+			t.Errorf("fit.md (%s): %d rows of omega_e and D_e with a series truncation, want 2", unit, seen)
+		}
+	}
 }

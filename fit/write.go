@@ -233,10 +233,10 @@ func summaryConstants(b *strings.Builder, r *Result, rec *constants.Record) {
 		fmt.Fprintf(b, "\nValues rounded by sequential rounding and refitting (Le Roy 1998; rounding units from Watson's parameter sensitivity, 1977), written with every digit the rounding kept; χ² %.6g before, %.6g after rounding. σ are those of the unrounded fit.\n", r.Rounding.Chi2Before, r.Rounding.Chi2After)
 	}
 	if len(rec.Derived) > 0 {
-		b.WriteString("\n## Derived constants\n\n| constant | species | value | unit | note |\n|---|---|---|---|---|\n")
+		b.WriteString("\n## Derived constants\n\n" + mdtext.Escape(constants.TruncationLegend) + "\n\n| constant | species | value | series truncation | unit | note |\n|---|---|---|---|---|---|\n")
 		for _, d := range rec.Derived {
 			text, unit := rec.DerivedText(d)
-			fmt.Fprintf(b, "| %s | %s | %s | %s | %s |\n", mdtext.Escape(d.Name), mdtext.Escape(d.Species), text, unit, mdtext.Escape(d.Note))
+			fmt.Fprintf(b, "| %s | %s | %s | %s | %s | %s |\n", mdtext.Escape(d.Name), mdtext.Escape(d.Species), text, rec.DerivedTruncationText(d), unit, mdtext.Escape(d.Note))
 		}
 	}
 }

@@ -199,12 +199,13 @@ func constantsSection(d *document, f *folder) {
 		d.table(s, rt)
 	}
 	if len(rec.Derived) > 0 {
-		dt := &table{Caption: "Derived constants, σ propagated through the full covariance (σ² = gᵀCg).", Head: []string{"constant", "name in the files", "species", "value (1σ)", "unit", "how"},
-			Numeric: []bool{false, false, false, true, false, false}, Kind: []cellKind{cellName, cellText, cellSpecies, cellText, cellUnit}, HTMLOnly: []bool{true}}
+		dt := &table{Caption: "Derived constants, σ propagated through the full covariance (σ² = gᵀCg), and their series truncation.", Head: []string{"constant", "name in the files", "species", "value (1σ)", "series truncation", "unit", "how"},
+			Numeric: []bool{false, false, false, true, true, false, false}, Kind: []cellKind{cellName, cellText, cellSpecies, cellText, cellText, cellUnit}, HTMLOnly: []bool{true}}
 		for _, x := range rec.Derived {
 			text, unit := rec.DerivedText(x)
-			dt.Rows = append(dt.Rows, []string{x.Name, x.Name, x.Species, typeset.Number(text), unit, x.Note})
+			dt.Rows = append(dt.Rows, []string{x.Name, x.Name, x.Species, typeset.Number(text), typeset.Number(rec.DerivedTruncationText(x)), unit, x.Note})
 		}
+		s.para("%s", constants.TruncationLegend)
 		d.table(s, dt)
 	} else {
 		s.para("The fit derived no further constants.")
