@@ -130,6 +130,15 @@ func (r *Result) add(out *[]constants.Derived, name, sp string, q linear, unit, 
 // constant (Derived.Neglected and its note). The same holds for ω_e and B_e
 // from term values, which estimate Y10 and Y01.
 //
+// Every derived constant carries its series truncation (Derived.Truncation):
+// its first-order shift by the next term of each series the fit omits, at
+// the size model.NextTerm expects, combined in quadrature — for a Dunham fit
+// g·δp with δp of each omitted term from Result.Truncation (truncation.go),
+// for the secondary fits of term values the response of the generalised
+// least squares to the next term of G(v) (ω_e y_e) and of B_v (γ_e)
+// (gvTruncation, bvTruncation). Where it reaches a tenth of σ the note says
+// so (withTruncation).
+//
 // Term-values fits: band origins ν₀ = T_v′ − T_v″ of the bands present; with two or
 // more levels of an isotopologue, B_e and α_e (and γ_e with four or more) from
 // a generalised least-squares fit of B_v = B_e − α_e(v+½) + γ_e(v+½)² that uses
