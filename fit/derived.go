@@ -334,7 +334,7 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 			}
 			coef, G, ok := gls(r, bIdx, vs, x, ncoef)
 			if ok {
-				bvTruncation(coef, G, vs)
+				bvTruncation(r, coef, G, bIdx, vs, x)
 				names := []string{"B_e", "alpha_e", "gamma_e"}
 				for c := 0; c < ncoef; c++ {
 					r.add(out, names[c], label, coef[c], "cm-1", "from the B_v by generalised least squares")
@@ -369,7 +369,11 @@ func deriveTermValues(r *Result, m *model.TermValues, out *[]constants.Derived) 
 // (coefficients of 1, −(v+½), (v+½)²; β = G·B) the shift by the next term of
 // the series B_v = Σ b_n (v+½)^n, of size model.NextTerm over the fitted b_n
 // (γ_e ≈ α_e²/B_e after α_e) at every level: δβ = G·(c·(v+½)^n).
-func bvTruncation(coef []linear, G *mat.Dense, vs []int) {
+//
+// Where the B_v of more levels than coefficients determine the next term, its
+// size is capped at what they allow, |ĉ| + 2σ_c of the term fitted beside the
+// others (the rule of the main fit's omitted terms, capByData).
+func bvTruncation(r *Result, coef []linear, G *mat.Dense, idx, vs []int, x func(v int) []float64) {
 	b := make([]float64, len(coef))
 	for c := range coef {
 		b[c] = coef[c].v * []float64{1, -1, 1}[c]
@@ -382,7 +386,15 @@ func bvTruncation(coef []linear, G *mat.Dense, vs []int) {
 	if n != 2 {
 		name = fmt.Sprintf("(v+½)^%d term of B_v", n)
 	}
-	seriesShift(coef, G, vs, name, size, func(v int) float64 { return math.Pow(float64(v)+0.5, float64(n)) })
+	col := func(v int) float64 { return math.Pow(float64(v)+0.5, float64(n)) }
+	if len(vs) > len(coef) {
+		xt := func(v int) []float64 { return append(x(v), col(v)) }
+		if ext, _, ok := gls(r, idx, vs, xt, len(coef)+1); ok {
+			c := ext[len(coef)]
+			size = math.Min(size, math.Abs(c.v)+2*sigmaOf(r, c.g))
+		}
+	}
+	seriesShift(coef, G, vs, name, size, col)
 }
 
 // gvTruncation adds to ω_e and ω_e x_e from the term values T_v = G(v) − G(0)

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/floats"
@@ -161,34 +162,68 @@ func (w *work) truncation() []TruncationTerm {
 	if w.res.Cov.SymmetricDim() != ncol {
 		return nil
 	}
+	// Per term: h = AᵀW b, bWb = bᵀW b and bWr = bᵀW r (r = o − c).
 	h := make([][]float64, len(terms))
 	for t := range h {
 		h[t] = make([]float64, ncol)
 	}
+	bWb := make([]float64, len(terms))
+	bWr := make([]float64, len(terms))
 	a := make([]float64, ncol)
 	col := make([]float64, len(terms))
 	gu := make([]float64, len(w.params))
 	gl := make([]float64, len(w.params))
+	w.residuals()
 	for _, i := range w.rows {
 		_, u := dsg.row(i, a)
 		w.omittedColumns(m, terms, i, gu, gl, col)
 		for t := range terms {
-			f := terms[t].Size * col[t] / (u * u)
+			f := col[t] / (u * u)
 			if f == 0 {
 				continue
 			}
 			floats.AddScaled(h[t], f, a)
+			bWb[t] += f * col[t]
+			bWr[t] += f * w.omc[i]
 		}
 	}
+	s := math.Max(w.sigma(), 1)
 	for t := range terms {
 		var dp mat.VecDense
-		dp.MulVec(w.res.Cov, mat.NewVecDense(ncol, h[t]))
+		hv := mat.NewVecDense(ncol, h[t])
+		dp.MulVec(w.res.Cov, hv)
+		terms[t].capByData(bWb[t], bWr[t], mat.Dot(hv, &dp), s)
 		terms[t].Shift = make([]float64, len(w.params))
 		for c, j := range free {
-			terms[t].Shift[j] = dp.AtVec(c)
+			terms[t].Shift[j] = terms[t].Size * dp.AtVec(c)
 		}
 	}
 	return terms
+}
+
+// dataDetermined is the smallest share of the omitted term's weighted norm
+// bᵀWb that must lie outside the span of the fitted terms for the lines to
+// determine the term (below it the term is a combination of the fitted ones,
+// as Y30 is of Y10 and Y20 over three vibrational levels).
+const dataDetermined = 1e-6
+
+// capByData lowers the term's size to what the lines allow where they
+// determine it: fitted beside the model's terms it would come out
+// ĉ = bᵀW r / b⊥ᵀW b⊥ with σ_c = s/√(b⊥ᵀW b⊥), b⊥ the part of b outside the
+// span of the fitted terms (b⊥ᵀW b⊥ = bᵀWb − hᵀ(AᵀWA)⁻¹h, h = AᵀWb; AᵀW r = 0
+// at the least-squares solution) and s = max(1, the fit's s). The lines then
+// bound |c| by |ĉ| + 2σ_c; the size is the smaller of that and the
+// series' expected size (dataBoundRule).
+func (t *TruncationTerm) capByData(bWb, bWr, hCh, s float64) {
+	perp := bWb - hCh
+	if !(bWb > 0) || !(perp > dataDetermined*bWb) {
+		return
+	}
+	bound := math.Abs(bWr/perp) + 2*s/math.Sqrt(perp)
+	if bound < t.Size {
+		t.Rule = fmt.Sprintf("%s = %.2g, capped by the lines at |ĉ| + 2σ_c = %.2g, the term as the lines would determine it were it fitted (ĉ = %.2g, σ_c = %.2g)", t.Rule, t.Size, bound, bWr/perp, s/math.Sqrt(perp))
+		t.Size = bound
+	}
 }
 
 // omittedColumns fills col[t] with b_i = (1+κ_f)·∂ν_i/∂Y_kl of line i for

@@ -80,7 +80,7 @@ func TestTruncationFewLevels(t *testing.T) {
 	dunham := ModelSpec{Kind: model.KindDunham, Terms: DefaultTerms(model.KindDunham)}
 	all := []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e", "D_e"}
 	t.Run("12C16O", func(t *testing.T) {
-		ds := truncationCase(t, hhCO, withHigher(hhCO, gammaCO), bands, 30, dunham, all, map[string]bool{"omega_e": true, "omega_e_x_e": true})
+		ds := truncationCase(t, hhCO, withHigher(hhCO, gammaCO), bands, 30, dunham, all, map[string]bool{"omega_e": true, "omega_e_x_e": true, "B_e": true, "alpha_e": true})
 		// The effect the truncation stands for: ω_e 5.75·ω_e y_e low, to
 		// well within the rule's order of magnitude.
 		we := derivedOf(t, ds, "omega_e", "12C16O")
@@ -97,7 +97,7 @@ func TestTruncationFewLevels(t *testing.T) {
 		}
 	})
 	t.Run("1H35Cl", func(t *testing.T) {
-		truncationCase(t, hhHCl, withHigher(hhHCl, 0), bands, 15, dunham, all, map[string]bool{"omega_e": true, "omega_e_x_e": true, "B_e": true, "D_e": true})
+		truncationCase(t, hhHCl, withHigher(hhHCl, 0), bands, 15, dunham, all, map[string]bool{"omega_e": true, "omega_e_x_e": true, "B_e": true, "alpha_e": true, "D_e": true})
 	})
 }
 
@@ -124,7 +124,7 @@ func TestTruncationTermValues(t *testing.T) {
 	tv := ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}
 	y := withHigher(hhCO, gammaCO)
 	t.Run("three levels", func(t *testing.T) {
-		truncationCase(t, hhCO, y, [][2]int{{1, 0}, {2, 0}, {2, 1}}, 30, tv, []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e"}, map[string]bool{"omega_e": true, "omega_e_x_e": true})
+		truncationCase(t, hhCO, y, [][2]int{{1, 0}, {2, 0}, {2, 1}}, 30, tv, []string{"omega_e", "omega_e_x_e", "B_e", "alpha_e"}, map[string]bool{"omega_e": true, "omega_e_x_e": true, "B_e": true, "alpha_e": true})
 	})
 	t.Run("two levels", func(t *testing.T) {
 		ds := truncationCase(t, hhCO, y, [][2]int{{1, 0}}, 30, tv, []string{"B_e", "alpha_e"}, nil)
