@@ -123,6 +123,9 @@ func (r *runner) one(ctx context.Context, t task, jr *jobRunner) FileOutcome {
 		drift, err = a.record(t.name, t.sha, fo.Started, fo.Finished, out, msg, res.Constants, r.o.DriftSigma)
 		return err
 	}); err != nil {
+		if isArchiveFault(err) {
+			return r.archiveFailed(fo, err)
+		}
 		r.fatal(err)
 		return skip("not recorded: " + err.Error())
 	}
