@@ -3,6 +3,7 @@ package fit
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -44,6 +45,11 @@ type TruncationTerm struct {
 	// Result.Params; 0 for fixed ones) when the lines in use are moved by
 	// Size·b_i: δp above.
 	Shift []float64
+	// level and pow: for a term-values model, the level (isotopologue index,
+	// v) whose rotational series the term continues and its power of
+	// x = J(J+1) (omittedLevelTerms).
+	level [2]int
+	pow   int
 	// base is the parameter index of the model's term of the same l below
 	// it, Y_(K−dk),L, from whose derivative its own is formed
 	// (omittedDerivative); -1 for the next rotational term (0, L+1), whose
@@ -144,15 +150,27 @@ func series0(y func(k, l int) float64, top int) []float64 {
 	return c
 }
 
-// truncation returns the omitted terms of a Dunham fit with their shifts of
-// the parameters (see TruncationTerm), from the lines in use and the
-// unscaled covariance of the last solve; nil for other models.
+// truncation returns the omitted terms of a Dunham fit, or of a closed-shell
+// term-values fit (omittedLevelTerms), with their shifts of the parameters
+// (see TruncationTerm), from the lines in use and the unscaled covariance of
+// the last solve; nil otherwise.
 func (w *work) truncation() []TruncationTerm {
-	m, ok := w.p.Model.(*model.Dunham)
-	if !ok || w.res == nil {
+	if w.res == nil {
 		return nil
 	}
-	terms := omittedTerms(m, w.values)
+	var terms []TruncationTerm
+	var columns func(i int, gu, gl, col []float64)
+	switch m := w.p.Model.(type) {
+	case *model.Dunham:
+		terms = omittedTerms(m, w.values)
+		columns = func(i int, gu, gl, col []float64) { w.omittedColumns(m, terms, i, gu, gl, col) }
+	case *model.TermValues:
+		if w.lm != nil {
+			return nil // open-shell levels: their distortion series are not treated
+		}
+		terms = omittedLevelTerms(m, w.values)
+		columns = func(i int, _, _, col []float64) { w.levelColumns(terms, i, col) }
+	}
 	if len(terms) == 0 {
 		return nil
 	}
@@ -162,12 +180,13 @@ func (w *work) truncation() []TruncationTerm {
 	if w.res.Cov.SymmetricDim() != ncol {
 		return nil
 	}
-	// Per term: h = AᵀW b, bWb = bᵀW b and bWr = bᵀW r (r = o − c).
+	// Per term: h = AᵀW b; between terms: BᵀWB; and BᵀW r (r = o − c).
 	h := make([][]float64, len(terms))
+	bWb := make([][]float64, len(terms))
 	for t := range h {
 		h[t] = make([]float64, ncol)
+		bWb[t] = make([]float64, len(terms))
 	}
-	bWb := make([]float64, len(terms))
 	bWr := make([]float64, len(terms))
 	a := make([]float64, ncol)
 	col := make([]float64, len(terms))
@@ -176,26 +195,34 @@ func (w *work) truncation() []TruncationTerm {
 	w.residuals()
 	for _, i := range w.rows {
 		_, u := dsg.row(i, a)
-		w.omittedColumns(m, terms, i, gu, gl, col)
+		columns(i, gu, gl, col)
 		for t := range terms {
 			f := col[t] / (u * u)
 			if f == 0 {
 				continue
 			}
 			floats.AddScaled(h[t], f, a)
-			bWb[t] += f * col[t]
+			floats.AddScaled(bWb[t], f, col)
 			bWr[t] += f * w.omc[i]
 		}
 	}
-	s := math.Max(w.sigma(), 1)
+	dps := make([]*mat.VecDense, len(terms))
+	hCh := make([][]float64, len(terms))
 	for t := range terms {
-		var dp mat.VecDense
-		hv := mat.NewVecDense(ncol, h[t])
-		dp.MulVec(w.res.Cov, hv)
-		terms[t].capByData(bWb[t], bWr[t], mat.Dot(hv, &dp), s)
+		dps[t] = mat.NewVecDense(ncol, nil)
+		dps[t].MulVec(w.res.Cov, mat.NewVecDense(ncol, h[t]))
+	}
+	for t := range terms {
+		hCh[t] = make([]float64, len(terms))
+		for u := range terms {
+			hCh[t][u] = floats.Dot(h[t], dps[u].RawVector().Data)
+		}
+	}
+	capByData(terms, bWb, hCh, bWr, math.Max(w.sigma(), 1))
+	for t := range terms {
 		terms[t].Shift = make([]float64, len(w.params))
 		for c, j := range free {
-			terms[t].Shift[j] = terms[t].Size * dp.AtVec(c)
+			terms[t].Shift[j] = terms[t].Size * dps[t].AtVec(c)
 		}
 	}
 	return terms
@@ -207,22 +234,56 @@ func (w *work) truncation() []TruncationTerm {
 // as Y30 is of Y10 and Y20 over three vibrational levels).
 const dataDetermined = 1e-6
 
-// capByData lowers the term's size to what the lines allow where they
-// determine it: fitted beside the model's terms it would come out
-// ĉ = bᵀW r / b⊥ᵀW b⊥ with σ_c = s/√(b⊥ᵀW b⊥), b⊥ the part of b outside the
-// span of the fitted terms (b⊥ᵀW b⊥ = bᵀWb − hᵀ(AᵀWA)⁻¹h, h = AᵀWb; AᵀW r = 0
-// at the least-squares solution) and s = max(1, the fit's s). The lines then
-// bound |c| by |ĉ| + 2σ_c; the size is the smaller of that and the
-// series' expected size (dataBoundRule).
-func (t *TruncationTerm) capByData(bWb, bWr, hCh, s float64) {
-	perp := bWb - hCh
-	if !(bWb > 0) || !(perp > dataDetermined*bWb) {
+// capByData lowers each term's size to what the lines allow where they
+// determine it. Fitted all together beside the model's terms, the omitted
+// terms the lines determine would come out ĉ = M⁻¹BᵀWr with covariance
+// s²M⁻¹, M = BᵀWB − Hᵀ(AᵀWA)⁻¹H the part of their normal matrix outside the
+// span of the fitted terms (H = AᵀWB; AᵀWr = 0 at the least-squares solution)
+// and s = max(1, the fit's s) — jointly, because omitted terms of
+// overlapping levels absorb each other's share when fitted one at a time. A
+// term whose column lies in that span (Y30 over three vibrational levels) is
+// left out of the joint fit and keeps its size; the others are capped at
+// |ĉ| + 2σ_c where that is smaller than the series' expected size. When M of
+// the determined terms cannot be factorised, nothing is capped.
+func capByData(terms []TruncationTerm, bWb, hCh [][]float64, bWr []float64, s float64) {
+	var idx []int
+	for t := range terms {
+		if perp := bWb[t][t] - hCh[t][t]; bWb[t][t] > 0 && perp > dataDetermined*bWb[t][t] {
+			idx = append(idx, t)
+		}
+	}
+	if len(idx) == 0 {
 		return
 	}
-	bound := math.Abs(bWr/perp) + 2*s/math.Sqrt(perp)
-	if bound < t.Size {
-		t.Rule = fmt.Sprintf("%s = %.2g, capped by the lines at |ĉ| + 2σ_c = %.2g, the term as the lines would determine it were it fitted (ĉ = %.2g, σ_c = %.2g)", t.Rule, t.Size, bound, bWr/perp, s/math.Sqrt(perp))
-		t.Size = bound
+	m := mat.NewSymDense(len(idx), nil)
+	y := mat.NewVecDense(len(idx), nil)
+	for a, t := range idx {
+		y.SetVec(a, bWr[t])
+		for b := a; b < len(idx); b++ {
+			u := idx[b]
+			m.SetSym(a, b, bWb[t][u]-hCh[t][u])
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(m) {
+		return
+	}
+	var c mat.VecDense
+	if err := ch.SolveVecTo(&c, y); err != nil {
+		return
+	}
+	var inv mat.SymDense
+	if err := ch.InverseTo(&inv); err != nil {
+		return
+	}
+	for a, t := range idx {
+		sig := s * math.Sqrt(math.Max(inv.At(a, a), 0))
+		bound := math.Abs(c.AtVec(a)) + 2*sig
+		if bound < terms[t].Size {
+			terms[t].Rule = fmt.Sprintf("%s = %.2g, capped by the lines at |ĉ| + 2σ_c = %.2g, the term as the lines would determine it were it fitted with the other omitted terms they determine (ĉ = %.2g, σ_c = %.2g)",
+				terms[t].Rule, terms[t].Size, bound, c.AtVec(a), sig)
+			terms[t].Size = bound
+		}
 	}
 }
 
@@ -295,4 +356,53 @@ func termParam(m *model.Dunham, k, l int) int {
 		}
 	}
 	return -1
+}
+
+// omittedLevelTerms returns, for a term-values model of ¹Σ levels, the next
+// rotational term of every level: after the highest of B_v, D_v, H_v the
+// model has (none after L_v), of the size the level's own series suggests,
+// model.NextTerm over |B_v|, |D_v|, … (H ≈ D²/B after D; common practice,
+// order of magnitude); a level with B_v alone gets none. Each level's term is
+// its own omitted term, named as the parameter it would be ("H_v1[1H35Cl]").
+func omittedLevelTerms(m *model.TermValues, p []float64) []TruncationTerm {
+	var out []TruncationTerm
+	rot := model.RotTerms()
+	for s, sp := range m.Species() {
+		for _, v := range m.LevelsOf(s) {
+			c := make([]float64, len(rot)+1)
+			for _, n := range m.Terms() {
+				if j := m.Index(s, v, n); j >= 0 {
+					c[slices.Index(rot, n)+1] = math.Abs(p[j])
+				}
+			}
+			size, pow, ok := model.NextTerm(c, 1)
+			if !ok || pow > len(rot) || !(size > 0) {
+				continue
+			}
+			name := fmt.Sprintf("%s_v%d[%s]", rot[pow-1], v, sp)
+			out = append(out, TruncationTerm{Name: name, Size: size, Rule: ruleGeometric, level: [2]int{s, v}, pow: pow, base: -1, baseRot: -1})
+		}
+	}
+	return out
+}
+
+// levelColumns fills col[t] with b_i = (1+κ_f)·(x′^n [v′ is t's level] −
+// x″^n [v″ is t's level]) of line i for each level term t (x = J(J+1), n its
+// power).
+func (w *work) levelColumns(terms []TruncationTerm, i int, col []float64) {
+	l := &w.p.Lines[i]
+	s := w.sp[i]
+	fac := 1 + w.kappa[w.file[i]]
+	for t, tm := range terms {
+		col[t] = 0
+		if tm.level[0] != s {
+			continue
+		}
+		if tm.level[1] == l.VUp {
+			col[t] += fac * math.Pow(float64(l.JUp*(l.JUp+1)), float64(tm.pow))
+		}
+		if tm.level[1] == l.VLo {
+			col[t] -= fac * math.Pow(float64(l.JLo*(l.JLo+1)), float64(tm.pow))
+		}
+	}
 }

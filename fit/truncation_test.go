@@ -130,10 +130,11 @@ func TestTruncationTermValues(t *testing.T) {
 		ds := truncationCase(t, hhCO, y, [][2]int{{1, 0}}, 30, tv, []string{"B_e", "alpha_e"}, nil)
 		// Two B_v give B_e = B_0 + ½α_e exactly; an omitted γ_e(v+½)² of
 		// size c moves α_e by −2c and B_e by −(3/4)c, c = α_e²/B_e by the
-		// next-term rule.
+		// next-term rule. The omitted H_v of the two levels add a little in
+		// quadrature (CO: 5·10⁻⁴ of it).
 		be, ae := derivedOf(t, ds, "B_e", "12C16O"), derivedOf(t, ds, "alpha_e", "12C16O")
 		c := ae.Value * ae.Value / be.Value
-		if !scalar.EqualWithinRel(ae.Truncation, 2*c, 1e-6) || !scalar.EqualWithinRel(be.Truncation, 0.75*c, 1e-6) {
+		if ae.Truncation < 2*c || !scalar.EqualWithinRel(ae.Truncation, 2*c, 1e-2) || be.Truncation < 0.75*c || !scalar.EqualWithinRel(be.Truncation, 0.75*c, 1e-2) {
 			t.Errorf("two levels: truncation of α_e %.6g, B_e %.6g; want 2c = %.6g and (3/4)c = %.6g, c = α_e²/B_e", ae.Truncation, be.Truncation, 2*c, 0.75*c)
 		}
 	})
@@ -261,6 +262,36 @@ func TestTruncationOutputs(t *testing.T) {
 		}
 		if seen != 2 {
 			t.Errorf("fit.md (%s): %d rows of omega_e and D_e with a series truncation, want 2", unit, seen)
+		}
+	}
+}
+
+// TestTruncationLevelSeries: a term-values fit of 1H35Cl 1-0 and 2-0
+// (J ≤ 20) with B_v and D_v only, of lines made with the molecule's H (Huber &
+// Herzberg 1979 and Dunham's relations, from memory; H x³ reaches about
+// 1 cm⁻¹ at J = 20): each level's omitted H_v gets a truncation of its own, and
+// B_e, α_e from the B_v must cover the truth within 2.5·√(σ² + truncation²).
+func TestTruncationLevelSeries(t *testing.T) {
+	tv := ModelSpec{Kind: model.KindTermValues, Terms: []string{"B", "D"}}
+	lines := makeLines(hhHCl.label, "lines.csv", withHigher(hhHCl, 0), irBranches([][2]int{{1, 0}, {2, 0}}, 20), 1e-3, newRNG(13))
+	r := mustFit(t, lines, tv, Settings{})
+	named := 0
+	for _, tm := range r.Truncation {
+		if strings.HasPrefix(tm.Name, "H_v") {
+			named++
+			t.Logf("%s: size %.3g (%s)", tm.Name, tm.Size, tm.Rule)
+		}
+	}
+	if named != 3 {
+		t.Errorf("%d omitted H_v terms, want one per level (3)", named)
+	}
+	truth := truthOf(hhHCl)
+	for _, name := range []string{"B_e", "alpha_e"} {
+		d := derivedOf(t, r.Derived, name, hhHCl.label)
+		dev := d.Value - truth[name]
+		t.Logf("%s: %.9g, σ %.2g, truncation %.2g, truth %.9g (deviation %.3g), s = %.3g", name, d.Value, d.Sigma, d.Truncation, truth[name], dev, r.Stats.Sigma)
+		if lim := 2.5 * math.Hypot(d.Sigma, d.Truncation); math.Abs(dev) > lim {
+			t.Errorf("%s = %.9g: %.3g from the truth, beyond 2.5√(σ² + truncation²) = %.3g", name, d.Value, dev, lim)
 		}
 	}
 }
