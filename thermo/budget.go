@@ -25,6 +25,9 @@ const (
 	ContribDissociation = "dissociation"
 	// ContribOmega: ω_e of the electronic-states file (± its σ).
 	ContribOmega = "omega_e"
+	// ContribOmegaX: ω_e x_e of the electronic-states file (± its σ),
+	// independent of ω_e.
+	ContribOmegaX = "omega_e_x_e"
 	// ContribFineStructure: the fine structure the models neglect.
 	ContribFineStructure = "fine_structure"
 	// ContribFineConstants: the fine-structure constants of the vibrational
@@ -176,17 +179,20 @@ func (sys *System) buildBudget(p Problem, s Settings, tMax float64) error {
 
 // addSetAlternatives adds the level sums recomputed with the other choices
 // of the extrapolation: x_e at the ends of its prior where a record takes it
-// from the prior, α_e at half and 1.5 times the Pekeris value where it comes
-// from that relation, ω_e ± σ where it comes from the electronic-states file.
+// from the prior (not where ω_e x_e comes from the electronic-states file:
+// there the prior's x_e changes nothing), α_e at half and 1.5 times the
+// Pekeris value where it comes from that relation, ω_e ± σ and ω_e x_e ± σ
+// where they come from the electronic-states file.
 func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error {
 	bu := sys.budget
-	var usesPrior, usesPekeris, usesOmega, usesFine bool
+	var usesPrior, usesPekeris, usesOmega, usesOmegaX, usesFine bool
 	for _, src := range sys.sources {
 		if src == nil || !src.vib.determined || src.record == nil {
 			continue
 		}
 		usesFine = usesFine || (src.fine != nil && len(src.ext) > 0 && src.fine.hasFineConstants())
-		usesPrior = usesPrior || !src.vib.anharmonic
+		usesPrior = usesPrior || (!src.vib.anharmonic && !src.vib.givenAnharmonic)
+		usesOmegaX = usesOmegaX || src.vib.givenAnharmonic
 		usesPekeris = usesPekeris || len(src.recV) == 1
 		usesOmega = usesOmega || len(src.recV) == 1
 	}
@@ -219,6 +225,14 @@ func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error
 			Method:       methodRecomputed,
 			Rule:         "omega_e ± omega_e_sigma of the electronic-states file"},
 			[]buildOptions{{xe: xePriorCentre, alphaScale: 1, omegaShift: -1}, {xe: xePriorCentre, alphaScale: 1, omegaShift: 1}}})
+	}
+	if usesOmegaX && hasOmegaXSigma(sys.states) {
+		alts = append(alts, alt{Contribution{Name: ContribOmegaX,
+			What:         "ω_e x_e of the electronic-states file (the anharmonicity of the vibrational levels of a record with one level)",
+			Alternatives: []string{"ω_e x_e − σ", "ω_e x_e + σ"},
+			Method:       methodRecomputed,
+			Rule:         "omega_e_x_e ± omega_e_x_e_sigma of the electronic-states file, ω_e held (the two are independent); the Pekeris α_e and the dissociation estimate follow each"},
+			[]buildOptions{{xe: xePriorCentre, alphaScale: 1, omegaXShift: -1}, {xe: xePriorCentre, alphaScale: 1, omegaXShift: 1}}})
 	}
 	if usesFine {
 		alts = append(alts, alt{Contribution{Name: ContribFineConstants,
@@ -276,6 +290,15 @@ func appendNew(list []string, add ...string) []string {
 func hasOmegaSigma(states []State) bool {
 	for _, st := range states {
 		if st.OmegaE > 0 && st.OmegaESigma > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+func hasOmegaXSigma(states []State) bool {
+	for _, st := range states {
+		if st.OmegaE > 0 && st.OmegaEXE > 0 && st.OmegaEXESigma > 0 {
 			return true
 		}
 	}

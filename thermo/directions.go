@@ -37,7 +37,8 @@ type direction struct {
 //     power the record has, c = a_L²/|a_(L−1)| (H ≈ D²/B; after B alone the
 //     Kratzer value D = 4B³/ω_e²);
 //   - vibrational_levels: the next term of G(v) beyond the highest observed
-//     v, c·P_n(v+½; v_max+½), where the record determines the anharmonicity;
+//     v, c·P_n(v+½; v_max+½), where the record determines the anharmonicity
+//     or the electronic-states file gives ω_e x_e;
 //   - rotation_vibration: the next term of B_v beyond the highest observed v,
 //     c·P_n(v+½; v_max+½)·x (after B_e alone the Pekeris α_e), where the
 //     record determines B_v at two or more levels;
@@ -132,12 +133,13 @@ func (sys *System) rotationalDirection() direction {
 }
 
 // vibrationalDirection is the next term of G(v) beyond the observed v, where
-// the record determines the anharmonicity.
+// the record determines the anharmonicity or the electronic-states file gives
+// ω_e x_e (G(v) then stops at (v+½)² as well).
 func (sys *System) vibrationalDirection() direction {
 	applies := false
 	for _, m := range sys.manifolds {
 		_, _, ok := model.NextTerm(m.src.vib.g, 1)
-		applies = applies || (m.src.vib.anharmonic && ok)
+		applies = applies || (knownAnharmonicity(m.src.vib) && ok)
 	}
 	if !applies {
 		return direction{}
@@ -151,7 +153,7 @@ func (sys *System) vibrationalDirection() direction {
 		phi: func(m *manifold, k int) float64 {
 			v := int(m.v[k])
 			vib := m.src.vib
-			if !vib.anharmonic || v <= m.vObsOr(vib) {
+			if !knownAnharmonicity(vib) || v <= m.vObsOr(vib) {
 				return 0
 			}
 			c, n, ok := model.NextTerm(vib.g, 1)
@@ -162,6 +164,10 @@ func (sys *System) vibrationalDirection() direction {
 		},
 	}
 }
+
+// knownAnharmonicity reports whether ω_e x_e of vib is known (from the record
+// or the electronic-states file), not taken from the prior.
+func knownAnharmonicity(vib vibStructure) bool { return vib.anharmonic || vib.givenAnharmonic }
 
 // rotVibDirection is the next term of B_v beyond the observed v, where the
 // record determines B_v (two or more levels, or a Dunham model).

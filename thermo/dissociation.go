@@ -93,6 +93,8 @@ func birgeSponerLimit(vib vibStructure) Dissociation {
 	if !(wx > 0) {
 		wx = xePriorCentre * w
 		how = fmt.Sprintf("x_e = %.3g of the prior (the record's G(v) never turns over)", xePriorCentre)
+	} else if vib.givenAnharmonic {
+		how = fmt.Sprintf("ω_e x_e = %.4g cm-1 from the electronic-states file", wx)
 	} else if !vib.anharmonic {
 		how = fmt.Sprintf("ω_e x_e = %.4g cm-1 from x_e of the prior", wx)
 	}

@@ -83,7 +83,8 @@
 // a the nearest record level: ω_e and ω_e x_e fitted to the band origins of
 // three or more levels; from two levels ω_e = ΔG/(1 − x_e(v₀+v₁+1)) with x_e
 // = ω_e x_e/ω_e from a prior; from one level (pure rotation) ω_e from the
-// electronic-states file (omega_e) and x_e from the prior. The prior spans
+// electronic-states file (omega_e) and ω_e x_e from that file (omega_e_x_e)
+// where given, else x_e from the prior. The prior spans
 // x_e = 0.002 (heavy molecules) … 0.03 (hydrides), nominal 0.0077 (the
 // geometric centre). b₁ is the slope of the record's B_v (two or more
 // levels) or −α_e of the Pekeris relation α_e = 6√(ω_e x_e B³)/ω_e − 6B²/ω_e
@@ -122,8 +123,9 @@
 //
 //   - vibrational_levels: x_e at the ends of its prior (the level sum
 //     recomputed; the dissociation estimate follows each x_e), or, where the
-//     record determines the anharmonicity, the next term of G(v) beyond the
-//     observed v at its expected size;
+//     record determines the anharmonicity or the electronic-states file gives
+//     ω_e x_e, the next term of G(v) beyond the observed v at its expected
+//     size;
 //   - rotation_vibration: α_e at 0.5 and 1.5 times the Pekeris value (one
 //     level), or the next term of B_v beyond the observed v;
 //   - rotational_levels: the next centrifugal-distortion term beyond the
@@ -133,6 +135,8 @@
 //   - dissociation: D0 − σ and D0 + σ (the levels between the limits
 //     removed or added: the sum is enumerated once to the highest limit);
 //   - omega_e: ω_e ± σ of the electronic-states file (one level);
+//   - omega_e_x_e: ω_e x_e ± σ of the electronic-states file, ω_e held (one
+//     level; without σ the value is taken as exact and the note says so);
 //   - fine_structure: the spin components of an open-shell state whose fine
 //     structure the record does not describe split over its width W
 //     (fine_structure_width, or the embedded list of open-shell ground

@@ -80,9 +80,9 @@ func enumerate(p Problem, s Settings, tMax float64, o buildOptions) (*System, er
 // buildOptions are the choices a level sum is built with: the nominal ones
 // for the table, the alternatives' for the budget.
 type buildOptions struct {
-	// choice of the extrapolation (x_e, α factor); ω_e comes from each
-	// state, shifted by omegaShift of its σ.
-	xe, alphaScale, omegaShift float64
+	// choice of the extrapolation (x_e, α factor); ω_e and ω_e x_e come
+	// from each state, shifted by omegaShift and omegaXShift of their σ.
+	xe, alphaScale, omegaShift, omegaXShift float64
 	// alternative: a level sum of the budget (no extra levels above the
 	// nominal dissociation limit).
 	alternative bool
@@ -316,8 +316,9 @@ func (b *levelSum) weight(i, J int) float64 {
 // makeSources makes the level source of every state, the ground state's
 // first (sys.sources[0]): the state's record (its own, or the ground
 // state's) for the isotopologue, with the extrapolation of the levels it
-// lacks made with the build's choices (ω_e of the source's first state
-// shifted by omegaShift of its σ). A state whose record resolves its fine
+// lacks made with the build's choices (ω_e and ω_e x_e of the source's
+// first state shifted by omegaShift and omegaXShift of their σ; its ω_e x_e
+// replaces the prior's x_e). A state whose record resolves its fine
 // structure (recordFineState) gets a fine-structure source of its own; the
 // other states of one record share the record's ¹Σ source (the model's
 // Energy; J read as N). States share a source where they share both. It also
@@ -364,6 +365,10 @@ func (b *levelSum) makeSources() error {
 		}
 		if om.OmegaE > 0 {
 			ch.omega = om.OmegaE + b.opts.omegaShift*om.OmegaESigma
+		}
+		if om.OmegaE > 0 && om.OmegaEXE > 0 {
+			ch.omegaX = om.OmegaEXE + b.opts.omegaXShift*om.OmegaEXESigma
+			ch.omegaXExact = om.OmegaEXESigma == 0
 		}
 		sp := model.SpeciesIndex(c.Model, sys.iso.Label)
 		var src *levelSource

@@ -1,9 +1,14 @@
 package thermo
 
 import (
+	"bytes"
+	"fmt"
 	"math"
+	"slices"
+	"strings"
 	"testing"
 
+	"bandwright/constants"
 	"bandwright/fit/states"
 )
 
@@ -100,5 +105,75 @@ func TestHydrideOneLevelBudget(t *testing.T) {
 				t.Errorf("%g K %s: %s = %.3g, effect %.3g", r.T, name, ContribFineConstants, entry, effect)
 			}
 		}
+	}
+}
+
+// TestHydrideOneLevelAnharmonicity: the one-level 16OH record of
+// TestHydrideOneLevelBudget with ω_e = 3737.76 ± 1 and ω_e x_e = 84.88 ± 0.5
+// cm⁻¹ from the electronic-states file (Huber & Herzberg 1979, from memory;
+// the truth, hydroxyl, has 84.881). The anharmonicity replaces the prior
+// (nominal x_e 0.0077 against OH's 0.0227): the truth must lie within 2.5
+// σ_total at 298.15, 1000 and 3000 K, the budget carries omega_e_x_e and no
+// prior alternative, the source's note names the file, and σ_total of Cp° at
+// 3000 K must fall well below its value with the prior (measured: see the
+// log; asserted with a margin).
+func TestHydrideOneLevelAnharmonicity(t *testing.T) {
+	const d0 = 35420
+	truth := hydroxyl(d0)
+	lines := truth.openLines(t, [][2]int{{0, 0}}, 21, 1e-5, 11)
+	rec, cs := fitOpenRecord(t, lines, truth.state, []string{"B", "D", "A", "gamma", "p", "q"})
+	exact := truth.allLevels(t, d0)
+	temps := Settings{Temperatures: []float64{ReferenceTemperature, 1000, 3000}}
+	compute := func(omegaX, omegaXSigma float64) *Result {
+		st := StateOf(truth.state)
+		st.OmegaE, st.OmegaESigma = 3737.76, 1
+		st.OmegaEXE, st.OmegaEXESigma = omegaX, omegaXSigma
+		res, err := Compute(Problem{Constants: cs, Observed: rec.Observed, DissociationEnergy: d0, DissociationSigma: 30, States: []State{st}}, temps)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	prior, given := compute(0, 0), compute(84.88, 0.5)
+	checkLevelCoverage(t, given, exact, 2.5)
+	for i, r := range given.Rows {
+		p := prior.Rows[i]
+		for k, name := range FunctionNames[:4] {
+			w := bruteFunctions(r, exact).at(k)
+			t.Logf("%g K %-10s prior: σ_total %.3g |Δ|/σ_total %.2f; ω_e x_e: σ_total %.3g |Δ|/σ_total %.2f", r.T, name,
+				p.SigmaTotal.at(k), math.Abs(p.F.at(k)-w)/p.SigmaTotal.at(k), r.SigmaTotal.at(k), math.Abs(r.F.at(k)-w)/r.SigmaTotal.at(k))
+		}
+	}
+	hot := 2
+	ratio := given.Rows[hot].SigmaTotal.Cp / prior.Rows[hot].SigmaTotal.Cp
+	t.Logf("σ_total(Cp°, 3000 K): %.4g with ω_e x_e, %.4g with the prior (ratio %.3f)", given.Rows[hot].SigmaTotal.Cp, prior.Rows[hot].SigmaTotal.Cp, ratio)
+	for k, c := range given.Budget {
+		t.Logf("3000 K Cp° %-26s %.3g", c.Name, given.Rows[hot].Model[k].Cp)
+	}
+	if ratio > 0.5 {
+		t.Errorf("σ_total(Cp°, 3000 K) with ω_e x_e is %.3f of its value with the prior, want ≤ 0.5", ratio)
+	}
+	if !hasContribution(given, ContribOmegaX) || !hasContribution(given, ContribOmega) {
+		t.Errorf("budget %v lacks %s or %s", names(given.Budget), ContribOmegaX, ContribOmega)
+	}
+	for _, c := range given.Budget {
+		if c.Name == ContribVibrational && slices.Contains(c.Alternatives, fmt.Sprintf("x_e = %g", xePriorHigh)) {
+			t.Errorf("the prior's alternatives apply to a source whose ω_e x_e is given: %v", c.Alternatives)
+		}
+	}
+	var js bytes.Buffer
+	if err := given.WriteJSON(&js, constants.Provenance{}); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(js.String(), `"`+ContribOmegaX+`"`) || !strings.Contains(js.String(), "ω_e x_e = 84.88 cm-1 (x_e = 0.0227) from the electronic-states file") {
+		t.Errorf("thermo.json does not name %s or the source of ω_e x_e", ContribOmegaX)
+	}
+	// Without σ the value is taken as exact, and the notes say so.
+	exactRes := compute(84.88, 0)
+	if hasContribution(exactRes, ContribOmegaX) {
+		t.Errorf("budget %v has %s without a σ", names(exactRes.Budget), ContribOmegaX)
+	}
+	if !strings.Contains(strings.Join(exactRes.Warnings, "\n"), "from the electronic-states file (no σ given: taken as exact)") {
+		t.Errorf("warnings do not say ω_e x_e is taken as exact: %q", exactRes.Warnings)
 	}
 }

@@ -30,6 +30,11 @@ type State struct {
 	// electronic-states file, used when the state's record has a single
 	// vibrational level; 0 when not given.
 	OmegaE, OmegaESigma float64
+	// OmegaEXE and OmegaEXESigma are ω_e x_e and its 1σ (cm⁻¹) from the
+	// electronic-states file: with OmegaE, the anharmonicity x_e =
+	// OmegaEXE/OmegaE of a record with a single vibrational level, in place
+	// of the prior; 0 when not given.
+	OmegaEXE, OmegaEXESigma float64
 	// FineStructureWidth is the spread of the spin components of a level,
 	// cm⁻¹ (nil: not given; the embedded list of open-shell ground states
 	// supplies it for the ground states it knows).
@@ -41,12 +46,12 @@ type State struct {
 }
 
 // StateOf returns the thermo view of a state of an electronic-states file:
-// its label, term energy, case, ω_e, fine-structure width and products
+// its label, term energy, case, ω_e, ω_e x_e, fine-structure width and products
 // energy. Constants, Observed and Source stay empty: the caller loads the
 // state's record, if the file names one.
 func StateOf(s states.State) State {
 	return State{Label: s.Label, TermEnergy: s.TermEnergy, Multiplicity: s.Multiplicity, Lambda: s.Lambda, Symmetry: s.Symmetry,
-		OmegaE: s.OmegaE, OmegaESigma: s.OmegaESigma, FineStructureWidth: s.FineStructureWidth, ProductsEnergy: s.ProductsEnergy}
+		OmegaE: s.OmegaE, OmegaESigma: s.OmegaESigma, OmegaEXE: s.OmegaEXE, OmegaEXESigma: s.OmegaEXESigma, FineStructureWidth: s.FineStructureWidth, ProductsEnergy: s.ProductsEnergy}
 }
 
 // Problem is what the thermo stage works on: the fitted constants of the ground

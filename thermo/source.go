@@ -103,9 +103,14 @@ var xePriorCentre = math.Sqrt(xePriorLow * xePriorHigh)
 // extChoice holds the values a level source takes where the record cannot give
 // them; the budget's alternatives vary them.
 type extChoice struct {
-	xe         float64 // x_e of the prior (records with one or two vibrational levels)
-	omega      float64 // ω_e, cm⁻¹, from the electronic-states file (one vibrational level)
-	alphaScale float64 // factor on the Pekeris estimate of α_e (one vibrational level)
+	xe    float64 // x_e of the prior (records with one or two vibrational levels)
+	omega float64 // ω_e, cm⁻¹, from the electronic-states file (one vibrational level)
+	// omegaX is ω_e x_e, cm⁻¹, from the electronic-states file (one
+	// vibrational level, with omega); 0: x_e of the prior. omegaXExact: it
+	// was given without σ.
+	omegaX      float64
+	omegaXExact bool
+	alphaScale  float64 // factor on the Pekeris estimate of α_e (one vibrational level)
 	// fineAlternative: the fine-structure constants of the levels a
 	// fine-structure record lacks are extrapolated (the budget's
 	// alternative) instead of held at the nearest record level.
@@ -121,10 +126,13 @@ type vibStructure struct {
 	// vibrational spacing.
 	determined bool
 	// anharmonic: the anharmonicity comes from the record (not the prior).
-	anharmonic    bool
-	omega, omegaX float64   // ω_e, ω_e x_e, cm⁻¹
-	g, b          []float64 // coefficients of (v+½)^k in G(v) (g[0] unused) and B_v
-	vObsMax       int       // highest vibrational level the record determines directly
+	anharmonic bool
+	// givenAnharmonic: ω_e x_e comes from the electronic-states file (one
+	// vibrational level), not from the prior.
+	givenAnharmonic bool
+	omega, omegaX   float64   // ω_e, ω_e x_e, cm⁻¹
+	g, b            []float64 // coefficients of (v+½)^k in G(v) (g[0] unused) and B_v
+	vObsMax         int       // highest vibrational level the record determines directly
 }
 
 // levelSource is where the levels of one manifold come from: the constants
@@ -345,7 +353,8 @@ func dunhamVibration(m *model.Dunham, sp int, vals []float64, obs []int) vibStru
 // with ω_e, ω_e x_e fitted (least squares) to the band origins of three or
 // more levels; from two levels ω_e = ΔG/(1 − x_e(v_0+v_1+1)) with x_e of the
 // prior (ΔG the mean spacing); from one level ω_e of the electronic-states
-// file and x_e of the prior. B_v = B_a + b_1(u − u_a) with the slope b_1 of
+// file and ω_e x_e of that file where it gives one, else x_e of the prior
+// (ω_e x_e = x_e·ω_e). B_v = B_a + b_1(u − u_a) with the slope b_1 of
 // the record's B_v (least squares, two or more levels) or, from one level,
 // −α_e of the Pekeris relation α_e = 6√(ω_e x_e B³)/ω_e − 6B²/ω_e (times the
 // choice's factor, not below 0). The distortion coefficients (D, H, L) are the
@@ -377,7 +386,7 @@ func (s *levelSource) extendVibration() {
 	s.vib.b = []float64{b0, bSlope.eval(s.c.Values)}
 	vTop := maxV
 	if oxv > 0 {
-		vTop = min(maxV, int(math.Floor(ov/(2*oxv)-0.5)))
+		vTop = max(0, min(maxV, int(math.Floor(ov/(2*oxv)-0.5))))
 	}
 	distortion := meanForms(rec)
 	s.ext = make([][]linForm, vTop+1)
@@ -435,6 +444,16 @@ func (s *levelSource) vibrationalSpacing(rec [][]linForm) (omega, omegaX linForm
 		omega = omega.plus(f, rec[len(vs)-1][0]).plus(-f, rec[0][0])
 		omegaX = omegaX.plus(xe, omega)
 		s.note = fmt.Sprintf("ω_e from the spacing of v = %d and %d, anharmonicity x_e = %.3g from the prior %g…%g (the data do not determine it)", first, last, xe, xePriorLow, xePriorHigh)
+		return omega, omegaX, true
+	}
+	if s.choice.omega > 0 && s.choice.omegaX > 0 {
+		omega.c0, omegaX.c0 = s.choice.omega, s.choice.omegaX
+		s.vib.givenAnharmonic = true
+		exact := ""
+		if s.choice.omegaXExact {
+			exact = " (no σ given: taken as exact)"
+		}
+		s.note = fmt.Sprintf("ω_e = %g cm-1 and ω_e x_e = %g cm-1 (x_e = %.3g) from the electronic-states file%s", s.choice.omega, s.choice.omegaX, s.choice.omegaX/s.choice.omega, exact)
 		return omega, omegaX, true
 	}
 	if s.choice.omega > 0 {

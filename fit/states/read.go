@@ -33,6 +33,8 @@ import (
 //	constants = "excited.json"        # optional constants record of this state (thermo)
 //	omega_e = 1580.2                  # ω_e, cm-1, optional: for records without vibrational levels
 //	omega_e_sigma = 0.5               # its 1σ, cm-1, optional
+//	omega_e_x_e = 11.98               # ω_e x_e, cm-1, optional (needs omega_e): replaces the anharmonicity prior
+//	omega_e_x_e_sigma = 0.05          # its 1σ, cm-1, optional
 //	fine_structure_width = 4.0        # spread of the spin components of a level, cm-1, optional
 //	products_energy = 0.0             # energy of the state's dissociation products above the ground state's, cm-1, optional
 //	[state.start]                     # optional starting values of a fit, cm-1
@@ -52,7 +54,11 @@ import (
 // omega_e (with omega_e_sigma) gives the vibrational frequency of a state whose
 // constants record has a single vibrational level (a pure-rotation fit): the
 // levels v ≥ 1 are then extrapolated from it (see the package doc of thermo,
-// Uncertainty budget). fine_structure_width is the spread of the 2S+1 spin
+// Uncertainty budget). omega_e_x_e (with omega_e_x_e_sigma) gives the
+// anharmonicity of those levels, x_e = omega_e_x_e/omega_e, in place of the
+// prior that spans the ground states of diatomic molecules; it needs omega_e
+// in the same state and lies below omega_e/2 (else G(v) would fall from v =
+// 0). fine_structure_width is the spread of the 2S+1 spin
 // components (or the spin–orbit components) of one rotational level, which the
 // thermo stage does not resolve: about 2|λ| for a ³Σ state, |A| for a ²Π
 // state; it sizes the fine-structure entry of the uncertainty budget.
@@ -102,12 +108,14 @@ type rawState struct {
 	Constants        *string            `toml:"constants"`
 	OmegaE           *float64           `toml:"omega_e"`
 	OmegaESigma      *float64           `toml:"omega_e_sigma"`
+	OmegaEXE         *float64           `toml:"omega_e_x_e"`
+	OmegaEXESigma    *float64           `toml:"omega_e_x_e_sigma"`
 	FineWidth        *float64           `toml:"fine_structure_width"`
 	ProductsEnergy   *float64           `toml:"products_energy"`
 	Start            map[string]float64 `toml:"start"`
 }
 
-const statesKeys = "species, dissociation_energy, dissociation_energy_sigma, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants, omega_e, omega_e_sigma, fine_structure_width, products_energy, [state.start]"
+const statesKeys = "species, dissociation_energy, dissociation_energy_sigma, [[state]] with label, term_energy, spin_multiplicity, lambda, symmetry, constants, omega_e, omega_e_sigma, omega_e_x_e, omega_e_x_e_sigma, fine_structure_width, products_energy, [state.start]"
 
 // Read reads and checks an electronic-states file. name is the file name
 // used in messages. Unknown keys, missing required keys (term_energy, spin_multiplicity,
@@ -372,8 +380,9 @@ func readStateEntry(i int, rs rawState, ground int, at statesText) (State, error
 
 // readStateBudgetKeys reads the keys of a [[state]] that feed the uncertainty
 // budget: omega_e and omega_e_sigma (ω_e > 0, its σ ≥ 0 and below ω_e, only
-// with omega_e), fine_structure_width (≥ 0) and products_energy (≥ 0), all
-// finite, in cm⁻¹.
+// with omega_e), omega_e_x_e and omega_e_x_e_sigma (see readAnharmonicity),
+// fine_structure_width (≥ 0) and products_energy (≥ 0), all finite, in
+// cm⁻¹.
 func readStateBudgetKeys(s *State, rs rawState, fail func(key, format string, a ...any) error) error {
 	finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 	if rs.OmegaE != nil {
@@ -391,6 +400,9 @@ func readStateBudgetKeys(s *State, rs rawState, fail func(key, format string, a 
 		}
 		s.OmegaESigma = *rs.OmegaESigma
 	}
+	if err := readAnharmonicity(s, rs, fail); err != nil {
+		return err
+	}
 	if rs.FineWidth != nil {
 		if w := *rs.FineWidth; !(w >= 0) || !finite(w) {
 			return fail("fine_structure_width", "%v cm-1 must be a finite number ≥ 0", w)
@@ -403,6 +415,36 @@ func readStateBudgetKeys(s *State, rs rawState, fail func(key, format string, a 
 			return fail("products_energy", "%v cm-1 must be a finite number ≥ 0", w)
 		}
 		s.ProductsEnergy = *rs.ProductsEnergy
+	}
+	return nil
+}
+
+// readAnharmonicity reads omega_e_x_e and omega_e_x_e_sigma of a [[state]]
+// whose omega_e has been read into s: 0 < ω_e x_e < ω_e/2 (a G(v) =
+// ω_e(v+½) − ω_e x_e(v+½)² that rises from v = 0 to v = 1 needs ω_e x_e <
+// ω_e/2), given only with omega_e; its σ ≥ 0 and below ω_e x_e, given only
+// with omega_e_x_e; all finite, cm⁻¹.
+func readAnharmonicity(s *State, rs rawState, fail func(key, format string, a ...any) error) error {
+	finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+	if rs.OmegaEXE != nil {
+		w := *rs.OmegaEXE
+		if rs.OmegaE == nil {
+			return fail("omega_e_x_e", "given without omega_e (x_e = omega_e_x_e/omega_e needs both in the same state)")
+		}
+		if !(w > 0) || !finite(w) || w >= s.OmegaE/2 {
+			return fail("omega_e_x_e", "%v cm-1 must be a finite number > 0 and below omega_e/2 = %g", w, s.OmegaE/2)
+		}
+		s.OmegaEXE = w
+	}
+	if rs.OmegaEXESigma != nil {
+		w := *rs.OmegaEXESigma
+		if rs.OmegaEXE == nil {
+			return fail("omega_e_x_e_sigma", "given without omega_e_x_e")
+		}
+		if !(w >= 0) || !finite(w) || w >= s.OmegaEXE {
+			return fail("omega_e_x_e_sigma", "%v cm-1 must be a finite number ≥ 0 and below omega_e_x_e", w)
+		}
+		s.OmegaEXESigma = w
 	}
 	return nil
 }

@@ -120,6 +120,38 @@ func TestReadStatesErrors(t *testing.T) {
 	}
 }
 
+// TestReadAnharmonicity: omega_e_x_e and its σ are read with omega_e (OH
+// X²Π: ω_e = 3737.76, ω_e x_e = 84.88 cm⁻¹; Huber & Herzberg 1979, from
+// memory), and every misuse is an error naming the file, the line, the state
+// and the key.
+func TestReadAnharmonicity(t *testing.T) {
+	state := func(extra string) string {
+		return "[[state]]\nlabel = \"X\"\nterm_energy = 0.0\nspin_multiplicity = 2\nlambda = 1\n" + extra
+	}
+	c, err := Read(strings.NewReader(state("omega_e = 3737.76\nomega_e_sigma = 1.0\nomega_e_x_e = 84.88\nomega_e_x_e_sigma = 0.5\n")), "oh.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if x := c.States[0]; x.OmegaEXE != 84.88 || x.OmegaEXESigma != 0.5 || x.OmegaE != 3737.76 {
+		t.Errorf("X: %+v", x)
+	}
+	for _, tc := range []struct{ extra, want string }{
+		{"omega_e_x_e = 84.88\n", "oh.toml:6: state 1 (X): omega_e_x_e: given without omega_e"},
+		{"omega_e = 3737.76\nomega_e_x_e = 1868.88\n", "oh.toml:7: state 1 (X): omega_e_x_e: 1868.88 cm-1 must be a finite number > 0 and below omega_e/2 = 1868.88"},
+		{"omega_e = 3737.76\nomega_e_x_e = -84.88\n", "oh.toml:7: state 1 (X): omega_e_x_e: -84.88 cm-1 must be"},
+		{"omega_e = 3737.76\nomega_e_x_e = 0.0\n", "state 1 (X): omega_e_x_e: 0 cm-1 must be"},
+		{"omega_e = 3737.76\nomega_e_x_e = nan\n", "state 1 (X): omega_e_x_e: NaN cm-1 must be"},
+		{"omega_e = 3737.76\nomega_e_x_e = 84.88\nomega_e_x_e_sigma = -0.5\n", "oh.toml:8: state 1 (X): omega_e_x_e_sigma: -0.5 cm-1 must be a finite number ≥ 0 and below omega_e_x_e"},
+		{"omega_e = 3737.76\nomega_e_x_e = 84.88\nomega_e_x_e_sigma = 90.0\n", "omega_e_x_e_sigma: 90 cm-1 must be"},
+		{"omega_e = 3737.76\nomega_e_x_e_sigma = 0.5\n", "oh.toml:7: state 1 (X): omega_e_x_e_sigma: given without omega_e_x_e"},
+	} {
+		_, err := Read(strings.NewReader(state(tc.extra)), "oh.toml")
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%q: %v, want %q", tc.extra, err, tc.want)
+		}
+	}
+}
+
 // FuzzReadStates: the electronic-states reader never panics, and whatever it
 // accepts is a valid electronic-states file (one ground state, finite
 // non-negative energies).
@@ -128,6 +160,7 @@ func FuzzReadStates(f *testing.F) {
 	f.Add("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 1\nlambda = 0\n")
 	f.Add("species = \"14N2\"\n[[state]]\nterm_energy = 0\nspin_multiplicity = 1\nlambda = 0\nsymmetry = \"g+\"\n")
 	f.Add("[[state]\n")
+	f.Add("[[state]]\nterm_energy = 0.0\nspin_multiplicity = 2\nlambda = 1\nomega_e = 3737.76\nomega_e_x_e = 84.88\nomega_e_x_e_sigma = 0.5\n")
 	f.Add("state = 5")
 	f.Add("[" + strings.Repeat("state.", 2000) + "x]\n")
 	f.Add("x = " + strings.Repeat("{a = ", 100) + "1" + strings.Repeat("}", 100) + "\n")
@@ -145,6 +178,9 @@ func FuzzReadStates(f *testing.F) {
 		for _, st := range c.States {
 			if !(st.TermEnergy >= 0) || st.Multiplicity < 1 || st.Lambda < 0 {
 				t.Fatalf("accepted bad state %+v", st)
+			}
+			if st.OmegaEXE < 0 || (st.OmegaEXE > 0 && !(st.OmegaEXE < st.OmegaE/2)) || st.OmegaEXESigma > st.OmegaEXE {
+				t.Fatalf("accepted bad ω_e x_e %+v", st)
 			}
 			if st.TermEnergy == 0 {
 				ground++

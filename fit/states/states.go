@@ -61,6 +61,10 @@ type State struct {
 	// OmegaE and OmegaESigma are ω_e and its 1σ, cm⁻¹; 0 when not given (for
 	// the thermo stage, see File).
 	OmegaE, OmegaESigma float64
+	// OmegaEXE and OmegaEXESigma are ω_e x_e and its 1σ, cm⁻¹; 0 when not
+	// given (thermo: the anharmonicity of a record with one vibrational
+	// level, which otherwise comes from a prior).
+	OmegaEXE, OmegaEXESigma float64
 	// FineStructureWidth is the spread of the spin components of a level,
 	// cm⁻¹; nil when not given (thermo).
 	FineStructureWidth *float64
