@@ -157,8 +157,10 @@ const OutlierRatio = 100.0
 // checkBandOutliers reports, in files with a unit column, the rows whose
 // reduced position converted to cm⁻¹ lies more than OutlierRatio from the
 // median of their band (same file, species and vibrational levels; bands of
-// three lines or more): a one-character unit typo, whose tiny uncertainty in
-// the wrong unit would otherwise dominate the fit.
+// three lines or more whose rows are not all in one unit): a one-character
+// unit typo, whose tiny uncertainty in the wrong unit would otherwise
+// dominate the fit. A band in one unit throughout has no unit to mistype, and
+// is read alike with and without a unit column.
 func (rd *reader) checkBandOutliers(byFile map[string]*collector) {
 	lines := rd.list.Lines
 	bands := map[unitBand][]int{}
@@ -179,7 +181,7 @@ func (rd *reader) checkBandOutliers(byFile map[string]*collector) {
 	}
 	for _, k := range order {
 		idx := bands[k]
-		if len(idx) < 3 {
+		if len(idx) < 3 || !mixesUnits(lines, idx) {
 			continue
 		}
 		med := bandMedian(lines, idx)
@@ -318,4 +320,14 @@ func UncProblem(pos, unc float64) string {
 		return fmt.Sprintf("%g is below the resolution of a 64-bit float at the position %g (relative %g); give the real uncertainty", unc, pos, minRelativeUnc)
 	}
 	return ""
+}
+
+// mixesUnits reports whether the lines idx are not all in one unit.
+func mixesUnits(lines []Line, idx []int) bool {
+	for _, i := range idx[1:] {
+		if lines[i].Unit != lines[idx[0]].Unit {
+			return true
+		}
+	}
+	return false
 }
