@@ -202,13 +202,19 @@ func (sys *System) addSetAlternatives(p Problem, s Settings, tMax float64) error
 	}
 	var alts []alt
 	if usesPrior {
+		var names []string
+		var opts []buildOptions
+		for _, xe := range xePriorAlternatives() {
+			names = append(names, fmt.Sprintf("x_e = %.3g", xe))
+			opts = append(opts, buildOptions{xe: xe, alphaScale: 1})
+		}
 		alts = append(alts, alt{Contribution{Name: ContribVibrational,
 			What:         "the anharmonicity of the vibrational levels the data do not reach (the data do not determine it)",
-			Alternatives: []string{fmt.Sprintf("x_e = %g", xePriorLow), fmt.Sprintf("x_e = %g", xePriorHigh)},
+			Alternatives: names,
 			Method:       methodRecomputed,
-			Rule: fmt.Sprintf("x_e = ω_e x_e/ω_e spans %g (heavy molecules) to %g (hydrides) over the ground states of diatomic molecules (Huber & Herzberg 1979, from memory); nominal %.4g, its geometric centre; the dissociation estimate follows each x_e",
+			Rule: fmt.Sprintf("x_e = ω_e x_e/ω_e spans %g (heavy molecules) to %g (hydrides) over the ground states of diatomic molecules (Huber & Herzberg 1979, from memory); nominal %.4g, its geometric centre; alternatives at both ends and half-way (geometrically) to each, since the dissociation estimate follows each x_e and the two effects of x_e on the sum (lower levels, a lower limit) cancel at some temperatures at the ends alone",
 				xePriorLow, xePriorHigh, xePriorCentre)},
-			[]buildOptions{{xe: xePriorLow, alphaScale: 1}, {xe: xePriorHigh, alphaScale: 1}}})
+			opts})
 	}
 	if usesPekeris {
 		alts = append(alts, alt{Contribution{Name: ContribRotationVibration,
@@ -285,6 +291,12 @@ func appendNew(list []string, add ...string) []string {
 		}
 	}
 	return list
+}
+
+// xePriorAlternatives are the x_e of the prior's alternatives: its ends and
+// the geometric midpoints between each end and the centre.
+func xePriorAlternatives() []float64 {
+	return []float64{xePriorLow, math.Sqrt(xePriorLow * xePriorCentre), math.Sqrt(xePriorCentre * xePriorHigh), xePriorHigh}
 }
 
 func hasOmegaSigma(states []State) bool {

@@ -157,6 +157,34 @@ func TestBudgetFundamentalOnly(t *testing.T) {
 	}
 }
 
+// TestBudgetPriorHighTemperature: a fundamental-only HCl record extrapolated
+// with the anharmonicity prior to 6000 K, where the two effects of x_e (lower
+// levels; a lower dissociation estimate) cancel at some temperatures for the
+// prior's ends alone: the truth (the exact sum of HCl to its D0, Huber &
+// Herzberg 1979, from memory) must lie within 2.5 σ_total at every 500 K from
+// 2000 to 6000 K, and σ_total(Q), which should grow with T as more of the
+// molecules reach the unobserved levels, must not dip by more than 5 %
+// between neighbouring temperatures where the alternatives cross (with the
+// prior's ends alone it fell from 10.6 at 5000 K to 8.7 at 5500 K, a dip of
+// 18 %; with the midpoints too, 10.5 to 10.4).
+func TestBudgetPriorHighTemperature(t *testing.T) {
+	var temps []float64
+	for T := 2000.0; T <= 6000; T += 500 {
+		temps = append(temps, T)
+	}
+	rec, cs := termValuesFit(t, hhHCl, fundamentalLines(hhHCl, 20), []string{"B", "D"}, 0.001)
+	res, err := Compute(Problem{Constants: cs, Observed: rec.Observed}, Settings{Temperatures: temps})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkCoverage(t, "fundamental-only to 6000 K", hhHCl, res, temps)
+	for i := 1; i < len(res.Rows); i++ {
+		if a, b := res.Rows[i-1], res.Rows[i]; b.SigmaTotal.Q < 0.95*a.SigmaTotal.Q {
+			t.Errorf("σ_total(Q) falls from %.3g at %g K to %.3g at %g K", a.SigmaTotal.Q, a.T, b.SigmaTotal.Q, b.T)
+		}
+	}
+}
+
 // TestBudgetDunhamWithoutD0: a multi-band Dunham fit (bands v′–0, v′ ≤ 3, and
 // the hot band 2-1; Huber & Herzberg constants, 0.001 cm⁻¹ noise) and no
 // dissociation energy: the sum ends at the corrected Birge–Sponer estimate,

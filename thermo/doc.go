@@ -121,8 +121,10 @@
 // |f_alternative − f_nominal| over its alternatives; contributions are
 // combined in quadrature as independent:
 //
-//   - vibrational_levels: x_e at the ends of its prior (the level sum
-//     recomputed; the dissociation estimate follows each x_e), or, where the
+//   - vibrational_levels: x_e at the ends of its prior and half-way
+//     (geometrically) from its centre to each (the level sum recomputed; the
+//     dissociation estimate follows each x_e, and at the ends alone the two
+//     effects cancel at some temperatures), or, where the
 //     record determines the anharmonicity or the electronic-states file gives
 //     ω_e x_e, the next term of G(v) beyond the observed v at its expected
 //     size;
