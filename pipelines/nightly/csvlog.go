@@ -15,9 +15,10 @@ import (
 // csvLog is an append-only CSV file shared by several processes (ledger.csv,
 // history.csv), written and read with encoding/csv (RFC 4180). Every method
 // must be called with the archive's ledger lock held. Rows are appended with
-// one write on an O_APPEND descriptor followed by fsync, so a crash or a full
-// disk leaves at most one incomplete last record; it is not read, and the
-// next append cuts it off before writing.
+// one write on an O_APPEND descriptor followed by fsync; a write that fails
+// (a full disk) is cut back, and a crash leaves at most one incomplete last
+// record, which is not read and which the next append cuts off before
+// writing.
 type csvLog struct {
 	path   string
 	name   string // for messages
@@ -153,9 +154,13 @@ func (l *csvLog) append(rows [][]string) error {
 	return err
 }
 
-// write appends rows with encoding/csv in one write and syncs. A failed or
-// short write leaves at most an incomplete last record, which the next append
-// cuts off.
+// write appends rows with encoding/csv in one write and syncs: all of them or
+// none. A failed or short write (a full disk) is cut back to where the file
+// ended before it (l.off, the end of its last complete record), so that no
+// part of the rows stays — a result's history rows are recorded whole or,
+// by the next run's backfill, later. Where even the cut fails, at most an
+// incomplete last record can stay behind, which the next append cuts off; a
+// process that dies mid-write leaves the same.
 func (l *csvLog) write(rows [][]string) error {
 	var b bytes.Buffer
 	w := csv.NewWriter(&b)
@@ -163,9 +168,11 @@ func (l *csvLog) write(rows [][]string) error {
 		return fmt.Errorf("nightly: %s: %w", l.path, err)
 	}
 	if _, err := l.f.Write(b.Bytes()); err != nil {
+		l.f.Truncate(l.off)
 		return fmt.Errorf("nightly: appending to %s: %w", l.path, err)
 	}
 	if err := l.f.Sync(); err != nil {
+		l.f.Truncate(l.off)
 		return fmt.Errorf("nightly: syncing %s: %w", l.path, err)
 	}
 	return nil

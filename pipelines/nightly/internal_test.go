@@ -1,12 +1,14 @@
 package nightly
 
 import (
+	"bytes"
 	"errors"
 	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
+	"syscall"
 	"testing"
 	"time"
 
@@ -208,5 +210,57 @@ func TestOneLine(t *testing.T) {
 	err := errors.New("linelist: /a/.work/s-1/in/x.csv:5: unc: must be > 0\nsee /a/.work/s-1/out")
 	if got := message(err, "/a/.work/s-1/in/x.csv", "x.csv", "/a/.work/s-1"); got != "linelist: x.csv:5: unc: must be > 0 | see (work folder)/out" {
 		t.Errorf("message %q", got)
+	}
+}
+
+// TestCSVLogAllOrNothing: an append that meets a full disk leaves no part of
+// its rows (a result's history is recorded whole, or by the next run's
+// backfill; with part of it the backfill would skip the result). A small
+// tmpfs is filled to within a few hundred bytes, then ten rows that need
+// more are appended: the append fails with ENOSPC and the file is as before.
+// Needs a tmpfs mount (root, as in CI); skipped elsewhere.
+func TestCSVLogAllOrNothing(t *testing.T) {
+	mnt := t.TempDir()
+	if err := syscall.Mount("tmpfs", mnt, "tmpfs", 0, "size=64k"); err != nil {
+		t.Skipf("cannot mount a small tmpfs here (%v)", err)
+	}
+	t.Cleanup(func() { syscall.Unmount(mnt, 0) })
+	path := filepath.Join(mnt, "history.csv")
+	l, err := openCSVLog(path, "history", []string{"a", "b"}, func([]string) {})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.close()
+	if err := l.append([][]string{{"1", "first"}}); err != nil {
+		t.Fatal(err)
+	}
+	filler, err := os.Create(filepath.Join(mnt, "filler"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for {
+		if _, err := filler.Write(make([]byte, 512)); err != nil {
+			break
+		}
+	}
+	filler.Close()
+	before, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rows [][]string
+	for i := range 10 {
+		rows = append(rows, []string{strconv.Itoa(i), strings.Repeat("x", 1000)})
+	}
+	err = l.append(rows)
+	if !errors.Is(err, syscall.ENOSPC) {
+		t.Fatalf("append on a full disk: %v, want ENOSPC", err)
+	}
+	after, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(before, after) {
+		t.Errorf("the failed append left %d bytes behind:\n%q", len(after)-len(before), after[len(before):])
 	}
 }
