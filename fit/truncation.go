@@ -59,7 +59,7 @@ type TruncationTerm struct {
 
 // Rules of the omitted terms' sizes (TruncationTerm.Rule).
 const (
-	ruleGeometric = "the series continued geometrically, c_K²/|c_(K−1)| of its last two terms (common practice, order of magnitude)"
+	ruleGeometric = "the series continued geometrically, the largest continuation of a pair of neighbouring coefficients (c_K²/|c_(K−1)| for the last two; common practice, order of magnitude)"
 	ruleKratzer   = "after Y01 alone, the Kratzer relation D = 4B³/ω² (Kratzer 1920; order of magnitude)"
 	ruleDRatio    = "after Y02 alone, Y02·Y11/Y01: the D_v series continued with the ratio of the B_v series (our own estimate, order of magnitude)"
 )
@@ -246,46 +246,69 @@ const dataDetermined = 1e-6
 // |ĉ| + 2σ_c where that is smaller than the series' expected size. When M of
 // the determined terms cannot be factorised, nothing is capped.
 func capByData(terms []TruncationTerm, bWb, hCh [][]float64, bWr []float64, s float64) {
-	var idx []int
+	var cand []int
 	for t := range terms {
 		if perp := bWb[t][t] - hCh[t][t]; bWb[t][t] > 0 && perp > dataDetermined*bWb[t][t] {
-			idx = append(idx, t)
+			cand = append(cand, t)
 		}
 	}
-	if len(idx) == 0 {
+	perp := func(t, u int) float64 { return bWb[t][u] - hCh[t][u] }
+	// M in correlation form (the columns' scales differ by many orders of
+	// magnitude); a term that makes it singular with those already taken is
+	// left out of the joint fit and keeps its size.
+	var idx []int
+	var ch mat.Cholesky
+	for _, t := range cand {
+		try := append(append([]int(nil), idx...), t)
+		if jointFactor(&ch, try, perp) {
+			idx = try
+		}
+	}
+	if len(idx) == 0 || !jointFactor(&ch, idx, perp) {
 		return
 	}
-	m := mat.NewSymDense(len(idx), nil)
 	y := mat.NewVecDense(len(idx), nil)
 	for a, t := range idx {
-		y.SetVec(a, bWr[t])
-		for b := a; b < len(idx); b++ {
-			u := idx[b]
-			m.SetSym(a, b, bWb[t][u]-hCh[t][u])
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(m) {
-		return
+		y.SetVec(a, bWr[t]/math.Sqrt(perp(t, t)))
 	}
 	var c mat.VecDense
-	if err := ch.SolveVecTo(&c, y); err != nil {
-		return
-	}
 	var inv mat.SymDense
-	if err := ch.InverseTo(&inv); err != nil {
+	if ch.SolveVecTo(&c, y) != nil || ch.InverseTo(&inv) != nil {
 		return
 	}
 	for a, t := range idx {
-		sig := s * math.Sqrt(math.Max(inv.At(a, a), 0))
-		bound := math.Abs(c.AtVec(a)) + 2*sig
+		d := math.Sqrt(perp(t, t))
+		chat := c.AtVec(a) / d
+		sig := s * math.Sqrt(math.Max(inv.At(a, a), 0)) / d
+		bound := math.Abs(chat) + 2*sig
 		if bound < terms[t].Size {
 			terms[t].Rule = fmt.Sprintf("%s = %.2g, capped by the lines at |ĉ| + 2σ_c = %.2g, the term as the lines would determine it were it fitted with the other omitted terms they determine (ĉ = %.2g, σ_c = %.2g)",
-				terms[t].Rule, terms[t].Size, bound, c.AtVec(a), sig)
+				terms[t].Rule, terms[t].Size, bound, chat, sig)
 			terms[t].Size = bound
 		}
 	}
 }
+
+// jointFactor factorises the normal matrix of the omitted terms idx outside
+// the span of the fitted ones, M_tu = perp(t, u), scaled to unit diagonal,
+// into ch; false when it is singular to within jointConditionLimit.
+func jointFactor(ch *mat.Cholesky, idx []int, perp func(t, u int) float64) bool {
+	m := mat.NewSymDense(len(idx), nil)
+	for a, t := range idx {
+		for b := a; b < len(idx); b++ {
+			u := idx[b]
+			m.SetSym(a, b, perp(t, u)/math.Sqrt(perp(t, t)*perp(u, u)))
+		}
+	}
+	if !ch.Factorize(m) {
+		return false
+	}
+	return ch.Cond() < jointConditionLimit
+}
+
+// jointConditionLimit is the largest condition number of the scaled joint
+// normal matrix of omitted terms that capByData trusts.
+const jointConditionLimit = 1e10
 
 // omittedColumns fills col[t] with b_i = (1+κ_f)·∂ν_i/∂Y_kl of line i for
 // each omitted term t (reference Y_kl, mass-scaled to the line's

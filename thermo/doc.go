@@ -163,7 +163,9 @@
 //     missingStates for which states count as missing and as mattering).
 //
 // The next term of a series is estimated from its last two, c_(K+1) ≈
-// c_K²/c_(K−1) (common practice: an order of magnitude), and applied only
+// c_K²/c_(K−1) (common practice: an order of magnitude), or from an earlier
+// pair continued geometrically where that is larger (model.NextTerm), and
+// applied only
 // beyond the data, as c·[y^n − y_m^n − n y_m^(n−1)(y − y_m)] for y > y_m (the
 // part a fit up to y_m cannot absorb); these small perturbations are
 // evaluated to first order through the same analytic derivatives as the
