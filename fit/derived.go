@@ -83,7 +83,7 @@ func withTruncation(d *constants.Derived, sh []termShift) {
 		d.Note += "; "
 	}
 	d.Note += fmt.Sprintf("series truncation ≈ %.2g %s (order of magnitude; the omitted %s of expected size %.2g cm-1 shifts it by ~%.2g %s; %s σ",
-		d.Truncation, d.Unit, top.term, top.size, math.Abs(top.shift), d.Unit, map[bool]string{true: "larger than", false: "comparable to"}[d.Truncation > d.Sigma])
+		d.Truncation, d.Unit, top.term, top.size, math.Abs(top.shift), d.Unit, againstSigma(d.Truncation, d.Sigma))
 	if d.Truncation > d.Sigma {
 		d.Note += ": the value is an effective constant"
 	}
@@ -465,7 +465,7 @@ func noteDunhamCorrections(out []constants.Derived, sp string) {
 		}
 		if size >= d.Sigma/10 {
 			d.Neglected = size
-			d.Note += fmt.Sprintf("; neglected Dunham correction %s ≈ %.2g %s (order of magnitude; %s σ)", form, size, d.Unit, map[bool]string{true: "larger than", false: "comparable to"}[size > d.Sigma])
+			d.Note += fmt.Sprintf("; neglected Dunham correction %s ≈ %.2g %s (order of magnitude; %s σ)", form, size, d.Unit, againstSigma(size, d.Sigma))
 		}
 	}
 }
@@ -566,4 +566,17 @@ func combine(a []float64, fa float64, b []float64, fb float64) []float64 {
 		out[i] = fa*a[i] + fb*b[i]
 	}
 	return out
+}
+
+// againstSigma words the size x of a neglected or truncated part against the
+// constant's σ: "larger than" above it, "comparable to" from half of it,
+// "below" under that (the notes state x from a tenth of σ on).
+func againstSigma(x, sigma float64) string {
+	switch {
+	case x > sigma:
+		return "larger than"
+	case x >= sigma/2:
+		return "comparable to"
+	}
+	return "below"
 }
