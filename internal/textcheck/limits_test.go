@@ -19,16 +19,7 @@ func TestJSONNesting(t *testing.T) {
 		{"escaped quote in string", `{"a\"[[": ` + strings.Repeat("[", 64) + strings.Repeat("]", 64) + "}", 1},
 		{"100 000 deep", strings.Repeat(`{"a":`, 100000), 1},
 	} {
-		err := JSONNesting([]byte(c.text), MaxNesting)
-		var ne *NestingError
-		switch {
-		case c.line == 0 && err != nil:
-			t.Errorf("%s: %v", c.name, err)
-		case c.line > 0 && !errors.As(err, &ne):
-			t.Errorf("%s: want a nesting error, got %v", c.name, err)
-		case c.line > 0 && ne.Line != c.line:
-			t.Errorf("%s: line %d, want %d", c.name, ne.Line, c.line)
-		}
+		checkNesting(t, c.name, JSONNesting([]byte(c.text), MaxNesting), c.line)
 	}
 }
 
@@ -64,16 +55,22 @@ a.b.c = { d = [1, {e = 2}], f.g = 3 }
 		{"quoted dots", `"a.b.c.d.e.f.g.h.i.j.k.l.m.n.o.p.q.r.s.t.u.v.w.x.y.z.a.b.c.d.e.f.g.h.i.j.k.l.m.n.o.p.q.r.s.t.u.v.w.x.y.z.1.2.3.4.5.6.7.8.9" = 1`, 0},
 		{"inline table keys", "x = {" + strings.Repeat("a.", 70) + "b = 1}", 1},
 	} {
-		err := TOMLNesting([]byte(c.text), MaxNesting)
-		var ne *NestingError
-		switch {
-		case c.line == 0 && err != nil:
-			t.Errorf("%s: %v", c.name, err)
-		case c.line > 0 && !errors.As(err, &ne):
-			t.Errorf("%s: want a nesting error, got %v", c.name, err)
-		case c.line > 0 && ne.Line != c.line:
-			t.Errorf("%s: line %d, want %d", c.name, ne.Line, c.line)
-		}
+		checkNesting(t, c.name, TOMLNesting([]byte(c.text), MaxNesting), c.line)
+	}
+}
+
+// checkNesting checks the result of a nesting check: no error where line is
+// 0, else a *NestingError that names that line.
+func checkNesting(t *testing.T, name string, err error, line int) {
+	t.Helper()
+	var ne *NestingError
+	switch {
+	case line == 0 && err != nil:
+		t.Errorf("%s: %v", name, err)
+	case line > 0 && !errors.As(err, &ne):
+		t.Errorf("%s: want a nesting error, got %v", name, err)
+	case line > 0 && ne.Line != line:
+		t.Errorf("%s: line %d, want %d", name, ne.Line, line)
 	}
 }
 
